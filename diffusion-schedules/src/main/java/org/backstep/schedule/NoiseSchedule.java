@@ -355,7 +355,7 @@ public final class NoiseSchedule {
      * @return 1 - alpha-bar_t, computed as -expm1(log alpha-bar_t) without cancellation
      */
     public double oneMinusAlphaBar(int t) {
-        return -Math.expm1(logAlphaBar(t));
+        return 0.0 - Math.expm1(logAlphaBar(t));  // 0.0 - x turns -0.0 into +0.0 at t = 0
     }
 
     /**
