@@ -242,7 +242,7 @@ class TableTest {
         assertArrayEquals(new double[] {1, 4}, tv.row(0));
         assertArrayEquals(new double[] {3, 6}, tv.row(2));
 
-        assertThrows(IllegalArgumentException.class, () -> t.toMatrix(DataType.INT));
+        assertThrows(IllegalArgumentException.class, () -> t.toMatrix(DataType.INT32));
         assertThrows(IllegalArgumentException.class,
                 () -> Table.fromArray(d, List.of("a", "b"), List.of(CONTINUOUS, CONTINUOUS)));
         assertThrows(IllegalArgumentException.class,
