@@ -1,0 +1,622 @@
+package org.backstep.table;
+
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.charset.StandardCharsets;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.Collections;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.function.IntPredicate;
+import org.backstep.schedule.Require;
+import org.nd4j.linalg.api.buffer.DataType;
+import org.nd4j.linalg.api.ndarray.INDArray;
+import org.nd4j.linalg.factory.Nd4j;
+
+/**
+ * An immutable table of numbers: named columns, each {@link ColumnKind#CONTINUOUS continuous} or
+ * {@link ColumnKind#BINARY binary}, with missing cells stored as NaN. Every value is a double.
+ *
+ * <p>Invariants, checked by every factory: at least one column; column names unique, not blank and
+ * without leading or trailing white space; one kind per column; every row as long as the list of
+ * names; no infinite cell; binary cells in {0, 1, NaN} (a binary -0.0 is stored as 0.0). Rows may
+ * be zero.
+ *
+ * <p>Arrays passed in are copied and arrays returned are copies, so a table never changes.
+ * {@link #equals(Object)} is exact: same names, kinds and cells bit for bit (every NaN equal to every
+ * NaN, as in {@link Arrays#equals(double[], double[])}). Row and column indices are 0-based.
+ */
+public final class Table {
+
+    /** How many rows {@link #toString()} shows. */
+    static final int SHOWN_ROWS = 5;
+
+    /** How many columns {@link #toString()} shows. */
+    static final int SHOWN_COLUMNS = 8;
+
+    /** The most cells a table holds (one Java array). */
+    static final int MAX_CELLS = Integer.MAX_VALUE - 8;
+
+    private final List<String> names;
+    private final List<ColumnKind> kinds;
+    private final Map<String, Integer> index;
+    private final int rows;
+    private final int columns;
+    private final double[] cells; // row-major, cells[r * columns + c]
+    private final int missing;
+    private final int[] continuous;
+    private final int[] binary;
+
+    private Table(List<String> names, List<ColumnKind> kinds, Map<String, Integer> index, int rows,
+            double[] cells) {
+        this.names = names;
+        this.kinds = kinds;
+        this.index = index;
+        this.rows = rows;
+        this.columns = names.size();
+        this.cells = cells;
+        int m = 0;
+        for (double v : cells) {
+            if (Double.isNaN(v)) {
+                m++;
+            }
+        }
+        this.missing = m;
+        this.continuous = indicesOf(kinds, ColumnKind.CONTINUOUS);
+        this.binary = indicesOf(kinds, ColumnKind.BINARY);
+    }
+
+    // ------------------------------------------------------------------ factories
+
+    /**
+     * A table with the given column names, kinds and rows. The rows are copied.
+     *
+     * @param names the column names: unique, not blank, no leading or trailing white space (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param rows the cells, {@code rows[r][c]}; NaN marks a missing cell (not modified)
+     * @return the table
+     * @throws IllegalArgumentException naming the offending name, row index, column or cell if an
+     *     invariant of this class is broken
+     */
+    public static Table of(List<String> names, List<ColumnKind> kinds, double[][] rows) {
+        Require.notNull("rows", rows);
+        Layout layout = Layout.of(names, kinds);
+        return layout.build(rows);
+    }
+
+    /**
+     * A table whose columns are named {@code "c0", "c1", ...}.
+     *
+     * @param rows the cells, {@code rows[r][c]}; NaN marks a missing cell (not modified)
+     * @param kinds one kind per column; their count sets the column count (not modified)
+     * @return the table
+     * @throws IllegalArgumentException as {@link #of(List, List, double[][])}
+     */
+    public static Table of(double[][] rows, ColumnKind... kinds) {
+        Require.notNull("kinds", kinds);
+        List<String> generated = new ArrayList<>(kinds.length);
+        for (int c = 0; c < kinds.length; c++) {
+            generated.add("c" + c);
+        }
+        return of(generated, Arrays.asList(kinds), rows);
+    }
+
+    /**
+     * A table from a rank-2 ND4J matrix of shape [rows, columns], in any floating-point type; each
+     * value is widened to double exactly.
+     *
+     * @param matrix the cells, shape [rows, names.size()] (not modified)
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @return the table
+     * @throws IllegalArgumentException if the matrix is not rank 2, its column count differs from
+     *     the names, or an invariant of this class is broken
+     */
+    public static Table fromArray(INDArray matrix, List<String> names, List<ColumnKind> kinds) {
+        Require.notNull("matrix", matrix);
+        Layout layout = Layout.of(names, kinds);
+        long[] shape = matrix.shape();
+        if (matrix.rank() != 2 || shape[1] != layout.names.size()) {
+            throw new IllegalArgumentException("matrix has shape " + Arrays.toString(shape)
+                    + "; expected [rows, " + layout.names.size() + "] (one column per name)");
+        }
+        if (!matrix.dataType().isFPType()) {
+            throw new IllegalArgumentException("matrix has data type " + matrix.dataType()
+                    + "; expected a floating-point type");
+        }
+        if (shape[0] == 0) {
+            return layout.build(new double[0][]);
+        }
+        double[][] values = matrix.castTo(DataType.DOUBLE).toDoubleMatrix();
+        return layout.build(values);
+    }
+
+    /**
+     * A table with this table's names and kinds and other rows.
+     *
+     * @param newRows the cells, {@code newRows[r][c]} (not modified)
+     * @return the new table
+     * @throws IllegalArgumentException as {@link #of(List, List, double[][])}
+     */
+    public Table withRows(double[][] newRows) {
+        Require.notNull("rows", newRows);
+        return new Layout(names, kinds, index).build(newRows);
+    }
+
+    // ------------------------------------------------------------------ shape and layout
+
+    /** @return the number of rows (possibly 0) */
+    public int rows() {
+        return rows;
+    }
+
+    /** @return the number of columns (at least 1) */
+    public int columns() {
+        return columns;
+    }
+
+    /** @return the column names, in order (unmodifiable) */
+    public List<String> names() {
+        return names;
+    }
+
+    /** @return the column kinds, in order (unmodifiable) */
+    public List<ColumnKind> kinds() {
+        return kinds;
+    }
+
+    /**
+     * @param column the column index, 0-based
+     * @return the name of that column
+     * @throws IllegalArgumentException if the index is out of range
+     */
+    public String name(int column) {
+        checkColumn(column);
+        return names.get(column);
+    }
+
+    /**
+     * @param column the column index, 0-based
+     * @return the kind of that column
+     * @throws IllegalArgumentException if the index is out of range
+     */
+    public ColumnKind kind(int column) {
+        checkColumn(column);
+        return kinds.get(column);
+    }
+
+    /**
+     * @param name a column name
+     * @return the index of that column
+     * @throws IllegalArgumentException naming {@code name} if the table has no such column
+     */
+    public int indexOf(String name) {
+        Integer i = index.get(name);
+        if (i == null) {
+            throw new IllegalArgumentException("column '" + name + "' is not in the table; its columns are " + names);
+        }
+        return i;
+    }
+
+    /** @return the indices of the continuous columns, in increasing order (a copy) */
+    public int[] continuousColumns() {
+        return continuous.clone();
+    }
+
+    /** @return the indices of the binary columns, in increasing order (a copy) */
+    public int[] binaryColumns() {
+        return binary.clone();
+    }
+
+    // ------------------------------------------------------------------ cells
+
+    /**
+     * @param row the row index, 0-based
+     * @param column the column index, 0-based
+     * @return the cell, NaN if missing
+     * @throws IllegalArgumentException if an index is out of range
+     */
+    public double get(int row, int column) {
+        checkRow(row);
+        checkColumn(column);
+        return cells[row * columns + column];
+    }
+
+    /**
+     * @param r the row index, 0-based
+     * @return a copy of that row
+     * @throws IllegalArgumentException if the index is out of range
+     */
+    public double[] row(int r) {
+        checkRow(r);
+        return Arrays.copyOfRange(cells, r * columns, (r + 1) * columns);
+    }
+
+    /**
+     * @param c the column index, 0-based
+     * @return a copy of that column, one value per row
+     * @throws IllegalArgumentException if the index is out of range
+     */
+    public double[] column(int c) {
+        checkColumn(c);
+        double[] out = new double[rows];
+        for (int r = 0; r < rows; r++) {
+            out[r] = cells[r * columns + c];
+        }
+        return out;
+    }
+
+    /** @return a copy of every cell, {@code [row][column]} */
+    public double[][] toArray() {
+        double[][] out = new double[rows][];
+        for (int r = 0; r < rows; r++) {
+            out[r] = Arrays.copyOfRange(cells, r * columns, (r + 1) * columns);
+        }
+        return out;
+    }
+
+    /**
+     * The cells as a new ND4J matrix of shape [rows, columns] in C order; missing cells stay NaN.
+     *
+     * @param type a floating-point data type (FLOAT rounds each value to the nearest float)
+     * @return a new matrix
+     * @throws IllegalArgumentException if {@code type} is not a floating-point type
+     */
+    public INDArray toMatrix(DataType type) {
+        Require.notNull("type", type);
+        if (!type.isFPType()) {
+            throw new IllegalArgumentException("type is " + type + "; expected a floating-point data type");
+        }
+        if (rows == 0) {
+            return Nd4j.create(type, 0, columns);
+        }
+        long[] shape = {rows, columns};
+        if (type == DataType.FLOAT) {
+            float[] f = new float[cells.length];
+            for (int i = 0; i < f.length; i++) {
+                f[i] = (float) cells[i];
+            }
+            return Nd4j.create(f, shape, DataType.FLOAT);
+        }
+        INDArray d = Nd4j.create(cells.clone(), shape, DataType.DOUBLE);
+        return type == DataType.DOUBLE ? d : d.castTo(type);
+    }
+
+    /** @return true if any cell is missing (NaN) */
+    public boolean hasMissing() {
+        return missing > 0;
+    }
+
+    /** @return the number of missing (NaN) cells */
+    public int missingCount() {
+        return missing;
+    }
+
+    // ------------------------------------------------------------------ selections
+
+    /**
+     * The given rows, in the given order; an index may repeat (as in a bootstrap sample).
+     *
+     * @param rowIndices row indices, 0-based (not modified)
+     * @return a new table with {@code rowIndices.length} rows and the same columns
+     * @throws IllegalArgumentException if an index is out of range
+     */
+    public Table selectRows(int[] rowIndices) {
+        Require.notNull("rowIndices", rowIndices);
+        Layout.checkSize(rowIndices.length, columns);
+        double[] out = new double[rowIndices.length * columns];
+        for (int i = 0; i < rowIndices.length; i++) {
+            int r = rowIndices[i];
+            if (r < 0 || r >= rows) {
+                throw new IllegalArgumentException("rowIndices[" + i + "] is " + r
+                        + "; expected a row index from 0 to " + (rows - 1));
+            }
+            System.arraycopy(cells, r * columns, out, i * columns, columns);
+        }
+        return new Table(names, kinds, index, rowIndices.length, out);
+    }
+
+    /**
+     * The rows whose 0-based index passes the test, in order; for example the test rows of a fixed
+     * split are {@code filterRows(i -> i % 5 == 0)}.
+     *
+     * @param keepRow true for each row index to keep
+     * @return a new table with the same columns
+     */
+    public Table filterRows(IntPredicate keepRow) {
+        Require.notNull("keepRow", keepRow);
+        int[] kept = new int[rows];
+        int n = 0;
+        for (int r = 0; r < rows; r++) {
+            if (keepRow.test(r)) {
+                kept[n++] = r;
+            }
+        }
+        return selectRows(Arrays.copyOf(kept, n));
+    }
+
+    /**
+     * The named columns, in the given order, with their kinds.
+     *
+     * @param selected column names, at least one, no repeats
+     * @return a new table with the same rows
+     * @throws IllegalArgumentException naming an unknown or repeated column
+     */
+    public Table selectColumns(String... selected) {
+        Require.notNull("names", selected);
+        if (selected.length == 0) {
+            throw new IllegalArgumentException("names is empty; expected at least one column name");
+        }
+        int[] idx = new int[selected.length];
+        List<ColumnKind> newKinds = new ArrayList<>(selected.length);
+        for (int i = 0; i < selected.length; i++) {
+            idx[i] = indexOf(selected[i]);
+            newKinds.add(kinds.get(idx[i]));
+        }
+        Layout layout = Layout.of(Arrays.asList(selected), newKinds);
+        double[] out = new double[rows * selected.length];
+        for (int r = 0; r < rows; r++) {
+            for (int i = 0; i < idx.length; i++) {
+                out[r * idx.length + i] = cells[r * columns + idx[i]];
+            }
+        }
+        return new Table(layout.names, layout.kinds, layout.index, rows, out);
+    }
+
+    // ------------------------------------------------------------------ provenance
+
+    /**
+     * The SHA-256 of this table's canonical encoding, as 64 lower-case hex digits, for provenance
+     * (a fitted model records it for its training rows). The encoding, all integers little-endian:
+     * <pre>
+     *   int32 column count, int32 row count,
+     *   per column: int32 byte length of the UTF-8 name, the UTF-8 bytes, one byte 'C' (continuous) or 'B' (binary),
+     *   per cell, row by row: the int64 Double.doubleToLongBits of the value (every NaN as 0x7ff8000000000000)
+     * </pre>
+     * Equal tables have equal hashes; the hash depends on names, kinds, order and every bit of
+     * every cell. (SHA-256: NIST FIPS 180-4.)
+     *
+     * @return the hex digest
+     */
+    public String sha256() {
+        MessageDigest md;
+        try {
+            md = MessageDigest.getInstance("SHA-256");
+        } catch (NoSuchAlgorithmException e) {
+            throw new IllegalStateException("every Java platform provides SHA-256", e);
+        }
+        ByteBuffer head = ByteBuffer.allocate(8).order(ByteOrder.LITTLE_ENDIAN);
+        head.putInt(columns).putInt(rows);
+        md.update(head.array());
+        for (int c = 0; c < columns; c++) {
+            byte[] utf8 = names.get(c).getBytes(StandardCharsets.UTF_8);
+            ByteBuffer col = ByteBuffer.allocate(4 + utf8.length + 1).order(ByteOrder.LITTLE_ENDIAN);
+            col.putInt(utf8.length).put(utf8).put((byte) (kinds.get(c) == ColumnKind.CONTINUOUS ? 'C' : 'B'));
+            md.update(col.array());
+        }
+        ByteBuffer buf = ByteBuffer.allocate(8 * 1024).order(ByteOrder.LITTLE_ENDIAN);
+        for (double v : cells) {
+            if (!buf.hasRemaining()) {
+                md.update(buf.array(), 0, buf.position());
+                buf.clear();
+            }
+            buf.putLong(Double.doubleToLongBits(v));
+        }
+        md.update(buf.array(), 0, buf.position());
+        StringBuilder hex = new StringBuilder(64);
+        for (byte b : md.digest()) {
+            hex.append(Character.forDigit((b >> 4) & 0xf, 16)).append(Character.forDigit(b & 0xf, 16));
+        }
+        return hex.toString();
+    }
+
+    // ------------------------------------------------------------------ object
+
+    /**
+     * A readable summary for JShell and logs: the shape, the kinds, the missing count, then the names,
+     * kinds and first {@value #SHOWN_ROWS} rows in right-aligned columns (at most
+     * {@value #SHOWN_COLUMNS} columns shown). Missing cells show as {@code NA}, binary cells as
+     * {@code 0}/{@code 1}, continuous cells by {@link Double#toString(double)}.
+     *
+     * @return the summary, lines separated by '\n'
+     */
+    @Override
+    public String toString() {
+        StringBuilder sb = new StringBuilder();
+        sb.append("Table ").append(rows).append(rows == 1 ? " row" : " rows").append(" x ").append(columns)
+                .append(columns == 1 ? " column" : " columns").append(" (").append(continuous.length)
+                .append(" continuous, ").append(binary.length).append(" binary), ").append(missing)
+                .append(" missing (NA)\n");
+        int shownCols = Math.min(columns, SHOWN_COLUMNS);
+        int shownRows = Math.min(rows, SHOWN_ROWS);
+        String[][] grid = new String[shownRows + 2][shownCols];
+        int[] width = new int[shownCols];
+        for (int c = 0; c < shownCols; c++) {
+            grid[0][c] = names.get(c);
+            grid[1][c] = kinds.get(c) == ColumnKind.CONTINUOUS ? "continuous" : "binary";
+            for (int r = 0; r < shownRows; r++) {
+                grid[r + 2][c] = cellText(cells[r * columns + c], kinds.get(c));
+            }
+            for (String[] line : grid) {
+                width[c] = Math.max(width[c], line[c].length());
+            }
+        }
+        String rowLabel = "row";
+        int labelWidth = Math.max(rowLabel.length(), String.valueOf(Math.max(0, shownRows - 1)).length());
+        for (int line = 0; line < grid.length; line++) {
+            String label = line == 0 ? rowLabel : line == 1 ? "" : String.valueOf(line - 2);
+            sb.append(pad(label, labelWidth));
+            for (int c = 0; c < shownCols; c++) {
+                sb.append("  ").append(pad(grid[line][c], width[c]));
+            }
+            if (shownCols < columns && line == 0) {
+                sb.append("  ... (").append(columns - shownCols).append(" more columns)");
+            }
+            sb.append('\n');
+        }
+        if (shownRows < rows) {
+            sb.append("... (").append(rows - shownRows).append(" more rows)\n");
+        }
+        return sb.toString();
+    }
+
+    private static String cellText(double v, ColumnKind kind) {
+        if (Double.isNaN(v)) {
+            return "NA";
+        }
+        if (kind == ColumnKind.BINARY) {
+            return v == 1.0 ? "1" : "0";
+        }
+        return Double.toString(v);
+    }
+
+    private static String pad(String s, int width) {
+        return " ".repeat(Math.max(0, width - s.length())) + s;
+    }
+
+    /**
+     * Exact equality: same names, kinds, row count and cells bit for bit (NaN equals NaN).
+     *
+     * @param o another object
+     * @return true if {@code o} is an equal table
+     */
+    @Override
+    public boolean equals(Object o) {
+        if (this == o) {
+            return true;
+        }
+        if (!(o instanceof Table)) {
+            return false;
+        }
+        Table t = (Table) o;
+        return rows == t.rows && names.equals(t.names) && kinds.equals(t.kinds) && Arrays.equals(cells, t.cells);
+    }
+
+    /** @return a hash consistent with {@link #equals(Object)} */
+    @Override
+    public int hashCode() {
+        return 31 * (31 * names.hashCode() + kinds.hashCode()) + Arrays.hashCode(cells);
+    }
+
+    // ------------------------------------------------------------------ internals
+
+    private void checkRow(int r) {
+        if (r < 0 || r >= rows) {
+            throw new IllegalArgumentException("row is " + r + "; expected a row index from 0 to " + (rows - 1)
+                    + " (the table has " + rows + " rows)");
+        }
+    }
+
+    private void checkColumn(int c) {
+        if (c < 0 || c >= columns) {
+            throw new IllegalArgumentException("column is " + c + "; expected a column index from 0 to "
+                    + (columns - 1));
+        }
+    }
+
+    private static int[] indicesOf(List<ColumnKind> kinds, ColumnKind wanted) {
+        return java.util.stream.IntStream.range(0, kinds.size()).filter(i -> kinds.get(i) == wanted).toArray();
+    }
+
+    /** Validated names and kinds, shared by tables with the same columns. */
+    static final class Layout {
+        final List<String> names;
+        final List<ColumnKind> kinds;
+        final Map<String, Integer> index;
+
+        private Layout(List<String> names, List<ColumnKind> kinds, Map<String, Integer> index) {
+            this.names = names;
+            this.kinds = kinds;
+            this.index = index;
+        }
+
+        static Layout of(List<String> names, List<ColumnKind> kinds) {
+            Require.notNull("names", names);
+            Require.notNull("kinds", kinds);
+            checkNames(names);
+            if (kinds.size() != names.size()) {
+                throw new IllegalArgumentException("kinds has " + kinds.size() + " entries; expected "
+                        + names.size() + " (one per column name)");
+            }
+            for (int c = 0; c < kinds.size(); c++) {
+                if (kinds.get(c) == null) {
+                    throw new IllegalArgumentException("kinds[" + c + "] (column '" + names.get(c)
+                            + "') is null; expected CONTINUOUS or BINARY");
+                }
+            }
+            Map<String, Integer> index = new HashMap<>();
+            for (int c = 0; c < names.size(); c++) {
+                index.put(names.get(c), c);
+            }
+            return new Layout(Collections.unmodifiableList(new ArrayList<>(names)),
+                    Collections.unmodifiableList(new ArrayList<>(kinds)), Collections.unmodifiableMap(index));
+        }
+
+        /** Checks the rules for column names: at least one, none null, blank, padded or repeated. */
+        static void checkNames(List<String> names) {
+            if (names.isEmpty()) {
+                throw new IllegalArgumentException("names is empty; expected at least one column");
+            }
+            Set<String> seen = new HashSet<>();
+            for (int c = 0; c < names.size(); c++) {
+                String n = names.get(c);
+                if (n == null || n.isBlank()) {
+                    throw new IllegalArgumentException("names[" + c + "] is " + (n == null ? "null" : "'" + n + "'")
+                            + "; expected a non-blank column name");
+                }
+                if (!n.equals(n.strip())) {
+                    throw new IllegalArgumentException("names[" + c + "] is '" + n
+                            + "'; expected no leading or trailing white space");
+                }
+                if (!seen.add(n)) {
+                    throw new IllegalArgumentException("names[" + c + "] is '" + n
+                            + "', which repeats an earlier column name; expected unique names");
+                }
+            }
+        }
+
+        static void checkSize(long rows, int cols) {
+            if (rows * cols > MAX_CELLS) {
+                throw new IllegalArgumentException("the table would have " + rows + " x " + cols + " = "
+                        + rows * cols + " cells; expected at most " + MAX_CELLS);
+            }
+        }
+
+        Table build(double[][] rowArrays) {
+            int cols = names.size();
+            checkSize(rowArrays.length, cols);
+            double[] cells = new double[rowArrays.length * cols];
+            for (int r = 0; r < rowArrays.length; r++) {
+                double[] row = rowArrays[r];
+                if (row == null || row.length != cols) {
+                    throw new IllegalArgumentException("rows[" + r + "] has "
+                            + (row == null ? "no array (null)" : row.length + " values")
+                            + "; expected " + cols + " (one per column)");
+                }
+                for (int c = 0; c < cols; c++) {
+                    double v = row[c];
+                    if (Double.isInfinite(v)) {
+                        throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
+                                + "' is " + v + "; expected a finite number or NaN for a missing cell");
+                    }
+                    if (kinds.get(c) == ColumnKind.BINARY) {
+                        if (v == 0.0) {
+                            v = 0.0; // stores -0.0 as 0.0
+                        } else if (v != 1.0 && !Double.isNaN(v)) {
+                            throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
+                                    + "' is " + v + "; the column is BINARY, expected 0, 1 or NaN for a missing cell");
+                        }
+                    }
+                    cells[r * cols + c] = v;
+                }
+            }
+            return new Table(names, kinds, index, rowArrays.length, cells);
+        }
+    }
+}

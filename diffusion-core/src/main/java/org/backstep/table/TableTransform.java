@@ -1,0 +1,472 @@
+package org.backstep.table;
+
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Set;
+import java.util.stream.IntStream;
+import org.backstep.schedule.Require;
+
+/**
+ * The {@link ColumnTransform}s of every column of a table, fitted on training rows; immutable. It
+ * maps a {@link Table} to the model's space and back, and converts densities between the two.
+ *
+ * <p><b>Fitting</b> ({@link #fit(Table, Set)}), per column over its non-missing training cells:
+ * <ul>
+ *   <li>binary: IDENTITY;</li>
+ *   <li>continuous with fewer than two distinct values, or a standard deviation of 0: CONSTANT at
+ *       that value, carried exactly and not diffused;</li>
+ *   <li>continuous: STANDARDIZE with the mean m = (1/n) sum x_i and the population standard deviation
+ *       s = sqrt((1/n) sum (x_i - m)^2), computed in two passes with the correction of Chan, Golub &amp;
+ *       LeVeque 1983 ("Algorithms for computing the sample variance", eq. 1.7); or LOG_STANDARDIZE
+ *       with the same statistics of log x for the columns asked for, which must then be strictly
+ *       positive.</li>
+ * </ul>
+ * The population (divide by n) standard deviation matches the project's fixed data split
+ * (test resources {@code data/SOURCES.md}).
+ *
+ * <p><b>Model space</b> has the modelled continuous columns (not CONSTANT) first, transformed, then
+ * the binary columns unchanged, each group in table order; a row of n_c + n_b values. Missing cells
+ * stay NaN.
+ *
+ * <p><b>Densities.</b> With z = f(x) column by column, the change of variables formula gives
+ * log p_x(x) = log p_z(z) + sum_j log |dz_j/dx_j| (Dinh, Sohl-Dickstein &amp; Bengio 2017, "Density
+ * estimation using Real NVP", section 3.1), the sum over the modelled continuous, non-missing cells
+ * ({@link #logJacobian(double[])}). For STANDARDIZE log |dz/dx| = -log s, so a negative
+ * log-likelihood in model space becomes one in original units by adding sum_j log s_j. Densities are
+ * in nats; constant columns contribute nothing (they are a point mass, left out of both sides).
+ */
+public final class TableTransform {
+
+    private final List<String> names;
+    private final List<ColumnKind> kinds;
+    private final List<ColumnTransform> transforms;
+    private final int[] modelledContinuous;
+    private final int[] modelledBinary;
+    private final int[] constants;
+    private final List<String> notes;
+
+    private TableTransform(Table.Layout layout, List<ColumnTransform> transforms, List<String> fitNotes) {
+        this.names = layout.names;
+        this.kinds = layout.kinds;
+        this.transforms = List.copyOf(transforms);
+        int n = names.size();
+        this.modelledContinuous = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.CONTINUOUS
+                && this.transforms.get(c).kind() != ColumnTransform.Kind.CONSTANT).toArray();
+        this.modelledBinary = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.BINARY).toArray();
+        this.constants = IntStream.range(0, n)
+                .filter(c -> this.transforms.get(c).kind() == ColumnTransform.Kind.CONSTANT).toArray();
+        List<String> all = new ArrayList<>();
+        for (int c = 0; c < n; c++) {
+            ColumnTransform t = this.transforms.get(c);
+            if (t.kind() == ColumnTransform.Kind.CONSTANT) {
+                all.add("column '" + names.get(c) + "' is constant (" + t.shift()
+                        + ") and is carried exactly, not diffused");
+            } else if (t.kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
+                all.add("column '" + names.get(c) + "' is modelled on the log scale: z = (log x - " + t.shift()
+                        + ") / " + t.scale());
+            }
+        }
+        all.addAll(fitNotes);
+        this.notes = List.copyOf(all);
+    }
+
+    // ------------------------------------------------------------------ factories
+
+    /**
+     * Fits the transform of every column on the training rows, as described in {@link TableTransform}.
+     *
+     * @param training the training rows (not modified)
+     * @param logColumns names of continuous columns to model on the log scale; may be empty (not modified)
+     * @return the fitted transforms
+     * @throws IllegalArgumentException naming the column: if a log column is unknown, binary, or has a
+     *     training value &lt;= 0 (naming the row too); if a continuous column has no observed training cell
+     */
+    public static TableTransform fit(Table training, Set<String> logColumns) {
+        Require.notNull("training", training);
+        Require.notNull("logColumns", logColumns);
+        for (String name : logColumns) {
+            int c = training.indexOf(name);
+            if (training.kind(c) != ColumnKind.CONTINUOUS) {
+                throw new IllegalArgumentException("log column '" + name + "' is " + training.kind(c)
+                        + "; expected a CONTINUOUS column");
+            }
+        }
+        List<ColumnTransform> transforms = new ArrayList<>(training.columns());
+        List<String> fitNotes = new ArrayList<>();
+        for (int c = 0; c < training.columns(); c++) {
+            String name = training.name(c);
+            if (training.kind(c) == ColumnKind.BINARY) {
+                transforms.add(ColumnTransform.identity());
+                continue;
+            }
+            boolean log = logColumns.contains(name);
+            double[] col = training.column(c);
+            double[] observed = new double[col.length];
+            int n = 0;
+            for (int r = 0; r < col.length; r++) {
+                double v = col[r];
+                if (Double.isNaN(v)) {
+                    continue;
+                }
+                if (log && !(v > 0)) {
+                    throw new IllegalArgumentException("column '" + name + "' at training row " + r + " is " + v
+                            + "; a log column needs every training value above 0");
+                }
+                observed[n++] = v;
+            }
+            if (n == 0) {
+                throw new IllegalArgumentException("column '" + name + "' has no observed cell in the "
+                        + training.rows() + " training rows; expected at least one to fit its transform");
+            }
+            if (n < col.length) {
+                fitNotes.add("column '" + name + "' has " + (col.length - n) + " of " + col.length
+                        + " training cells missing; its transform was fitted on the other " + n);
+            }
+            observed = Arrays.copyOf(observed, n);
+            if (!hasTwoDistinct(observed)) {
+                transforms.add(ColumnTransform.constant(observed[0]));
+                continue;
+            }
+            if (log) {
+                for (int i = 0; i < n; i++) {
+                    observed[i] = Math.log(observed[i]);
+                }
+            }
+            double mean = mean(observed);
+            double sd = Math.sqrt(populationVariance(observed, mean));
+            if (sd == 0.0) {
+                transforms.add(ColumnTransform.constant(log ? Math.exp(mean) : mean));
+                continue;
+            }
+            transforms.add(log ? ColumnTransform.logStandardize(mean, sd) : ColumnTransform.standardize(mean, sd));
+        }
+        return new TableTransform(Table.Layout.of(training.names(), training.kinds()), transforms, fitNotes);
+    }
+
+    /**
+     * Rebuilds fitted transforms, e.g. from a model file.
+     *
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param transforms one transform per column: IDENTITY for each binary column, and STANDARDIZE,
+     *     LOG_STANDARDIZE or CONSTANT for each continuous one (not modified)
+     * @return the transforms
+     * @throws IllegalArgumentException naming the column if a size or a pairing of kind and transform is wrong
+     */
+    public static TableTransform of(List<String> names, List<ColumnKind> kinds, List<ColumnTransform> transforms) {
+        Table.Layout layout = Table.Layout.of(names, kinds);
+        Require.notNull("transforms", transforms);
+        if (transforms.size() != layout.names.size()) {
+            throw new IllegalArgumentException("transforms has " + transforms.size() + " entries; expected "
+                    + layout.names.size() + " (one per column)");
+        }
+        for (int c = 0; c < transforms.size(); c++) {
+            ColumnTransform t = transforms.get(c);
+            if (t == null) {
+                throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c)
+                        + "') is null; expected a transform");
+            }
+            boolean binary = layout.kinds.get(c) == ColumnKind.BINARY;
+            boolean identity = t.kind() == ColumnTransform.Kind.IDENTITY;
+            if (binary != identity) {
+                throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c) + "', "
+                        + layout.kinds.get(c) + ") is " + t.kind() + "; expected "
+                        + (binary ? "IDENTITY for a binary column" : "STANDARDIZE, LOG_STANDARDIZE or CONSTANT for a continuous column"));
+            }
+        }
+        return new TableTransform(layout, transforms, List.of());
+    }
+
+    // ------------------------------------------------------------------ accessors
+
+    /** @return the column names (unmodifiable) */
+    public List<String> names() {
+        return names;
+    }
+
+    /** @return the column kinds (unmodifiable) */
+    public List<ColumnKind> kinds() {
+        return kinds;
+    }
+
+    /** @return one transform per column (unmodifiable) */
+    public List<ColumnTransform> transforms() {
+        return transforms;
+    }
+
+    /**
+     * @param column a column index, 0-based
+     * @return that column's transform
+     * @throws IllegalArgumentException if the index is out of range
+     */
+    public ColumnTransform transform(int column) {
+        Require.inRange("column", column, 0, names.size() - 1);
+        return transforms.get(column);
+    }
+
+    /** @return indices of the continuous columns that are diffused (not CONSTANT), in order (a copy) */
+    public int[] modelledContinuous() {
+        return modelledContinuous.clone();
+    }
+
+    /** @return indices of the binary columns, in order (a copy) */
+    public int[] modelledBinary() {
+        return modelledBinary.clone();
+    }
+
+    /** @return indices of the CONSTANT columns, in order (a copy) */
+    public int[] constantColumns() {
+        return constants.clone();
+    }
+
+    /** @return the width of a model-space row: modelledContinuous().length + modelledBinary().length */
+    public int modelColumns() {
+        return modelledContinuous.length + modelledBinary.length;
+    }
+
+    /** @return the names of the model-space columns, in model-space order */
+    public List<String> modelColumnNames() {
+        List<String> out = new ArrayList<>(modelColumns());
+        for (int c : modelledContinuous) {
+            out.add(names.get(c));
+        }
+        for (int c : modelledBinary) {
+            out.add(names.get(c));
+        }
+        return List.copyOf(out);
+    }
+
+    /**
+     * Human-readable facts about the fit: constant columns, log columns, columns with missing
+     * training cells.
+     *
+     * @return the notes (unmodifiable)
+     */
+    public List<String> notes() {
+        return notes;
+    }
+
+    // ------------------------------------------------------------------ maps
+
+    /**
+     * The rows of {@code t} in model space: {@code out[r] = (f_c(x_rc) for c in modelledContinuous,
+     * x_rc for c in modelledBinary)}. Missing cells stay NaN; CONSTANT columns are left out,
+     * whatever their values in {@code t}.
+     *
+     * @param t a table with this transform's names and kinds (not modified)
+     * @return a new array, t.rows() x {@link #modelColumns()}
+     * @throws IllegalArgumentException naming the first column that differs, or a LOG_STANDARDIZE cell &lt;= 0
+     */
+    public double[][] toModelSpace(Table t) {
+        checkLayout(t);
+        int nc = modelledContinuous.length;
+        double[][] out = new double[t.rows()][modelColumns()];
+        for (int r = 0; r < t.rows(); r++) {
+            for (int j = 0; j < nc; j++) {
+                int c = modelledContinuous[j];
+                double x = t.get(r, c);
+                try {
+                    out[r][j] = transforms.get(c).forward(x);
+                } catch (IllegalArgumentException e) {
+                    throw new IllegalArgumentException("row " + r + ", column '" + names.get(c) + "': " + e.getMessage(), e);
+                }
+            }
+            for (int j = 0; j < modelledBinary.length; j++) {
+                out[r][nc + j] = t.get(r, modelledBinary[j]);
+            }
+        }
+        return out;
+    }
+
+    /**
+     * The inverse of {@link #toModelSpace(Table)}: continuous cells by f^-1, binary cells rounded to
+     * 1 when at least 0.5 and to 0 otherwise, NaN kept as missing, CONSTANT columns filled with their
+     * value.
+     *
+     * @param model rows of {@link #modelColumns()} values each, in model-space order (not modified)
+     * @return a new table with this transform's names and kinds
+     * @throws IllegalArgumentException if a row has the wrong length (both lengths named) or a cell
+     *     maps to an infinite value
+     */
+    public Table fromModelSpace(double[][] model) {
+        Require.notNull("model", model);
+        int nc = modelledContinuous.length;
+        int width = modelColumns();
+        double[][] rows = new double[model.length][names.size()];
+        for (int r = 0; r < model.length; r++) {
+            double[] z = model[r];
+            if (z == null || z.length != width) {
+                throw new IllegalArgumentException("model[" + r + "] has " + (z == null ? "no array (null)" : z.length
+                        + " values") + "; expected " + width + " (" + nc + " continuous then "
+                        + modelledBinary.length + " binary)");
+            }
+            for (int j = 0; j < nc; j++) {
+                int c = modelledContinuous[j];
+                rows[r][c] = transforms.get(c).inverse(z[j]);
+            }
+            for (int j = 0; j < modelledBinary.length; j++) {
+                double v = z[nc + j];
+                rows[r][modelledBinary[j]] = Double.isNaN(v) ? Double.NaN : v >= 0.5 ? 1.0 : 0.0;
+            }
+            for (int c : constants) {
+                rows[r][c] = transforms.get(c).shift();
+            }
+        }
+        return Table.of(names, kinds, rows);
+    }
+
+    /**
+     * Per row r, sum over the modelled continuous columns c with an observed cell of
+     * log |dz/dx| at x_rc (see {@link TableTransform}, "Densities"): log p_x = log p_z + this.
+     *
+     * @param t a table with this transform's names and kinds (not modified)
+     * @return one log-Jacobian per row, in nats
+     * @throws IllegalArgumentException naming the first column that differs, or a LOG_STANDARDIZE cell &lt;= 0
+     */
+    public double[] logJacobian(Table t) {
+        checkLayout(t);
+        double[] out = new double[t.rows()];
+        for (int r = 0; r < t.rows(); r++) {
+            out[r] = sumLogJacobian(t.row(r), r);
+        }
+        return out;
+    }
+
+    /**
+     * The log-Jacobian of one row in original units, as {@link #logJacobian(Table)}.
+     *
+     * @param row one value per column, NaN for missing (not modified)
+     * @return sum_c log |dz_c/dx_c| over modelled continuous, observed cells, in nats
+     * @throws IllegalArgumentException if the length differs from the column count, or a
+     *     LOG_STANDARDIZE cell is &lt;= 0
+     */
+    public double logJacobian(double[] row) {
+        Require.notNull("row", row);
+        if (row.length != names.size()) {
+            throw new IllegalArgumentException("row has " + row.length + " values; expected " + names.size()
+                    + " (one per column)");
+        }
+        return sumLogJacobian(row, -1);
+    }
+
+    private double sumLogJacobian(double[] row, int r) {
+        double sum = 0.0;
+        for (int c : modelledContinuous) {
+            double x = row[c];
+            if (Double.isNaN(x)) {
+                continue;
+            }
+            if (Double.isInfinite(x)) {
+                throw new IllegalArgumentException((r >= 0 ? "row " + r + ", " : "") + "column '" + names.get(c)
+                        + "' is " + x + "; expected a finite value");
+            }
+            try {
+                sum += transforms.get(c).logJacobian(x);
+            } catch (IllegalArgumentException e) {
+                throw new IllegalArgumentException((r >= 0 ? "row " + r + ", " : "") + "column '" + names.get(c)
+                        + "': " + e.getMessage(), e);
+            }
+        }
+        return sum;
+    }
+
+    private void checkLayout(Table t) {
+        Require.notNull("table", t);
+        if (t.columns() != names.size()) {
+            throw new IllegalArgumentException("the table has " + t.columns() + " columns " + t.names()
+                    + "; the transform expects " + names.size() + " " + names);
+        }
+        for (int c = 0; c < names.size(); c++) {
+            if (!t.name(c).equals(names.get(c)) || t.kind(c) != kinds.get(c)) {
+                throw new IllegalArgumentException("table column " + c + " is '" + t.name(c) + "' (" + t.kind(c)
+                        + "); the transform expects '" + names.get(c) + "' (" + kinds.get(c) + ")");
+            }
+        }
+    }
+
+    // ------------------------------------------------------------------ statistics
+
+    private static boolean hasTwoDistinct(double[] values) {
+        for (double v : values) {
+            if (v != values[0]) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    /** m = (1/n) sum x_i, refined by the mean of the residuals (one correction pass). */
+    static double mean(double[] x) {
+        double sum = 0.0;
+        for (double v : x) {
+            sum += v;
+        }
+        double m = sum / x.length;
+        double correction = 0.0;
+        for (double v : x) {
+            correction += v - m;
+        }
+        return m + correction / x.length;
+    }
+
+    /**
+     * (1/n) [sum (x_i - m)^2 - (sum (x_i - m))^2 / n], the corrected two-pass algorithm (Chan, Golub
+     * &amp; LeVeque 1983, eq. 1.7).
+     */
+    static double populationVariance(double[] x, double m) {
+        double squares = 0.0;
+        double sum = 0.0;
+        for (double v : x) {
+            double d = v - m;
+            squares += d * d;
+            sum += d;
+        }
+        return Math.max(0.0, (squares - sum * sum / x.length) / x.length);
+    }
+
+    // ------------------------------------------------------------------ object
+
+    /**
+     * Equal when names, kinds and transforms are equal (exactly); notes are not compared.
+     *
+     * @param o another object
+     * @return true if equal
+     */
+    @Override
+    public boolean equals(Object o) {
+        if (this == o) {
+            return true;
+        }
+        if (!(o instanceof TableTransform)) {
+            return false;
+        }
+        TableTransform t = (TableTransform) o;
+        return names.equals(t.names) && kinds.equals(t.kinds) && transforms.equals(t.transforms);
+    }
+
+    /** @return a hash consistent with {@link #equals(Object)} */
+    @Override
+    public int hashCode() {
+        return 31 * (31 * names.hashCode() + kinds.hashCode()) + transforms.hashCode();
+    }
+
+    /** @return one line per column: name, kind and transform */
+    @Override
+    public String toString() {
+        StringBuilder sb = new StringBuilder("TableTransform (").append(modelledContinuous.length)
+                .append(" continuous and ").append(modelledBinary.length).append(" binary modelled, ")
+                .append(constants.length).append(" constant)\n");
+        for (int c = 0; c < names.size(); c++) {
+            ColumnTransform t = transforms.get(c);
+            sb.append("  ").append(names.get(c)).append(": ").append(kinds.get(c)).append(' ').append(t.kind());
+            if (t.kind() == ColumnTransform.Kind.STANDARDIZE || t.kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
+                sb.append(" shift=").append(t.shift()).append(" scale=").append(t.scale());
+            } else if (t.kind() == ColumnTransform.Kind.CONSTANT) {
+                sb.append(" value=").append(t.shift());
+            }
+            sb.append('\n');
+        }
+        return sb.toString();
+    }
+}
