@@ -128,7 +128,9 @@ public final class NoiseSchedule {
      * The cosine schedule with a chosen offset s (see {@link #cosine(int)}).
      *
      * @param steps T, at least 1
-     * @param offset s, above 0 (0.008 in the paper)
+     * @param offset s, above 0 (0.008 in the paper); an offset so large (of the order of 1e16 / T)
+     *     that f(t) no longer falls between two steps in double precision is refused, since it would
+     *     give a beta of 0
      * @return the schedule
      * @throws IllegalArgumentException naming the parameter that is out of range
      */
@@ -140,6 +142,11 @@ public final class NoiseSchedule {
         for (int t = 1; t <= steps; t++) {
             double f = cosineF(t, steps, offset);
             b[t - 1] = Math.min(MAX_BETA, 1.0 - f / prev);
+            if (!(b[t - 1] > 0.0)) {
+                throw new IllegalArgumentException("offset is " + offset + "; with " + steps
+                        + " steps it makes beta at step " + t + " equal to " + b[t - 1]
+                        + ", expected each beta in (0, 1): use a smaller offset");
+            }
             prev = f;
         }
         return new NoiseSchedule(Kind.COSINE, b, identity(steps));
@@ -352,10 +359,11 @@ public final class NoiseSchedule {
 
     /**
      * @param t the step, 0..T
-     * @return 1 - alpha-bar_t, computed as -expm1(log alpha-bar_t) without cancellation
+     * @return 1 - alpha-bar_t, computed as -expm1(log alpha-bar_t) without cancellation; +0.0 at t = 0
      */
     public double oneMinusAlphaBar(int t) {
-        return 0.0 - Math.expm1(logAlphaBar(t));  // 0.0 - x turns -0.0 into +0.0 at t = 0
+        double logAbar = logAlphaBar(t);
+        return t == 0 ? 0.0 : -Math.expm1(logAbar);   // -expm1(0) would be -0.0
     }
 
     /**
@@ -363,6 +371,7 @@ public final class NoiseSchedule {
      * @return SNR_t = alpha-bar_t / (1 - alpha-bar_t)
      */
     public double snr(int t) {
+        index(t);
         return alphaBar(t) / oneMinusAlphaBar(t);
     }
 
@@ -371,6 +380,7 @@ public final class NoiseSchedule {
      * @return log SNR_t = log alpha-bar_t - log(1 - alpha-bar_t); -infinity where alpha-bar_t = 0
      */
     public double logSnr(int t) {
+        index(t);
         return logAlphaBar(t) - Math.log(oneMinusAlphaBar(t));
     }
 
