@@ -32,7 +32,7 @@ import org.openjdk.jmh.annotations.Warmup;
  *
  * <p>Shapes: {@code columns -> 3 x 256 SiLU -> columns} with a 32-wide step embedding at the input
  * ({@code columns} = 8, 64, 256), and the reference shape {@code 128 -> 3 x 256 -> 64}
- * ({@code columns} = -1). GFLOP/s for a shape is
+ * ({@code columns} = reference). GFLOP/s for a shape is
  * {@code steps/s * 2 * batch * sum_j fanIn_j * fanOut_j * 3 / 1e9} (forward and twice that for
  * backward); see {@link #flopsPerStep}.
  */
@@ -53,9 +53,9 @@ public class TrainingStepBenchmark {
     /** T of the training schedule. */
     static final int STEPS = 1000;
 
-    /** Input and output columns; -1 selects the reference shape 128 -> 3 x 256 -> 64. */
-    @Param({"8", "64", "256", "-1"})
-    public int columns;
+    /** Input and output columns, or "reference" for the shape 128 -> 3 x 256 -> 64. */
+    @Param({"8", "64", "256", "reference"})
+    public String columns;
 
     /** Java threads (batch shards) of the step. */
     @Param({"1", "2"})
@@ -70,9 +70,10 @@ public class TrainingStepBenchmark {
     private double scale;
 
     /** The shape of a benchmark case. */
-    static NetworkShape shapeFor(int columns) {
-        int in = columns < 0 ? 128 : columns;
-        int out = columns < 0 ? 64 : columns;
+    static NetworkShape shapeFor(String columns) {
+        boolean reference = "reference".equals(columns);
+        int in = reference ? 128 : Integer.parseInt(columns);
+        int out = reference ? 64 : in;
         return new NetworkShape(in, new int[] {WIDTH, WIDTH, WIDTH}, out, EMBEDDING, TimeConditioning.INPUT);
     }
 

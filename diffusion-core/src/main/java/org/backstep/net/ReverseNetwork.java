@@ -42,7 +42,9 @@ import org.nd4j.linalg.factory.Nd4j;
  * for the first layer), into preallocated native buffers, on the calling thread with one BLAS
  * thread (see {@link ParallelStep} for parallelism across Java threads); the SiLU work runs in
  * vectorized Java on heap copies. The fast path takes dense row-major float32 arrays; other arrays
- * are copied first.
+ * are copied first. Side effect: the first pass on a thread sets the bundled OpenBLAS to one thread
+ * for BLAS calls made from that thread (OpenBLAS keeps this setting per calling thread; other code
+ * on the same thread sees it too). Nothing process-wide and no environment variable is changed.
  *
  * <p>Instances are immutable except for the live parameter vector ({@link #parameterView()}).
  */
@@ -261,6 +263,10 @@ public final class ReverseNetwork {
 
     /** Validates xt (rank 2, inputs columns) and steps (one per row, each in 1..T); returns the rows. */
     int checkInput(INDArray xt, int[] steps) {
+        return checkInput(shape, this.steps, xt, steps);
+    }
+
+    private static int checkInput(NetworkShape shape, int scheduleSteps, INDArray xt, int[] steps) {
         Require.notNull("xt", xt);
         Require.notNull("steps", steps);
         if (xt.rank() != 2 || xt.columns() != shape.inputs()) {
@@ -273,8 +279,8 @@ public final class ReverseNetwork {
                     + ", one per row of xt of shape " + Arrays.toString(xt.shape()));
         }
         for (int i = 0; i < rows; i++) {
-            if (steps[i] < 1 || steps[i] > this.steps) {
-                Require.inRange("steps[" + i + "]", steps[i], 1, this.steps);
+            if (steps[i] < 1 || steps[i] > scheduleSteps) {
+                Require.inRange("steps[" + i + "]", steps[i], 1, scheduleSteps);
             }
         }
         return rows;
@@ -287,11 +293,17 @@ public final class ReverseNetwork {
      * <p>Internally the first layer's input {@code [x_t, e(t), 1]} is stored row-major (rows x K),
      * later layers' inputs and the hidden gradients feature-major (K x rows), so every matrix an
      * sgemm reads or writes is dense and every concatenation is a contiguous copy.
+     *
+     * <p>A pass holds the network's parameter vector and tables but not the network object itself,
+     * so that the per-thread passes of {@link ReverseNetwork#predict} do not keep a network alive.
      */
     public static final class Pass {
 
-        private final ReverseNetwork net;
         private final NetworkShape shape;
+        private final int scheduleSteps;
+        private final INDArray params;
+        private final long[] weightOffset;
+        private final float[] embedding;
         private final int capacity;
         private final int last;
 
@@ -320,15 +332,18 @@ public final class ReverseNetwork {
         private FloatPointer[] gradientPointers;
 
         Pass(ReverseNetwork net, int capacity) {
-            this.net = net;
             this.shape = net.shape;
+            this.scheduleSteps = net.steps;
+            this.params = net.params;
+            this.weightOffset = net.weightOffset;
+            this.embedding = net.embedding;
             this.capacity = capacity;
             this.last = shape.layerCount() - 1;
             int e = shape.embeddingSize();
-            FloatPointer params = NativeMath.pointer(net.params);
+            FloatPointer base = NativeMath.pointer(params);
             weights = new FloatPointer[last + 1];
             for (int j = 0; j <= last; j++) {
-                weights[j] = NativeMath.offset(params, net.weightOffset[j]);
+                weights[j] = NativeMath.offset(base, weightOffset[j]);
             }
             firstInput = NativeMath.zeros((long) capacity * shape.weightRows(0));
             firstInputPointer = NativeMath.pointer(firstInput);
@@ -380,7 +395,7 @@ public final class ReverseNetwork {
          *     call; do not modify it
          */
         public INDArray forward(INDArray xt, int[] steps) {
-            int n = net.checkInput(xt, steps);
+            int n = checkInput(shape, scheduleSteps, xt, steps);
             if (n != capacity) {
                 throw new IllegalArgumentException("xt has shape " + Arrays.toString(xt.shape()) + "; expected ["
                         + capacity + ", " + shape.inputs() + "] (the batch size of this pass)");
@@ -407,7 +422,7 @@ public final class ReverseNetwork {
          * {@code gradInto}.
          *
          * @param dOutput dLoss/dOutput, batchSize x outputs (not modified)
-         * @param gradInto a dense float32 vector of length {@link #parameterCount()} in the parameter
+         * @param gradInto a dense float32 vector of length {@link ReverseNetwork#parameterCount()} in the parameter
          *     layout; the gradient is added to it (modified)
          */
         public void backward(INDArray dOutput, INDArray gradInto) {
@@ -428,16 +443,16 @@ public final class ReverseNetwork {
         FloatPointer[] gradientPointers(INDArray gradInto) {
             Require.notNull("gradInto", gradInto);
             if (gradInto != lastGradient) {
-                if (gradInto.length() != net.parameterCount() || !NativeMath.isDenseFloat(gradInto)
+                if (gradInto.length() != params.length() || !NativeMath.isDenseFloat(gradInto)
                         || !(gradInto.rank() <= 1 || gradInto.isVector())) {
                     throw new IllegalArgumentException("gradInto has shape " + Arrays.toString(gradInto.shape())
                             + " and type " + gradInto.dataType() + "; expected a dense FLOAT vector of length "
-                            + net.parameterCount());
+                            + params.length());
                 }
                 FloatPointer base = NativeMath.pointer(gradInto);
                 FloatPointer[] pointers = new FloatPointer[last + 1];
                 for (int j = 0; j <= last; j++) {
-                    pointers[j] = NativeMath.offset(base, net.weightOffset[j]);
+                    pointers[j] = NativeMath.offset(base, weightOffset[j]);
                 }
                 gradientPointers = pointers;
                 lastGradient = gradInto;
@@ -458,7 +473,7 @@ public final class ReverseNetwork {
             int d = shape.inputs();
             int e = shape.embeddingSize();
             int k0 = shape.weightRows(0);
-            float[] table = net.embedding;
+            float[] table = embedding;
             for (int r = 0; r < n; r++) {
                 int at = r * k0;
                 x.get((rowOffset + r) * d, stage, at, d);

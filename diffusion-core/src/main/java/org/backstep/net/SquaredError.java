@@ -21,6 +21,9 @@ import org.nd4j.linalg.api.ndarray.INDArray;
  */
 public final class SquaredError {
 
+    /** Per-thread staging arrays, grown on demand. */
+    private static final ThreadLocal<float[][]> STAGE = ThreadLocal.withInitial(() -> new float[2][0]);
+
     private SquaredError() {
     }
 
@@ -57,8 +60,13 @@ public final class SquaredError {
         INDArray tgt = NativeMath.denseFloat(target);
         int n = (int) output.length();
         int columns = (int) output.columns();
-        float[] o = new float[n];
-        float[] t = new float[n];
+        float[][] stage = STAGE.get();
+        if (stage[0].length < n) {
+            stage[0] = new float[n];
+            stage[1] = new float[n];
+        }
+        float[] o = stage[0];
+        float[] t = stage[1];
         FloatBuffer ob = NativeMath.buffer(out);
         ob.get(0, o, 0, n);
         NativeMath.buffer(tgt).get(rowOffset * columns, t, 0, n);
