@@ -27,8 +27,8 @@ import org.openjdk.jmh.annotations.Warmup;
 
 /**
  * One full training step of the reverse network: forward, mean-squared-error gradient, backward
- * (data-parallel over {@code threads} Java threads, one BLAS thread each) and an Adam update, for a
- * batch of 256 rows. Throughput is in steps per second.
+ * (data-parallel over {@code threads} Java threads, one BLAS thread each) and an Adam update (split
+ * across the same threads), for a batch of 256 rows. Throughput is in steps per second.
  *
  * <p>Shapes: {@code columns -> 3 x 256 SiLU -> columns} with a 32-wide step embedding at the input
  * ({@code columns} = 8, 64, 256), and the reference shape {@code 128 -> 3 x 256 -> 64}
@@ -122,16 +122,15 @@ public class TrainingStepBenchmark {
     }
 
     /**
-     * One step: forward, MSE gradient, backward, Adam.
+     * One step: forward, MSE gradient, backward, Adam ({@link ParallelStep#trainInPlace}).
      *
      * @return the minibatch loss
      */
     @Benchmark
     public double trainingStep() {
-        double loss = step.run(xt, stepOfRow,
+        return step.trainInPlace(xt, stepOfRow,
                 (shard, rowOffset, output, dOutputInto) -> SquaredError.lossAndGradientInto(output, target,
-                        rowOffset, scale, dOutputInto));
-        adam.stepInPlace(net.parameterView(), step.gradient());
-        return loss;
+                        rowOffset, scale, dOutputInto),
+                adam);
     }
 }

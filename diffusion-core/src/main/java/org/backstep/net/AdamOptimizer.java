@@ -158,29 +158,59 @@ public final class AdamOptimizer {
     public void stepInPlace(INDArray params, INDArray grad, double learningRate) {
         Require.notNull("params", params);
         Require.notNull("grad", grad);
-        Require.positive("learningRate", learningRate);
         checkVector("params", params);
         checkVector("grad", grad);
+        Step step = begin(learningRate);
+        updateRange(step, NativeMath.buffer(params), NativeMath.buffer(grad), 0, m.length);
+    }
+
+    /** The constants of one step t: beta1, beta2, 1 - beta1, 1 - beta2, 1/(1 - beta1^t), 1/(1 - beta2^t), alpha, epsilon, 1 - lambda. */
+    record Step(float b1, float b2, float oneMinusB1, float oneMinusB2, float correct1, float correct2, float alpha,
+            float eps, float keep) {
+    }
+
+    /** Validates the learning rate, advances t and returns the constants of step t. */
+    Step begin(double learningRate) {
+        Require.positive("learningRate", learningRate);
         iteration++;
-        float b1 = (float) beta1;
-        float b2 = (float) beta2;
-        float oneMinusB1 = (float) (1 - beta1);
-        float oneMinusB2 = (float) (1 - beta2);
-        float correct1 = (float) (1 / (1 - Math.pow(beta1, iteration)));
-        float correct2 = (float) (1 / (1 - Math.pow(beta2, iteration)));
-        float alpha = (float) learningRate;
-        float eps = (float) epsilon;
-        float keep = (float) (1 - weightDecay);
-        FloatBuffer p = NativeMath.buffer(params);
-        FloatBuffer g = NativeMath.buffer(grad);
+        return new Step((float) beta1, (float) beta2, (float) (1 - beta1), (float) (1 - beta2),
+                (float) (1 / (1 - Math.pow(beta1, iteration))), (float) (1 / (1 - Math.pow(beta2, iteration))),
+                (float) learningRate, (float) epsilon, (float) (1 - weightDecay));
+    }
+
+    /** @return the number of parameters */
+    int size() {
+        return m.length;
+    }
+
+    /**
+     * Applies step {@code s} to parameters [from, to). Calls on disjoint ranges may run on
+     * different threads at once; each element is computed the same way whatever the ranges.
+     *
+     * @param s the step constants from {@link #begin}
+     * @param p theta (modified in [from, to))
+     * @param g the gradient (not modified)
+     * @param from first index
+     * @param to end index (exclusive)
+     */
+    void updateRange(Step s, FloatBuffer p, FloatBuffer g, int from, int to) {
+        float b1 = s.b1;
+        float b2 = s.b2;
+        float oneMinusB1 = s.oneMinusB1;
+        float oneMinusB2 = s.oneMinusB2;
+        float correct1 = s.correct1;
+        float correct2 = s.correct2;
+        float alpha = s.alpha;
+        float eps = s.eps;
+        float keep = s.keep;
         float[] pc = paramStage;
         float[] gc = gradStage;
         float[] mm = m;
         float[] vv = v;
         // Chunks stay in cache between the copy in, the update and the copy out; every array is
         // indexed by the same i so that the loop vectorizes.
-        for (int start = 0; start < mm.length; start += CHUNK) {
-            int end = Math.min(mm.length, start + CHUNK);
+        for (int start = from; start < to; start += CHUNK) {
+            int end = Math.min(to, start + CHUNK);
             p.get(start, pc, start, end - start);
             g.get(start, gc, start, end - start);
             for (int i = start; i < end; i++) {
@@ -202,6 +232,11 @@ public final class AdamOptimizer {
             throw new IllegalArgumentException(name + " has shape " + Arrays.toString(x.shape()) + " and type "
                     + x.dataType() + "; expected a dense FLOAT vector of length " + m.length);
         }
+    }
+
+    /** @return alpha, the configured learning rate */
+    public double learningRate() {
+        return learningRate;
     }
 
     /** @return t, the number of steps taken */

@@ -7,6 +7,7 @@ import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.Future;
 import java.util.concurrent.atomic.AtomicInteger;
+import java.util.function.IntConsumer;
 
 import org.backstep.schedule.Require;
 import org.bytedeco.javacpp.FloatPointer;
@@ -19,6 +20,7 @@ import org.nd4j.linalg.api.ndarray.INDArray;
  * {@link ReverseNetwork.Pass} and gradient buffer (each BLAS call single-threaded), and the shard
  * gradients are summed in shard order, {@code g = ((g_0 + g_1) + g_2) + ...}, so the result is
  * bit-reproducible for a fixed thread count. The summed loss is {@code sum_i loss_i} in shard order.
+ * {@link #trainInPlace} also applies an {@link AdamOptimizer} step, split across the threads.
  *
  * <p>Shard 0 runs on the calling thread, the others on {@code threads - 1} daemon worker threads
  * owned by this object; {@link #close()} stops them. Not thread-safe: one caller at a time.
@@ -55,6 +57,8 @@ public final class ParallelStep implements AutoCloseable {
     private final FloatPointer[] gradientBase;
     private final INDArray[] dOutputs;
     private final FloatPointer[] dOutputPointers;
+    private final int[] rangeStart;
+    private final FloatPointer[][] rangeOf;
     private final ExecutorService workers;
     private boolean closed;
 
@@ -78,6 +82,19 @@ public final class ParallelStep implements AutoCloseable {
             gradientBase[i] = NativeMath.pointer(gradients[i]);
             dOutputs[i] = NativeMath.zeros(shardRows[i], net.shape().outputs());
             dOutputPointers[i] = NativeMath.pointer(dOutputs[i]);
+        }
+        // Parameter ranges for the gradient sum and the optimizer step, cut at multiples of 16 floats.
+        long count = net.parameterCount();
+        rangeStart = new int[threads + 1];
+        for (int i = 1; i < threads; i++) {
+            rangeStart[i] = (int) (count * i / threads) & ~15;
+        }
+        rangeStart[threads] = (int) count;
+        rangeOf = new FloatPointer[threads][threads];
+        for (int shard = 0; shard < threads; shard++) {
+            for (int range = 0; range < threads; range++) {
+                rangeOf[shard][range] = NativeMath.offset(gradientBase[shard], rangeStart[range]);
+            }
         }
         if (threads > 1) {
             int pool = POOL_NUMBER.incrementAndGet();
@@ -119,7 +136,8 @@ public final class ParallelStep implements AutoCloseable {
 
     /**
      * Runs forward on every shard, calls {@code lossGrad} for it, runs backward, and leaves the
-     * summed gradient {@code sum_i dLoss_i/dParameters} in {@link #gradient()}.
+     * summed gradient {@code sum_i dLoss_i/dParameters} in {@link #gradient()}. The sum is split
+     * across the threads by ranges of parameters (each element summed in shard order).
      *
      * @param xt the minibatch, batchSize x inputs (not modified)
      * @param steps the step t (1..T) of each row (not modified)
@@ -127,6 +145,59 @@ public final class ParallelStep implements AutoCloseable {
      * @return the summed loss of the shards (NaN if a shard returned NaN)
      */
     public double run(INDArray xt, int[] steps, LossGradient lossGrad) {
+        double loss = forwardBackward(xt, steps, lossGrad);
+        onEveryThread(range -> finishRange(range, null, null, null, null));
+        return loss;
+    }
+
+    /**
+     * {@link #run} followed by one optimizer step on the network's live parameters with the
+     * optimizer's configured learning rate; the gradient sum and the update of each range of
+     * parameters run on the same thread, all threads at once. Same result, bit for bit, as
+     * {@code run} then {@code adam.stepInPlace(net.parameterView(), gradient())}.
+     *
+     * @param xt the minibatch, batchSize x inputs (not modified)
+     * @param steps the step t (1..T) of each row (not modified)
+     * @param lossGrad the per-shard loss and output gradient
+     * @param adam an optimizer of the network's parameter count (its moments are modified)
+     * @return the summed loss of the shards
+     */
+    public double trainInPlace(INDArray xt, int[] steps, LossGradient lossGrad, AdamOptimizer adam) {
+        Require.notNull("adam", adam);
+        return trainInPlace(xt, steps, lossGrad, adam, adam.learningRate());
+    }
+
+    /**
+     * {@link #trainInPlace(INDArray, int[], LossGradient, AdamOptimizer)} with the given learning
+     * rate for this step.
+     *
+     * @param xt the minibatch, batchSize x inputs (not modified)
+     * @param steps the step t (1..T) of each row (not modified)
+     * @param lossGrad the per-shard loss and output gradient
+     * @param adam an optimizer of the network's parameter count (its moments are modified)
+     * @param learningRate alpha for this step, above 0
+     * @return the summed loss of the shards
+     */
+    public double trainInPlace(INDArray xt, int[] steps, LossGradient lossGrad, AdamOptimizer adam,
+            double learningRate) {
+        Require.notNull("adam", adam);
+        if (adam.size() != net.parameterCount()) {
+            throw new IllegalArgumentException("adam has " + adam.size() + " parameters; expected "
+                    + net.parameterCount() + ", the parameter count of the network");
+        }
+        Require.positive("learningRate", learningRate);
+        double loss = forwardBackward(xt, steps, lossGrad);
+        AdamOptimizer.Step step = adam.begin(learningRate);
+        INDArray params = net.parameterView();
+        FloatBuffer p = NativeMath.buffer(params);
+        FloatBuffer g = NativeMath.buffer(gradients[0]);
+        onEveryThread(range -> finishRange(range, adam, step, p.duplicate(), g.duplicate()));
+        Reference.reachabilityFence(params);
+        return loss;
+    }
+
+    /** Forward, loss gradient and backward on every shard; returns the summed loss. */
+    private double forwardBackward(INDArray xt, int[] steps, LossGradient lossGrad) {
         if (closed) {
             throw new IllegalStateException("this ParallelStep is closed");
         }
@@ -138,18 +209,27 @@ public final class ParallelStep implements AutoCloseable {
         Require.notNull("lossGrad", lossGrad);
         INDArray dense = NativeMath.denseFloat(xt);
         FloatBuffer x = NativeMath.buffer(dense);
+        double[] losses = new double[passes.length];
+        onEveryThread(shard -> losses[shard] = runShard(shard, x.duplicate(), steps, lossGrad));
+        Reference.reachabilityFence(dense);
+        double loss = losses[0];
+        for (int i = 1; i < losses.length; i++) {
+            loss += losses[i];
+        }
+        return loss;
+    }
+
+    /** Runs task(i) for i = 1..threads-1 on the workers and task(0) here; waits; rethrows the first failure. */
+    private void onEveryThread(IntConsumer task) {
         int threads = passes.length;
-        double[] losses = new double[threads];
         Future<?>[] futures = new Future<?>[threads];
         for (int i = 1; i < threads; i++) {
-            int shard = i;
-            futures[i] = workers.submit(() -> {
-                losses[shard] = runShard(shard, x.duplicate(), steps, lossGrad);
-            });
+            int index = i;
+            futures[i] = workers.submit(() -> task.accept(index));
         }
         Throwable failure = null;
         try {
-            losses[0] = runShard(0, x, steps, lossGrad);
+            task.accept(0);
         } catch (RuntimeException | Error e) {
             failure = e;
         }
@@ -167,7 +247,6 @@ public final class ParallelStep implements AutoCloseable {
                 }
             }
         }
-        Reference.reachabilityFence(dense);
         if (failure instanceof RuntimeException r) {
             throw r;
         }
@@ -177,13 +256,6 @@ public final class ParallelStep implements AutoCloseable {
         if (failure != null) {
             throw new IllegalStateException("a shard of the training step failed", failure);
         }
-        int count = (int) net.parameterCount();
-        double loss = losses[0];
-        for (int i = 1; i < threads; i++) {
-            NativeMath.addInPlace(count, gradientBase[i], gradientBase[0]);
-            loss += losses[i];
-        }
-        return loss;
     }
 
     private double runShard(int shard, FloatBuffer x, int[] steps, LossGradient lossGrad) {
@@ -193,6 +265,18 @@ public final class ParallelStep implements AutoCloseable {
         double loss = lossGrad.compute(shard, shardOffset[shard], pass.output(), dOutputs[shard]);
         pass.backwardRows(dOutputPointers[shard], pass.gradientPointers(gradients[shard]), 0f);
         return loss;
+    }
+
+    /** Sums the shard gradients over parameter range {@code range} in shard order, then applies the optimizer step if any. */
+    private void finishRange(int range, AdamOptimizer adam, AdamOptimizer.Step step, FloatBuffer p, FloatBuffer g) {
+        int from = rangeStart[range];
+        int to = rangeStart[range + 1];
+        for (int i = 1; i < passes.length; i++) {
+            NativeMath.addInPlace(to - from, rangeOf[i][range], rangeOf[0][range]);
+        }
+        if (adam != null) {
+            adam.updateRange(step, p, g, from, to);
+        }
     }
 
     /**
