@@ -42,11 +42,11 @@ class SiluTest {
             double expectedS = sigmoid(x);
             double expectedA = x * expectedS; // silu(x) = x sigmoid(x), Elfwing et al. 2018, section 2
             if (Math.abs(x) <= Silu.CLAMP) {
-                assertEquals(expectedS, s[i], SIGMOID_RELATIVE * expectedS, "sigmoid at " + x);
+                assertEquals(expectedS, s[i], SIGMOID_RELATIVE * expectedS, () -> "sigmoid at " + x);
             } else {
-                assertEquals(expectedS, s[i], SIGMOID_TAIL, "sigmoid at " + x);
+                assertEquals(expectedS, s[i], SIGMOID_TAIL, () -> "sigmoid at " + x);
             }
-            assertEquals(expectedA, a[i], SILU_ABSOLUTE + SILU_RELATIVE * Math.abs(expectedA), "silu at " + x);
+            assertEquals(expectedA, a[i], SILU_ABSOLUTE + SILU_RELATIVE * Math.abs(expectedA), () -> "silu at " + x);
         }
     }
 
@@ -64,7 +64,7 @@ class SiluTest {
             double sg = sigmoid(x);
             // silu'(x) = sigmoid(x) (1 + x (1 - sigmoid(x))), Elfwing et al. 2018, section 2
             double expected = sg * (1 + x * (1 - sg));
-            assertEquals(expected, d[i], SILU_ABSOLUTE + SILU_RELATIVE * Math.abs(expected), "silu' at " + x);
+            assertEquals(expected, d[i], SILU_ABSOLUTE + SILU_RELATIVE * Math.abs(expected), () -> "silu' at " + x);
         }
     }
 
@@ -75,7 +75,8 @@ class SiluTest {
         for (double x = -12; x <= 12; x += 0.37) {
             double numeric = (DoubleReference.silu(x + h) - DoubleReference.silu(x - h)) / (2 * h);
             double sg = sigmoid(x);
-            assertEquals(numeric, sg * (1 + x * (1 - sg)), DIFFERENCE_TOLERANCE, "at " + x);
+            double at = x;
+            assertEquals(numeric, sg * (1 + x * (1 - sg)), DIFFERENCE_TOLERANCE, () -> "at " + at);
         }
     }
 
