@@ -14,11 +14,13 @@ import org.nd4j.linalg.factory.Nd4j;
  * row-major {@code sgemm}, and the one-thread-per-call setting.
  *
  * <p>Threading: this package parallelizes across Java threads (independent batch shards) and runs
- * every BLAS call on the calling thread only. The bundled OpenBLAS keeps its thread count per
- * calling thread (an OpenMP setting), so {@link #oneBlasThreadHere()} is called at every entry point
- * and sets it once for each thread; other code on the same thread then also gets one-thread BLAS.
- * Process-wide settings and environment variables (OMP_NUM_THREADS, OPENBLAS_CORETYPE) are never
- * touched.
+ * every BLAS call on the calling thread only. With the OpenBLAS 0.3.19 that ND4J 1.0.0-M2.1 bundles,
+ * {@code openblas_set_num_threads(1)} acts on the thread that calls it (measured on this project's
+ * 2-core machine: set once on the main thread, two other threads running sgemm at once got about
+ * 25 GFLOP/s each; set on each of them, about 55 GFLOP/s each), so {@link #oneBlasThreadHere()} is
+ * called at every entry point and sets it once for each thread. Other BLAS users on the same thread
+ * then also get one thread. Process-wide settings and environment variables (OMP_NUM_THREADS,
+ * OPENBLAS_CORETYPE) are never touched.
  */
 final class NativeMath {
 

@@ -43,8 +43,8 @@ import org.nd4j.linalg.factory.Nd4j;
  * thread (see {@link ParallelStep} for parallelism across Java threads); the SiLU work runs in
  * vectorized Java on heap copies. The fast path takes dense row-major float32 arrays; other arrays
  * are copied first. Side effect: the first pass on a thread sets the bundled OpenBLAS to one thread
- * for BLAS calls made from that thread (OpenBLAS keeps this setting per calling thread; other code
- * on the same thread sees it too). Nothing process-wide and no environment variable is changed.
+ * for BLAS calls made from that thread (the bundled OpenBLAS applies it per calling thread; other
+ * code on the same thread sees it too). Nothing process-wide and no environment variable is changed.
  *
  * <p>Instances are immutable except for the live parameter vector ({@link #parameterView()}).
  */
