@@ -3,14 +3,11 @@ package org.backstep.table;
 import java.io.BufferedWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
-import java.nio.channels.Channels;
 import java.nio.channels.FileChannel;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.nio.file.StandardCopyOption;
-import java.nio.file.StandardOpenOption;
-import java.security.SecureRandom;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.Collections;
@@ -505,48 +502,18 @@ public final class CsvTables {
         void writeTo(java.io.Writer out) throws IOException;
     }
 
-    private static final SecureRandom TEMP_NAMES = new SecureRandom();
-
     /**
-     * Replaces {@code target} by the text of {@code body} atomically (temporary file in the same folder,
-     * flush, force, atomic move). On failure the old file is untouched and the temporary file is gone.
+     * Replaces {@code target} by the text of {@code body} atomically through
+     * {@link org.backstep.io.AtomicFiles}: on failure the old file is untouched and the temporary
+     * file is gone.
      */
     static void writeAtomically(Path target, TextBody body) throws IOException {
         Require.notNull("file", target);
-        Path file = target.toAbsolutePath();
-        if (Files.isDirectory(file)) {
-            throw new IOException(target + " is a folder; expected the path of a file to write");
-        }
-        Path folder = file.getParent();
-        Path temp = folder.resolve("." + file.getFileName() + "." + Long.toUnsignedString(TEMP_NAMES.nextLong(), 36)
-                + ".tmp");
-        try {
-            try (FileChannel channel = FileChannel.open(temp, StandardOpenOption.CREATE_NEW, StandardOpenOption.WRITE)) {
-                java.io.Writer out = new BufferedWriter(
-                        Channels.newWriter(channel, StandardCharsets.UTF_8.newEncoder(), -1));
-                body.writeTo(out);
-                out.flush();
-                channel.force(true);
-            }
-            Files.move(temp, file, StandardCopyOption.ATOMIC_MOVE, StandardCopyOption.REPLACE_EXISTING);
-        } catch (IOException | RuntimeException | Error e) {
-            try {
-                Files.deleteIfExists(temp);
-            } catch (IOException cleanup) {
-                e.addSuppressed(cleanup);
-            }
-            throw e;
-        }
-        forceFolder(folder);
-    }
-
-    /** Makes the rename durable where the platform allows forcing a folder (Linux does, Windows does not). */
-    private static void forceFolder(Path folder) {
-        try (FileChannel dir = FileChannel.open(folder, StandardOpenOption.READ)) {
-            dir.force(true);
-        } catch (IOException | UnsupportedOperationException e) {
-            LOG.debug("could not force folder {} after an atomic move: {}", folder, e.toString());
-        }
+        org.backstep.io.AtomicFiles.write(target, out -> {
+            java.io.Writer w = new BufferedWriter(new java.io.OutputStreamWriter(out, StandardCharsets.UTF_8));
+            body.writeTo(w);
+            w.flush();
+        });
     }
 
     // ------------------------------------------------------------------ helpers

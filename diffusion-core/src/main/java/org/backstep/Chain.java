@@ -1,0 +1,307 @@
+package org.backstep;
+
+import org.backstep.posterior.BinomialDiffusion;
+import org.backstep.posterior.GaussianDiffusion;
+import org.backstep.schedule.NoiseSchedule;
+import org.nd4j.linalg.api.buffer.DataType;
+import org.nd4j.linalg.api.ndarray.INDArray;
+import org.nd4j.linalg.factory.Nd4j;
+
+import java.util.SplittableRandom;
+
+/**
+ * The reverse chain in model space over one pair of schedules (continuous and binary, the same
+ * number of steps K), possibly strided from the training schedules. Every per-step coefficient is
+ * computed once in double from {@link GaussianDiffusion} and {@link BinomialDiffusion}; the
+ * per-cell work runs in plain Java loops over float rows, which for a table's few columns is faster
+ * than a chain of small native calls. The estimator (a network, or an exact closed form in tests)
+ * is called with the source step of each chain step.
+ *
+ * <p>Row-major float arrays: x has rows x D cells, continuous columns first, then binary ones.
+ */
+final class Chain {
+
+    static final double LOG_2PI = Math.log(2.0 * Math.PI);
+    /** Bernoulli probabilities are kept in [PROB_FLOOR, 1 - PROB_FLOOR] before a log (float32 network). */
+    static final double PROB_FLOOR = 1e-7;
+
+    final NoiseSchedule continuous;
+    final NoiseSchedule binary;
+    final int dc;
+    final int db;
+    final int d;
+    final int outputs;
+    final ReverseVariance variance;
+    final Estimator estimator;
+    final int steps;
+
+    // index k = 1..K (index 0 unused)
+    final int[] source;
+    final double[] sqrtAbar;
+    final double[] sqrtOneMinusAbar;
+    final double[] sqrtAlpha;
+    final double[] beta;
+    final double[] logBeta;
+    final double[] logVarClipped;
+    final double[] coefX0;
+    final double[] coefXt;
+    final double[] epsCoef;                 // beta / sqrt(1 - abar): mean = (x_t - epsCoef eps-hat) / sqrt(alpha)
+    final double[] binMarginalOne0;         // q(x_k = 1 | x0 = 0)
+    final double[] binMarginalOne1;         // q(x_k = 1 | x0 = 1)
+    final double[][] binPosterior;          // [k][2 x0 + xk] = q(x_{k-1} = 1 | x_k, x0)
+    final double priorMeanScale;            // sqrt(abar_K)
+    final double priorVariance;             // 1 - abar_K
+
+    Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, ReverseVariance variance,
+          Estimator estimator) {
+        if (continuous.steps() != binary.steps()) {
+            throw new IllegalArgumentException("the binary schedule has " + binary.steps()
+                    + " steps and the continuous one " + continuous.steps() + "; both kinds are diffused at the same t");
+        }
+        this.continuous = continuous;
+        this.binary = binary;
+        this.dc = dc;
+        this.db = db;
+        this.d = dc + db;
+        this.variance = variance;
+        this.outputs = dc * (variance == ReverseVariance.LEARNED ? 2 : 1) + db;
+        this.estimator = estimator;
+        if (estimator.inputs() != d || estimator.outputs() != outputs) {
+            throw new IllegalArgumentException("the estimator takes " + estimator.inputs() + " inputs and gives "
+                    + estimator.outputs() + " outputs; the chain needs " + d + " and " + outputs);
+        }
+        int n = continuous.steps();
+        this.steps = n;
+        GaussianDiffusion g = GaussianDiffusion.of(continuous);
+        BinomialDiffusion b = BinomialDiffusion.of(binary);
+        source = new int[n + 1];
+        sqrtAbar = new double[n + 1];
+        sqrtOneMinusAbar = new double[n + 1];
+        sqrtAlpha = new double[n + 1];
+        beta = new double[n + 1];
+        logBeta = new double[n + 1];
+        logVarClipped = new double[n + 1];
+        coefX0 = new double[n + 1];
+        coefXt = new double[n + 1];
+        epsCoef = new double[n + 1];
+        binMarginalOne0 = new double[n + 1];
+        binMarginalOne1 = new double[n + 1];
+        binPosterior = new double[n + 1][4];
+        for (int k = 1; k <= n; k++) {
+            source[k] = continuous.sourceStep(k);
+            sqrtAbar[k] = Math.sqrt(continuous.alphaBar(k));
+            sqrtOneMinusAbar[k] = Math.sqrt(continuous.oneMinusAlphaBar(k));
+            sqrtAlpha[k] = Math.sqrt(continuous.alpha(k));
+            beta[k] = continuous.beta(k);
+            logBeta[k] = Math.log(beta[k]);
+            logVarClipped[k] = g.posteriorLogVarianceClipped(k);
+            coefX0[k] = g.posteriorMeanCoefX0(k);
+            coefXt[k] = g.posteriorMeanCoefXt(k);
+            epsCoef[k] = beta[k] / sqrtOneMinusAbar[k];
+            binMarginalOne0[k] = b.marginalOne(k, 0.0);
+            binMarginalOne1[k] = b.marginalOne(k, 1.0);
+            for (int x0 = 0; x0 < 2; x0++) {
+                for (int xk = 0; xk < 2; xk++) {
+                    binPosterior[k][2 * x0 + xk] = b.posteriorOne(k, x0, xk);
+                }
+            }
+        }
+        sqrtAbar[0] = 1.0;          // alpha-bar_0 = 1
+        sqrtOneMinusAbar[0] = 0.0;
+        priorMeanScale = sqrtAbar[n];
+        priorVariance = continuous.oneMinusAlphaBar(n);
+    }
+
+    /** The same estimator over the sub-schedules that keep the given steps of this chain. */
+    Chain subset(int[] keep) {
+        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, variance, estimator);
+    }
+
+    /** The same estimator over count evenly spaced steps (see {@link NoiseSchedule#strided(int)}). */
+    Chain strided(int count) {
+        NoiseSchedule c = continuous.strided(count);
+        int[] keep = new int[count];
+        for (int i = 0; i < count; i++) {
+            keep[i] = indexOfSource(c.sourceStep(i + 1));
+        }
+        return subset(keep);
+    }
+
+    private int indexOfSource(int src) {
+        for (int k = 1; k <= steps; k++) {
+            if (source[k] == src) {
+                return k;
+            }
+        }
+        throw new IllegalStateException("source step " + src + " not in chain");
+    }
+
+    /** log sigma^2 of the continuous reverse kernel at step k, given the network's v (ignored unless learned). */
+    double reverseLogVariance(int k, double v) {
+        return switch (variance) {
+            case FIXED_BETA -> k == 1 ? logVarClipped[1] : logBeta[k];
+            case FIXED_POSTERIOR -> logVarClipped[k];
+            case LEARNED -> v * logBeta[k] + (1.0 - v) * logVarClipped[k];
+        };
+    }
+
+    /** Runs the estimator on a batch: x is rows x D, all rows at chain step k (or per-row steps). */
+    static final class Workspace {
+        final INDArray xt;
+        final INDArray out;
+        final int rows;
+        final int[] stepBuf;
+
+        Workspace(int rows, int d, int outputs) {
+            this.rows = rows;
+            this.xt = Nd4j.create(DataType.FLOAT, rows, d);
+            this.out = Nd4j.create(DataType.FLOAT, rows, outputs);
+            this.stepBuf = new int[rows];
+        }
+    }
+
+    Workspace workspace(int rows) {
+        return new Workspace(rows, d, outputs);
+    }
+
+    /** Predicts for rows of x (rows x D) with each row at source step src[r]; returns rows x outputs. */
+    float[] predict(Workspace ws, float[] x, int[] srcSteps) {
+        ws.xt.data().setData(x);
+        estimator.predict(ws.xt, srcSteps, ws.out);
+        return ws.out.data().asFloat();
+    }
+
+    float[] predictAtStep(Workspace ws, float[] x, int k) {
+        java.util.Arrays.fill(ws.stepBuf, source[k]);
+        return predict(ws, x, ws.stepBuf);
+    }
+
+    /** Fills x (rows x D) with draws of the prior: N(0, 1) for continuous cells, Bernoulli(1/2) for binary ones. */
+    void drawPrior(float[] x, int rows, SplittableRandom rng) {
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            for (int j = 0; j < dc; j++) {
+                x[o + j] = (float) rng.nextGaussian();
+            }
+            for (int j = dc; j < d; j++) {
+                x[o + j] = rng.nextDouble() < 0.5 ? 1f : 0f;
+            }
+        }
+    }
+
+    /**
+     * Draws x_k ~ q(x_k | x_0) into xt for every row (Ho et al. 2020, eq. 4; Sohl-Dickstein et al.
+     * 2015 for binary cells), at chain step k[r] of each row. Continuous noise is written to eps.
+     */
+    void diffuse(float[] x0, int rows, int[] k, float[] xt, float[] eps, SplittableRandom rng) {
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            int s = k[r];
+            double a = sqrtAbar[s];
+            double sd = sqrtOneMinusAbar[s];
+            for (int j = 0; j < dc; j++) {
+                double e = rng.nextGaussian();
+                if (eps != null) {
+                    eps[r * dc + j] = (float) e;
+                }
+                xt[o + j] = (float) (a * x0[o + j] + sd * e);
+            }
+            for (int j = dc; j < d; j++) {
+                double p1 = x0[o + j] > 0.5f ? binMarginalOne1[s] : binMarginalOne0[s];
+                xt[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+            }
+        }
+    }
+
+    static double sigmoid(double l) {
+        return l >= 0 ? 1.0 / (1.0 + Math.exp(-l)) : Math.exp(l) / (1.0 + Math.exp(l));
+    }
+
+    static double clampProb(double p) {
+        return Math.min(1.0 - PROB_FLOOR, Math.max(PROB_FLOOR, p));
+    }
+
+    /** p(x_{k-1} = 1 | x_k) for a binary cell: the posterior averaged over the predicted x_0. */
+    double binaryReverseOne(int k, float xk, double pOne) {
+        int xi = xk > 0.5f ? 1 : 0;
+        return pOne * binPosterior[k][2 + xi] + (1.0 - pOne) * binPosterior[k][xi];
+    }
+
+    /**
+     * The bound term of step k for every row, in nats, summed over cells: L_{k-1} =
+     * KL(q(x_{k-1} | x_k, x_0) || p(x_{k-1} | x_k)) for k &gt; 1 and the decoder term
+     * L_0 = -log p(x_0 | x_1) for k = 1 (Ho et al. 2020, eq. 5). Continuous and binary parts are
+     * added into contOut and binOut (length rows).
+     */
+    void boundTerms(float[] x0, float[] xt, float[] out, int rows, int[] k, double[] contOut, double[] binOut) {
+        int vOff = dc;
+        int lOff = dc * (variance == ReverseVariance.LEARNED ? 2 : 1);
+        for (int r = 0; r < rows; r++) {
+            int s = k[r];
+            int o = r * d;
+            int oo = r * outputs;
+            double c = 0.0;
+            for (int j = 0; j < dc; j++) {
+                double eh = out[oo + j];
+                double v = variance == ReverseVariance.LEARNED ? out[oo + vOff + j] : 0.0;
+                double lv = reverseLogVariance(s, v);
+                double mp = (xt[o + j] - epsCoef[s] * eh) / sqrtAlpha[s];
+                if (s == 1) {
+                    double diff = x0[o + j] - mp;
+                    c += 0.5 * (LOG_2PI + lv + diff * diff * Math.exp(-lv));
+                } else {
+                    double mq = coefX0[s] * x0[o + j] + coefXt[s] * xt[o + j];
+                    double lq = logVarClipped[s];
+                    double diff = mq - mp;
+                    c += 0.5 * (lv - lq + (Math.exp(lq) + diff * diff) * Math.exp(-lv) - 1.0);
+                }
+            }
+            double b = 0.0;
+            for (int j = 0; j < db; j++) {
+                double pOne = sigmoid(out[oo + lOff + j]);
+                int x0i = x0[o + dc + j] > 0.5f ? 1 : 0;
+                if (s == 1) {
+                    b -= Math.log(clampProb(x0i == 1 ? pOne : 1.0 - pOne));
+                } else {
+                    int xi = xt[o + dc + j] > 0.5f ? 1 : 0;
+                    double a = binPosterior[s][2 * x0i + xi];
+                    double p = clampProb(binaryReverseOne(s, xt[o + dc + j], pOne));
+                    b += bernoulliKl(a, p);
+                }
+            }
+            contOut[r] += c;
+            binOut[r] += b;
+        }
+    }
+
+    static double bernoulliKl(double a, double p) {
+        double kl = 0.0;
+        if (a > 0.0) {
+            kl += a * Math.log(a / p);
+        }
+        if (a < 1.0) {
+            kl += (1.0 - a) * Math.log((1.0 - a) / (1.0 - p));
+        }
+        return Math.max(0.0, kl);
+    }
+
+    /** The prior terms L_T per row: KL(q(x_K | x_0) || N(0, I)) and KL(q(x_K | x_0) || Bernoulli(1/2)). */
+    void priorTerms(float[] x0, int rows, double[] contOut, double[] binOut) {
+        double lq = Math.log(priorVariance);
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            double c = 0.0;
+            for (int j = 0; j < dc; j++) {
+                double m = priorMeanScale * x0[o + j];
+                c += 0.5 * (-lq + priorVariance + m * m - 1.0);
+            }
+            double b = 0.0;
+            for (int j = dc; j < d; j++) {
+                double q1 = x0[o + j] > 0.5f ? binMarginalOne1[steps] : binMarginalOne0[steps];
+                b += bernoulliKl(q1, 0.5);
+            }
+            contOut[r] += c;
+            binOut[r] += b;
+        }
+    }
+}

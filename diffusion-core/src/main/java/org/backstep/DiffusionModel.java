@@ -1,0 +1,558 @@
+package org.backstep;
+
+import org.backstep.net.ReverseNetwork;
+import org.backstep.schedule.Require;
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+import org.backstep.table.TableTransform;
+
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.SplittableRandom;
+
+/**
+ * A fitted diffusion model of a table: immutable, safe to share between threads. Made by
+ * {@link Backstep.Builder#fit(Table)}.
+ *
+ * <p>What it does, each on a batch of records, on {@link FitOptions#threads()} threads, from a
+ * seed (same seed, same numbers):
+ * <ul>
+ *   <li>{@link #bound(Table, long)}: the negative variational bound per record, exactly over all
+ *       T steps, or by Monte Carlo ({@link #boundMonteCarlo(Table, int, long)}) (Ho et al. 2020,
+ *       eq. 5);</li>
+ *   <li>{@link #screen(Table, Table, double, long)}: anomaly flags past a held-out quantile;</li>
+ *   <li>{@link #sample(int, SamplingPlan, long)}: synthetic records, ancestral or implicit, through
+ *       all T or a strided subset of steps;</li>
+ *   <li>{@link #impute(Table, int, double, long)}: draws of missing cells given observed ones;</li>
+ *   <li>{@link #denoise(Table, double[], int, long)}: readings with known Gaussian noise cleaned by
+ *       running the chain from the matching step.</li>
+ * </ul>
+ *
+ * <p>Cautions: imputed, denoised and synthetic values are not measurements. Synthetic rows can
+ * reproduce training rows: check their distance to the training rows, and local privacy law,
+ * before sharing them. A likelihood score ranks records; it is not a calibrated probability of a
+ * fault. For safety-, health- or compliance-critical decisions, defer to local regulations and
+ * qualified review.
+ */
+public final class DiffusionModel {
+
+    /** Steps of the chain used by {@link #impute(Table, int, double, long)} (a strided sub-schedule). */
+    public static final int IMPUTATION_STEPS = 50;
+    /** Resampling rounds per step of imputation (Lugmayr et al. 2022 use 10 on images; our measured choice). */
+    public static final int IMPUTATION_ROUNDS = 5;
+    /** Steps of the chain used by {@link #denoise(Table, double[], int, long)} below the starting step, at most. */
+    public static final int DENOISING_STEPS = 100;
+
+    private final FitOptions options;
+    private final TableTransform transform;
+    private final ReverseNetwork network;     // null for a model over a supplied estimator
+    private final Estimator estimator;
+    private final Provenance provenance;
+    private final Chain chain;
+
+    DiffusionModel(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
+                   Provenance provenance) {
+        this.options = options;
+        this.transform = transform;
+        this.network = network;
+        this.estimator = estimator;
+        this.provenance = provenance;
+        this.chain = new Chain(options.continuousSchedule(), options.binarySchedule(),
+                transform.modelledContinuous().length, transform.modelledBinary().length, options.variance(),
+                estimator);
+    }
+
+    /** @return every option of the fit */
+    public FitOptions options() {
+        return options;
+    }
+
+    /** @return the column transforms fitted on the training rows */
+    public TableTransform transform() {
+        return transform;
+    }
+
+    /** @return how the model was made */
+    public Provenance provenance() {
+        return provenance;
+    }
+
+    /** @return the training history, one record per epoch */
+    public List<EpochRecord> history() {
+        return provenance.history();
+    }
+
+    /** @return T */
+    public int steps() {
+        return options.steps();
+    }
+
+    /** @return D, the number of diffused columns */
+    public int dimensions() {
+        return chain.d;
+    }
+
+    ReverseNetwork network() {
+        return network;
+    }
+
+    Chain chain() {
+        return chain;
+    }
+
+    // ------------------------------------------------------------------ bounds
+
+    /**
+     * The exact bound: all T terms per record, one draw of x_t per term (T network evaluations per
+     * record).
+     *
+     * @param records complete records with the training table's columns
+     * @param seed the seed of the x_t draws
+     * @return the per-record bound, with the per-step breakdown
+     * @throws IllegalArgumentException naming a column mismatch or the first missing cell
+     */
+    public BoundReport bound(Table records, long seed) {
+        return bound(records, chain, seed);
+    }
+
+    /**
+     * The exact bound on a strided chain of {@code steps} steps (a different, usually looser bound
+     * of the same model; the planner compares them).
+     *
+     * @param records complete records
+     * @param steps steps of the strided chain, 1..T
+     * @param seed the seed
+     * @return the per-record bound
+     */
+    public BoundReport bound(Table records, int steps, long seed) {
+        Require.inRange("steps", steps, 1, steps());
+        return bound(records, steps == steps() ? chain : chain.strided(steps), seed);
+    }
+
+    private BoundReport bound(Table records, Chain c, long seed) {
+        float[] x = modelSpace(records, true);
+        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), seed, options.threads());
+        return new BoundReport(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary,
+                transform.logJacobian(records), r.standardError, r.perStepMean);
+    }
+
+    /**
+     * An unbiased Monte Carlo estimate of the bound: the prior term L_T and the decoder term L_0
+     * exactly, and {@code draws} steps drawn uniformly from 2..T per record for the rest,
+     * L_T + L_0 + ((T - 1)/K) sum_k L_{t_k - 1}, with its standard error (K + 1 network
+     * evaluations per record).
+     *
+     * @param records complete records
+     * @param draws K, at least 1
+     * @param seed the seed
+     * @return the per-record estimate with standard errors
+     */
+    public BoundReport boundMonteCarlo(Table records, int draws, long seed) {
+        Require.atLeast("draws", draws, 1);
+        float[] x = modelSpace(records, true);
+        BoundEvaluator.Result r = BoundEvaluator.monteCarlo(chain, x, records.rows(), draws, seed, options.threads());
+        return new BoundReport(BoundReport.Method.MONTE_CARLO, chain.steps, draws, chain.d, r.continuous, r.binary,
+                transform.logJacobian(records), r.standardError, r.perStepMean);
+    }
+
+    /**
+     * Scores records against a threshold at a quantile of held-out records' bounds. Both bounds are
+     * Monte Carlo estimates with {@code draws} steps per record.
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param heldOut complete records not trained on, to set the threshold
+     * @param records complete records to screen
+     * @param quantile in (0, 1), e.g. 0.99
+     * @param seed the seed
+     * @return the threshold, every score and the flagged rows
+     */
+    public AnomalyScreen screen(Table heldOut, Table records, double quantile, long seed) {
+        Require.inOpen("quantile", quantile, 0.0, 1.0);
+        int draws = Math.min(steps(), Defaults.VALIDATION_DRAWS * 4);
+        double[] ref = boundMonteCarlo(heldOut, draws, seed).nats();
+        double[] scores = boundMonteCarlo(records, draws, seed + 1).nats();
+        double threshold = quantile(ref, quantile);
+        int[] flagged = java.util.stream.IntStream.range(0, scores.length).filter(i -> scores[i] > threshold).toArray();
+        return new AnomalyScreen(quantile, threshold, scores, flagged);
+    }
+
+    /** The empirical quantile with linear interpolation between order statistics (Hyndman &amp; Fan 1996, type 7). */
+    static double quantile(double[] values, double q) {
+        double[] s = values.clone();
+        Arrays.sort(s);
+        double h = (s.length - 1) * q;
+        int lo = (int) Math.floor(h);
+        int hi = Math.min(s.length - 1, lo + 1);
+        return s[lo] + (h - lo) * (s[hi] - s[lo]);
+    }
+
+    // ------------------------------------------------------------------ sampling
+
+    /**
+     * Synthetic records by ancestral sampling through all T steps.
+     *
+     * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
+     *
+     * @param count how many, at least 1
+     * @param seed the seed
+     * @return a table with the training columns, in original units, binary columns 0/1
+     */
+    public Table sample(int count, long seed) {
+        return sample(count, SamplingPlan.ancestral(), seed);
+    }
+
+    /**
+     * Synthetic records by the given plan. Chunks of rows draw from generators seeded by the chunk's
+     * index, so the result does not depend on the thread count.
+     *
+     * @param count how many, at least 1
+     * @param plan sampler, steps and eta
+     * @param seed the seed
+     * @return a table with the training columns, in original units
+     */
+    public Table sample(int count, SamplingPlan plan, long seed) {
+        Require.atLeast("count", count, 1);
+        Require.notNull("plan", plan);
+        Chain c = chainFor(plan.steps());
+        float[] all = new float[count * c.d];
+        Parallel.forEachChunk(Parallel.chunks(count), options.threads(), chunk -> {
+            int from = chunk * Parallel.CHUNK_ROWS;
+            int n = Math.min(Parallel.CHUNK_ROWS, count - from);
+            SplittableRandom rng = Parallel.random(seed, chunk);
+            float[] x = new float[n * c.d];
+            c.drawPrior(x, n, rng);
+            ReverseRun.run(c, x, n, c.steps, null, 1, plan.kind(), plan.eta(), rng);
+            System.arraycopy(x, 0, all, from * c.d, n * c.d);
+        });
+        return transform.fromModelSpace(toRows(all, count, c.d));
+    }
+
+    private Chain chainFor(int steps) {
+        Require.inRange("steps", steps, 0, steps());
+        return steps == 0 || steps == steps() ? chain : chain.strided(steps);
+    }
+
+    // ------------------------------------------------------------------ imputation
+
+    /**
+     * Draws {@code draws} completions of the missing (NaN) cells of each record from the model's
+     * conditional distribution given its observed cells, by replacement with resampling (Lugmayr
+     * et al. 2022) on a strided chain of {@link #IMPUTATION_STEPS} steps with
+     * {@link #IMPUTATION_ROUNDS} rounds per step. Observed cells come back unchanged.
+     *
+     * <p>Caution: imputed values are not measurements.
+     *
+     * @param records records with the training columns; NaN marks a missing cell
+     * @param draws k, at least 1
+     * @param level the central interval's coverage, in (0, 1)
+     * @param seed the seed
+     * @return the k completions, the per-cell mean and the interval
+     */
+    public Imputation impute(Table records, int draws, double level, long seed) {
+        Require.atLeast("draws", draws, 1);
+        Require.inOpen("level", level, 0.0, 1.0);
+        checkColumns(records);
+        int rows = records.rows();
+        float[] known = Trainer.toFloat(transform.toModelSpace(records));
+        Chain c = chainFor(Math.min(IMPUTATION_STEPS, steps()));
+        List<float[]> results = new ArrayList<>();
+        for (int k = 0; k < draws; k++) {
+            float[] all = new float[rows * c.d];
+            long drawSeed = seed + 1_000_003L * k;
+            Parallel.forEachChunk(Parallel.chunks(rows), options.threads(), chunk -> {
+                int from = chunk * Parallel.CHUNK_ROWS;
+                int n = Math.min(Parallel.CHUNK_ROWS, rows - from);
+                SplittableRandom rng = Parallel.random(drawSeed, chunk);
+                float[] kn = BoundEvaluator.slice(known, from, n, c.d);
+                float[] x = new float[n * c.d];
+                c.drawPrior(x, n, rng);
+                ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
+                ReverseRun.run(c, x, n, c.steps, kn, IMPUTATION_ROUNDS, SamplerKind.ANCESTRAL, 0.0, rng);
+                System.arraycopy(x, 0, all, from * c.d, n * c.d);
+            });
+            results.add(all);
+        }
+        List<Table> tables = new ArrayList<>();
+        for (float[] r : results) {
+            tables.add(restoreObserved(transform.fromModelSpace(toRows(r, rows, c.d)), records));
+        }
+        double[][] mean = new double[rows][records.columns()];
+        double[][] lo = new double[rows][records.columns()];
+        double[][] hi = new double[rows][records.columns()];
+        double[] cell = new double[draws];
+        for (int i = 0; i < rows; i++) {
+            for (int j = 0; j < records.columns(); j++) {
+                double obs = records.get(i, j);
+                if (!Double.isNaN(obs)) {
+                    mean[i][j] = obs;
+                    lo[i][j] = obs;
+                    hi[i][j] = obs;
+                    continue;
+                }
+                for (int k = 0; k < draws; k++) {
+                    cell[k] = tables.get(k).get(i, j);
+                }
+                mean[i][j] = Arrays.stream(cell).average().orElseThrow();
+                lo[i][j] = quantile(cell, (1.0 - level) / 2.0);
+                hi[i][j] = quantile(cell, 1.0 - (1.0 - level) / 2.0);
+            }
+        }
+        return new Imputation(tables, withValues(records, mean), withValues(records, lo), withValues(records, hi), level);
+    }
+
+    /** Tables of the records' layout holding given values; binary cells as they are (a mean may be fractional). */
+    private static Table withValues(Table layout, double[][] values) {
+        List<ColumnKind> kinds = new ArrayList<>();
+        for (int j = 0; j < layout.columns(); j++) {
+            kinds.add(ColumnKind.CONTINUOUS);
+        }
+        return Table.of(layout.names(), kinds, values);
+    }
+
+    private static Table restoreObserved(Table drawn, Table records) {
+        double[][] v = drawn.toArray();
+        for (int i = 0; i < v.length; i++) {
+            for (int j = 0; j < v[i].length; j++) {
+                double obs = records.get(i, j);
+                if (!Double.isNaN(obs)) {
+                    v[i][j] = obs;
+                }
+            }
+        }
+        return drawn.withRows(v);
+    }
+
+    // ------------------------------------------------------------------ denoising
+
+    /**
+     * Cleans readings observed with additive Gaussian noise of known standard deviation per column
+     * (original units). In model space a reading is z_y = z + n with n ~ N(0, s_j^2), s_j the
+     * column's noise over its scale; the chain starts at the first step t* whose noise level
+     * (1 - alpha-bar)/alpha-bar reaches max_j s_j^2, with x_{t*} = sqrt(alpha-bar_{t*}) (z_y + m),
+     * m ~ N(0, (1 - alpha-bar_{t*})/alpha-bar_{t*} - s_j^2) topping each column up to that level, so
+     * that x_{t*} is exactly a draw of q(x_{t*} | x_0); then the reverse chain runs down to x_0 on a
+     * strided subset of at most {@link #DENOISING_STEPS} steps. Binary and constant columns are
+     * taken as observed exactly. Continuous columns must be standardized, not log-transformed.
+     *
+     * <p>Caution: denoised values are estimates, not measurements.
+     *
+     * @param readings complete noisy records with the training columns
+     * @param noiseSd the noise standard deviation of each column in original units, above 0 for
+     *     every diffused continuous column (other entries are ignored); not modified
+     * @param draws k, at least 1
+     * @param seed the seed
+     * @return posterior mean and spread per cell
+     */
+    public Denoising denoise(Table readings, double[] noiseSd, int draws, long seed) {
+        Require.notNull("noiseSd", noiseSd);
+        Require.atLeast("draws", draws, 1);
+        if (noiseSd.length != readings.columns()) {
+            throw new IllegalArgumentException("noiseSd has " + noiseSd.length + " entries; expected one per column, "
+                    + readings.columns());
+        }
+        float[] z = modelSpace(readings, true);
+        int[] cont = transform.modelledContinuous();
+        double[] s2 = new double[cont.length];
+        double max = 0.0;
+        for (int j = 0; j < cont.length; j++) {
+            int col = cont[j];
+            var tr = transform.transform(col);
+            if (tr.kind() != org.backstep.table.ColumnTransform.Kind.STANDARDIZE) {
+                throw new IllegalArgumentException("column '" + readings.name(col) + "' is " + tr.kind()
+                        + "; denoising needs standardized columns (additive noise on a log scale is not Gaussian)");
+            }
+            double sd = noiseSd[col];
+            if (!(sd > 0) || !Double.isFinite(sd)) {
+                throw new IllegalArgumentException("noiseSd of column '" + readings.name(col) + "' is " + sd
+                        + "; expected a finite number above 0");
+            }
+            s2[j] = (sd / tr.scale()) * (sd / tr.scale());
+            max = Math.max(max, s2[j]);
+        }
+        int start = steps();
+        for (int t = 1; t <= steps(); t++) {
+            double level = options.continuousSchedule().oneMinusAlphaBar(t) / options.continuousSchedule().alphaBar(t);
+            if (level >= max) {
+                start = t;
+                break;
+            }
+        }
+        double startLevel = options.continuousSchedule().oneMinusAlphaBar(start) / options.continuousSchedule().alphaBar(start);
+        if (startLevel < max) {
+            throw new IllegalArgumentException("the noise is larger than the schedule's last step can absorb (noise over "
+                    + "scale squared " + max + " > " + startLevel + "); these readings carry no usable signal");
+        }
+        int count = Math.min(DENOISING_STEPS, start);
+        int[] keep = new int[count];
+        for (int i = 0; i < count; i++) {
+            keep[i] = count == 1 ? start : (int) Math.round(1.0 + (start - 1.0) * i / (count - 1.0));
+        }
+        Chain c = chain.subset(keep);
+        double sqrtAbar = Math.sqrt(options.continuousSchedule().alphaBar(start));
+        int rows = readings.rows();
+        int d = c.d;
+        float[] known = new float[rows * d];
+        for (int r = 0; r < rows; r++) {
+            for (int j = 0; j < d; j++) {
+                known[r * d + j] = j < c.dc ? Float.NaN : z[r * d + j];
+            }
+        }
+        double[][] sum = new double[rows][readings.columns()];
+        double[][] sumSq = new double[rows][readings.columns()];
+        final double startLevelF = startLevel;
+        for (int k = 0; k < draws; k++) {
+            float[] all = new float[rows * d];
+            long drawSeed = seed + 1_000_003L * k;
+            Parallel.forEachChunk(Parallel.chunks(rows), options.threads(), chunk -> {
+                int from = chunk * Parallel.CHUNK_ROWS;
+                int n = Math.min(Parallel.CHUNK_ROWS, rows - from);
+                SplittableRandom rng = Parallel.random(drawSeed, chunk);
+                float[] x = new float[n * d];
+                float[] kn = BoundEvaluator.slice(known, from, n, d);
+                for (int r = 0; r < n; r++) {
+                    for (int j = 0; j < c.dc; j++) {
+                        double extra = Math.sqrt(Math.max(0.0, startLevelF - s2[j])) * rng.nextGaussian();
+                        x[r * d + j] = (float) (sqrtAbar * (z[(from + r) * d + j] + extra));
+                    }
+                }
+                ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
+                ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, rng);
+                System.arraycopy(x, 0, all, from * d, n * d);
+            });
+            Table drawn = transform.fromModelSpace(toRows(all, rows, d));
+            for (int i = 0; i < rows; i++) {
+                for (int j = 0; j < readings.columns(); j++) {
+                    double v = drawn.get(i, j);
+                    sum[i][j] += v;
+                    sumSq[i][j] += v * v;
+                }
+            }
+        }
+        double[][] mean = new double[rows][readings.columns()];
+        double[][] sd = new double[rows][readings.columns()];
+        for (int i = 0; i < rows; i++) {
+            for (int j = 0; j < readings.columns(); j++) {
+                mean[i][j] = sum[i][j] / draws;
+                double var = draws > 1 ? (sumSq[i][j] - draws * mean[i][j] * mean[i][j]) / (draws - 1) : 0.0;
+                sd[i][j] = Math.sqrt(Math.max(0.0, var));
+            }
+        }
+        return new Denoising(withValues(readings, mean), withValues(readings, sd), draws, start);
+    }
+
+    // ------------------------------------------------------------------ planning
+
+    /** The step counts the planner tries by default, besides T itself. */
+    public static final int[] PLANNER_STEP_COUNTS = {10, 25, 50, 100, 250};
+
+    /**
+     * Evaluates step counts for sampling: for each K, the exact held-out bound of the K-step strided
+     * chain (nats per dimension), the quality of K-step samples against the held-out rows (energy
+     * distance with a permutation p-value; the largest per-column Kolmogorov-Smirnov statistic) and
+     * the measured milliseconds per 1,000 samples; recommends the smallest K whose bound is within
+     * {@code tolerance} of the best.
+     *
+     * @param heldOut complete records not trained on (the first 1,000 are used)
+     * @param tolerance in nats per dimension, at least 0
+     * @param seed the seed
+     * @param stepCounts the candidates, each in 1..T; none means {@link #PLANNER_STEP_COUNTS} and T
+     * @return the table of findings and the recommendation
+     */
+    public StepPlan planSteps(Table heldOut, double tolerance, long seed, int... stepCounts) {
+        Require.nonNegative("tolerance", tolerance);
+        checkColumns(heldOut);
+        int[] counts = stepCounts.length > 0 ? stepCounts
+                : java.util.stream.IntStream.concat(Arrays.stream(PLANNER_STEP_COUNTS).filter(k -> k < steps()),
+                        java.util.stream.IntStream.of(steps())).toArray();
+        return StepPlanner.plan(this, heldOut, tolerance, seed, counts);
+    }
+
+    // ------------------------------------------------------------------ files
+
+    /**
+     * Saves the model to one file (see the format in the README): written to a temporary file in
+     * the same folder, synced, then moved over {@code file}; a failure leaves an existing file as
+     * it was.
+     *
+     * @param file where to save
+     * @throws IOException if the file cannot be written
+     */
+    public void save(java.nio.file.Path file) throws java.io.IOException {
+        Require.notNull("file", file);
+        ModelFile.save(this, file);
+    }
+
+    /**
+     * Loads a model saved by {@link #save(java.nio.file.Path)}; it behaves identically (the same
+     * bounds and samples for the same seed).
+     *
+     * @param file the model file
+     * @return the model
+     * @throws ModelFileException if the file is foreign, truncated, of an unknown version, missing
+     *     an entry, fails a checksum, or disagrees with its manifest
+     * @throws java.io.IOException if the file cannot be read
+     */
+    public static DiffusionModel load(java.nio.file.Path file) throws java.io.IOException {
+        Require.notNull("file", file);
+        return ModelFile.load(file);
+    }
+
+    /**
+     * A model over a supplied estimator instead of a trained network, for checking the bound and
+     * sampling code against closed forms. Not saveable.
+     */
+    static DiffusionModel withEstimator(FitOptions options, TableTransform transform, Estimator estimator) {
+        return new DiffusionModel(options, transform, null, estimator,
+                new Provenance(Provenance.currentLibraryVersion(), System.getProperty("java.version"), "", "", "", 0.0, 0, 0, 0,
+                        "", List.of(), List.of("supplied estimator")));
+    }
+
+    // ------------------------------------------------------------------ helpers
+
+    private void checkColumns(Table records) {
+        Require.notNull("records", records);
+        if (!records.names().equals(transform.names()) || !records.kinds().equals(transform.kinds())) {
+            throw new IllegalArgumentException("records have columns " + records.names() + " " + records.kinds()
+                    + "; expected the training columns " + transform.names() + " " + transform.kinds());
+        }
+    }
+
+    private float[] modelSpace(Table records, boolean complete) {
+        checkColumns(records);
+        if (complete && records.hasMissing()) {
+            for (int i = 0; i < records.rows(); i++) {
+                for (int j = 0; j < records.columns(); j++) {
+                    if (Double.isNaN(records.get(i, j))) {
+                        throw new IllegalArgumentException("row " + i + ", column '" + records.name(j)
+                                + "' is missing; this needs complete records (impute them first)");
+                    }
+                }
+            }
+        }
+        if (records.rows() == 0) {
+            throw new IllegalArgumentException("records has 0 rows; expected at least 1");
+        }
+        return Trainer.toFloat(transform.toModelSpace(records));
+    }
+
+    static double[][] toRows(float[] x, int rows, int d) {
+        double[][] out = new double[rows][d];
+        for (int r = 0; r < rows; r++) {
+            for (int j = 0; j < d; j++) {
+                out[r][j] = x[r * d + j];
+            }
+        }
+        return out;
+    }
+
+    @Override
+    public String toString() {
+        return "DiffusionModel[" + transform.names().size() + " columns (" + chain.dc + " continuous, " + chain.db
+                + " binary diffused), T=" + steps() + ", " + options.continuousSchedule().kind().name().toLowerCase()
+                + " + " + options.binarySchedule().kind().name().toLowerCase() + ", variance " + options.variance()
+                + ", trained on " + provenance.trainingRows() + " rows in "
+                + String.format(java.util.Locale.ROOT, "%.1f", provenance.trainingSeconds()) + " s]";
+    }
+}

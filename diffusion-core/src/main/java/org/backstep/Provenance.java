@@ -1,0 +1,59 @@
+package org.backstep;
+
+import org.backstep.table.Table;
+
+import java.io.IOException;
+import java.io.InputStream;
+import java.time.Instant;
+import java.util.List;
+import java.util.Properties;
+
+/**
+ * How a model was made: enough to say where it came from and to rebuild it (every option is in
+ * {@link FitOptions}; this adds the machine, the data's fingerprint and the training history).
+ *
+ * @param libraryVersion Backstep's version, from the build
+ * @param javaVersion the Java runtime's version
+ * @param os the operating system's name and version
+ * @param arch the processor architecture
+ * @param fittedAt when training finished (UTC)
+ * @param trainingSeconds wall time of training
+ * @param tableRows rows of the table given to fit
+ * @param trainingRows rows trained on (complete rows of the training part)
+ * @param validationRows complete held-out rows
+ * @param tableSha256 SHA-256 of the table given to fit ({@link Table#sha256()})
+ * @param history one record per epoch
+ * @param notes what the fit decided on its own (dropped rows, constant columns, early stop)
+ */
+public record Provenance(String libraryVersion, String javaVersion, String os, String arch, String fittedAt,
+                         double trainingSeconds, int tableRows, int trainingRows, int validationRows,
+                         String tableSha256, List<EpochRecord> history, List<String> notes) {
+
+    /** Copies the lists. */
+    public Provenance {
+        history = List.copyOf(history);
+        notes = List.copyOf(notes);
+    }
+
+    static Provenance record(FitOptions options, Table table, int trainingRows, int validationRows, double seconds,
+                             List<EpochRecord> history, List<String> notes) {
+        return new Provenance(currentLibraryVersion(), System.getProperty("java.version"),
+                System.getProperty("os.name") + " " + System.getProperty("os.version"),
+                System.getProperty("os.arch"), Instant.now().toString(), seconds, table.rows(), trainingRows,
+                validationRows, table.sha256(), history, notes);
+    }
+
+    /** @return the version written into the jar by the Maven build, or "unknown" */
+    public static String currentLibraryVersion() {
+        try (InputStream in = Provenance.class.getResourceAsStream("/org/backstep/version.properties")) {
+            if (in == null) {
+                return "unknown";
+            }
+            Properties p = new Properties();
+            p.load(in);
+            return p.getProperty("version", "unknown");
+        } catch (IOException e) {
+            return "unknown";
+        }
+    }
+}
