@@ -1,32 +1,215 @@
 package org.backstep.examples;
 
-import org.backstep.schedule.NoiseSchedule;
+import org.backstep.Defaults;
+import org.backstep.examples.fleet.FleetTables;
+import org.backstep.examples.fleet.ReeferFleet;
+import org.backstep.examples.fleet.Telemetry;
+import org.backstep.table.CsvTables;
+import org.backstep.table.Table;
+import org.backstep.table.TableFormatException;
+
+import java.io.IOException;
+import java.io.PrintStream;
+import java.nio.file.Files;
+import java.nio.file.NoSuchFileException;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
 
 /**
- * The README's main-job command. For now it prints the derived per-step table of a chosen
- * schedule; the full demo on container telemetry replaces it.
+ * The README's main-job command: {@code examples/demo [options] [FILE.csv]}. Without a file it
+ * generates invented refrigerated-container telemetry with injected faults and missing cells; with
+ * a file it runs the same steps on that table. See {@link #USAGE}.
  */
 public final class Demo {
+
+    static final String USAGE = String.join("\n",
+            "Usage: examples/demo [options] [FILE.csv]",
+            "",
+            "Runs the main job of Backstep: fit a diffusion model with a held-out split, report the",
+            "held-out bound beside two baselines, screen records, impute, denoise, sample, plan the",
+            "step count, and write a report folder. Without FILE.csv it uses invented telemetry of",
+            "refrigerated shipping containers (with injected faults and 5% missing cells).",
+            "",
+            "Options:",
+            "  --binary COL[,COL...]   columns of FILE.csv that are binary (0/1); others are inferred",
+            "  --missing TOKEN         the token of a missing cell in FILE.csv (default: empty cell)",
+            "  --out DIR               the report folder (default: backstep-report)",
+            "  --steps T               diffusion steps (default: 1000)",
+            "  --epochs N              training epochs (default: about " + Defaults.TRAINING_STEPS + " minibatch steps)",
+            "  --hidden W,W,...        hidden widths (default: 256,256,256)",
+            "  --seed S                the seed (default: 1)",
+            "  --holdout K             hold out rows whose 0-based index i has i % K == 0 (default: 5)",
+            "  --containers N          demo only: containers in the invented fleet (default: 24)",
+            "  --days N                demo only: days of readings (default: 3)",
+            "  --no-progress           no progress bar",
+            "  --help                  this text");
 
     private Demo() {
     }
 
     /**
-     * Prints the per-step table of the cosine schedule with 50 steps, or of the schedule named by
-     * the first argument ({@code linear}, {@code cosine}, {@code binomial}) with the step count of
-     * the second.
-     *
-     * @param args optional kind and step count
+     * @param args see {@link #USAGE}
      */
     public static void main(String[] args) {
-        String kind = args.length > 0 ? args[0] : "cosine";
-        int steps = args.length > 1 ? Integer.parseInt(args[1]) : 50;
-        NoiseSchedule schedule = switch (kind) {
-            case "linear" -> NoiseSchedule.linear(steps);
-            case "binomial" -> NoiseSchedule.binomial(steps);
-            default -> NoiseSchedule.cosine(steps);
-        };
-        System.out.println(schedule);
-        System.out.print(schedule.toTable());
+        int code = run(args, System.out, System.err);
+        if (code != 0) {
+            System.exit(code);
+        }
+    }
+
+    /**
+     * Runs the command; returns the exit code instead of exiting.
+     *
+     * @param args the arguments
+     * @param out where figures go
+     * @param err where errors go
+     * @return 0 on success, 2 for bad arguments, 1 for a failure
+     */
+    public static int run(String[] args, PrintStream out, PrintStream err) {
+        Options o;
+        try {
+            o = Options.parse(args);
+        } catch (IllegalArgumentException e) {
+            err.println("backstep demo: " + e.getMessage());
+            err.println("Run examples/demo --help for the options.");
+            return 2;
+        }
+        if (o.help) {
+            out.println(USAGE);
+            return 0;
+        }
+        try {
+            MainJob.Config config;
+            if (o.file == null) {
+                Telemetry t = ReeferFleet.generate(ReeferFleet.options().withContainers(o.containers).withDays(o.days)
+                        .withSeed(2026 + o.seed));
+                out.printf("Invented reefer telemetry (for demonstration, not measurements): %d containers, %d days, %d rows%n",
+                        o.containers, o.days, t.rows());
+                double[] noise = new double[t.columnNames().size()];
+                double[] perColumn = {0.5, 0.5, 1.0, 3.0, 0.4, 0, 0};
+                System.arraycopy(perColumn, 0, noise, 0, Math.min(noise.length, perColumn.length));
+                config = new MainJob.Config(FleetTables.cells(t), FleetTables.truth(t), t.faultRows(), o.out, o.steps,
+                        o.epochs, o.hidden, o.seed, o.holdout, noise);
+            } else {
+                CsvTables.Reader reader = CsvTables.reader().missingToken(o.missing);
+                if (!o.binary.isEmpty()) {
+                    reader = reader.binary(o.binary.toArray(String[]::new));
+                }
+                Table table = reader.read(o.file);
+                out.printf("Table %s: %d rows x %d columns%n", o.file, table.rows(), table.columns());
+                config = new MainJob.Config(table, null, null, o.out, o.steps, o.epochs, o.hidden, o.seed, o.holdout, null);
+            }
+            MainJob.run(config, out, o.progress);
+            return 0;
+        } catch (TableFormatException e) {
+            err.println("backstep demo: " + e.getMessage());
+            return 1;
+        } catch (NoSuchFileException e) {
+            err.println("backstep demo: no such file: " + e.getFile());
+            return 1;
+        } catch (IOException | IllegalArgumentException | IllegalStateException e) {
+            err.println("backstep demo: " + e.getMessage());
+            return 1;
+        }
+    }
+
+    /** Parsed command-line options. */
+    static final class Options {
+        Path file;
+        List<String> binary = new ArrayList<>();
+        String missing = "";
+        Path out = Path.of("backstep-report");
+        int steps = Defaults.STEPS;
+        int epochs = 0;
+        int[] hidden = Defaults.HIDDEN.clone();
+        long seed = Defaults.SEED;
+        int holdout = 5;
+        int containers = 24;
+        int days = 3;
+        boolean progress = true;
+        boolean help;
+
+        static Options parse(String[] args) {
+            Options o = new Options();
+            for (int i = 0; i < args.length; i++) {
+                String a = args[i];
+                switch (a) {
+                    case "--help", "-h" -> o.help = true;
+                    case "--no-progress" -> o.progress = false;
+                    case "--binary" -> o.binary = Arrays.asList(value(args, ++i, a).split(","));
+                    case "--missing" -> o.missing = value(args, ++i, a);
+                    case "--out" -> o.out = Path.of(value(args, ++i, a));
+                    case "--steps" -> o.steps = positive(args, ++i, a);
+                    case "--epochs" -> o.epochs = positive(args, ++i, a);
+                    case "--seed" -> o.seed = Long.parseLong(number(args, ++i, a));
+                    case "--holdout" -> o.holdout = atLeast(args, ++i, a, 2);
+                    case "--containers" -> o.containers = positive(args, ++i, a);
+                    case "--days" -> o.days = positive(args, ++i, a);
+                    case "--hidden" -> {
+                        String[] parts = value(args, ++i, a).split(",");
+                        o.hidden = new int[parts.length];
+                        for (int k = 0; k < parts.length; k++) {
+                            o.hidden[k] = parsePositive(parts[k], a);
+                        }
+                    }
+                    default -> {
+                        if (a.startsWith("-")) {
+                            throw new IllegalArgumentException("unknown option " + a);
+                        }
+                        if (o.file != null) {
+                            throw new IllegalArgumentException("more than one file given: " + o.file + " and " + a);
+                        }
+                        o.file = Path.of(a);
+                        if (!Files.isRegularFile(o.file)) {
+                            throw new IllegalArgumentException("no such file: " + a);
+                        }
+                    }
+                }
+            }
+            return o;
+        }
+
+        private static String value(String[] args, int i, String option) {
+            if (i >= args.length) {
+                throw new IllegalArgumentException(option + " needs a value");
+            }
+            return args[i];
+        }
+
+        private static String number(String[] args, int i, String option) {
+            String v = value(args, i, option);
+            try {
+                Long.parseLong(v);
+            } catch (NumberFormatException e) {
+                throw new IllegalArgumentException(option + " is '" + v + "'; expected a whole number");
+            }
+            return v;
+        }
+
+        private static int positive(String[] args, int i, String option) {
+            return parsePositive(value(args, i, option), option);
+        }
+
+        private static int atLeast(String[] args, int i, String option, int min) {
+            int v = parsePositive(value(args, i, option), option);
+            if (v < min) {
+                throw new IllegalArgumentException(option + " is " + v + "; expected at least " + min);
+            }
+            return v;
+        }
+
+        private static int parsePositive(String v, String option) {
+            try {
+                int n = Integer.parseInt(v.trim());
+                if (n < 1) {
+                    throw new IllegalArgumentException(option + " is " + v + "; expected a whole number of at least 1");
+                }
+                return n;
+            } catch (NumberFormatException e) {
+                throw new IllegalArgumentException(option + " is '" + v + "'; expected a whole number of at least 1");
+            }
+        }
     }
 }

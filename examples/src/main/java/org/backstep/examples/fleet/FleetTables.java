@@ -1,0 +1,38 @@
+package org.backstep.examples.fleet;
+
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+
+import java.util.ArrayList;
+import java.util.List;
+
+/** Turns invented fleet telemetry into Backstep tables. */
+public final class FleetTables {
+
+    private FleetTables() {
+    }
+
+    /**
+     * @param telemetry generated telemetry
+     * @return the readings as a table, NaN where a cell is missing
+     */
+    public static Table cells(Telemetry telemetry) {
+        return Table.of(telemetry.columnNames(), kinds(telemetry), telemetry.cells());
+    }
+
+    /**
+     * @param telemetry generated telemetry
+     * @return the readings before cells were blanked
+     */
+    public static Table truth(Telemetry telemetry) {
+        return Table.of(telemetry.columnNames(), kinds(telemetry), telemetry.truth());
+    }
+
+    private static List<ColumnKind> kinds(Telemetry telemetry) {
+        List<ColumnKind> kinds = new ArrayList<>();
+        for (boolean b : telemetry.binaryColumns()) {
+            kinds.add(b ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);
+        }
+        return kinds;
+    }
+}
