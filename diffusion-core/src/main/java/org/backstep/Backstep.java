@@ -63,6 +63,7 @@ public final class Backstep {
         private double hybridWeight = Defaults.HYBRID_WEIGHT;
         private StepSampling stepSampling = Defaults.STEP_SAMPLING;
         private double learningRate = Defaults.LEARNING_RATE;
+        private LearningRateSchedule learningRateSchedule = Defaults.LEARNING_RATE_SCHEDULE;
         private double adamBeta1 = Defaults.ADAM_BETA1;
         private double adamBeta2 = Defaults.ADAM_BETA2;
         private double adamEpsilon = Defaults.ADAM_EPSILON;
@@ -155,6 +156,12 @@ public final class Backstep {
         /** Adam's step size; default {@link Defaults#LEARNING_RATE}. @param rate above 0 @return this */
         public Builder learningRate(double rate) {
             this.learningRate = rate;
+            return this;
+        }
+
+        /** How the step size changes over training; default {@link Defaults#LEARNING_RATE_SCHEDULE}. @param schedule the schedule @return this */
+        public Builder learningRateSchedule(LearningRateSchedule schedule) {
+            this.learningRateSchedule = schedule;
             return this;
         }
 
@@ -293,6 +300,7 @@ public final class Backstep {
             Require.positive("hybridWeight", hybridWeight);
             Require.notNull("stepSampling", stepSampling);
             Require.positive("learningRate", learningRate);
+            Require.notNull("learningRateSchedule", learningRateSchedule);
             checkMoment("adam beta1", adamBeta1);
             checkMoment("adam beta2", adamBeta2);
             Require.positive("adam epsilon", adamEpsilon);
@@ -313,7 +321,7 @@ public final class Backstep {
             Require.notNull("listener", listener);
             Require.notNull("stopWhen", stopRequested);
             return new FitOptions(cont, bin, hidden, embeddingSize, conditioning, variance, loss, hybridWeight,
-                    stepSampling, learningRate, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
+                    stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
                     batchSize, epochs, validationFraction, evaluateEvery, validationDraws, patience,
                     logColumns, seed, threads);
         }

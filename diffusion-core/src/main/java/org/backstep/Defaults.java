@@ -54,6 +54,8 @@ public final class Defaults {
     public static final StepSampling STEP_SAMPLING = StepSampling.UNIFORM;
     /** Adam's step size. */
     public static final double LEARNING_RATE = 1e-3;
+    /** Cosine annealing of the step size over the planned steps. */
+    public static final LearningRateSchedule LEARNING_RATE_SCHEDULE = LearningRateSchedule.COSINE;
     /** Adam's beta_1 (Kingma &amp; Ba 2015). */
     public static final double ADAM_BETA1 = 0.9;
     /** Adam's beta_2 (Kingma &amp; Ba 2015). */

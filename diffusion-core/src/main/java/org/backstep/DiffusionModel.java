@@ -335,6 +335,9 @@ public final class DiffusionModel {
      * that x_{t*} is exactly a draw of q(x_{t*} | x_0); then the reverse chain runs down to x_0 on a
      * strided subset of at most {@link #DENOISING_STEPS} steps. Binary and constant columns are
      * taken as observed exactly. Continuous columns must be standardized, not log-transformed.
+     * Every column is brought to the level of the noisiest one (in units of its scale), so a column
+     * whose noise is far below the others' loses precision: denoise such groups of columns in
+     * separate calls, passing a tiny noise for the others.
      *
      * <p>Caution: denoised values are estimates, not measurements.
      *
@@ -454,7 +457,7 @@ public final class DiffusionModel {
      * the measured milliseconds per 1,000 samples; recommends the smallest K whose bound is within
      * {@code tolerance} of the best.
      *
-     * @param heldOut complete records not trained on (the first 1,000 are used)
+     * @param heldOut complete records not trained on (1,000 rows spread evenly over them are used)
      * @param tolerance in nats per dimension, at least 0
      * @param seed the seed
      * @param stepCounts the candidates, each in 1..T; none means {@link #PLANNER_STEP_COUNTS} and T

@@ -20,6 +20,7 @@ import java.util.Set;
  * @param hybridWeight lambda of the hybrid loss
  * @param stepSampling how t is drawn in training
  * @param learningRate Adam's step size
+ * @param learningRateSchedule how the step size changes over training
  * @param adamBeta1 Adam's beta_1
  * @param adamBeta2 Adam's beta_2
  * @param adamEpsilon Adam's epsilon
@@ -38,7 +39,7 @@ import java.util.Set;
 public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binarySchedule, int[] hidden,
                          int embeddingSize, TimeConditioning conditioning, ReverseVariance variance,
                          TrainingLoss loss, double hybridWeight, StepSampling stepSampling,
-                         double learningRate, double adamBeta1, double adamBeta2, double adamEpsilon,
+                         double learningRate, LearningRateSchedule learningRateSchedule, double adamBeta1, double adamBeta2, double adamEpsilon,
                          double weightDecay, double emaDecay, int batchSize, int epochs,
                          double validationFraction, int evaluateEvery, int validationDraws, int patience,
                          Set<String> logColumns, long seed, int threads) {
@@ -77,7 +78,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                 + ", hidden=" + Arrays.toString(hidden) + ", embeddingSize=" + embeddingSize
                 + ", conditioning=" + conditioning + ", variance=" + variance + ", loss=" + loss
                 + ", hybridWeight=" + hybridWeight + ", stepSampling=" + stepSampling
-                + ", learningRate=" + learningRate + ", adamBeta1=" + adamBeta1 + ", adamBeta2=" + adamBeta2
+                + ", learningRate=" + learningRate + ", learningRateSchedule=" + learningRateSchedule + ", adamBeta1=" + adamBeta1 + ", adamBeta2=" + adamBeta2
                 + ", adamEpsilon=" + adamEpsilon + ", weightDecay=" + weightDecay + ", emaDecay=" + emaDecay
                 + ", batchSize=" + batchSize + ", epochs=" + epochs + ", validationFraction=" + validationFraction
                 + ", evaluateEvery=" + evaluateEvery + ", validationDraws=" + validationDraws

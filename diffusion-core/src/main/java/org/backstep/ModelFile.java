@@ -115,6 +115,7 @@ final class ModelFile {
         opts.put("hybridWeight", o.hybridWeight());
         opts.put("stepSampling", o.stepSampling().name());
         opts.put("learningRate", o.learningRate());
+        opts.put("learningRateSchedule", o.learningRateSchedule().name());
         opts.put("adamBeta1", o.adamBeta1());
         opts.put("adamBeta2", o.adamBeta2());
         opts.put("adamEpsilon", o.adamEpsilon());
@@ -239,6 +240,7 @@ final class ModelFile {
                 ReverseVariance.valueOf(field(o, "variance").asText()),
                 TrainingLoss.valueOf(field(o, "loss").asText()), field(o, "hybridWeight").asDouble(),
                 StepSampling.valueOf(field(o, "stepSampling").asText()), field(o, "learningRate").asDouble(),
+                LearningRateSchedule.valueOf(field(o, "learningRateSchedule").asText()),
                 field(o, "adamBeta1").asDouble(), field(o, "adamBeta2").asDouble(), field(o, "adamEpsilon").asDouble(),
                 field(o, "weightDecay").asDouble(), field(o, "emaDecay").asDouble(), field(o, "batchSize").asInt(),
                 field(o, "epochs").asInt(), field(o, "validationFraction").asDouble(),

@@ -31,7 +31,7 @@ final class StepPlanner {
                 throw new IllegalArgumentException("step count " + ks[i] + " is listed twice");
             }
         }
-        Table held = heldOut.rows() > QUALITY_ROWS ? heldOut.selectRows(firstRows(QUALITY_ROWS)) : heldOut;
+        Table held = heldOut.rows() > QUALITY_ROWS ? heldOut.selectRows(evenlySpaced(QUALITY_ROWS, heldOut.rows())) : heldOut;
         double[][] heldModel = model.transform().toModelSpace(held);
         List<StepPlan.Row> rows = new ArrayList<>();
         for (int k : ks) {
@@ -58,10 +58,11 @@ final class StepPlanner {
         return new StepPlan(rows, tolerance, pick.steps(), reason);
     }
 
-    private static int[] firstRows(int n) {
+    /** n row indices spread evenly over 0..total-1, so that a table sorted by time or unit is not cut to its start. */
+    static int[] evenlySpaced(int n, int total) {
         int[] r = new int[n];
         for (int i = 0; i < n; i++) {
-            r[i] = i;
+            r[i] = (int) ((long) i * total / n);
         }
         return r;
     }

@@ -155,7 +155,8 @@ final class Trainer {
                     chain.diffuse(xb, batch, k, xt, eps, rng);
                     xtArray.data().setData(xt);
                     terms.prepare(xb, xt, eps, k, weight);
-                    double loss = parallel.trainInPlace(xtArray, src, terms, adam);
+                    double rate = options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
+                    double loss = parallel.trainInPlace(xtArray, src, terms, adam, rate);
                     ema.updateInPlace(net.parameterView());
                     sampler.record(k, terms.rowBound, batch);
                     if (!Double.isFinite(loss)) {

@@ -87,11 +87,8 @@ public final class Demo {
                         .withSeed(2026 + o.seed));
                 out.printf("Invented reefer telemetry (for demonstration, not measurements): %d containers, %d days, %d rows%n",
                         o.containers, o.days, t.rows());
-                double[] noise = new double[t.columnNames().size()];
-                double[] perColumn = {0.5, 0.5, 1.0, 3.0, 0.4, 0, 0};
-                System.arraycopy(perColumn, 0, noise, 0, Math.min(noise.length, perColumn.length));
                 config = new MainJob.Config(FleetTables.cells(t), FleetTables.truth(t), t.faultRows(), o.out, o.steps,
-                        o.epochs, o.hidden, o.seed, o.holdout, noise);
+                        o.epochs, o.hidden, o.seed, o.holdout, null);
             } else {
                 CsvTables.Reader reader = CsvTables.reader().missingToken(o.missing);
                 if (!o.binary.isEmpty()) {
