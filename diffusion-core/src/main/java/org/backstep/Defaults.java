@@ -52,8 +52,13 @@ public final class Defaults {
     public static final double HYBRID_WEIGHT = 0.001;
     /** t uniform. */
     public static final StepSampling STEP_SAMPLING = StepSampling.UNIFORM;
-    /** Adam's step size. */
-    public static final double LEARNING_RATE = 1e-3;
+    /**
+     * Adam's step size (at the start of the cosine schedule). Measured on the demo's reefer table
+     * (3,468 complete training rows, 7 columns, hidden 256 x 3, 300 epochs, held-out bound in nats
+     * per record, model space, lower is better): constant 2e-3: -1.07; cosine from 1e-3: -0.43;
+     * from 2e-3: -1.31; from 3e-3: -1.51 and -1.49 (two seeds).
+     */
+    public static final double LEARNING_RATE = 3e-3;
     /** Cosine annealing of the step size over the planned steps. */
     public static final LearningRateSchedule LEARNING_RATE_SCHEDULE = LearningRateSchedule.COSINE;
     /** Adam's beta_1 (Kingma &amp; Ba 2015). */

@@ -37,10 +37,22 @@ import java.util.SplittableRandom;
  */
 public final class DiffusionModel {
 
-    /** Steps of the chain used by {@link #impute(Table, int, double, long)} (a strided sub-schedule). */
-    public static final int IMPUTATION_STEPS = 50;
-    /** Resampling rounds per step of imputation (Lugmayr et al. 2022 use 10 on images; our measured choice). */
-    public static final int IMPUTATION_ROUNDS = 5;
+    /**
+     * Steps of the chain used by {@link #impute(Table, int, double, long)}: at most this many, a
+     * strided sub-schedule when T is larger.
+     */
+    public static final int IMPUTATION_STEPS = 100;
+    /**
+     * Resampling rounds per step of imputation: 1, plain replacement. Measured: on Gaussian data
+     * with exact reverse kernels (the Schur-complement check, 400 records, 100 draws) plain
+     * replacement gave a conditional variance 8-10% above the exact one with 90% intervals covering
+     * 90%, and 5 resampling rounds on a 50-step chain (Lugmayr et al. 2022) 1-2% above, covering
+     * 89-90%; but on the demo's trained reefer model, resampling collapsed the draws of the two
+     * strongly tied air temperatures (90% intervals covered 54% of hidden truths, against 82% with
+     * plain replacement). Plain replacement is the robust default;
+     * {@link #impute(Table, int, double, int, int, long)} chooses rounds.
+     */
+    public static final int IMPUTATION_ROUNDS = 1;
     /** Steps of the chain used by {@link #denoise(Table, double[], int, long)} below the starting step, at most. */
     public static final int DENOISING_STEPS = 100;
 
@@ -76,6 +88,35 @@ public final class DiffusionModel {
     /** @return how the model was made */
     public Provenance provenance() {
         return provenance;
+    }
+
+    /**
+     * How the model was made, readably: library, Java and machine, the data's fingerprint, every
+     * option, the column transforms, notes, and the training history.
+     *
+     * @return several lines of text
+     */
+    public String describe() {
+        Provenance p = provenance;
+        StringBuilder sb = new StringBuilder();
+        sb.append(this).append('\n');
+        sb.append("  library ").append(p.libraryVersion()).append(", Java ").append(p.javaVersion()).append(", ")
+                .append(p.os()).append(" ").append(p.arch()).append('\n');
+        sb.append("  fitted at ").append(p.fittedAt()).append(String.format(java.util.Locale.ROOT, " in %.1f s", p.trainingSeconds()))
+                .append(" on ").append(p.trainingRows()).append(" of ").append(p.tableRows()).append(" rows (")
+                .append(p.validationRows()).append(" held out); table SHA-256 ").append(p.tableSha256()).append('\n');
+        sb.append("  options ").append(options).append('\n');
+        sb.append("  columns ").append(transform).append('\n');
+        for (String n : p.notes()) {
+            sb.append("  note: ").append(n).append('\n');
+        }
+        sb.append("  history (epoch, loss, held-out bound, seconds):\n");
+        for (EpochRecord e : p.history()) {
+            sb.append(String.format(java.util.Locale.ROOT, "    %5d %10.4f %12s %8.1f%n", e.epoch(), e.loss(),
+                    e.heldOutBound().isPresent() ? String.format(java.util.Locale.ROOT, "%.4f", e.heldOutBound().getAsDouble()) : "-",
+                    e.seconds()));
+        }
+        return sb.toString();
     }
 
     /** @return the training history, one record per epoch */
@@ -238,9 +279,11 @@ public final class DiffusionModel {
 
     /**
      * Draws {@code draws} completions of the missing (NaN) cells of each record from the model's
-     * conditional distribution given its observed cells, by replacement with resampling (Lugmayr
-     * et al. 2022) on a strided chain of {@link #IMPUTATION_STEPS} steps with
-     * {@link #IMPUTATION_ROUNDS} rounds per step. Observed cells come back unchanged.
+     * conditional distribution given its observed cells: at each reverse step the observed cells
+     * are replaced by a fresh draw of q(x_{t-1} | x_0) of their values (the replacement method;
+     * with resampling rounds it is that of Lugmayr et al. 2022), on a chain of at most
+     * {@link #IMPUTATION_STEPS} steps with {@link #IMPUTATION_ROUNDS} round per step. Observed cells
+     * come back unchanged.
      *
      * <p>Caution: imputed values are not measurements.
      *
@@ -251,32 +294,67 @@ public final class DiffusionModel {
      * @return the k completions, the per-cell mean and the interval
      */
     public Imputation impute(Table records, int draws, double level, long seed) {
+        return impute(records, draws, level, Math.min(IMPUTATION_STEPS, steps()), IMPUTATION_ROUNDS, seed);
+    }
+
+    /**
+     * {@link #impute(Table, int, double, long)} with the chain's step count and the resampling
+     * rounds chosen: cost grows with steps x rounds network evaluations per record and draw.
+     *
+     * @param records records with the training columns; NaN marks a missing cell
+     * @param draws k, at least 1
+     * @param level the central interval's coverage, in (0, 1)
+     * @param chainSteps steps of the strided chain, 1..T
+     * @param rounds resampling rounds per step, at least 1 (1 is plain replacement)
+     * @param seed the seed
+     * @return the k completions, the per-cell mean and the interval
+     */
+    public Imputation impute(Table records, int draws, double level, int chainSteps, int rounds, long seed) {
         Require.atLeast("draws", draws, 1);
         Require.inOpen("level", level, 0.0, 1.0);
+        Require.inRange("chainSteps", chainSteps, 1, steps());
+        Require.atLeast("rounds", rounds, 1);
         checkColumns(records);
         int rows = records.rows();
-        float[] known = Trainer.toFloat(transform.toModelSpace(records));
-        Chain c = chainFor(Math.min(IMPUTATION_STEPS, steps()));
-        List<float[]> results = new ArrayList<>();
-        for (int k = 0; k < draws; k++) {
-            float[] all = new float[rows * c.d];
-            long drawSeed = seed + 1_000_003L * k;
-            Parallel.forEachChunk(Parallel.chunks(rows), options.threads(), chunk -> {
-                int from = chunk * Parallel.CHUNK_ROWS;
-                int n = Math.min(Parallel.CHUNK_ROWS, rows - from);
-                SplittableRandom rng = Parallel.random(drawSeed, chunk);
-                float[] kn = BoundEvaluator.slice(known, from, n, c.d);
-                float[] x = new float[n * c.d];
-                c.drawPrior(x, n, rng);
-                ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
-                ReverseRun.run(c, x, n, c.steps, kn, IMPUTATION_ROUNDS, SamplerKind.ANCESTRAL, 0.0, rng);
-                System.arraycopy(x, 0, all, from * c.d, n * c.d);
-            });
-            results.add(all);
-        }
+        int[] todo = java.util.stream.IntStream.range(0, rows).filter(i -> {
+            for (int j = 0; j < records.columns(); j++) {
+                if (Double.isNaN(records.get(i, j))) {
+                    return true;
+                }
+            }
+            return false;
+        }).toArray();
+        int n = todo.length;
+        float[] known = n == 0 ? new float[0] : Trainer.toFloat(transform.toModelSpace(records.selectRows(todo)));
+        Chain c = chainFor(chainSteps);
         List<Table> tables = new ArrayList<>();
-        for (float[] r : results) {
-            tables.add(restoreObserved(transform.fromModelSpace(toRows(r, rows, c.d)), records));
+        for (int k = 0; k < draws; k++) {
+            float[] all = new float[n * c.d];
+            long drawSeed = seed + 1_000_003L * k;
+            Parallel.forEachChunk(Parallel.chunks(n), options.threads(), chunk -> {
+                int from = chunk * Parallel.CHUNK_ROWS;
+                int m = Math.min(Parallel.CHUNK_ROWS, n - from);
+                SplittableRandom rng = Parallel.random(drawSeed, chunk);
+                float[] kn = BoundEvaluator.slice(known, from, m, c.d);
+                float[] x = new float[m * c.d];
+                c.drawPrior(x, m, rng);
+                ReverseRun.replaceKnown(c, x, kn, m, c.steps, rng);
+                ReverseRun.run(c, x, m, c.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, rng);
+                System.arraycopy(x, 0, all, from * c.d, m * c.d);
+            });
+            double[][] completed = records.toArray();
+            if (n > 0) {
+                Table drawn = transform.fromModelSpace(toRows(all, n, c.d));
+                for (int r = 0; r < n; r++) {
+                    double[] row = completed[todo[r]];
+                    for (int j = 0; j < row.length; j++) {
+                        if (Double.isNaN(row[j])) {
+                            row[j] = drawn.get(r, j);
+                        }
+                    }
+                }
+            }
+            tables.add(records.withRows(completed));
         }
         double[][] mean = new double[rows][records.columns()];
         double[][] lo = new double[rows][records.columns()];
@@ -309,19 +387,6 @@ public final class DiffusionModel {
             kinds.add(ColumnKind.CONTINUOUS);
         }
         return Table.of(layout.names(), kinds, values);
-    }
-
-    private static Table restoreObserved(Table drawn, Table records) {
-        double[][] v = drawn.toArray();
-        for (int i = 0; i < v.length; i++) {
-            for (int j = 0; j < v[i].length; j++) {
-                double obs = records.get(i, j);
-                if (!Double.isNaN(obs)) {
-                    v[i][j] = obs;
-                }
-            }
-        }
-        return drawn.withRows(v);
     }
 
     // ------------------------------------------------------------------ denoising

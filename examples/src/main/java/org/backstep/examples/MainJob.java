@@ -198,8 +198,11 @@ public final class MainJob {
             a.put("injectedFaultRows", faultsScored);
             a.put("precision", precision);
             a.put("recall", recall);
-            console.printf(Locale.ROOT, "   against the injected faults (never shown to the model): precision %.2f, recall %.2f (%d fault rows)%n",
-                    precision, recall, faultsScored);
+            double baseRate = faultsScored / (double) scoredIndex.length;
+            a.put("faultBaseRate", baseRate);
+            console.printf(Locale.ROOT, "   against the injected faults (never shown to the model): precision %.2f, recall %.2f "
+                            + "(%d fault rows, %.1f%% of the screened rows)%n",
+                    precision, recall, faultsScored, 100 * baseRate);
         }
         charts.put("Anomaly scores and threshold", png(Charts.scoreHistogram(screen.scores(), screen.threshold(), 60)));
 
@@ -277,6 +280,7 @@ public final class MainJob {
         }
         AtomicFiles.write(c.out().resolve("planner.csv"), plan.toCsv().getBytes(StandardCharsets.UTF_8));
         charts.put("Step count: quality against cost", png(Charts.stepPlan(plan)));
+        Charts.save(Charts.stepPlan(plan), c.out().resolve("planner.png"));
 
         // 8. Report folder
         Path modelFile = c.out().resolve("model.backstep");
@@ -285,7 +289,7 @@ public final class MainJob {
         summary.put("modelFile", modelFile.getFileName().toString());
         AtomicFiles.write(c.out().resolve("summary.json"), JSON.writeValueAsBytes(summary));
         AtomicFiles.write(c.out().resolve("report.html"), Report.html(summary, charts, model).getBytes(StandardCharsets.UTF_8));
-        console.printf(Locale.ROOT, "8. Report: %s (summary.json, model.backstep, planner.csv beside it); %.0f s in all%n",
+        console.printf(Locale.ROOT, "8. Report: %s (summary.json, model.backstep, planner.csv and planner.png beside it); %.0f s in all%n",
                 c.out().resolve("report.html").toAbsolutePath(), summary.get("seconds").asDouble());
         return summary;
     }
