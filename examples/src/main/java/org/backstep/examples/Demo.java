@@ -36,7 +36,7 @@ public final class Demo {
             "  --binary COL[,COL...]   columns of FILE.csv that are binary (0/1); others are inferred",
             "  --missing TOKEN         the token of a missing cell in FILE.csv (default: empty cell)",
             "  --out DIR               the report folder (default: backstep-report)",
-            "  --steps T               diffusion steps (default: 1000)",
+            "  --steps T               diffusion steps (default: " + Defaults.STEPS + ")",
             "  --epochs N              training epochs (default: about " + Defaults.TRAINING_STEPS + " minibatch steps)",
             "  --hidden W,W,...        hidden widths (default: 256,256,256)",
             "  --seed S                the seed (default: 1)",
