@@ -136,13 +136,42 @@ final class Chain {
         throw new IllegalStateException("source step " + src + " not in chain");
     }
 
+    /**
+     * How far, in nats of log-variance, a learned variance may leave the interval between
+     * log beta-tilde_t and log beta_t. The exact reverse variance lies close to that interval
+     * (Nichol &amp; Dhariwal 2021, section 3.1); the clamp only stops a network that extrapolates off
+     * the data (in sampling) from producing an infinite variance.
+     */
+    static final double LOG_VARIANCE_MARGIN = 5.0;
+
     /** log sigma^2 of the continuous reverse kernel at step k, given the network's v (ignored unless learned). */
     double reverseLogVariance(int k, double v) {
         return switch (variance) {
             case FIXED_BETA -> k == 1 ? logVarClipped[1] : logBeta[k];
             case FIXED_POSTERIOR -> logVarClipped[k];
-            case LEARNED -> v * logBeta[k] + (1.0 - v) * logVarClipped[k];
+            case LEARNED -> clampLogVariance(k, v * logBeta[k] + (1.0 - v) * logVarClipped[k]);
         };
+    }
+
+    /** The learned log-variance kept within {@link #LOG_VARIANCE_MARGIN} of [log beta-tilde_k, log beta_k]. */
+    double clampLogVariance(int k, double lv) {
+        double lo = Math.min(logBeta[k], logVarClipped[k]) - LOG_VARIANCE_MARGIN;
+        double hi = Math.max(logBeta[k], logVarClipped[k]) + LOG_VARIANCE_MARGIN;
+        return Math.max(lo, Math.min(hi, lv));
+    }
+
+    /**
+     * Refuses non-finite output of a reverse run, which only an estimator far off its training data
+     * can cause; never returns NaN silently.
+     */
+    static void checkFinite(float[] x, String what) {
+        for (int i = 0; i < x.length; i++) {
+            if (!Float.isFinite(x[i])) {
+                throw new IllegalStateException(what + " produced a non-finite value (" + x[i] + " at cell " + i
+                        + "): the reverse chain diverged, which happens with a model trained too briefly; train longer "
+                        + "or use fewer steps");
+            }
+        }
     }
 
     /** Runs the estimator on a batch: x is rows x D, all rows at chain step k (or per-row steps). */

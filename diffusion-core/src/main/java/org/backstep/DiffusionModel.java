@@ -265,6 +265,7 @@ public final class DiffusionModel {
             float[] x = new float[n * c.d];
             c.drawPrior(x, n, rng);
             ReverseRun.run(c, x, n, c.steps, null, 1, plan.kind(), plan.eta(), rng);
+            Chain.checkFinite(x, "sampling");
             System.arraycopy(x, 0, all, from * c.d, n * c.d);
         });
         return transform.fromModelSpace(toRows(all, count, c.d));
@@ -340,6 +341,7 @@ public final class DiffusionModel {
                 c.drawPrior(x, m, rng);
                 ReverseRun.replaceKnown(c, x, kn, m, c.steps, rng);
                 ReverseRun.run(c, x, m, c.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, rng);
+                Chain.checkFinite(x, "imputation");
                 System.arraycopy(x, 0, all, from * c.d, m * c.d);
             });
             double[][] completed = records.toArray();
@@ -487,6 +489,7 @@ public final class DiffusionModel {
                 }
                 ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
                 ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, rng);
+                Chain.checkFinite(x, "denoising");
                 System.arraycopy(x, 0, all, from * d, n * d);
             });
             Table drawn = transform.fromModelSpace(toRows(all, rows, d));

@@ -457,7 +457,8 @@ final class Trainer {
                     }
                     bound += term;
                     double dMeanDEps = -chain.epsCoef[s] / chain.sqrtAlpha[s];
-                    double dLogVarDv = chain.logBeta[s] - chain.logVarClipped[s];
+                    double dLogVarDv = learned && lv != v * chain.logBeta[s] + (1.0 - v) * chain.logVarClipped[s]
+                            ? 0.0 : chain.logBeta[s] - chain.logVarClipped[s];   // zero where the clamp holds
                     double gEps = 0.0;
                     double gV = 0.0;
                     switch (loss) {
