@@ -73,7 +73,7 @@ final class Trainer {
             checkSameLayout(table, held);
             notes.add("validation: " + held.rows() + " rows given by the caller");
         }
-        Table complete = completeRows(train);
+        Table complete = train.completeRows();
         if (complete.rows() < train.rows()) {
             notes.add((train.rows() - complete.rows()) + " training rows with a missing cell were left out");
         }
@@ -93,7 +93,7 @@ final class Trainer {
         float[] xv = null;
         int nv = 0;
         if (held != null) {
-            Table heldComplete = completeRows(held);
+            Table heldComplete = held.completeRows();
             nv = heldComplete.rows();
             if (nv > 0) {
                 xv = toFloat(transform.toModelSpace(heldComplete));
@@ -245,20 +245,6 @@ final class Trainer {
             throw new IllegalArgumentException("validation has columns " + b.names() + " " + b.kinds()
                     + "; expected the training columns " + a.names() + " " + a.kinds());
         }
-    }
-
-    static Table completeRows(Table t) {
-        if (!t.hasMissing()) {
-            return t;
-        }
-        return t.filterRows(r -> {
-            for (int c = 0; c < t.columns(); c++) {
-                if (Double.isNaN(t.get(r, c))) {
-                    return false;
-                }
-            }
-            return true;
-        });
     }
 
     static float[] toFloat(double[][] rows) {

@@ -298,6 +298,23 @@ public final class Table {
         return missing;
     }
 
+    /** @return the indices of the rows without a missing cell, in order */
+    public int[] completeRowIndices() {
+        return java.util.stream.IntStream.range(0, rows()).filter(r -> {
+            for (int c = 0; c < columns(); c++) {
+                if (Double.isNaN(get(r, c))) {
+                    return false;
+                }
+            }
+            return true;
+        }).toArray();
+    }
+
+    /** @return the rows without a missing cell (this table itself when none is missing) */
+    public Table completeRows() {
+        return hasMissing() ? selectRows(completeRowIndices()) : this;
+    }
+
     // ------------------------------------------------------------------ selections
 
     /**

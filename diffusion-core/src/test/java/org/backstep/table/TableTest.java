@@ -259,4 +259,15 @@ class TableTest {
         assertTrue(t.toString().startsWith("Table 0 rows x 2 columns"));
         assertEquals(Arrays.asList("c0", "c1"), t.names());
     }
+
+    @Test
+    void completeRowsDropExactlyTheRowsWithAMissingCell() {
+        Table t = Table.of(new double[][] {{1, 0}, {Double.NaN, 1}, {3, Double.NaN}, {4, 1}},
+                ColumnKind.CONTINUOUS, ColumnKind.BINARY);
+        // by definition: a row is complete when none of its cells is NaN (common practice, no source)
+        org.junit.jupiter.api.Assertions.assertArrayEquals(new int[] {0, 3}, t.completeRowIndices());
+        org.junit.jupiter.api.Assertions.assertArrayEquals(new double[][] {{1, 0}, {4, 1}}, t.completeRows().toArray());
+        Table full = t.completeRows();
+        org.junit.jupiter.api.Assertions.assertSame(full, full.completeRows());
+    }
 }

@@ -111,8 +111,8 @@ public final class MainJob {
         }
         Table train = table.filterRows(i -> i % c.heldOutEvery() != 0);
         Table held = table.filterRows(i -> i % c.heldOutEvery() == 0);
-        Table heldComplete = complete(held);
-        Table trainComplete = complete(train);
+        Table heldComplete = held.completeRows();
+        Table trainComplete = train.completeRows();
         console.printf(Locale.ROOT, "1. Table: %d rows x %d columns (%d binary), %d missing cells; %d training rows, %d held out (row %% %d == 0)%n",
                 table.rows(), table.columns(), binary.size(), table.missingCount(), train.rows(), held.rows(), c.heldOutEvery());
         ProgressBar bar = showProgress ? new ProgressBarBuilder().setTaskName("Training").setInitialMax(1)
@@ -171,8 +171,8 @@ public final class MainJob {
         charts.put("Bound terms per step", png(Charts.boundBreakdown(bound)));
 
         // 3. Anomaly screen
-        Table scoredRows = complete(table);
-        int[] scoredIndex = completeIndex(table);
+        Table scoredRows = table.completeRows();
+        int[] scoredIndex = table.completeRowIndices();
         AnomalyScreen screen = model.screen(heldComplete, scoredRows, 0.99, c.seed());
         ObjectNode a = summary.putObject("anomalies");
         a.put("scoredRows", scoredRows.rows());
@@ -385,24 +385,6 @@ public final class MainJob {
     static String png(XYChart chart) throws IOException {
         return java.util.Base64.getEncoder().encodeToString(
                 org.knowm.xchart.BitmapEncoder.getBitmapBytes(chart, org.knowm.xchart.BitmapEncoder.BitmapFormat.PNG));
-    }
-
-    static Table complete(Table t) {
-        return t.selectRows(completeIndex(t));
-    }
-
-    static int[] completeIndex(Table t) {
-        List<Integer> keep = new ArrayList<>();
-        outer:
-        for (int i = 0; i < t.rows(); i++) {
-            for (int j = 0; j < t.columns(); j++) {
-                if (Double.isNaN(t.get(i, j))) {
-                    continue outer;
-                }
-            }
-            keep.add(i);
-        }
-        return keep.stream().mapToInt(Integer::intValue).toArray();
     }
 
     /** Held-out rows are ordered by container and time: take rows spread evenly over them, not the first ones. */

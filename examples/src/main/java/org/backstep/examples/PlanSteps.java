@@ -94,8 +94,8 @@ public final class PlanSteps {
                 (model.transform().kinds().get(j) == org.backstep.table.ColumnKind.BINARY ? binary : continuous)
                         .add(model.transform().names().get(j));
             }
-            Table held = MainJob.complete(CsvTables.reader().binary(binary.toArray(String[]::new))
-                    .continuous(continuous.toArray(String[]::new)).read(Path.of(files.get(1))));
+            Table held = CsvTables.reader().binary(binary.toArray(String[]::new))
+                    .continuous(continuous.toArray(String[]::new)).read(Path.of(files.get(1))).completeRows();
             StepPlan plan = model.planSteps(held, tolerance, seed, steps);
             out.print(plan);
             Files.createDirectories(dir);
