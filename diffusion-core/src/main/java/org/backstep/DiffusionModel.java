@@ -198,6 +198,7 @@ public final class DiffusionModel {
      * @param count how many, at least 1
      * @param seed the seed
      * @return a table with the training columns, in original units, binary columns 0/1
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Table sample(int count, long seed) {
         return sample(count, SamplingPlan.ancestral(), seed);
@@ -211,6 +212,7 @@ public final class DiffusionModel {
      * @param plan sampler, steps and eta
      * @param seed the seed
      * @return a table with the training columns, in original units
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Table sample(int count, SamplingPlan plan, long seed) {
         Require.atLeast("count", count, 1);
@@ -249,6 +251,7 @@ public final class DiffusionModel {
      * @param level the central interval's coverage, in (0, 1)
      * @param seed the seed
      * @return the k completions, the per-cell mean and the interval
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Imputation impute(Table records, int draws, double level, long seed) {
         Require.atLeast("draws", draws, 1);
@@ -347,6 +350,7 @@ public final class DiffusionModel {
      * @param draws k, at least 1
      * @param seed the seed
      * @return posterior mean and spread per cell
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Denoising denoise(Table readings, double[] noiseSd, int draws, long seed) {
         Require.notNull("noiseSd", noiseSd);
