@@ -5,7 +5,7 @@ var table = FleetTables.cells(telemetry);
 System.out.println(table);
 var train = table.filterRows(i -> i % 5 != 0);
 var held = table.filterRows(i -> i % 5 == 0);
-var model = Backstep.builder().steps(50).hidden(64, 64).epochs(40).seed(7).fit(train);
+var model = Backstep.builder().steps(50).hidden(64, 64).epochs(200).seed(7).fit(train);
 System.out.println(model);
 var complete = held.filterRows(i -> { for (int j = 0; j < held.columns(); j++) if (Double.isNaN(held.get(i, j))) return false; return true; });
 var bound = model.boundMonteCarlo(complete, 16, 1);
