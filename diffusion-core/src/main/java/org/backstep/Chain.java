@@ -160,20 +160,6 @@ final class Chain {
         return Math.max(lo, Math.min(hi, lv));
     }
 
-    /**
-     * Refuses non-finite output of a reverse run, which only an estimator far off its training data
-     * can cause; never returns NaN silently.
-     */
-    static void checkFinite(float[] x, String what) {
-        for (int i = 0; i < x.length; i++) {
-            if (!Float.isFinite(x[i])) {
-                throw new IllegalStateException(what + " produced a non-finite value (" + x[i] + " at cell " + i
-                        + "): the reverse chain diverged, which happens with a model trained too briefly; train longer "
-                        + "or use fewer steps");
-            }
-        }
-    }
-
     /** Runs the estimator on a batch: x is rows x D, all rows at chain step k (or per-row steps). */
     static final class Workspace {
         final INDArray xt;

@@ -239,6 +239,7 @@ public final class DiffusionModel {
      * @param count how many, at least 1
      * @param seed the seed
      * @return a table with the training columns, in original units, binary columns 0/1
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Table sample(int count, long seed) {
         return sample(count, SamplingPlan.ancestral(), seed);
@@ -252,6 +253,7 @@ public final class DiffusionModel {
      * @param plan sampler, steps and eta
      * @param seed the seed
      * @return a table with the training columns, in original units
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Table sample(int count, SamplingPlan plan, long seed) {
         Require.atLeast("count", count, 1);
@@ -265,7 +267,6 @@ public final class DiffusionModel {
             float[] x = new float[n * c.d];
             c.drawPrior(x, n, rng);
             ReverseRun.run(c, x, n, c.steps, null, 1, plan.kind(), plan.eta(), rng);
-            Chain.checkFinite(x, "sampling");
             System.arraycopy(x, 0, all, from * c.d, n * c.d);
         });
         return transform.fromModelSpace(toRows(all, count, c.d));
@@ -293,6 +294,7 @@ public final class DiffusionModel {
      * @param level the central interval's coverage, in (0, 1)
      * @param seed the seed
      * @return the k completions, the per-cell mean and the interval
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Imputation impute(Table records, int draws, double level, long seed) {
         return impute(records, draws, level, Math.min(IMPUTATION_STEPS, steps()), IMPUTATION_ROUNDS, seed);
@@ -341,7 +343,6 @@ public final class DiffusionModel {
                 c.drawPrior(x, m, rng);
                 ReverseRun.replaceKnown(c, x, kn, m, c.steps, rng);
                 ReverseRun.run(c, x, m, c.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, rng);
-                Chain.checkFinite(x, "imputation");
                 System.arraycopy(x, 0, all, from * c.d, m * c.d);
             });
             double[][] completed = records.toArray();
@@ -414,6 +415,7 @@ public final class DiffusionModel {
      * @param draws k, at least 1
      * @param seed the seed
      * @return posterior mean and spread per cell
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Denoising denoise(Table readings, double[] noiseSd, int draws, long seed) {
         Require.notNull("noiseSd", noiseSd);
@@ -489,7 +491,6 @@ public final class DiffusionModel {
                 }
                 ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
                 ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, rng);
-                Chain.checkFinite(x, "denoising");
                 System.arraycopy(x, 0, all, from * d, n * d);
             });
             Table drawn = transform.fromModelSpace(toRows(all, rows, d));

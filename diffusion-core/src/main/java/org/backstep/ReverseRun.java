@@ -63,6 +63,9 @@ final class ReverseRun {
                             double dir = Math.sqrt(Math.max(0.0, 1.0 - abarPrev - sigma * sigma));
                             next = Math.sqrt(abarPrev) * x0h + dir * eh + (sigma > 0 ? sigma * rng.nextGaussian() : 0.0);
                         }
+                        if (!Float.isFinite((float) next)) {
+                            throw diverged(chain, k, j, next);
+                        }
                         x[o + j] = (float) next;
                     }
                     for (int j = dc; j < d; j++) {
@@ -81,6 +84,19 @@ final class ReverseRun {
                 }
             }
         }
+    }
+
+    /**
+     * A continuous cell left the float range: each ancestral step divides by sqrt(alpha_k), so an
+     * estimator that is far off (undertrained, or a schedule whose last betas are near 1) can make
+     * the chain grow without bound. Reported instead of returning NaN cells.
+     */
+    private static IllegalStateException diverged(Chain chain, int k, int column, double value) {
+        return new IllegalStateException(String.format(java.util.Locale.ROOT,
+                "the reverse chain diverged: continuous model column %d became %s at step %d of %d "
+                        + "(1/sqrt(alpha) there is %.3g); the model's predictions are far off at this step. "
+                        + "Train longer, or use a schedule whose last betas are further from 1 (more steps)",
+                column, value, k, chain.steps, 1.0 / chain.sqrtAlpha[k]));
     }
 
     /** Known cells get a fresh draw of q(x_s | x_0 = observed); at s = 0 the observed value itself. */

@@ -3,9 +3,9 @@ package org.backstep.net;
 /**
  * A plain double-precision implementation of the network of {@link ReverseNetwork}, written from its
  * documented formula and parameter layout with straightforward loops and {@code Math.exp}, as the
- * reference for the float32 passes (gradient check, forward check).
+ * reference for the float32 passes (gradient check, forward check) and for the golden model test.
  */
-final class DoubleReference {
+public final class DoubleReference {
 
     private DoubleReference() {
     }
@@ -35,7 +35,7 @@ final class DoubleReference {
      * @param steps the step of each row
      * @return rows x outputs
      */
-    static double[][] forward(NetworkShape shape, double[] p, double[][] x, int[] steps) {
+    public static double[][] forward(NetworkShape shape, double[] p, double[][] x, int[] steps) {
         int[] hidden = shape.hidden();
         int layers = hidden.length + 1;
         double[][] out = new double[x.length][];

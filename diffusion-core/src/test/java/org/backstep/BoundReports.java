@@ -1,0 +1,36 @@
+package org.backstep;
+
+/** Test access to {@link BoundReport}'s package-private constructor, for tests in other packages. */
+public final class BoundReports {
+
+    private BoundReports() {
+    }
+
+    /**
+     * An exact report with zero log-Jacobians and zero standard errors.
+     *
+     * @param steps T
+     * @param dimensions D
+     * @param continuous per record, the continuous part (copied)
+     * @param binary per record, the binary part (copied)
+     * @param perStep index 0 the prior term, index t the term of step t (copied)
+     * @return the report
+     */
+    public static BoundReport exact(int steps, int dimensions, double[] continuous, double[] binary, double[] perStep) {
+        return new BoundReport(BoundReport.Method.EXACT, steps, steps, dimensions, continuous.clone(), binary.clone(),
+                new double[continuous.length], new double[continuous.length], perStep.clone());
+    }
+
+    /**
+     * A Monte Carlo report (no per-step breakdown).
+     *
+     * @param steps T
+     * @param draws K
+     * @param continuous per record, the continuous part (copied)
+     * @return the report
+     */
+    public static BoundReport monteCarlo(int steps, int draws, double[] continuous) {
+        return new BoundReport(BoundReport.Method.MONTE_CARLO, steps, draws, 1, continuous.clone(),
+                new double[continuous.length], new double[continuous.length], new double[continuous.length], new double[0]);
+    }
+}
