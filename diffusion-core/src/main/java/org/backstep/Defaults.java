@@ -69,7 +69,11 @@ public final class Defaults {
     public static final double ADAM_EPSILON = 1e-8;
     /** Decoupled weight decay (Loshchilov &amp; Hutter 2019); off. */
     public static final double WEIGHT_DECAY = 0.0;
-    /** Decay of the exponential moving average of the weights. */
+    /**
+     * Decay of the exponential moving average of the weights; during warm-up the decay of update n
+     * is min(EMA_DECAY, (1 + n)/(10 + n)), so that a short run's average is not mostly the random
+     * starting weights (common practice, no source).
+     */
     public static final double EMA_DECAY = 0.995;
     /** Rows per minibatch (fewer when the table is smaller). */
     public static final int BATCH_SIZE = 256;

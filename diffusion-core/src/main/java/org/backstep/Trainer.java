@@ -157,7 +157,7 @@ final class Trainer {
                     terms.prepare(xb, xt, eps, k, weight);
                     double rate = options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
                     double loss = parallel.trainInPlace(xtArray, src, terms, adam, rate);
-                    ema.updateInPlace(net.parameterView());
+                    ema.updateInPlace(net.parameterView(), Math.min(options.emaDecay(), (1.0 + step) / (10.0 + step)));
                     sampler.record(k, terms.rowBound, batch);
                     if (!Double.isFinite(loss)) {
                         throw new IllegalStateException("the training loss became " + loss + " at epoch " + epoch

@@ -196,4 +196,15 @@ class ModelFileTest {
         assertThrows(IllegalArgumentException.class, () -> oracle.save(f));
         assertArrayEquals(before, Files.readAllBytes(f));
     }
+
+    @Test
+    void writtenFilesGetOrdinaryOrKeptPermissions(@TempDir Path dir) throws IOException {
+        Path f = dir.resolve("m.backstep");
+        model.save(f);
+        // a new file is world-readable like one written by an ordinary program (common practice, no source)
+        assertEquals("rw-r--r--", java.nio.file.attribute.PosixFilePermissions.toString(Files.getPosixFilePermissions(f)));
+        Files.setPosixFilePermissions(f, java.nio.file.attribute.PosixFilePermissions.fromString("rw-rw----"));
+        model.save(f);
+        assertEquals("rw-rw----", java.nio.file.attribute.PosixFilePermissions.toString(Files.getPosixFilePermissions(f)));
+    }
 }

@@ -71,6 +71,7 @@ public final class AtomicFiles {
                 out.flush();
                 ch.force(true);
             }
+            matchPermissions(tmp, abs);
             try {
                 Files.move(tmp, abs, StandardCopyOption.ATOMIC_MOVE, StandardCopyOption.REPLACE_EXISTING);
             } catch (AtomicMoveNotSupportedException e) {
@@ -83,6 +84,20 @@ public final class AtomicFiles {
             }
         }
         forceFolder(dir);
+    }
+
+    /**
+     * A temporary file is created readable by its owner only; give it the permissions of the file
+     * it replaces, or rw-r--r-- for a new file, where the file system has POSIX permissions.
+     */
+    private static void matchPermissions(Path tmp, Path target) throws IOException {
+        if (!Files.getFileStore(tmp).supportsFileAttributeView(java.nio.file.attribute.PosixFileAttributeView.class)) {
+            return;
+        }
+        java.util.Set<java.nio.file.attribute.PosixFilePermission> perms = Files.exists(target)
+                ? Files.getPosixFilePermissions(target)
+                : java.nio.file.attribute.PosixFilePermissions.fromString("rw-r--r--");
+        Files.setPosixFilePermissions(tmp, perms);
     }
 
     /** Makes the rename durable where the platform allows forcing a folder (Linux does, Windows does not). */

@@ -52,10 +52,24 @@ public final class WeightAverage {
      * @param params theta, a dense float32 vector of the same length (not modified)
      */
     public void updateInPlace(INDArray params) {
+        updateInPlace(params, decay);
+    }
+
+    /**
+     * {@code avg = d * avg + (1 - d) * params} with the given decay d for this update, for a
+     * warm-up that starts with a small d.
+     *
+     * @param params the live parameter vector (not modified)
+     * @param stepDecay d for this update, in [0, 1)
+     */
+    public void updateInPlace(INDArray params, double stepDecay) {
         Require.notNull("params", params);
+        if (!(stepDecay >= 0 && stepDecay < 1)) {
+            throw new IllegalArgumentException("stepDecay is " + stepDecay + "; expected a number in [0, 1)");
+        }
         checkVector(params, average.length);
-        float keep = (float) decay;
-        float take = (float) (1 - decay);
+        float keep = (float) stepDecay;
+        float take = (float) (1 - stepDecay);
         FloatBuffer p = NativeMath.buffer(params);
         float[] c = stage;
         float[] avg = average;

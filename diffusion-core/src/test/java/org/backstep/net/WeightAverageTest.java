@@ -23,6 +23,15 @@ class WeightAverageTest {
     }
 
     @Test
+    void aStepDecayOverridesTheConfiguredOne() {
+        WeightAverage average = WeightAverage.of(Nd4j.createFromArray(1f, 2f), 0.9);
+        // avg = d avg + (1 - d) theta with d = 0.1 for this update, values by hand: 0.1 + 2.7 = 2.8, 0.2 - 0.9 = -0.7
+        average.updateInPlace(Nd4j.createFromArray(3f, -1f), 0.1);
+        assertArrayEquals(new float[] {2.8f, -0.7f}, average.average(), AVERAGE_TOLERANCE);
+        assertThrows(IllegalArgumentException.class, () -> average.updateInPlace(Nd4j.createFromArray(3f, -1f), 1.0));
+    }
+
+    @Test
     void longVectorsUseEveryChunk() {
         int n = 10_000;
         float[] start = new float[n];
