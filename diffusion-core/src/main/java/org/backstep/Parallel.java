@@ -7,12 +7,18 @@ import java.util.concurrent.ExecutionException;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.Future;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.atomic.AtomicInteger;
 import java.util.function.IntConsumer;
 
 /**
  * Runs independent chunks of rows on a few Java threads. Each chunk draws its random numbers from
  * its own generator, seeded from the caller's seed and the chunk's index only, so results do not
  * depend on the thread count or on which thread ran which chunk.
+ *
+ * <p>Chunk size: the estimator runs its passes in blocks of 256 rows whatever it is given (the
+ * network's own block), so larger chunks would not make the matrix products more efficient; they
+ * would only change the random streams and make the work split less evenly over two threads.
  */
 final class Parallel {
 
@@ -34,7 +40,23 @@ final class Parallel {
         return (rows + CHUNK_ROWS - 1) / CHUNK_ROWS;
     }
 
-    /** Runs body(chunk) for chunk = 0..count-1 on up to {@code threads} threads and waits for all. */
+    /**
+     * Worker threads shared by every call: daemon threads, made on demand and ended after a minute
+     * unused. Reusing them keeps each thread's network buffers (the estimator's per-thread passes)
+     * and its one-BLAS-thread setting from one call to the next, instead of paying for new threads
+     * and buffers on every call, which showed for short chains (1,000 records, 10 steps).
+     */
+    private static final ExecutorService WORKERS = Executors.newCachedThreadPool(r -> {
+        Thread t = new Thread(r, "backstep-worker");
+        t.setDaemon(true);
+        return t;
+    });
+
+    /**
+     * Runs body(chunk) for chunk = 0..count-1 on up to {@code threads} threads (the calling thread
+     * and {@code threads - 1} workers, each taking the next chunk not yet taken) and waits for all.
+     * The first failure stops the taking of further chunks and is rethrown.
+     */
     static void forEachChunk(int count, int threads, IntConsumer body) {
         if (threads <= 1 || count <= 1) {
             for (int c = 0; c < count; c++) {
@@ -42,34 +64,61 @@ final class Parallel {
             }
             return;
         }
-        ExecutorService pool = Executors.newFixedThreadPool(Math.min(threads, count), r -> {
-            Thread t = new Thread(r, "backstep-worker");
-            t.setDaemon(true);
-            return t;
-        });
+        AtomicInteger next = new AtomicInteger();
+        AtomicBoolean failed = new AtomicBoolean();
+        Runnable drain = () -> {
+            int c;
+            while (!failed.get() && (c = next.getAndIncrement()) < count) {
+                try {
+                    body.accept(c);
+                } catch (RuntimeException | Error e) {
+                    failed.set(true);
+                    throw e;
+                }
+            }
+        };
+        int helpers = Math.min(threads, count) - 1;
+        List<Future<?>> futures = new ArrayList<>(helpers);
+        for (int i = 0; i < helpers; i++) {
+            futures.add(WORKERS.submit(drain));
+        }
+        Throwable first = null;
         try {
-            List<Future<?>> futures = new ArrayList<>();
-            for (int c = 0; c < count; c++) {
-                final int chunk = c;
-                futures.add(pool.submit(() -> body.accept(chunk)));
+            drain.run();
+        } catch (RuntimeException | Error e) {
+            first = e;
+        }
+        boolean interrupted = false;
+        for (Future<?> f : futures) {
+            while (true) {
+                try {
+                    f.get();
+                    break;
+                } catch (InterruptedException e) {
+                    interrupted = true;        // stop handing out chunks, then wait for the running ones
+                    failed.set(true);
+                } catch (ExecutionException e) {
+                    if (first == null) {
+                        first = e.getCause();
+                    }
+                    break;
+                }
             }
-            for (Future<?> f : futures) {
-                f.get();
-            }
-        } catch (InterruptedException e) {
+        }
+        if (interrupted) {
             Thread.currentThread().interrupt();
-            throw new IllegalStateException("interrupted while running chunks", e);
-        } catch (ExecutionException e) {
-            Throwable cause = e.getCause();
-            if (cause instanceof RuntimeException re) {
-                throw re;
+            if (first == null) {
+                throw new IllegalStateException("interrupted while running chunks");
             }
-            if (cause instanceof Error err) {
-                throw err;
-            }
-            throw new IllegalStateException(cause);
-        } finally {
-            pool.shutdownNow();
+        }
+        if (first instanceof RuntimeException re) {
+            throw re;
+        }
+        if (first instanceof Error err) {
+            throw err;
+        }
+        if (first != null) {
+            throw new IllegalStateException(first);
         }
     }
 }

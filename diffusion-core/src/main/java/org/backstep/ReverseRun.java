@@ -31,48 +31,13 @@ final class ReverseRun {
     static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
                     double eta, SplittableRandom rng) {
         Chain.Workspace ws = chain.workspace(rows);
-        int d = chain.d;
-        int dc = chain.dc;
-        boolean learned = chain.variance == ReverseVariance.LEARNED;
-        int lOff = dc * (learned ? 2 : 1);
         for (int k = from; k >= 1; k--) {
             for (int round = 0; round < rounds; round++) {
                 float[] out = chain.predictAtStep(ws, x, k);
-                double abar = chain.sqrtAbar[k] * chain.sqrtAbar[k];
-                double abarPrev = chain.sqrtAbar[k - 1] * chain.sqrtAbar[k - 1];
-                for (int r = 0; r < rows; r++) {
-                    int o = r * d;
-                    int oo = r * chain.outputs;
-                    for (int j = 0; j < dc; j++) {
-                        double xk = x[o + j];
-                        double eh = out[oo + j];
-                        double next;
-                        if (kind == SamplerKind.ANCESTRAL) {
-                            double mean = (xk - chain.epsCoef[k] * eh) / chain.sqrtAlpha[k];
-                            if (k > 1) {
-                                double lv = chain.reverseLogVariance(k, learned ? out[oo + dc + j] : 0.0);
-                                next = mean + Math.exp(0.5 * lv) * rng.nextGaussian();
-                            } else {
-                                next = mean;
-                            }
-                        } else {
-                            double x0h = (xk - chain.sqrtOneMinusAbar[k] * eh) / chain.sqrtAbar[k];
-                            double sigma = k > 1
-                                    ? eta * Math.sqrt((1.0 - abarPrev) / (1.0 - abar)) * Math.sqrt(1.0 - abar / abarPrev)
-                                    : 0.0;
-                            double dir = Math.sqrt(Math.max(0.0, 1.0 - abarPrev - sigma * sigma));
-                            next = Math.sqrt(abarPrev) * x0h + dir * eh + (sigma > 0 ? sigma * rng.nextGaussian() : 0.0);
-                        }
-                        if (!Float.isFinite((float) next)) {
-                            throw diverged(chain, k, j, next);
-                        }
-                        x[o + j] = (float) next;
-                    }
-                    for (int j = dc; j < d; j++) {
-                        double pOne = Chain.sigmoid(out[oo + lOff + (j - dc)]);
-                        double p1 = chain.binaryReverseOne(k, x[o + j], pOne);
-                        x[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
-                    }
+                if (kind == SamplerKind.ANCESTRAL) {
+                    ancestralStepInPlace(chain, x, out, rows, k, rng);
+                } else {
+                    implicitStepInPlace(chain, x, out, rows, k, eta, rng);
                 }
                 if (known != null) {
                     replaceKnown(chain, x, known, rows, k - 1, rng);
@@ -87,6 +52,105 @@ final class ReverseRun {
     }
 
     /**
+     * One ancestral step k to k-1 for every row (Ho et al. 2020, algorithm 2): continuous cells
+     * x_{k-1} = (x_k - beta_k / sqrt(1 - alpha-bar_k) eps-hat) / sqrt(alpha_k) + sigma_k z (z = 0 at
+     * k = 1), sigma_k^2 from {@link Chain#reverseLogVariance}; binary cells drawn from
+     * {@link Chain#binaryReverseOne}. Per row: the continuous cells' Gaussian draws, then the binary
+     * cells' uniform draws.
+     *
+     * @param chain the chain
+     * @param x rows x D at step k; modified in place to step k-1
+     * @param out the estimator's rows x outputs at step k, not modified
+     * @param rows rows
+     * @param k the step, 1..K
+     * @param rng the chunk's generator (advanced)
+     */
+    static void ancestralStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, SplittableRandom rng) {
+        int d = chain.d;
+        int dc = chain.dc;
+        int outputs = chain.outputs;
+        boolean learned = chain.variance == ReverseVariance.LEARNED;
+        int lOff = dc * (learned ? 2 : 1);
+        boolean noise = k > 1;
+        // per-step constants, hoisted out of the cell loop (the same values, so the same bits)
+        double epsCoef = chain.epsCoef[k];
+        double sqrtAlpha = chain.sqrtAlpha[k];
+        double logBeta = chain.logBeta[k];
+        double logVar = chain.logVarClipped[k];
+        double fixedSd = learned ? 0.0 : Math.exp(0.5 * chain.reverseLogVariance(k, 0.0));
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            int oo = r * outputs;
+            for (int j = 0; j < dc; j++) {
+                double mean = (x[o + j] - epsCoef * out[oo + j]) / sqrtAlpha;
+                double next = mean;
+                if (noise) {
+                    double sd;
+                    if (learned) {
+                        double v = out[oo + dc + j];
+                        sd = Math.exp(0.5 * chain.clampLogVariance(k, v * logBeta + (1.0 - v) * logVar));   // reverseLogVariance, LEARNED
+                    } else {
+                        sd = fixedSd;
+                    }
+                    next = mean + sd * rng.nextGaussian();
+                }
+                if (!Float.isFinite((float) next)) {
+                    throw diverged(chain, k, j, next);
+                }
+                x[o + j] = (float) next;
+            }
+            binaryStepInPlace(chain, x, out, o, oo + lOff, k, rng);
+        }
+    }
+
+    /**
+     * One implicit step k to k-1 for every row (Song, Meng &amp; Ermon 2021, eq. 12):
+     * x0-hat = (x_k - sqrt(1 - alpha-bar_k) eps-hat) / sqrt(alpha-bar_k),
+     * x_{k-1} = sqrt(alpha-bar_{k-1}) x0-hat + sqrt(1 - alpha-bar_{k-1} - sigma^2) eps-hat + sigma z,
+     * sigma = eta sqrt((1 - alpha-bar_{k-1}) / (1 - alpha-bar_k)) sqrt(1 - alpha-bar_k / alpha-bar_{k-1})
+     * (eq. 16), sigma = 0 at k = 1; binary cells as in the ancestral step.
+     *
+     * @param chain the chain
+     * @param x rows x D at step k; modified in place to step k-1
+     * @param out the estimator's rows x outputs at step k, not modified
+     * @param rows rows
+     * @param k the step, 1..K
+     * @param eta eta in [0, 1]
+     * @param rng the chunk's generator (advanced)
+     */
+    static void implicitStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, double eta,
+                                    SplittableRandom rng) {
+        int d = chain.d;
+        int dc = chain.dc;
+        int outputs = chain.outputs;
+        int lOff = dc * (chain.variance == ReverseVariance.LEARNED ? 2 : 1);
+        double abar = chain.sqrtAbar[k] * chain.sqrtAbar[k];
+        double abarPrev = chain.sqrtAbar[k - 1] * chain.sqrtAbar[k - 1];
+        double sqrtOneMinusAbar = chain.sqrtOneMinusAbar[k];
+        double sqrtAbar = chain.sqrtAbar[k];
+        double sigma = k > 1
+                ? eta * Math.sqrt((1.0 - abarPrev) / (1.0 - abar)) * Math.sqrt(1.0 - abar / abarPrev)
+                : 0.0;
+        double dir = Math.sqrt(Math.max(0.0, 1.0 - abarPrev - sigma * sigma));
+        double sqrtAbarPrev = Math.sqrt(abarPrev);
+        boolean noise = sigma > 0;
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            int oo = r * outputs;
+            for (int j = 0; j < dc; j++) {
+                double eh = out[oo + j];
+                double x0h = (x[o + j] - sqrtOneMinusAbar * eh) / sqrtAbar;
+                double next = sqrtAbarPrev * x0h + dir * eh + (noise ? sigma * rng.nextGaussian() : 0.0);
+                if (!Float.isFinite((float) next)) {
+                    throw diverged(chain, k, j, next);
+                }
+                x[o + j] = (float) next;
+            }
+            binaryStepInPlace(chain, x, out, o, oo + lOff, k, rng);
+        }
+    }
+
+    /**
      * A continuous cell left the float range: each ancestral step divides by sqrt(alpha_k), so an
      * estimator that is far off (undertrained, or a schedule whose last betas are near 1) can make
      * the chain grow without bound. Reported instead of returning NaN cells.
@@ -97,6 +161,17 @@ final class ReverseRun {
                         + "(1/sqrt(alpha) there is %.3g); the model's predictions are far off at this step. "
                         + "Train longer, or use a schedule whose last betas are further from 1 (more steps)",
                 column, value, k, chain.steps, 1.0 / chain.sqrtAlpha[k]));
+    }
+
+    /** Draws the binary cells of one row (at x[o + dc ..], logits at out[logits ..]) from p(x_{k-1} | x_k). */
+    private static void binaryStepInPlace(Chain chain, float[] x, float[] out, int o, int logits, int k,
+                                          SplittableRandom rng) {
+        int dc = chain.dc;
+        for (int j = dc; j < chain.d; j++) {
+            double pOne = Chain.sigmoid(out[logits + (j - dc)]);
+            double p1 = chain.binaryReverseOne(k, x[o + j], pOne);
+            x[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+        }
     }
 
     /** Known cells get a fresh draw of q(x_s | x_0 = observed); at s = 0 the observed value itself. */

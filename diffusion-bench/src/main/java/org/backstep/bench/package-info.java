@@ -1,5 +1,5 @@
 /**
- * JMH benchmarks of Backstep: the training step of the reverse network at several widths and thread
- * counts. Run with {@code java -jar diffusion-bench/target/benchmarks.jar -rf json}.
+ * JMH benchmarks of Backstep: the training step, bounds, and sampling at several step counts, with
+ * seeded fixtures. Run all with {@code diffusion-bench/bench.sh}, or {@code java -jar diffusion-bench/target/benchmarks.jar -rf json}.
  */
 package org.backstep.bench;
