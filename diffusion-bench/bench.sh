@@ -18,18 +18,22 @@ mkdir -p "${results}"
 pattern="${1:-.*}"
 shift || true
 
-(cd "${root}" && mvn -B -q -o -pl diffusion-bench -am package -DskipTests)
+if ! build=$(cd "${root}" && mvn -B -q -o -pl diffusion-bench -am package -DskipTests 2>&1); then
+  echo "${build}"
+  exit 1
+fi
 jar="${here}/target/benchmarks.jar"
 IFS=$'\t' read -r peak derivation < <("${here}/peak.sh")
 
 load_before=$(cut -d' ' -f1-3 /proc/loadavg)
+started=$(date -u '+%Y-%m-%d %H:%M')
 log="${results}/latest.log"
 OPENBLAS_VERBOSE=2 java -jar "${jar}" "${pattern}" -rf json -rff "${results}/latest.json" "$@" | tee "${log}"
 load_after=$(cut -d' ' -f1-3 /proc/loadavg)
 kernel=$(grep -m1 -o 'Core: [A-Za-z0-9_]*' "${log}" || echo "Core: (not printed)")
 
 {
-  echo "Backstep JMH results, $(date -u '+%Y-%m-%d %H:%M UTC'), git $(cd "${root}" && git rev-parse --short HEAD)$(cd "${root}" && git diff --quiet HEAD -- . || echo ' (uncommitted changes)')"
+  echo "Backstep JMH results, run ${started} to $(date -u '+%H:%M UTC'), git $(cd "${root}" && git rev-parse --short HEAD)$(cd "${root}" && git diff --quiet HEAD -- . || echo ' (uncommitted changes)')"
   echo "machine: $(nproc) CPUs; load average (1, 5, 15 min) before ${load_before}, after ${load_after}"
   echo "bundled OpenBLAS kernel: ${kernel#Core: } (OPENBLAS_VERBOSE=2; OPENBLAS_CORETYPE not set)"
   java -cp "${jar}" org.backstep.bench.ResultTable "${results}/latest.json" "${peak}" "${derivation}"

@@ -10,8 +10,11 @@
 # with apt-get (after apt-get update), together with libopenblas0-pthread: Debian's torch calls
 # whatever libblas.so.3 is installed, and without OpenBLAS that is the unoptimized reference BLAS.
 # If the install is impossible the script says so and exits with status 3.
-# PyTorch is timed in its default thread setting and with torch.set_num_threads(1) and (2); the
-# ratios use the best PyTorch setting, and per thread count as well.
+# PyTorch is timed in its default thread setting and with torch.set_num_threads(1) and (2) (the
+# system OpenBLAS then runs its own thread per core whatever torch's setting), and once more with
+# torch.set_num_threads(1) and OPENBLAS_NUM_THREADS=1 (set by this script for that run only), which
+# keeps PyTorch on one core. Ratios: Backstep on 1 thread against PyTorch on one core, and
+# Backstep's best against PyTorch's best setting.
 #
 # OpenBLAS: OPENBLAS_VERBOSE=2 is set for both sides so that each OpenBLAS names the kernel it
 # picked (Backstep runs the OpenBLAS 0.3.19 bundled with ND4J; PyTorch the system's).
@@ -79,11 +82,24 @@ echo
 echo "== PyTorch (src/main/python/torch_reference.py; OPENBLAS_VERBOSE=2, OPENBLAS_CORETYPE not set)"
 torch_json="${results}/compare-pytorch-torch.json"
 torch_err=$(mktemp)
-if ! OPENBLAS_VERBOSE=2 "${PY}" "${here}/src/main/python/torch_reference.py" > "${torch_json}" 2> "${torch_err}"; then
+one_core_json=$(mktemp)
+# Run 1: OpenBLAS as installed (its own thread pool, one thread per core whatever torch's setting).
+# Run 2: OPENBLAS_NUM_THREADS=1 (set by this script for that run only) with torch.set_num_threads(1):
+# PyTorch on one core, to compare with Backstep on one thread.
+if ! OPENBLAS_VERBOSE=2 "${PY}" "${here}/src/main/python/torch_reference.py" > "${torch_json}" 2> "${torch_err}" \
+   || ! OPENBLAS_VERBOSE=2 OPENBLAS_NUM_THREADS=1 "${PY}" "${here}/src/main/python/torch_reference.py" --settings 1 \
+        > "${one_core_json}" 2>> "${torch_err}"; then
   cat "${torch_err}"
   echo "the PyTorch reference failed"
   exit 1
 fi
+"${PY}" - "${torch_json}" "${one_core_json}" <<'EOF'
+import json, sys
+main, one = (json.load(open(f)) for f in sys.argv[1:])
+main["settings"]["1, OPENBLAS_NUM_THREADS=1"] = one["settings"]["1"]
+json.dump(main, open(sys.argv[1], "w"), indent=1)
+EOF
+rm -f "${one_core_json}"
 grep -v '^Core:' "${torch_err}" || true
 echo "system OpenBLAS kernel under PyTorch: $(grep -m1 -o 'Core: [A-Za-z0-9_]*' "${torch_err}" || echo 'Core: (not printed; PyTorch may not use OpenBLAS)')"
 rm -f "${torch_err}"
@@ -91,7 +107,11 @@ rm -f "${torch_err}"
 
 # ---------------------------------------------------------------- Backstep side
 echo "== Backstep (JMH; OPENBLAS_VERBOSE=2, OPENBLAS_CORETYPE not set)"
-(cd "${root}" && mvn -B -q -o -pl diffusion-bench -am package -DskipTests) || { echo "build failed"; exit 1; }
+if ! build=$(cd "${root}" && mvn -B -q -o -pl diffusion-bench -am package -DskipTests 2>&1); then
+  echo "${build}"
+  echo "build failed"
+  exit 1
+fi
 jar="${here}/target/benchmarks.jar"
 jmh_log=$(mktemp)
 OPENBLAS_VERBOSE=2 java -jar "${jar}" 'TrainingStepBenchmark' -p columns=64 -p threads=1,2 \
@@ -134,6 +154,7 @@ def gf(x):
     return f"{x:6.1f} GFLOP/s ({100 * x / peak:4.1f}% of {peak:.1f}, {peak / x:4.2f}x from peak)"
 
 settings = torch_r["settings"]
+ONE_CORE = "1, OPENBLAS_NUM_THREADS=1"
 print(f"PyTorch {torch_r['torch']}, default threads {torch_r['default_threads']}")
 back_train, back_sample = {}, {}
 for r in jmh:
@@ -147,15 +168,14 @@ for r in jmh:
 print("\ntraining step, 64 columns (steps/s):")
 for label, s in settings.items():
     t = s["training64"]
-    print(f"  PyTorch  threads={label:8s} ({s['threads']}): {t['steps_per_s']:8.1f}   {gf(t['gflops'])}  cores busy {t['cores_busy']:.2f}")
+    print(f"  PyTorch  threads={label:27s}: {t['steps_per_s']:8.1f}   {gf(t['gflops'])}  cores busy {t['cores_busy']:.2f}")
 for th, v in sorted(back_train.items()):
-    print(f"  Backstep threads={th}           : {v:8.1f}   {gf(v * train_flops / 1e9)}")
+    print(f"  Backstep threads={th:<27d}: {v:8.1f}   {gf(v * train_flops / 1e9)}")
 best_torch = max(s["training64"]["steps_per_s"] for s in settings.values())
-for th, v in sorted(back_train.items()):
-    same = settings.get(str(th), {}).get("training64", {}).get("steps_per_s")
-    print(f"  ratio Backstep({th} thread(s)) / PyTorch(same threads) = {v / same:4.2f};"
-          f" / PyTorch(best setting) = {v / best_torch:4.2f}")
-print(f"  best / best = {max(back_train.values()) / best_torch:4.2f}")
+one_core = settings[ONE_CORE]["training64"]["steps_per_s"]
+if 1 in back_train:
+    print(f"  one core:      Backstep(1 thread) / PyTorch(1 thread, OPENBLAS_NUM_THREADS=1) = {back_train[1] / one_core:4.2f}")
+print(f"  whole machine: Backstep(best) / PyTorch(best setting) = {max(back_train.values()) / best_torch:4.2f}")
 
 for cols in sorted({c for c, _ in back_sample}):
     key = f"sampling{cols}"
@@ -163,21 +183,20 @@ for cols in sorted({c for c, _ in back_sample}):
     print(f"\nsampling, {cols} columns, 1,024 rows x 1,000 ancestral steps (row-steps/s; ms per 1,000 rows per 1,000 steps):")
     for label, s in settings.items():
         t = s[key]
-        print(f"  PyTorch  threads={label:8s} ({s['threads']}): {t['row_steps_per_s']:10.0f}  {1e9 / t['row_steps_per_s']:8.0f} ms   {gf(t['gflops'])}  cores busy {t['cores_busy']:.2f}")
+        print(f"  PyTorch  threads={label:27s}: {t['row_steps_per_s']:10.0f}  {1e9 / t['row_steps_per_s']:8.0f} ms   {gf(t['gflops'])}  cores busy {t['cores_busy']:.2f}")
     for (c, th), v in sorted(back_sample.items()):
         if c == cols:
-            print(f"  Backstep threads={th}           : {v:10.0f}  {1e9 / v:8.0f} ms   {gf(v * flops_row / 1e9)}")
+            print(f"  Backstep threads={th:<27d}: {v:10.0f}  {1e9 / v:8.0f} ms   {gf(v * flops_row / 1e9)}")
     best = max(s[key]["row_steps_per_s"] for s in settings.values())
-    for (c, th), v in sorted(back_sample.items()):
-        if c == cols:
-            same = settings.get(str(th), {}).get(key, {}).get("row_steps_per_s")
-            print(f"  ratio Backstep({th} thread(s)) / PyTorch(same threads) = {v / same:4.2f};"
-                  f" / PyTorch(best setting) = {v / best:4.2f}")
-    print(f"  best / best = {max(v for (c, _), v in back_sample.items() if c == cols) / best:4.2f}")
+    one_core = settings[ONE_CORE][key]["row_steps_per_s"]
+    if (cols, 1) in back_sample:
+        print(f"  one core:      Backstep(1 thread) / PyTorch(1 thread, OPENBLAS_NUM_THREADS=1) = {back_sample[(cols, 1)] / one_core:4.2f}")
+    print(f"  whole machine: Backstep(best) / PyTorch(best setting) = "
+          f"{max(v for (c, _), v in back_sample.items() if c == cols) / best:4.2f}")
 print("\nGFLOP/s count the matrix products only (2 x rows x sum fanIn x fanOut per forward pass, biases left out);")
 print("both sides do the same arithmetic, so the ratios of steps/s are the ratios of GFLOP/s.")
 print("'cores busy' is PyTorch's process CPU time over wall time: the system OpenBLAS runs its own threads")
-print("whatever torch's setting. Backstep runs one BLAS thread per worker thread.")
+print("whatever torch's setting unless OPENBLAS_NUM_THREADS=1. Backstep runs one BLAS thread per worker thread.")
 EOF
 echo
 echo "load average (1, 5, 15 min) at end: $(cut -d' ' -f1-3 /proc/loadavg)"

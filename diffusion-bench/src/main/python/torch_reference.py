@@ -185,11 +185,14 @@ def main():
     p.add_argument("--sample-steps", type=int, default=1000)
     p.add_argument("--sample-columns", default="8,64")
     p.add_argument("--repeats", type=int, default=2)
+    p.add_argument("--settings", default="default,1,2",
+                   help="thread settings to time: 'default' (as PyTorch starts) and/or thread counts")
     a = p.parse_args()
     default_threads = torch.get_num_threads()
     result = {"torch": torch.__version__, "default_threads": default_threads, "config": torch.__config__.show(),
               "parallel": torch.__config__.parallel_info(), "settings": {}}
-    for label, threads in (("default", default_threads), ("1", 1), ("2", 2)):
+    for label in a.settings.split(","):
+        threads = default_threads if label == "default" else int(label)
         torch.set_num_threads(threads)
         print(f"torch: {label} threads ({torch.get_num_threads()})", file=sys.stderr)
         entry = {"threads": torch.get_num_threads(),
