@@ -33,7 +33,7 @@ load_after=$(cut -d' ' -f1-3 /proc/loadavg)
 kernel=$(grep -m1 -o 'Core: [A-Za-z0-9_]*' "${log}" || echo "Core: (not printed)")
 
 {
-  echo "Backstep JMH results, run ${started} to $(date -u '+%H:%M UTC'), git $(cd "${root}" && git rev-parse --short HEAD)$(cd "${root}" && git diff --quiet HEAD -- . || echo ' (uncommitted changes)')"
+  echo "Backstep JMH results, run ${started} to $(date -u '+%H:%M UTC'), git $(cd "${root}" && git rev-parse --short HEAD)$(cd "${root}" && git diff --quiet HEAD -- . ':!diffusion-bench/results' || echo ' (uncommitted changes)')"
   echo "machine: $(nproc) CPUs; load average (1, 5, 15 min) before ${load_before}, after ${load_after}"
   echo "bundled OpenBLAS kernel: ${kernel#Core: } (OPENBLAS_VERBOSE=2; OPENBLAS_CORETYPE not set)"
   java -cp "${jar}" org.backstep.bench.ResultTable "${results}/latest.json" "${peak}" "${derivation}"
