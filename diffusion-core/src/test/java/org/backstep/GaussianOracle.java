@@ -14,7 +14,6 @@ import org.nd4j.linalg.api.ndarray.INDArray;
 
 import java.util.ArrayList;
 import java.util.List;
-import java.util.Set;
 
 /**
  * The exact reverse kernels of Gaussian data x_0 ~ N(mu, Sigma) under a Gaussian diffusion, as an
@@ -118,9 +117,5 @@ final class GaussianOracle implements Estimator {
                 .logColumns().threads(2).options();
         return DiffusionModel.withEstimator(options, TableTransform.of(names, kinds, transforms),
                 new GaussianOracle(schedule, mu, sigma));
-    }
-
-    static Set<String> none() {
-        return Set.of();
     }
 }
