@@ -1,4 +1,7 @@
 import org.backstep.*;
+import org.backstep.option.*;
+import org.backstep.report.*;
+import org.backstep.training.*;
 import org.backstep.schedule.*;
 import org.backstep.table.*;
 import org.backstep.quality.*;

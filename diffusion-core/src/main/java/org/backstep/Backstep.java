@@ -1,5 +1,13 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
+import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.ScheduleFamily;
+import org.backstep.option.StepSampling;
+import org.backstep.option.TrainingLoss;
+import org.backstep.training.TrainingListener;
+
 import org.backstep.net.TimeConditioning;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;

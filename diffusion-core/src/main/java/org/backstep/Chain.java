@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.option.ReverseVariance;
+
 import org.backstep.posterior.BinomialDiffusion;
 import org.backstep.posterior.GaussianDiffusion;
 import org.backstep.schedule.NoiseSchedule;

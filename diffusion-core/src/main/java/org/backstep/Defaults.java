@@ -1,5 +1,11 @@
 package org.backstep;
 
+import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.ScheduleFamily;
+import org.backstep.option.StepSampling;
+import org.backstep.option.TrainingLoss;
+
 import org.backstep.net.TimeConditioning;
 
 /**

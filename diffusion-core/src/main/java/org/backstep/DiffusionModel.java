@@ -1,5 +1,17 @@
 package org.backstep;
 
+import org.backstep.io.ModelFileException;
+import org.backstep.option.FitOptions;
+import org.backstep.option.SamplerKind;
+import org.backstep.option.SamplingPlan;
+import org.backstep.report.AnomalyScreen;
+import org.backstep.report.BoundReport;
+import org.backstep.report.Denoising;
+import org.backstep.report.Imputation;
+import org.backstep.report.StepPlan;
+import org.backstep.training.EpochRecord;
+import org.backstep.training.Provenance;
+
 import org.backstep.net.ReverseNetwork;
 import org.backstep.schedule.Require;
 import org.backstep.table.ColumnKind;
@@ -174,7 +186,7 @@ public final class DiffusionModel {
     private BoundReport bound(Table records, Chain c, long seed) {
         float[] x = modelSpace(records, true);
         BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), seed, options.threads());
-        return new BoundReport(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary,
+        return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary,
                 transform.logJacobian(records), r.standardError, r.perStepMean);
     }
 
@@ -193,7 +205,7 @@ public final class DiffusionModel {
         Require.atLeast("draws", draws, 1);
         float[] x = modelSpace(records, true);
         BoundEvaluator.Result r = BoundEvaluator.monteCarlo(chain, x, records.rows(), draws, seed, options.threads());
-        return new BoundReport(BoundReport.Method.MONTE_CARLO, chain.steps, draws, chain.d, r.continuous, r.binary,
+        return BoundReport.of(BoundReport.Method.MONTE_CARLO, chain.steps, draws, chain.d, r.continuous, r.binary,
                 transform.logJacobian(records), r.standardError, r.perStepMean);
     }
 

@@ -1,5 +1,14 @@
 package org.backstep;
 
+import org.backstep.io.ModelFileException;
+import org.backstep.option.FitOptions;
+import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.StepSampling;
+import org.backstep.option.TrainingLoss;
+import org.backstep.training.EpochRecord;
+import org.backstep.training.Provenance;
+
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;

@@ -1,5 +1,8 @@
 package org.backstep;
 
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.SamplerKind;
+
 import java.util.SplittableRandom;
 
 /**

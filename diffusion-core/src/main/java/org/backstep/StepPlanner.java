@@ -1,5 +1,9 @@
 package org.backstep;
 
+import org.backstep.option.SamplingPlan;
+import org.backstep.report.BoundReport;
+import org.backstep.report.StepPlan;
+
 import org.backstep.quality.EnergyTest;
 import org.backstep.quality.SampleQuality;
 import org.backstep.table.Table;

@@ -1,5 +1,14 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.StepSampling;
+import org.backstep.option.TrainingLoss;
+import org.backstep.training.EpochRecord;
+import org.backstep.training.Provenance;
+import org.backstep.training.TrainingListener;
+import org.backstep.training.TrainingProgress;
+
 import org.backstep.net.AdamOptimizer;
 import org.backstep.net.NetworkShape;
 import org.backstep.net.ParallelStep;
@@ -213,7 +222,7 @@ final class Trainer {
             LOG.info(stopReason);
         }
         ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
-        Provenance provenance = Provenance.record(options, table, n, nv, seconds(started), history, notes);
+        Provenance provenance = provenance(options, table, n, nv, seconds(started), history, notes);
         return new DiffusionModel(options, transform, fitted, new NetworkEstimator(fitted), provenance);
     }
 
@@ -499,5 +508,14 @@ final class Trainer {
             dOutputInto.assign(Nd4j.create(grad, new long[] {rows, outputs}, 'c'));
             return total;
         }
+    }
+
+    /** What the fit records about itself: this library, this JVM and machine, the clock, the data's hash. */
+    private static Provenance provenance(FitOptions options, Table table, int trainingRows, int validationRows,
+                                         double seconds, List<EpochRecord> history, List<String> notes) {
+        return new Provenance(Provenance.currentLibraryVersion(), System.getProperty("java.version"),
+                System.getProperty("os.name") + " " + System.getProperty("os.version"),
+                System.getProperty("os.arch"), java.time.Instant.now().toString(), seconds, table.rows(), trainingRows,
+                validationRows, table.sha256(), history, notes);
     }
 }

@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.report.BoundReport;
+
 import org.apache.commons.math3.distribution.NormalDistribution;
 import org.apache.commons.math3.random.Well19937c;
 import org.backstep.schedule.NoiseSchedule;

@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.report.BoundReport;
+
 /** Test access to {@link BoundReport}'s package-private constructor, for tests in other packages. */
 public final class BoundReports {
 
@@ -17,7 +19,7 @@ public final class BoundReports {
      * @return the report
      */
     public static BoundReport exact(int steps, int dimensions, double[] continuous, double[] binary, double[] perStep) {
-        return new BoundReport(BoundReport.Method.EXACT, steps, steps, dimensions, continuous.clone(), binary.clone(),
+        return BoundReport.of(BoundReport.Method.EXACT, steps, steps, dimensions, continuous.clone(), binary.clone(),
                 new double[continuous.length], new double[continuous.length], perStep.clone());
     }
 
@@ -30,7 +32,7 @@ public final class BoundReports {
      * @return the report
      */
     public static BoundReport monteCarlo(int steps, int draws, double[] continuous) {
-        return new BoundReport(BoundReport.Method.MONTE_CARLO, steps, draws, 1, continuous.clone(),
+        return BoundReport.of(BoundReport.Method.MONTE_CARLO, steps, draws, 1, continuous.clone(),
                 new double[continuous.length], new double[continuous.length], new double[continuous.length], new double[0]);
     }
 }

@@ -1,7 +1,9 @@
 package org.backstep;
 
+import org.backstep.report.Denoising;
+import org.backstep.report.Imputation;
+
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
-import org.apache.commons.math3.distribution.NormalDistribution;
 import org.apache.commons.math3.linear.Array2DRowRealMatrix;
 import org.apache.commons.math3.linear.RealMatrix;
 import org.apache.commons.math3.random.Well19937c;

@@ -1,5 +1,10 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.SamplingPlan;
+import org.backstep.option.TrainingLoss;
+
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.ColumnTransform;

@@ -1,10 +1,13 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.TrainingLoss;
+
 import org.apache.commons.math3.linear.Array2DRowRealMatrix;
 import org.apache.commons.math3.linear.LUDecomposition;
 import org.apache.commons.math3.linear.MatrixUtils;
 import org.apache.commons.math3.linear.RealMatrix;
-import org.apache.commons.math3.linear.RealVector;
 import org.backstep.net.TimeConditioning;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;

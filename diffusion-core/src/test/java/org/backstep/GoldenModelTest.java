@@ -1,5 +1,9 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
+import org.backstep.report.BoundReport;
+import org.backstep.training.Provenance;
+
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;

@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.io.ModelFileException;
+
 import org.backstep.net.TimeConditioning;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;

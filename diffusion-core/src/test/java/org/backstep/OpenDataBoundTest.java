@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.report.BoundReport;
+
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.stat.correlation.Covariance;
 import org.apache.commons.math3.stat.descriptive.moment.Mean;

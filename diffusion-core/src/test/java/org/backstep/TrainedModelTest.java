@@ -1,5 +1,13 @@
 package org.backstep;
 
+import org.backstep.option.ReverseVariance;
+import org.backstep.option.SamplingPlan;
+import org.backstep.option.TrainingLoss;
+import org.backstep.report.BoundReport;
+import org.backstep.training.EpochRecord;
+import org.backstep.training.TrainingListener;
+import org.backstep.training.TrainingProgress;
+
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.random.Well19937c;
 import org.backstep.net.TimeConditioning;

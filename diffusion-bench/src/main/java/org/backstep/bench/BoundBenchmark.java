@@ -2,7 +2,7 @@ package org.backstep.bench;
 
 import java.util.concurrent.TimeUnit;
 
-import org.backstep.BoundReport;
+import org.backstep.report.BoundReport;
 import org.backstep.DiffusionModel;
 import org.backstep.table.Table;
 import org.openjdk.jmh.annotations.Benchmark;

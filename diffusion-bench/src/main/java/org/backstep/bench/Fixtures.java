@@ -6,8 +6,8 @@ import java.util.SplittableRandom;
 
 import org.backstep.Backstep;
 import org.backstep.DiffusionModel;
-import org.backstep.FitOptions;
-import org.backstep.ReverseVariance;
+import org.backstep.option.FitOptions;
+import org.backstep.option.ReverseVariance;
 import org.backstep.net.TimeConditioning;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;

@@ -3,7 +3,7 @@ package org.backstep.bench;
 import java.util.concurrent.TimeUnit;
 
 import org.backstep.DiffusionModel;
-import org.backstep.SamplingPlan;
+import org.backstep.option.SamplingPlan;
 import org.openjdk.jmh.annotations.Benchmark;
 import org.openjdk.jmh.annotations.BenchmarkMode;
 import org.openjdk.jmh.annotations.Fork;

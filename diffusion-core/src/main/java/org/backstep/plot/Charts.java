@@ -1,8 +1,8 @@
 package org.backstep.plot;
 
-import org.backstep.BoundReport;
-import org.backstep.EpochRecord;
-import org.backstep.StepPlan;
+import org.backstep.report.BoundReport;
+import org.backstep.training.EpochRecord;
+import org.backstep.report.StepPlan;
 import org.backstep.io.AtomicFiles;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;

@@ -1,9 +1,9 @@
 package org.backstep.plot;
 
-import org.backstep.BoundReport;
+import org.backstep.report.BoundReport;
 import org.backstep.BoundReports;
-import org.backstep.EpochRecord;
-import org.backstep.StepPlan;
+import org.backstep.training.EpochRecord;
+import org.backstep.report.StepPlan;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;

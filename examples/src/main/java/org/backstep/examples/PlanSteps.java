@@ -1,7 +1,7 @@
 package org.backstep.examples;
 
 import org.backstep.DiffusionModel;
-import org.backstep.StepPlan;
+import org.backstep.report.StepPlan;
 import org.backstep.io.AtomicFiles;
 import org.backstep.plot.Charts;
 import org.backstep.table.CsvTables;

@@ -1,7 +1,7 @@
 package org.backstep.examples;
 
 import org.backstep.Backstep;
-import org.backstep.BoundReport;
+import org.backstep.report.BoundReport;
 import org.backstep.DiffusionModel;
 import org.backstep.table.CsvTables;
 import org.backstep.table.Table;

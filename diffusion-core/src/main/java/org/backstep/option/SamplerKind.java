@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.option;
 
 /** How synthetic records are drawn from a fitted model. */
 public enum SamplerKind {

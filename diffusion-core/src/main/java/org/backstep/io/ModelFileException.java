@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.io;
 
 import java.io.IOException;
 

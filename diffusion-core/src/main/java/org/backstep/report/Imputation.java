@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.report;
 
 import org.backstep.table.Table;
 

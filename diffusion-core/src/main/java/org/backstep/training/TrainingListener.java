@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.training;
 
 /**
  * Receives training progress. Called on the training thread after every minibatch step that

@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.report;
 
 import java.util.Locale;
 
@@ -35,7 +35,7 @@ public final class BoundReport {
     private final double[] standardError;
     private final double[] perStep;
 
-    BoundReport(Method method, int steps, int draws, int dimensions, double[] continuous, double[] binary,
+    private BoundReport(Method method, int steps, int draws, int dimensions, double[] continuous, double[] binary,
                 double[] logJacobian, double[] standardError, double[] perStep) {
         this.method = method;
         this.steps = steps;
@@ -46,6 +46,45 @@ public final class BoundReport {
         this.logJacobian = logJacobian;
         this.standardError = standardError;
         this.perStep = perStep;
+    }
+
+    /**
+     * A report from its parts (the library builds these in {@code DiffusionModel.bound}; tools that
+     * assemble or reload reports use this). Arrays are copied.
+     *
+     * @param method how the bound was computed
+     * @param steps T of the chain, at least 1
+     * @param draws steps drawn per record (T for the exact bound), at least 1
+     * @param dimensions D, the number of diffused columns, at least 1
+     * @param continuous per record, the continuous columns' part in nats, model space (not modified)
+     * @param binary per record, the binary columns' part in nats (not modified)
+     * @param logJacobian per record, sum_j log|dz_j/dx_j| of the column transforms (not modified)
+     * @param standardError per record, the Monte Carlo standard error (0 for exact) (not modified)
+     * @param perStep the mean over records of each term, L_0 first (not modified)
+     * @return the report
+     */
+    public static BoundReport of(Method method, int steps, int draws, int dimensions, double[] continuous,
+            double[] binary, double[] logJacobian, double[] standardError, double[] perStep) {
+        org.backstep.schedule.Require.notNull("method", method);
+        org.backstep.schedule.Require.atLeast("steps", steps, 1);
+        org.backstep.schedule.Require.atLeast("draws", draws, 1);
+        org.backstep.schedule.Require.atLeast("dimensions", dimensions, 1);
+        org.backstep.schedule.Require.notNull("continuous", continuous);
+        int n = continuous.length;
+        sameLength("binary", binary, n);
+        sameLength("logJacobian", logJacobian, n);
+        sameLength("standardError", standardError, n);
+        org.backstep.schedule.Require.notNull("perStep", perStep);
+        return new BoundReport(method, steps, draws, dimensions, continuous.clone(), binary.clone(),
+                logJacobian.clone(), standardError.clone(), perStep.clone());
+    }
+
+    private static void sameLength(String name, double[] values, int records) {
+        org.backstep.schedule.Require.notNull(name, values);
+        if (values.length != records) {
+            throw new IllegalArgumentException(name + " has length " + values.length + "; expected " + records
+                    + ", the length of continuous (one value per record)");
+        }
     }
 
     /** @return how it was computed */

@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.option;
 
 /**
  * The objective of training. Binary columns always contribute their bound terms.

@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.training;
 
 import java.util.OptionalDouble;
 

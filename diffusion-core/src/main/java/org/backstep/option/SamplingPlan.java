@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.option;
 
 import org.backstep.schedule.Require;
 

@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.option;
 
 /** How the trainer draws the diffusion step t of each row. */
 public enum StepSampling {

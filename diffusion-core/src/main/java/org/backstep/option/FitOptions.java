@@ -1,4 +1,7 @@
-package org.backstep;
+package org.backstep.option;
+
+import org.backstep.Backstep;
+import org.backstep.Defaults;
 
 import org.backstep.net.TimeConditioning;
 import org.backstep.schedule.NoiseSchedule;

@@ -1,4 +1,4 @@
-package org.backstep;
+package org.backstep.option;
 
 /**
  * The variance of the Gaussian reverse kernels p(x_{t-1} | x_t) of the continuous columns.

@@ -1,10 +1,12 @@
-package org.backstep;
+package org.backstep.training;
+
+import org.backstep.Backstep;
+import org.backstep.option.FitOptions;
 
 import org.backstep.table.Table;
 
 import java.io.IOException;
 import java.io.InputStream;
-import java.time.Instant;
 import java.util.List;
 import java.util.Properties;
 
@@ -35,13 +37,6 @@ public record Provenance(String libraryVersion, String javaVersion, String os, S
         notes = List.copyOf(notes);
     }
 
-    static Provenance record(FitOptions options, Table table, int trainingRows, int validationRows, double seconds,
-                             List<EpochRecord> history, List<String> notes) {
-        return new Provenance(currentLibraryVersion(), System.getProperty("java.version"),
-                System.getProperty("os.name") + " " + System.getProperty("os.version"),
-                System.getProperty("os.arch"), Instant.now().toString(), seconds, table.rows(), trainingRows,
-                validationRows, table.sha256(), history, notes);
-    }
 
     /** @return the version written into the jar by the Maven build, or "unknown" */
     public static String currentLibraryVersion() {
