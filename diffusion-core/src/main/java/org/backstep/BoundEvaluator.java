@@ -37,39 +37,63 @@ final class BoundEvaluator {
         }
     }
 
+    /** One chunk of rows and its scratch: x_0, x_t, the steps, the generator and one step's terms. */
+    private static final class Chunk {
+        final Chain chain;
+        final int from;
+        final int n;
+        final float[] x;
+        final SplittableRandom rng;
+        final Chain.Workspace ws;
+        final float[] xt;
+        final int[] k;
+        final double[] stepCont;
+        final double[] stepBin;
+
+        Chunk(Chain chain, float[] x0, int rows, int c, long seed) {
+            this.chain = chain;
+            from = c * Parallel.CHUNK_ROWS;
+            n = Math.min(Parallel.CHUNK_ROWS, rows - from);
+            x = slice(x0, from, n, chain.d);
+            rng = Parallel.random(seed, c);
+            ws = chain.workspace(n);
+            xt = new float[n * chain.d];
+            k = new int[n];
+            stepCont = new double[n];
+            stepBin = new double[n];
+        }
+
+        /** The bound terms of x_t at the steps in k, given the estimator's output, into stepCont and stepBin. */
+        void stepTerms(float[] out) {
+            java.util.Arrays.fill(stepCont, 0.0);
+            java.util.Arrays.fill(stepBin, 0.0);
+            chain.boundTerms(x, xt, out, n, k, stepCont, stepBin);
+        }
+    }
+
     static Result exact(Chain chain, float[] x0, int rows, long seed, int threads) {
         Result res = new Result(rows, chain.steps, true);
         int chunks = Parallel.chunks(rows);
         double[][] perChunkSteps = new double[chunks][chain.steps + 1];
         Parallel.forEachChunk(chunks, threads, c -> {
-            int from = c * Parallel.CHUNK_ROWS;
-            int n = Math.min(Parallel.CHUNK_ROWS, rows - from);
-            float[] x = slice(x0, from, n, chain.d);
-            SplittableRandom rng = Parallel.random(seed, c);
-            Chain.Workspace ws = chain.workspace(n);
-            float[] xt = new float[n * chain.d];
-            int[] k = new int[n];
+            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            int n = ch.n;
             double[] cont = new double[n];
             double[] bin = new double[n];
-            double[] stepCont = new double[n];
-            double[] stepBin = new double[n];
-            chain.priorTerms(x, n, cont, bin);
+            chain.priorTerms(ch.x, n, cont, bin);
             perChunkSteps[c][0] = sum(cont) + sum(bin);
             for (int s = 1; s <= chain.steps; s++) {
-                java.util.Arrays.fill(k, s);
-                chain.diffuse(x, n, k, xt, null, rng);
-                float[] out = chain.predictAtStep(ws, xt, s);
-                java.util.Arrays.fill(stepCont, 0.0);
-                java.util.Arrays.fill(stepBin, 0.0);
-                chain.boundTerms(x, xt, out, n, k, stepCont, stepBin);
+                java.util.Arrays.fill(ch.k, s);
+                chain.diffuse(ch.x, n, ch.k, ch.xt, null, ch.rng);
+                ch.stepTerms(chain.predictAtStep(ch.ws, ch.xt, s));
                 for (int r = 0; r < n; r++) {
-                    cont[r] += stepCont[r];
-                    bin[r] += stepBin[r];
+                    cont[r] += ch.stepCont[r];
+                    bin[r] += ch.stepBin[r];
                 }
-                perChunkSteps[c][s] = sum(stepCont) + sum(stepBin);
+                perChunkSteps[c][s] = sum(ch.stepCont) + sum(ch.stepBin);
             }
-            System.arraycopy(cont, 0, res.continuous, from, n);
-            System.arraycopy(bin, 0, res.binary, from, n);
+            System.arraycopy(cont, 0, res.continuous, ch.from, n);
+            System.arraycopy(bin, 0, res.binary, ch.from, n);
         });
         for (int s = 0; s <= chain.steps; s++) {
             double total = 0.0;
@@ -86,40 +110,32 @@ final class BoundEvaluator {
         int chunks = Parallel.chunks(rows);
         double scale = chain.steps - 1;
         Parallel.forEachChunk(chunks, threads, c -> {
-            int from = c * Parallel.CHUNK_ROWS;
-            int n = Math.min(Parallel.CHUNK_ROWS, rows - from);
-            float[] x = slice(x0, from, n, chain.d);
-            SplittableRandom rng = Parallel.random(seed, c);
-            Chain.Workspace ws = chain.workspace(n);
-            float[] xt = new float[n * chain.d];
-            int[] k = new int[n];
+            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            int n = ch.n;
+            int from = ch.from;
+            int[] k = ch.k;
             int[] src = new int[n];
             double[] priorCont = new double[n];
             double[] priorBin = new double[n];
             double[] sumCont = new double[n];
             double[] sumBin = new double[n];
             double[] sumSq = new double[n];
-            double[] stepCont = new double[n];
-            double[] stepBin = new double[n];
-            chain.priorTerms(x, n, priorCont, priorBin);
+            chain.priorTerms(ch.x, n, priorCont, priorBin);
             java.util.Arrays.fill(k, 1);
-            chain.diffuse(x, n, k, xt, null, rng);
-            chain.boundTerms(x, xt, chain.predictAtStep(ws, xt, 1), n, k, priorCont, priorBin);
+            chain.diffuse(ch.x, n, k, ch.xt, null, ch.rng);
+            chain.boundTerms(ch.x, ch.xt, chain.predictAtStep(ch.ws, ch.xt, 1), n, k, priorCont, priorBin);
             int rounds = chain.steps > 1 ? draws : 0;
             for (int draw = 0; draw < rounds; draw++) {
                 for (int r = 0; r < n; r++) {
-                    k[r] = 2 + rng.nextInt(chain.steps - 1);
+                    k[r] = 2 + ch.rng.nextInt(chain.steps - 1);
                     src[r] = chain.source[k[r]];
                 }
-                chain.diffuse(x, n, k, xt, null, rng);
-                float[] out = chain.predict(ws, xt, src);
-                java.util.Arrays.fill(stepCont, 0.0);
-                java.util.Arrays.fill(stepBin, 0.0);
-                chain.boundTerms(x, xt, out, n, k, stepCont, stepBin);
+                chain.diffuse(ch.x, n, k, ch.xt, null, ch.rng);
+                ch.stepTerms(chain.predict(ch.ws, ch.xt, src));
                 for (int r = 0; r < n; r++) {
-                    double term = scale * (stepCont[r] + stepBin[r]);
-                    sumCont[r] += scale * stepCont[r];
-                    sumBin[r] += scale * stepBin[r];
+                    double term = scale * (ch.stepCont[r] + ch.stepBin[r]);
+                    sumCont[r] += scale * ch.stepCont[r];
+                    sumBin[r] += scale * ch.stepBin[r];
                     sumSq[r] += term * term;
                 }
             }
