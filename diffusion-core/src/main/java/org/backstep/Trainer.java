@@ -4,6 +4,7 @@ import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.StepSampling;
 import org.backstep.option.TrainingLoss;
+import org.backstep.option.TrainingBudget;
 import org.backstep.training.EpochRecord;
 import org.backstep.training.Provenance;
 import org.backstep.training.TrainingListener;
@@ -43,6 +44,11 @@ import java.util.function.BooleanSupplier;
  *   binary cell:              T L_{t-1}  (Bernoulli KL, or cross-entropy at t = 1)
  * </pre>
  * times 1/(T p_t) under importance sampling, averaged over the minibatch.
+ *
+ * <p>Training runs for the options' epochs, or to a {@link TrainingBudget} of updates or of
+ * wall-clock time. However it ends (the last epoch, a budget, a stop request, early stopping), the
+ * averaged weights are evaluated on the validation rows once more, and the weights with the best
+ * held-out bound so far are kept.
  */
 final class Trainer {
 
@@ -58,6 +64,28 @@ final class Trainer {
 
     static DiffusionModel fit(FitOptions options, Table table, Table validation, TrainingListener listener,
                               BooleanSupplier stop) {
+        return run(options, table, validation, listener, stop, null).model();
+    }
+
+    /**
+     * A fitted model and what its training spent.
+     *
+     * @param model the model
+     * @param updates minibatch updates done
+     * @param epochs updates over minibatches per epoch (the last epoch may be cut short)
+     * @param updateSeconds wall time spent on updates, without the held-out evaluations during training
+     */
+    record Fitted(DiffusionModel model, long updates, double epochs, double updateSeconds) {
+    }
+
+    /**
+     * Fits, for the builder's epochs or to a budget.
+     *
+     * @param budget null to train for the options' epochs; otherwise a fixed number of updates or
+     *     a wall-clock time of updates, which replaces the epochs (see {@link TrainingBudget})
+     */
+    static Fitted run(FitOptions options, Table table, Table validation, TrainingListener listener,
+                      BooleanSupplier stop, TrainingBudget budget) {
         long started = System.nanoTime();
         List<String> notes = new ArrayList<>();
         for (String name : options.logColumns()) {
@@ -119,13 +147,29 @@ final class Trainer {
 
         int batch = Math.min(options.batchSize(), n);
         int batchesPerEpoch = n / batch;
-        int epochs = options.epochs() > 0 ? options.epochs()
-                : (int) Math.ceil((double) Defaults.TRAINING_STEPS / batchesPerEpoch);
+        long budgetUpdates = budget == null ? 0 : budget.updates().orElse(0);
+        long budgetNanos = budget == null ? 0 : budget.wallClock().map(java.time.Duration::toNanos).orElse(0L);
+        boolean timed = budgetNanos > 0;
+        int epochs;
+        if (budgetUpdates > 0) {
+            epochs = (int) Math.min(Integer.MAX_VALUE, (budgetUpdates + batchesPerEpoch - 1) / batchesPerEpoch);
+        } else if (timed) {
+            epochs = Integer.MAX_VALUE;      // until the time is spent
+        } else {
+            epochs = options.epochs() > 0 ? options.epochs()
+                    : (int) Math.ceil((double) Defaults.TRAINING_STEPS / batchesPerEpoch);
+        }
+        // held-out evaluations: every evaluateEvery epochs, or (timed, by default) every 1/EVALUATIONS of the time
         int evaluateEvery = options.evaluateEvery() > 0 ? options.evaluateEvery()
-                : Math.max(1, epochs / Defaults.EVALUATIONS);
-        long totalSteps = (long) epochs * batchesPerEpoch;
-        LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, {} epochs of {} minibatches of {}",
-                n, dc, db, steps, epochs, batchesPerEpoch, batch);
+                : timed ? 0 : Math.max(1, epochs / Defaults.EVALUATIONS);
+        long totalSteps = budgetUpdates > 0 ? budgetUpdates : timed ? 0 : (long) epochs * batchesPerEpoch;
+        if (timed) {
+            LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, for {} in minibatches of {}",
+                    n, dc, db, steps, budget, batch);
+        } else {
+            LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, {} epochs of {} minibatches of {}"
+                    + " ({} updates)", n, dc, db, steps, epochs, batchesPerEpoch, batch, totalSteps);
+        }
 
         AdamOptimizer adam = AdamOptimizer.create(net.parameterCount(), options.learningRate(), options.adamBeta1(),
                 options.adamBeta2(), options.adamEpsilon(), options.weightDecay());
@@ -143,17 +187,20 @@ final class Trainer {
         int[] perm = identity(n);
 
         List<EpochRecord> history = new ArrayList<>();
-        float[] bestWeights = ema.average();
+        float[] bestWeights = null;
         double bestBound = Double.POSITIVE_INFINITY;
         OptionalDouble lastBound = OptionalDouble.empty();
         int sinceBest = 0;
         long step = 0;
         String stopReason = null;
+        long loopStart = System.nanoTime();
+        long evaluationNanos = 0;          // held-out evaluations, left out of a wall-clock budget
+        long nextEvaluation = timed ? budgetNanos / Defaults.EVALUATIONS : 0;
         try (ParallelStep parallel = ParallelStep.create(net, batch, options.threads())) {
-            epochLoop:
             for (int epoch = 1; epoch <= epochs; epoch++) {
                 shuffle(perm, rng);
                 double lossSum = 0.0;
+                int done = 0;
                 for (int b = 0; b < batchesPerEpoch; b++) {
                     for (int r = 0; r < batch; r++) {
                         System.arraycopy(x0, perm[b * batch + r] * d, xb, r * d, d);
@@ -164,7 +211,10 @@ final class Trainer {
                     chain.diffuse(xb, batch, k, xt, eps, rng);
                     xtArray.data().setData(xt);
                     terms.prepare(xb, xt, eps, k, weight);
-                    double rate = options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
+                    double rate = timed
+                            ? options.learningRateSchedule().rate(options.learningRate(),
+                                    System.nanoTime() - loopStart - evaluationNanos, budgetNanos)
+                            : options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
                     double loss = parallel.trainInPlace(xtArray, src, terms, adam, rate);
                     ema.updateInPlace(net.parameterView(), Math.min(options.emaDecay(), (1.0 + step) / (10.0 + step)));
                     sampler.record(k, terms.rowBound, batch);
@@ -174,19 +224,33 @@ final class Trainer {
                     }
                     lossSum += loss;
                     step++;
+                    done++;
+                    long spent = System.nanoTime() - loopStart - evaluationNanos;
                     if (stop.getAsBoolean()) {
                         stopReason = "stopped on request at epoch " + epoch + ", step " + step;
-                        history.add(new EpochRecord(epoch, lossSum / (b + 1), OptionalDouble.empty(), seconds(started)));
-                        break epochLoop;
+                        break;
+                    }
+                    if (budgetUpdates > 0 && step >= budgetUpdates) {
+                        stopReason = "trained to the budget of " + budgetUpdates + " updates";
+                        break;
+                    }
+                    if (timed && spent >= budgetNanos) {
+                        stopReason = String.format(java.util.Locale.ROOT,
+                                "spent the wall-clock budget of %.1f s: %d updates in %.1f s", budgetNanos / 1e9, step, spent / 1e9);
+                        break;
                     }
                     if (batchesPerEpoch >= 10 && (b + 1) % (batchesPerEpoch / 10) == 0 && b + 1 < batchesPerEpoch) {
                         listener.onProgress(progress(epoch, epochs, step, totalSteps, lossSum / (b + 1), lastBound,
-                                batch, started));
+                                batch, started, timed, spent, budgetNanos, batchesPerEpoch));
                     }
                 }
-                double epochLoss = lossSum / batchesPerEpoch;
+                boolean last = stopReason != null || epoch == epochs;
+                double epochLoss = lossSum / done;
                 OptionalDouble bound = OptionalDouble.empty();
-                if (xv != null && (epoch % evaluateEvery == 0 || epoch == epochs)) {
+                long spent = System.nanoTime() - loopStart - evaluationNanos;
+                boolean due = evaluateEvery > 0 ? epoch % evaluateEvery == 0 : spent >= nextEvaluation;
+                if (xv != null && (due || last)) {
+                    long evaluationStart = System.nanoTime();
                     float[] avg = ema.average();
                     ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
                     Chain evalChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
@@ -196,16 +260,24 @@ final class Trainer {
                     double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
                     bound = OptionalDouble.of(mean);
                     lastBound = bound;
-                    if (mean < bestBound) {
+                    if (bestWeights == null || mean < bestBound || Double.isNaN(bestBound)) {
                         bestBound = mean;
                         bestWeights = avg;
                         sinceBest = 0;
                     } else {
                         sinceBest++;
                     }
+                    while (timed && nextEvaluation <= spent) {
+                        nextEvaluation += Math.max(1, budgetNanos / Defaults.EVALUATIONS);
+                    }
+                    evaluationNanos += System.nanoTime() - evaluationStart;
                 }
                 history.add(new EpochRecord(epoch, epochLoss, bound, seconds(started)));
-                listener.onProgress(progress(epoch, epochs, step, totalSteps, epochLoss, lastBound, batch, started));
+                listener.onProgress(progress(epoch, epochs, step, totalSteps, epochLoss, lastBound, batch, started,
+                        timed, spent, budgetNanos, batchesPerEpoch));
+                if (last) {
+                    break;
+                }
                 if (options.patience() > 0 && sinceBest >= options.patience()) {
                     stopReason = "stopped early at epoch " + epoch + ": no better held-out bound in "
                             + options.patience() + " evaluations";
@@ -213,8 +285,9 @@ final class Trainer {
                 }
             }
         }
-        float[] finalWeights = xv != null ? bestWeights : ema.average();
-        if (xv != null) {
+        long updateNanos = System.nanoTime() - loopStart - evaluationNanos;
+        float[] finalWeights = bestWeights != null ? bestWeights : ema.average();
+        if (bestWeights != null) {
             notes.add("kept the averaged weights with the best held-out bound, " + bestBound + " nats per record");
         }
         if (stopReason != null) {
@@ -223,13 +296,23 @@ final class Trainer {
         }
         ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
         Provenance provenance = provenance(options, table, n, nv, seconds(started), history, notes);
-        return new DiffusionModel(options, transform, fitted, new NetworkEstimator(fitted), provenance);
+        DiffusionModel model = new DiffusionModel(options, transform, fitted, new NetworkEstimator(fitted), provenance);
+        return new Fitted(model, step, step / (double) batchesPerEpoch, updateNanos / 1e9);
     }
 
     private static TrainingProgress progress(int epoch, int epochs, long step, long total, double loss,
-                                             OptionalDouble bound, int batch, long started) {
+                                             OptionalDouble bound, int batch, long started, boolean timed,
+                                             long spentNanos, long budgetNanos, int batchesPerEpoch) {
         double secs = seconds(started);
         double rate = step * (double) batch / Math.max(secs, 1e-9);
+        if (timed) {
+            // planned totals are unknown: estimated from the pace so far
+            long estimated = Math.max(step, Math.round(step * (double) budgetNanos / Math.max(1L, spentNanos)));
+            int estimatedEpochs = (int) Math.min(Integer.MAX_VALUE, Math.max(epoch,
+                    (estimated + batchesPerEpoch - 1) / batchesPerEpoch));
+            return new TrainingProgress(epoch, estimatedEpochs, step, estimated, loss, bound, rate,
+                    Math.max(0.0, (budgetNanos - spentNanos) / 1e9));
+        }
         double left = step == 0 ? Double.NaN : secs * (total - step) / step;
         return new TrainingProgress(epoch, epochs, step, total, loss, bound, rate, Math.max(0.0, left));
     }
