@@ -1,6 +1,10 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
 import org.backstep.option.SamplingPlan;
+import org.backstep.option.TrainingBudget;
+import org.backstep.report.TrainingPlan;
+import org.backstep.training.TrainingListener;
 import org.backstep.report.BoundReport;
 import org.backstep.report.StepPlan;
 
@@ -12,9 +16,25 @@ import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
+import java.util.concurrent.CancellationException;
+import java.util.function.BooleanSupplier;
 
-/** Evaluates candidate step counts of a fitted model on held-out rows; see {@link StepPlan}. */
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * Evaluates step counts on held-out rows: the strided chains of one fitted model for sampling
+ * ({@link StepPlan}), and models fitted with different T on one budget ({@link TrainingPlan}).
+ */
 final class StepPlanner {
+
+    private static final Logger LOG = LoggerFactory.getLogger(StepPlanner.class);
+
+    /**
+     * Updates of an untimed fit before the first timed one of a wall-clock plan, so that the first
+     * T does not pay for the JIT compiler's and the native libraries' start-up (our choice).
+     */
+    static final int WARM_UP_UPDATES = 30;
 
     /** Rows drawn per candidate for the sample-quality statistics (and held-out rows used, at most). */
     static final int QUALITY_ROWS = 1000;
@@ -60,6 +80,60 @@ final class StepPlanner {
                 pick.steps(), pick.boundNatsPerDimension(), tolerance, best.boundNatsPerDimension(), best.steps(),
                 pick.millisPer1000(), largest.millisPer1000(), largest.steps());
         return new StepPlan(rows, tolerance, pick.steps(), reason);
+    }
+
+    /**
+     * Fits one model per entry of {@code perSteps} (validated options, in increasing T) on the
+     * budget and evaluates each on the held-out rows; see {@link TrainingPlan}.
+     */
+    static TrainingPlan planTraining(List<FitOptions> perSteps, Table training, Table heldOut, TrainingBudget budget,
+                                     double tolerance, TrainingListener listener, BooleanSupplier stop) {
+        Table complete = heldOut.completeRows();
+        Table held = complete.rows() > QUALITY_ROWS ? complete.selectRows(evenlySpaced(QUALITY_ROWS, complete.rows())) : complete;
+        if (!budget.isDeterministic()) {
+            Trainer.run(perSteps.get(0), training, null, TrainingListener.NONE, stop, TrainingBudget.updates(WARM_UP_UPDATES));
+        }
+        List<TrainingPlan.Row> rows = new ArrayList<>();
+        for (FitOptions options : perSteps) {
+            int t = options.steps();
+            if (stop.getAsBoolean()) {
+                throw new CancellationException("the training plan was stopped on request before T = " + t
+                        + ", after " + rows.size() + " of " + perSteps.size() + " models");
+            }
+            Trainer.Fitted fitted = Trainer.run(options, training, null, listener, stop, budget);
+            if (stop.getAsBoolean()) {
+                throw new CancellationException("the training plan was stopped on request while training T = " + t
+                        + ", after " + rows.size() + " of " + perSteps.size() + " models");
+            }
+            rows.add(evaluate(fitted, held, options.seed()));
+            LOG.info("training plan: T = {} done ({} updates in {} s)", t, fitted.updates(), fitted.updateSeconds());
+        }
+        return new TrainingPlan(budget, tolerance, rows);
+    }
+
+    private static TrainingPlan.Row evaluate(Trainer.Fitted fitted, Table held, long seed) {
+        DiffusionModel model = fitted.model();
+        int t = model.steps();
+        BoundReport bound = model.bound(held, seed);
+        double d = bound.dimensions();
+        double perDimension = bound.meanNats() / d;
+        double standardError = bound.standardErrorOfMean() / d;
+        Table samples;
+        long start = System.nanoTime();
+        try {
+            samples = model.sample(held.rows(), SamplingPlan.ancestral(), seed + t);
+        } catch (IllegalStateException e) {     // the chain left the float range (ReverseRun)
+            LOG.info("training plan: the sampling chain of T = {} diverged: {}", t, e.getMessage());
+            return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
+                    standardError, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true);
+        }
+        double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / held.rows();
+        double[][] heldModel = model.transform().toModelSpace(held);
+        double[][] sampleModel = model.transform().toModelSpace(samples);
+        EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, seed);
+        double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
+        return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
+                standardError, energy.energyDistance(), energy.pValue(), maxKs, millis, false);
     }
 
     /** n row indices spread evenly over 0..total-1, so that a table sorted by time or unit is not cut to its start. */
