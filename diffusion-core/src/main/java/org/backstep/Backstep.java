@@ -389,10 +389,13 @@ public final class Backstep {
          * {@link #validationFraction(double)} drawn from {@code training} (the same rows for every
          * T) to keep the best averaged weights; the budget replaces {@link #epochs(int)}. The
          * held-out rows are used only for the report (at most 1,000 complete rows, spread evenly).
-         * Models are fitted one after another in increasing T, each reporting to the
-         * {@link #listener(TrainingListener) listener} from its first update; with a wall-clock
-         * budget a short untimed fit comes first, so that the first T does not pay for the JIT
-         * compiler's start-up.
+         * The models train in turns, each for 1/20 of its budget per round with the order rotating,
+         * so that the JIT compiler's warm-up and any busy spell of the machine fall on every model
+         * alike (all of them are held in memory at once). The {@link #listener(TrainingListener)
+         * listener} hears the whole plan: {@code step} and {@code totalSteps} count the updates of
+         * all models together (for a wall-clock budget the total is estimated from the pace so far),
+         * {@code secondsLeft} the plan's training time left; the other fields are those of the model
+         * that reported.
          *
          * <p>Determinism: with {@link TrainingBudget#updates(int)} the same seed and thread count give
          * the same table except its timing columns; with {@link TrainingBudget#wallClock} the number

@@ -5,6 +5,7 @@ import org.backstep.option.SamplingPlan;
 import org.backstep.option.TrainingBudget;
 import org.backstep.report.TrainingPlan;
 import org.backstep.training.TrainingListener;
+import org.backstep.training.TrainingProgress;
 import org.backstep.report.BoundReport;
 import org.backstep.report.StepPlan;
 
@@ -31,10 +32,12 @@ final class StepPlanner {
     private static final Logger LOG = LoggerFactory.getLogger(StepPlanner.class);
 
     /**
-     * Updates of an untimed fit before the first timed one of a wall-clock plan, so that the first
-     * T does not pay for the JIT compiler's and the native libraries' start-up (our choice).
+     * The training plan fits its models in turns: each model trains for 1/ROUNDS of its budget per
+     * round, the order rotating from round to round, so that the JIT compiler's warm-up (measured:
+     * on the demo's table the first 2,000 or so updates in a fresh JVM ran up to 1.6 times slower
+     * than later ones) and any busy spell of the machine fall on every model alike (our choice).
      */
-    static final int WARM_UP_UPDATES = 30;
+    static final int ROUNDS = 20;
 
     /** Rows drawn per candidate for the sample-quality statistics (and held-out rows used, at most). */
     static final int QUALITY_ROWS = 1000;
@@ -90,25 +93,63 @@ final class StepPlanner {
                                      double tolerance, TrainingListener listener, BooleanSupplier stop) {
         Table complete = heldOut.completeRows();
         Table held = complete.rows() > QUALITY_ROWS ? complete.selectRows(evenlySpaced(QUALITY_ROWS, complete.rows())) : complete;
-        if (!budget.isDeterministic()) {
-            Trainer.run(perSteps.get(0), training, null, TrainingListener.NONE, stop, TrainingBudget.updates(WARM_UP_UPDATES));
+        int models = perSteps.size();
+        long perModel = budget.wallClock().map(java.time.Duration::toNanos).orElseGet(() -> (long) budget.updates().orElseThrow());
+        List<Trainer.Run> runs = new ArrayList<>();
+        List<Trainer.Fitted> fitted = new ArrayList<>();
+        try {
+            TrainingListener relay = p -> listener.onProgress(planProgress(p, runs, budget, models));
+            for (FitOptions options : perSteps) {
+                runs.add(new Trainer.Run(options, training, null, relay, stop, budget));
+            }
+            for (int round = 1; round <= ROUNDS; round++) {
+                long until = round == ROUNDS ? Long.MAX_VALUE : perModel / ROUNDS * round;
+                for (int i = 0; i < models; i++) {
+                    Trainer.Run run = runs.get((i + round - 1) % models);
+                    run.advance(until);
+                    if (stop.getAsBoolean()) {
+                        throw new CancellationException("the training plan was stopped on request in round " + round
+                                + " of " + ROUNDS + " (its models train in turns, each 1/" + ROUNDS + " of its budget per round)");
+                    }
+                }
+            }
+            for (Trainer.Run run : runs) {
+                fitted.add(run.finish());
+            }
+        } finally {
+            runs.forEach(Trainer.Run::close);
         }
         List<TrainingPlan.Row> rows = new ArrayList<>();
-        for (FitOptions options : perSteps) {
-            int t = options.steps();
-            if (stop.getAsBoolean()) {
-                throw new CancellationException("the training plan was stopped on request before T = " + t
-                        + ", after " + rows.size() + " of " + perSteps.size() + " models");
-            }
-            Trainer.Fitted fitted = Trainer.run(options, training, null, listener, stop, budget);
-            if (stop.getAsBoolean()) {
-                throw new CancellationException("the training plan was stopped on request while training T = " + t
-                        + ", after " + rows.size() + " of " + perSteps.size() + " models");
-            }
-            rows.add(evaluate(fitted, held, options.seed()));
-            LOG.info("training plan: T = {} done ({} updates in {} s)", t, fitted.updates(), fitted.updateSeconds());
+        for (Trainer.Fitted f : fitted) {
+            rows.add(evaluate(f, held, f.model().options().seed()));
+            LOG.info("training plan: T = {} done ({} updates in {} s)", f.model().steps(), f.updates(), f.updateSeconds());
         }
         return new TrainingPlan(budget, tolerance, rows);
+    }
+
+    /**
+     * The whole plan's progress, from one model's: step and totalSteps count the updates of every
+     * model together, secondsLeft the plan's training time left; the other fields are the
+     * reporting model's.
+     */
+    private static TrainingProgress planProgress(TrainingProgress p, List<Trainer.Run> runs, TrainingBudget budget,
+                                                 int models) {
+        long updates = 0;
+        long nanos = 0;
+        for (Trainer.Run r : runs) {
+            updates += r.updates();
+            nanos += r.updateNanos();
+        }
+        if (budget.isDeterministic()) {
+            long total = (long) budget.updates().orElseThrow() * models;
+            double left = updates == 0 ? Double.NaN : nanos / 1e9 * (total - updates) / updates;
+            return new TrainingProgress(p.epoch(), p.epochs(), updates, total, p.loss(), p.heldOutBound(),
+                    p.rowsPerSecond(), Math.max(0.0, left));
+        }
+        long totalNanos = budget.wallClock().orElseThrow().toNanos() * models;
+        long estimated = Math.max(updates, Math.round(updates * (double) totalNanos / Math.max(1L, nanos)));
+        return new TrainingProgress(p.epoch(), p.epochs(), updates, estimated, p.loss(), p.heldOutBound(),
+                p.rowsPerSecond(), Math.max(0.0, (totalNanos - nanos) / 1e9));
     }
 
     private static TrainingPlan.Row evaluate(Trainer.Fitted fitted, Table held, long seed) {

@@ -292,7 +292,7 @@ public final class Charts {
         }
         String left = plan.rows().stream().filter(TrainingPlan.Row::samplesDiverged)
                 .map(r -> Integer.toString(r.steps())).collect(java.util.stream.Collectors.joining(", "));
-        XYChart c = chart("Diffusion steps T on " + plan.budget() + " each" + (left.isEmpty() ? "" : " (diverged: T = " + left + ")"),
+        XYChart c = chart("Diffusion steps T, each trained on " + plan.budget() + (left.isEmpty() ? "" : " (diverged: T = " + left + ")"),
                 "milliseconds per 1,000 samples at the model's T", "held-out bound, nats per dimension");
         double[] x = drawn.stream().mapToDouble(TrainingPlan.Row::millisPer1000).toArray();
         double[] y = drawn.stream().mapToDouble(TrainingPlan.Row::boundNatsPerDimension).toArray();

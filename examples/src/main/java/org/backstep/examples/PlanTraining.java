@@ -17,6 +17,7 @@ import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
 import org.backstep.table.TableFormatException;
 import org.backstep.training.TrainingListener;
+import org.backstep.training.TrainingProgress;
 
 import java.io.IOException;
 import java.io.PrintStream;
@@ -156,41 +157,33 @@ public final class PlanTraining {
     }
 
     /**
-     * One bar over the whole plan: each model is a thousandth-steps share, filled by its updates
-     * (update budget) or its time (wall-clock budget). The library fits the models one after
-     * another in increasing T, each reporting from its first update, so a step count that goes
-     * down marks the next model.
+     * One bar over the whole plan. The library trains the models in turns and reports the whole
+     * plan's progress: the updates of all models together, and the training time left.
      */
     private static final class Progress implements TrainingListener, AutoCloseable {
-        private static final int PER_MODEL = 1000;
+        private static final int SCALE = 1000;
         private final ProgressBar bar;
-        private final int[] steps;
-        private final double budgetSeconds;
-        private int model;
-        private long lastStep;
+        private final int models;
+        private final double totalSeconds;
 
         Progress(boolean show, int[] steps, TrainingBudget budget) {
-            this.steps = steps;
-            this.budgetSeconds = budget.wallClock().map(d -> d.toNanos() / 1e9).orElse(0.0);
-            this.bar = show ? new ProgressBarBuilder().setTaskName("Training").setInitialMax((long) PER_MODEL * steps.length)
+            this.models = steps.length;
+            this.totalSeconds = budget.wallClock().map(d -> d.toNanos() / 1e9 * steps.length).orElse(0.0);
+            this.bar = show ? new ProgressBarBuilder().setTaskName("Training").setInitialMax(SCALE)
                     .setStyle(ProgressBarStyle.ASCII).setConsumer(new ConsoleProgressBarConsumer(System.err))
                     .setUpdateIntervalMillis(250).build() : null;
         }
 
         @Override
-        public void onProgress(org.backstep.training.TrainingProgress p) {
+        public void onProgress(TrainingProgress p) {
             if (bar == null) {
                 return;
             }
-            if (p.step() < lastStep && model < steps.length - 1) {
-                model++;
-            }
-            lastStep = p.step();
-            double share = budgetSeconds > 0 ? 1.0 - p.secondsLeft() / budgetSeconds
+            double share = totalSeconds > 0 ? 1.0 - p.secondsLeft() / totalSeconds
                     : p.step() / (double) Math.max(1, p.totalSteps());
-            bar.stepTo((long) model * PER_MODEL + Math.round(PER_MODEL * Math.min(1.0, Math.max(0.0, share))));
-            bar.setExtraMessage(String.format(Locale.ROOT, " T = %d (%d of %d), loss %.3f", steps[model], model + 1,
-                    steps.length, p.loss()));
+            bar.stepTo(Math.round(SCALE * Math.min(1.0, Math.max(0.0, share))));
+            bar.setExtraMessage(String.format(Locale.ROOT, " %d models in turns, %d updates, loss %.3f", models,
+                    p.step(), p.loss()));
         }
 
         @Override
