@@ -119,6 +119,12 @@ final class StepPlanner {
         } finally {
             runs.forEach(Trainer.Run::close);
         }
+        try {
+            // untimed: the first timed sampling run would otherwise pay for the JIT compiler's warm-up
+            fitted.get(0).model().sample(held.rows(), SamplingPlan.ancestral(), perSteps.get(0).seed());
+        } catch (IllegalStateException e) {
+            LOG.debug("warm-up sampling diverged: {}", e.getMessage());
+        }
         List<TrainingPlan.Row> rows = new ArrayList<>();
         for (Trainer.Fitted f : fitted) {
             rows.add(evaluate(f, held, f.model().options().seed()));
