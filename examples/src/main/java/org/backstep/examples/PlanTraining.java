@@ -182,7 +182,7 @@ public final class PlanTraining {
             double share = totalSeconds > 0 ? 1.0 - p.secondsLeft() / totalSeconds
                     : p.step() / (double) Math.max(1, p.totalSteps());
             bar.stepTo(Math.round(SCALE * Math.min(1.0, Math.max(0.0, share))));
-            bar.setExtraMessage(String.format(Locale.ROOT, " %d models in turns, %d updates, loss %.3f", models,
+            bar.setExtraMessage(String.format(Locale.ROOT, " %d models, %d updates, loss %.2f", models,
                     p.step(), p.loss()));
         }
 
