@@ -5,7 +5,9 @@ import org.backstep.option.LearningRateSchedule;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.ScheduleFamily;
 import org.backstep.option.StepSampling;
+import org.backstep.option.TrainingBudget;
 import org.backstep.option.TrainingLoss;
+import org.backstep.report.TrainingPlan;
 import org.backstep.training.TrainingListener;
 
 import org.backstep.net.TimeConditioning;
@@ -255,8 +257,9 @@ public final class Backstep {
 
         /**
          * A stop request polled after every minibatch step, for cancelling from another thread;
-         * training then ends early and returns the model so far, with the stop noted in its
-         * provenance. Default never.
+         * training then ends early and returns the model so far (the averaged weights are evaluated
+         * on the validation rows once more, and the best weights so far are kept), with the stop
+         * noted in its provenance. Default never.
          *
          * @param stopRequested true when training should stop
          * @return this
@@ -273,6 +276,10 @@ public final class Backstep {
          * @throws IllegalArgumentException naming the first bad option
          */
         public FitOptions options() {
+            return options(steps);
+        }
+
+        private FitOptions options(int steps) {
             Require.atLeast("steps", steps, 1);
             Require.notNull("continuousSchedule", continuousFamily);
             Require.notNull("binarySchedule", binaryFamily);
@@ -367,6 +374,84 @@ public final class Backstep {
             Require.notNull("training", training);
             Require.notNull("validation", validation);
             return Trainer.fit(options, training, validation, listener, stopRequested);
+        }
+
+        /**
+         * Fits one model per number of diffusion steps T, each with every other option of this
+         * builder and the same budget of training, and evaluates each on held-out rows: the
+         * updates and time its training took, its held-out bound in nats per dimension (over all T
+         * terms, with a standard error), the quality of its samples (energy distance with a
+         * permutation p-value, largest per-column Kolmogorov-Smirnov statistic) and the cost of
+         * sampling at its T; recommends the smallest T whose bound lies within {@code tolerance} of
+         * the best. See {@link TrainingPlan} for the formulas.
+         *
+         * <p>How each model is fitted: as {@link #fit(Table)} does, with a validation split of
+         * {@link #validationFraction(double)} drawn from {@code training} (the same rows for every
+         * T) to keep the best averaged weights; the budget replaces {@link #epochs(int)}. The
+         * held-out rows are used only for the report (at most 1,000 complete rows, spread evenly).
+         * The models train in turns, each for 1/20 of its budget per round with the order rotating,
+         * so that the JIT compiler's warm-up and any busy spell of the machine fall on every model
+         * alike (all of them are held in memory at once). The {@link #listener(TrainingListener)
+         * listener} hears the whole plan: {@code step} and {@code totalSteps} count the updates of
+         * all models together (for a wall-clock budget the total is estimated from the pace so far),
+         * {@code secondsLeft} the plan's training time left; the other fields are those of the model
+         * that reported.
+         *
+         * <p>Determinism: with {@link TrainingBudget#updates(int)} the same seed and thread count give
+         * the same table except its timing columns; with {@link TrainingBudget#wallClock} the number
+         * of updates depends on the machine's speed and load, and every figure with it. Tests and
+         * CI should use an update budget.
+         *
+         * <p>Cost: the training budget times the number of T values, plus for each model an exact
+         * bound (T network evaluations per held-out row) and one sampling run (the same).
+         *
+         * @param training the table to model (rows with a missing cell are left out of training)
+         * @param heldOut rows not trained on, with the training table's columns; at least 2 complete rows
+         * @param budget the training each model gets
+         * @param tolerance in nats per dimension, at least 0
+         * @param stepCounts the values of T, each at least 2, distinct, in any order
+         * @return the table of findings and the recommended T
+         * @throws IllegalArgumentException naming the first bad argument or option, before any training
+         * @throws java.util.concurrent.CancellationException if {@link #stopWhen(BooleanSupplier)} asked to stop
+         */
+        public TrainingPlan planTraining(Table training, Table heldOut, TrainingBudget budget, double tolerance,
+                                         int... stepCounts) {
+            Require.notNull("training", training);
+            Require.notNull("heldOut", heldOut);
+            Require.notNull("budget", budget);
+            Require.nonNegative("tolerance", tolerance);
+            Require.notNull("stepCounts", stepCounts);
+            Require.atLeast("number of stepCounts", stepCounts.length, 1);
+            for (int i = 0; i < stepCounts.length; i++) {
+                Require.atLeast("stepCounts[" + i + "]", stepCounts[i], 2);
+            }
+            int[] ts = stepCounts.clone();
+            java.util.Arrays.sort(ts);
+            for (int i = 1; i < ts.length; i++) {
+                if (ts[i] == ts[i - 1]) {
+                    throw new IllegalArgumentException("stepCounts lists T = " + ts[i] + " twice; expected distinct values");
+                }
+            }
+            if (continuousSchedule != null || binarySchedule != null) {
+                throw new IllegalArgumentException((continuousSchedule != null ? "continuousSchedule" : "binarySchedule")
+                        + " is an explicit schedule of fixed T; planTraining varies T, so choose a schedule family");
+            }
+            List<FitOptions> perSteps = new java.util.ArrayList<>();
+            for (int t : ts) {
+                perSteps.add(options(t));
+            }
+            if (!heldOut.names().equals(training.names()) || !heldOut.kinds().equals(training.kinds())) {
+                throw new IllegalArgumentException("heldOut has columns " + heldOut.names() + " " + heldOut.kinds()
+                        + "; expected the training columns " + training.names() + " " + training.kinds());
+            }
+            Require.atLeast("complete rows of heldOut", heldOut.completeRows().rows(), 2);
+            for (String name : logColumns) {
+                if (!training.names().contains(name)) {
+                    throw new IllegalArgumentException("logColumns names '" + name
+                            + "', which is not a column of training " + training.names());
+                }
+            }
+            return StepPlanner.planTraining(perSteps, training, heldOut, budget, tolerance, listener, stopRequested);
         }
     }
 }

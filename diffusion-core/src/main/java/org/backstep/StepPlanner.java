@@ -1,6 +1,11 @@
 package org.backstep;
 
+import org.backstep.option.FitOptions;
 import org.backstep.option.SamplingPlan;
+import org.backstep.option.TrainingBudget;
+import org.backstep.report.TrainingPlan;
+import org.backstep.training.TrainingListener;
+import org.backstep.training.TrainingProgress;
 import org.backstep.report.BoundReport;
 import org.backstep.report.StepPlan;
 
@@ -12,9 +17,27 @@ import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
+import java.util.concurrent.CancellationException;
+import java.util.function.BooleanSupplier;
 
-/** Evaluates candidate step counts of a fitted model on held-out rows; see {@link StepPlan}. */
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * Evaluates step counts on held-out rows: the strided chains of one fitted model for sampling
+ * ({@link StepPlan}), and models fitted with different T on one budget ({@link TrainingPlan}).
+ */
 final class StepPlanner {
+
+    private static final Logger LOG = LoggerFactory.getLogger(StepPlanner.class);
+
+    /**
+     * The training plan fits its models in turns: each model trains for 1/ROUNDS of its budget per
+     * round, the order rotating from round to round, so that the JIT compiler's warm-up (measured:
+     * on the demo's table the first 2,000 or so updates in a fresh JVM ran up to 1.6 times slower
+     * than later ones) and any busy spell of the machine fall on every model alike (our choice).
+     */
+    static final int ROUNDS = 20;
 
     /** Rows drawn per candidate for the sample-quality statistics (and held-out rows used, at most). */
     static final int QUALITY_ROWS = 1000;
@@ -60,6 +83,104 @@ final class StepPlanner {
                 pick.steps(), pick.boundNatsPerDimension(), tolerance, best.boundNatsPerDimension(), best.steps(),
                 pick.millisPer1000(), largest.millisPer1000(), largest.steps());
         return new StepPlan(rows, tolerance, pick.steps(), reason);
+    }
+
+    /**
+     * Fits one model per entry of {@code perSteps} (validated options, in increasing T) on the
+     * budget and evaluates each on the held-out rows; see {@link TrainingPlan}.
+     */
+    static TrainingPlan planTraining(List<FitOptions> perSteps, Table training, Table heldOut, TrainingBudget budget,
+                                     double tolerance, TrainingListener listener, BooleanSupplier stop) {
+        Table complete = heldOut.completeRows();
+        Table held = complete.rows() > QUALITY_ROWS ? complete.selectRows(evenlySpaced(QUALITY_ROWS, complete.rows())) : complete;
+        int models = perSteps.size();
+        long perModel = budget.wallClock().map(java.time.Duration::toNanos).orElseGet(() -> (long) budget.updates().orElseThrow());
+        List<Trainer.Run> runs = new ArrayList<>();
+        List<Trainer.Fitted> fitted = new ArrayList<>();
+        try {
+            TrainingListener relay = p -> listener.onProgress(planProgress(p, runs, budget, models));
+            for (FitOptions options : perSteps) {
+                runs.add(new Trainer.Run(options, training, null, relay, stop, budget));
+            }
+            for (int round = 1; round <= ROUNDS; round++) {
+                long until = round == ROUNDS ? Long.MAX_VALUE : perModel / ROUNDS * round;
+                for (int i = 0; i < models; i++) {
+                    Trainer.Run run = runs.get((i + round - 1) % models);
+                    run.advance(until);
+                    if (stop.getAsBoolean()) {
+                        throw new CancellationException("the training plan was stopped on request in round " + round
+                                + " of " + ROUNDS + " (its models train in turns, each 1/" + ROUNDS + " of its budget per round)");
+                    }
+                }
+            }
+            for (Trainer.Run run : runs) {
+                fitted.add(run.finish());
+            }
+        } finally {
+            runs.forEach(Trainer.Run::close);
+        }
+        try {
+            // untimed: the first timed sampling run would otherwise pay for the JIT compiler's warm-up
+            fitted.get(0).model().sample(held.rows(), SamplingPlan.ancestral(), perSteps.get(0).seed());
+        } catch (IllegalStateException e) {
+            LOG.debug("warm-up sampling diverged: {}", e.getMessage());
+        }
+        List<TrainingPlan.Row> rows = new ArrayList<>();
+        for (Trainer.Fitted f : fitted) {
+            rows.add(evaluate(f, held, f.model().options().seed()));
+            LOG.info("training plan: T = {} done ({} updates in {} s)", f.model().steps(), f.updates(), f.updateSeconds());
+        }
+        return new TrainingPlan(budget, tolerance, rows);
+    }
+
+    /**
+     * The whole plan's progress, from one model's: step and totalSteps count the updates of every
+     * model together, secondsLeft the plan's training time left; the other fields are the
+     * reporting model's.
+     */
+    private static TrainingProgress planProgress(TrainingProgress p, List<Trainer.Run> runs, TrainingBudget budget,
+                                                 int models) {
+        long updates = 0;
+        long nanos = 0;
+        for (Trainer.Run r : runs) {
+            updates += r.updates();
+            nanos += r.updateNanos();
+        }
+        if (budget.isDeterministic()) {
+            long total = (long) budget.updates().orElseThrow() * models;
+            double left = updates == 0 ? Double.NaN : nanos / 1e9 * (total - updates) / updates;
+            return new TrainingProgress(p.epoch(), p.epochs(), updates, total, p.loss(), p.heldOutBound(),
+                    p.rowsPerSecond(), Math.max(0.0, left));
+        }
+        long totalNanos = budget.wallClock().orElseThrow().toNanos() * models;
+        long estimated = Math.max(updates, Math.round(updates * (double) totalNanos / Math.max(1L, nanos)));
+        return new TrainingProgress(p.epoch(), p.epochs(), updates, estimated, p.loss(), p.heldOutBound(),
+                p.rowsPerSecond(), Math.max(0.0, (totalNanos - nanos) / 1e9));
+    }
+
+    private static TrainingPlan.Row evaluate(Trainer.Fitted fitted, Table held, long seed) {
+        DiffusionModel model = fitted.model();
+        int t = model.steps();
+        BoundReport bound = model.bound(held, seed);
+        double d = bound.dimensions();
+        double perDimension = bound.meanNats() / d;
+        double standardError = bound.standardErrorOfMean() / d;
+        Table samples;
+        long start = System.nanoTime();
+        try {
+            samples = model.sample(held.rows(), SamplingPlan.ancestral(), seed + t);
+        } catch (IllegalStateException e) {     // the chain left the float range (ReverseRun)
+            LOG.info("training plan: the sampling chain of T = {} diverged: {}", t, e.getMessage());
+            return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
+                    standardError, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true);
+        }
+        double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / held.rows();
+        double[][] heldModel = model.transform().toModelSpace(held);
+        double[][] sampleModel = model.transform().toModelSpace(samples);
+        EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, seed);
+        double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
+        return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
+                standardError, energy.energyDistance(), energy.pValue(), maxKs, millis, false);
     }
 
     /** n row indices spread evenly over 0..total-1, so that a table sorted by time or unit is not cut to its start. */

@@ -4,6 +4,7 @@ import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.StepSampling;
 import org.backstep.option.TrainingLoss;
+import org.backstep.option.TrainingBudget;
 import org.backstep.training.EpochRecord;
 import org.backstep.training.Provenance;
 import org.backstep.training.TrainingListener;
@@ -43,6 +44,11 @@ import java.util.function.BooleanSupplier;
  *   binary cell:              T L_{t-1}  (Bernoulli KL, or cross-entropy at t = 1)
  * </pre>
  * times 1/(T p_t) under importance sampling, averaged over the minibatch.
+ *
+ * <p>Training runs for the options' epochs, or to a {@link TrainingBudget} of updates or of
+ * wall-clock time. However it ends (the last epoch, a budget, a stop request, early stopping), the
+ * averaged weights are evaluated on the validation rows once more, and the weights with the best
+ * held-out bound so far are kept.
  */
 final class Trainer {
 
@@ -58,180 +64,359 @@ final class Trainer {
 
     static DiffusionModel fit(FitOptions options, Table table, Table validation, TrainingListener listener,
                               BooleanSupplier stop) {
-        long started = System.nanoTime();
-        List<String> notes = new ArrayList<>();
-        for (String name : options.logColumns()) {
-            if (!table.names().contains(name)) {
-                throw new IllegalArgumentException("logColumns names '" + name + "', which is not a column of the table "
-                        + table.names());
-            }
-            int c = table.indexOf(name);
-            if (table.kind(c) != ColumnKind.CONTINUOUS) {
-                throw new IllegalArgumentException("logColumns names '" + name + "', which is binary; only continuous columns take a log scale");
-            }
-        }
-        Table train = table;
-        Table held = validation;
-        if (held == null && options.validationFraction() > 0.0 && table.rows() >= 2) {
-            int[][] split = split(table.rows(), options.validationFraction(), options.seed());
-            train = table.selectRows(split[0]);
-            held = table.selectRows(split[1]);
-            notes.add("validation: " + split[1].length + " rows drawn at random (fraction "
-                    + options.validationFraction() + ", seed " + options.seed() + ")");
-        } else if (held != null) {
-            checkSameLayout(table, held);
-            notes.add("validation: " + held.rows() + " rows given by the caller");
-        }
-        Table complete = train.completeRows();
-        if (complete.rows() < train.rows()) {
-            notes.add((train.rows() - complete.rows()) + " training rows with a missing cell were left out");
-        }
-        if (complete.rows() < 2) {
-            throw new IllegalArgumentException("training has " + complete.rows()
-                    + " complete rows; expected at least 2 rows without a missing cell");
-        }
-        TableTransform transform = TableTransform.fit(complete, options.logColumns());
-        notes.addAll(transform.notes());
-        int dc = transform.modelledContinuous().length;
-        int db = transform.modelledBinary().length;
-        if (dc + db == 0) {
-            throw new IllegalArgumentException("the table has no column to diffuse: every column is constant");
-        }
-        float[] x0 = toFloat(transform.toModelSpace(complete));
-        int n = complete.rows();
-        float[] xv = null;
-        int nv = 0;
-        if (held != null) {
-            Table heldComplete = held.completeRows();
-            nv = heldComplete.rows();
-            if (nv > 0) {
-                xv = toFloat(transform.toModelSpace(heldComplete));
-            }
-        }
-        int d = dc + db;
-        int steps = options.steps();
-        int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
-        NetworkShape shape = new NetworkShape(d, options.hidden(), outputs, options.embeddingSize(),
-                options.conditioning());
-        ReverseNetwork net = ReverseNetwork.create(shape, steps, options.seed());
-        Chain chain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                options.variance(), new NetworkEstimator(net));
-
-        int batch = Math.min(options.batchSize(), n);
-        int batchesPerEpoch = n / batch;
-        int epochs = options.epochs() > 0 ? options.epochs()
-                : (int) Math.ceil((double) Defaults.TRAINING_STEPS / batchesPerEpoch);
-        int evaluateEvery = options.evaluateEvery() > 0 ? options.evaluateEvery()
-                : Math.max(1, epochs / Defaults.EVALUATIONS);
-        long totalSteps = (long) epochs * batchesPerEpoch;
-        LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, {} epochs of {} minibatches of {}",
-                n, dc, db, steps, epochs, batchesPerEpoch, batch);
-
-        AdamOptimizer adam = AdamOptimizer.create(net.parameterCount(), options.learningRate(), options.adamBeta1(),
-                options.adamBeta2(), options.adamEpsilon(), options.weightDecay());
-        WeightAverage ema = WeightAverage.of(net.parameterView(), options.emaDecay());
-        SplittableRandom rng = new SplittableRandom(options.seed());
-        StepSampler sampler = new StepSampler(steps, options.stepSampling());
-        LossTerms terms = new LossTerms(chain, options, batch);
-        INDArray xtArray = Nd4j.create(DataType.FLOAT, batch, d);
-        float[] xb = new float[batch * d];
-        float[] xt = new float[batch * d];
-        float[] eps = new float[batch * Math.max(1, dc)];
-        int[] k = new int[batch];
-        int[] src = new int[batch];
-        double[] weight = new double[batch];
-        int[] perm = identity(n);
-
-        List<EpochRecord> history = new ArrayList<>();
-        float[] bestWeights = ema.average();
-        double bestBound = Double.POSITIVE_INFINITY;
-        OptionalDouble lastBound = OptionalDouble.empty();
-        int sinceBest = 0;
-        long step = 0;
-        String stopReason = null;
-        try (ParallelStep parallel = ParallelStep.create(net, batch, options.threads())) {
-            epochLoop:
-            for (int epoch = 1; epoch <= epochs; epoch++) {
-                shuffle(perm, rng);
-                double lossSum = 0.0;
-                for (int b = 0; b < batchesPerEpoch; b++) {
-                    for (int r = 0; r < batch; r++) {
-                        System.arraycopy(x0, perm[b * batch + r] * d, xb, r * d, d);
-                        k[r] = sampler.draw(rng);
-                        src[r] = chain.source[k[r]];
-                        weight[r] = sampler.weight(k[r]);
-                    }
-                    chain.diffuse(xb, batch, k, xt, eps, rng);
-                    xtArray.data().setData(xt);
-                    terms.prepare(xb, xt, eps, k, weight);
-                    double rate = options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
-                    double loss = parallel.trainInPlace(xtArray, src, terms, adam, rate);
-                    ema.updateInPlace(net.parameterView(), Math.min(options.emaDecay(), (1.0 + step) / (10.0 + step)));
-                    sampler.record(k, terms.rowBound, batch);
-                    if (!Double.isFinite(loss)) {
-                        throw new IllegalStateException("the training loss became " + loss + " at epoch " + epoch
-                                + ", step " + (step + 1) + "; lower the learning rate (now " + options.learningRate() + ")");
-                    }
-                    lossSum += loss;
-                    step++;
-                    if (stop.getAsBoolean()) {
-                        stopReason = "stopped on request at epoch " + epoch + ", step " + step;
-                        history.add(new EpochRecord(epoch, lossSum / (b + 1), OptionalDouble.empty(), seconds(started)));
-                        break epochLoop;
-                    }
-                    if (batchesPerEpoch >= 10 && (b + 1) % (batchesPerEpoch / 10) == 0 && b + 1 < batchesPerEpoch) {
-                        listener.onProgress(progress(epoch, epochs, step, totalSteps, lossSum / (b + 1), lastBound,
-                                batch, started));
-                    }
-                }
-                double epochLoss = lossSum / batchesPerEpoch;
-                OptionalDouble bound = OptionalDouble.empty();
-                if (xv != null && (epoch % evaluateEvery == 0 || epoch == epochs)) {
-                    float[] avg = ema.average();
-                    ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
-                    Chain evalChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                            options.variance(), new NetworkEstimator(averaged));
-                    BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.validationDraws(),
-                            options.seed() + 1, options.threads());
-                    double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
-                    bound = OptionalDouble.of(mean);
-                    lastBound = bound;
-                    if (mean < bestBound) {
-                        bestBound = mean;
-                        bestWeights = avg;
-                        sinceBest = 0;
-                    } else {
-                        sinceBest++;
-                    }
-                }
-                history.add(new EpochRecord(epoch, epochLoss, bound, seconds(started)));
-                listener.onProgress(progress(epoch, epochs, step, totalSteps, epochLoss, lastBound, batch, started));
-                if (options.patience() > 0 && sinceBest >= options.patience()) {
-                    stopReason = "stopped early at epoch " + epoch + ": no better held-out bound in "
-                            + options.patience() + " evaluations";
-                    break;
-                }
-            }
-        }
-        float[] finalWeights = xv != null ? bestWeights : ema.average();
-        if (xv != null) {
-            notes.add("kept the averaged weights with the best held-out bound, " + bestBound + " nats per record");
-        }
-        if (stopReason != null) {
-            notes.add(stopReason);
-            LOG.info(stopReason);
-        }
-        ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
-        Provenance provenance = provenance(options, table, n, nv, seconds(started), history, notes);
-        return new DiffusionModel(options, transform, fitted, new NetworkEstimator(fitted), provenance);
+        return run(options, table, validation, listener, stop, null).model();
     }
 
-    private static TrainingProgress progress(int epoch, int epochs, long step, long total, double loss,
-                                             OptionalDouble bound, int batch, long started) {
-        double secs = seconds(started);
-        double rate = step * (double) batch / Math.max(secs, 1e-9);
-        double left = step == 0 ? Double.NaN : secs * (total - step) / step;
-        return new TrainingProgress(epoch, epochs, step, total, loss, bound, rate, Math.max(0.0, left));
+    /**
+     * A fitted model and what its training spent.
+     *
+     * @param model the model
+     * @param updates minibatch updates done
+     * @param epochs updates over minibatches per epoch (the last epoch may be cut short)
+     * @param updateSeconds wall time spent on updates, without the held-out evaluations during training
+     */
+    record Fitted(DiffusionModel model, long updates, double epochs, double updateSeconds) {
+    }
+
+    /**
+     * Fits, for the builder's epochs or to a budget, in one go.
+     *
+     * @param budget null to train for the options' epochs; otherwise a fixed number of updates or
+     *     a wall-clock time of updates, which replaces the epochs (see {@link TrainingBudget})
+     */
+    static Fitted run(FitOptions options, Table table, Table validation, TrainingListener listener,
+                      BooleanSupplier stop, TrainingBudget budget) {
+        try (Run run = new Run(options, table, validation, listener, stop, budget)) {
+            run.advance(Long.MAX_VALUE);
+            return run.finish();
+        }
+    }
+
+    /**
+     * One fit that can pause between updates and resume, so that several fits can share a machine
+     * in turns (the training planner interleaves its models this way, so that a busy spell or the
+     * JIT compiler's warm-up falls on every model alike). Pausing does not change the result: the
+     * updates, draws and evaluations are the same as in one go.
+     */
+    static final class Run implements AutoCloseable {
+        private final FitOptions options;
+        private final Table table;
+        private final TrainingListener listener;
+        private final BooleanSupplier stop;
+        private final long started = System.nanoTime();
+        private final List<String> notes = new ArrayList<>();
+        private final TableTransform transform;
+        private final int dc;
+        private final int db;
+        private final int d;
+        private final int steps;
+        private final float[] x0;
+        private final int n;
+        private final float[] xv;
+        private final int nv;
+        private final NetworkShape shape;
+        private final ReverseNetwork net;
+        private final Chain chain;
+        private final int batch;
+        private final int batchesPerEpoch;
+        private final long budgetUpdates;
+        private final long budgetNanos;
+        private final boolean timed;
+        private final int epochs;
+        private final int evaluateEvery;
+        private final long totalSteps;
+        private final AdamOptimizer adam;
+        private final WeightAverage ema;
+        private final SplittableRandom rng;
+        private final StepSampler sampler;
+        private final LossTerms terms;
+        private final INDArray xtArray;
+        private final float[] xb;
+        private final float[] xt;
+        private final float[] eps;
+        private final int[] k;
+        private final int[] src;
+        private final double[] weight;
+        private final int[] perm;
+        private final ParallelStep parallel;
+
+        private final List<EpochRecord> history = new ArrayList<>();
+        private float[] bestWeights;
+        private double bestBound = Double.POSITIVE_INFINITY;
+        private OptionalDouble lastBound = OptionalDouble.empty();
+        private int sinceBest;
+        private long step;
+        private String stopReason;
+        private long updateNanos;          // time spent on updates only: what a wall-clock budget counts
+        private long nextEvaluation;
+        private int epoch = 1;
+        private int b;                     // the next minibatch of the epoch
+        private double lossSum;
+        private boolean finished;
+        private boolean closed;
+
+        Run(FitOptions options, Table table, Table validation, TrainingListener listener, BooleanSupplier stop,
+            TrainingBudget budget) {
+            this.options = options;
+            this.table = table;
+            this.listener = listener;
+            this.stop = stop;
+            for (String name : options.logColumns()) {
+                if (!table.names().contains(name)) {
+                    throw new IllegalArgumentException("logColumns names '" + name + "', which is not a column of the table "
+                            + table.names());
+                }
+                int c = table.indexOf(name);
+                if (table.kind(c) != ColumnKind.CONTINUOUS) {
+                    throw new IllegalArgumentException("logColumns names '" + name + "', which is binary; only continuous columns take a log scale");
+                }
+            }
+            Table train = table;
+            Table held = validation;
+            if (held == null && options.validationFraction() > 0.0 && table.rows() >= 2) {
+                int[][] split = split(table.rows(), options.validationFraction(), options.seed());
+                train = table.selectRows(split[0]);
+                held = table.selectRows(split[1]);
+                notes.add("validation: " + split[1].length + " rows drawn at random (fraction "
+                        + options.validationFraction() + ", seed " + options.seed() + ")");
+            } else if (held != null) {
+                checkSameLayout(table, held);
+                notes.add("validation: " + held.rows() + " rows given by the caller");
+            }
+            Table complete = train.completeRows();
+            if (complete.rows() < train.rows()) {
+                notes.add((train.rows() - complete.rows()) + " training rows with a missing cell were left out");
+            }
+            if (complete.rows() < 2) {
+                throw new IllegalArgumentException("training has " + complete.rows()
+                        + " complete rows; expected at least 2 rows without a missing cell");
+            }
+            transform = TableTransform.fit(complete, options.logColumns());
+            notes.addAll(transform.notes());
+            dc = transform.modelledContinuous().length;
+            db = transform.modelledBinary().length;
+            if (dc + db == 0) {
+                throw new IllegalArgumentException("the table has no column to diffuse: every column is constant");
+            }
+            x0 = toFloat(transform.toModelSpace(complete));
+            n = complete.rows();
+            float[] heldRows = null;
+            int heldCount = 0;
+            if (held != null) {
+                Table heldComplete = held.completeRows();
+                heldCount = heldComplete.rows();
+                if (heldCount > 0) {
+                    heldRows = toFloat(transform.toModelSpace(heldComplete));
+                }
+            }
+            xv = heldRows;
+            nv = heldCount;
+            d = dc + db;
+            steps = options.steps();
+            int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
+            shape = new NetworkShape(d, options.hidden(), outputs, options.embeddingSize(), options.conditioning());
+            net = ReverseNetwork.create(shape, steps, options.seed());
+            chain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
+                    options.variance(), new NetworkEstimator(net));
+
+            batch = Math.min(options.batchSize(), n);
+            batchesPerEpoch = n / batch;
+            budgetUpdates = budget == null ? 0 : budget.updates().orElse(0);
+            budgetNanos = budget == null ? 0 : budget.wallClock().map(java.time.Duration::toNanos).orElse(0L);
+            timed = budgetNanos > 0;
+            if (budgetUpdates > 0) {
+                epochs = (int) Math.min(Integer.MAX_VALUE, (budgetUpdates + batchesPerEpoch - 1) / batchesPerEpoch);
+            } else if (timed) {
+                epochs = Integer.MAX_VALUE;      // until the time is spent
+            } else {
+                epochs = options.epochs() > 0 ? options.epochs()
+                        : (int) Math.ceil((double) Defaults.TRAINING_STEPS / batchesPerEpoch);
+            }
+            // held-out evaluations: every evaluateEvery epochs, or (timed, by default) every 1/EVALUATIONS of the time
+            evaluateEvery = options.evaluateEvery() > 0 ? options.evaluateEvery()
+                    : timed ? 0 : Math.max(1, epochs / Defaults.EVALUATIONS);
+            totalSteps = budgetUpdates > 0 ? budgetUpdates : timed ? 0 : (long) epochs * batchesPerEpoch;
+            nextEvaluation = timed ? budgetNanos / Defaults.EVALUATIONS : 0;
+            if (timed) {
+                LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, for {} in minibatches of {}",
+                        n, dc, db, steps, budget, batch);
+            } else {
+                LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, {} epochs of {} minibatches of {}"
+                        + " ({} updates)", n, dc, db, steps, epochs, batchesPerEpoch, batch, totalSteps);
+            }
+
+            adam = AdamOptimizer.create(net.parameterCount(), options.learningRate(), options.adamBeta1(),
+                    options.adamBeta2(), options.adamEpsilon(), options.weightDecay());
+            ema = WeightAverage.of(net.parameterView(), options.emaDecay());
+            rng = new SplittableRandom(options.seed());
+            sampler = new StepSampler(steps, options.stepSampling());
+            terms = new LossTerms(chain, options, batch);
+            xtArray = Nd4j.create(DataType.FLOAT, batch, d);
+            xb = new float[batch * d];
+            xt = new float[batch * d];
+            eps = new float[batch * Math.max(1, dc)];
+            k = new int[batch];
+            src = new int[batch];
+            weight = new double[batch];
+            perm = identity(n);
+            parallel = ParallelStep.create(net, batch, options.threads());
+        }
+
+        /** @return true once training has ended (its last epoch, a budget, a stop request, early stopping) */
+        boolean finished() {
+            return finished;
+        }
+
+        /** @return updates done so far */
+        long updates() {
+            return step;
+        }
+
+        /** @return nanoseconds spent on updates so far */
+        long updateNanos() {
+            return updateNanos;
+        }
+
+        /**
+         * Trains until training ends or until the pause point: for a wall-clock budget, once the
+         * time spent on updates reaches {@code until} nanoseconds; otherwise once the updates done
+         * reach {@code until}. A pause falls between two updates, never inside an epoch's
+         * bookkeeping.
+         *
+         * @param until the pause point, in the budget's unit (Long.MAX_VALUE: train to the end)
+         */
+        void advance(long until) {
+            while (!finished && (timed ? updateNanos : step) < until) {
+                long t0 = System.nanoTime();
+                if (b == 0) {
+                    shuffle(perm, rng);
+                    lossSum = 0.0;
+                }
+                for (int r = 0; r < batch; r++) {
+                    System.arraycopy(x0, perm[b * batch + r] * d, xb, r * d, d);
+                    k[r] = sampler.draw(rng);
+                    src[r] = chain.source[k[r]];
+                    weight[r] = sampler.weight(k[r]);
+                }
+                chain.diffuse(xb, batch, k, xt, eps, rng);
+                xtArray.data().setData(xt);
+                terms.prepare(xb, xt, eps, k, weight);
+                double rate = timed
+                        ? options.learningRateSchedule().rate(options.learningRate(), updateNanos, budgetNanos)
+                        : options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
+                double loss = parallel.trainInPlace(xtArray, src, terms, adam, rate);
+                ema.updateInPlace(net.parameterView(), Math.min(options.emaDecay(), (1.0 + step) / (10.0 + step)));
+                sampler.record(k, terms.rowBound, batch);
+                if (!Double.isFinite(loss)) {
+                    throw new IllegalStateException("the training loss became " + loss + " at epoch " + epoch
+                            + ", step " + (step + 1) + "; lower the learning rate (now " + options.learningRate() + ")");
+                }
+                lossSum += loss;
+                step++;
+                b++;
+                updateNanos += System.nanoTime() - t0;
+                if (stop.getAsBoolean()) {
+                    stopReason = "stopped on request at epoch " + epoch + ", step " + step;
+                } else if (budgetUpdates > 0 && step >= budgetUpdates) {
+                    stopReason = "trained to the budget of " + budgetUpdates + " updates";
+                } else if (timed && updateNanos >= budgetNanos) {
+                    stopReason = String.format(java.util.Locale.ROOT,
+                            "spent the wall-clock budget of %.1f s: %d updates in %.1f s", budgetNanos / 1e9, step,
+                            updateNanos / 1e9);
+                }
+                if (stopReason != null || b == batchesPerEpoch) {
+                    endEpoch();
+                } else if (batchesPerEpoch >= 10 && b % (batchesPerEpoch / 10) == 0) {
+                    listener.onProgress(progress(lossSum / b));
+                }
+            }
+        }
+
+        /** The bookkeeping at the end of an epoch, or of a cut epoch when training ends inside one. */
+        private void endEpoch() {
+            boolean last = stopReason != null || epoch == epochs;
+            double epochLoss = lossSum / b;
+            OptionalDouble bound = OptionalDouble.empty();
+            boolean due = evaluateEvery > 0 ? epoch % evaluateEvery == 0 : updateNanos >= nextEvaluation;
+            if (xv != null && (due || last)) {
+                float[] avg = ema.average();
+                ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
+                Chain evalChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
+                        options.variance(), new NetworkEstimator(averaged));
+                BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.validationDraws(),
+                        options.seed() + 1, options.threads());
+                double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
+                bound = OptionalDouble.of(mean);
+                lastBound = bound;
+                if (bestWeights == null || mean < bestBound || Double.isNaN(bestBound)) {
+                    bestBound = mean;
+                    bestWeights = avg;
+                    sinceBest = 0;
+                } else {
+                    sinceBest++;
+                }
+                while (timed && nextEvaluation <= updateNanos) {
+                    nextEvaluation += Math.max(1, budgetNanos / Defaults.EVALUATIONS);
+                }
+            }
+            history.add(new EpochRecord(epoch, epochLoss, bound, seconds(started)));
+            listener.onProgress(progress(epochLoss));
+            if (!last && options.patience() > 0 && sinceBest >= options.patience()) {
+                stopReason = "stopped early at epoch " + epoch + ": no better held-out bound in "
+                        + options.patience() + " evaluations";
+                last = true;
+            }
+            finished = last;
+            epoch++;
+            b = 0;
+        }
+
+        private TrainingProgress progress(double loss) {
+            double secs = seconds(started);
+            double rate = step * (double) batch / Math.max(secs, 1e-9);
+            if (timed) {
+                // planned totals are unknown: estimated from the pace so far
+                long estimated = Math.max(step, Math.round(step * (double) budgetNanos / Math.max(1L, updateNanos)));
+                int estimatedEpochs = (int) Math.min(Integer.MAX_VALUE, Math.max(epoch,
+                        (estimated + batchesPerEpoch - 1) / batchesPerEpoch));
+                return new TrainingProgress(epoch, estimatedEpochs, step, estimated, loss, lastBound, rate,
+                        Math.max(0.0, (budgetNanos - updateNanos) / 1e9));
+            }
+            double left = step == 0 ? Double.NaN : secs * (totalSteps - step) / step;
+            return new TrainingProgress(epoch, epochs, step, totalSteps, loss, lastBound, rate, Math.max(0.0, left));
+        }
+
+        /**
+         * The fitted model: the averaged weights with the best held-out bound, or the final average
+         * when there are no validation rows. Closes the run.
+         */
+        Fitted finish() {
+            if (!finished) {
+                throw new IllegalStateException("the run has not finished; advance it first");
+            }
+            close();
+            float[] finalWeights = bestWeights != null ? bestWeights : ema.average();
+            if (bestWeights != null) {
+                notes.add("kept the averaged weights with the best held-out bound, " + bestBound + " nats per record");
+            }
+            if (stopReason != null) {
+                notes.add(stopReason);
+                LOG.info(stopReason);
+            }
+            ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
+            Provenance provenance = provenance(options, table, n, nv, seconds(started), history, notes);
+            DiffusionModel model = new DiffusionModel(options, transform, fitted, new NetworkEstimator(fitted), provenance);
+            return new Fitted(model, step, step / (double) batchesPerEpoch, updateNanos / 1e9);
+        }
+
+        /** Releases the worker threads; idempotent. */
+        @Override
+        public void close() {
+            if (!closed) {
+                closed = true;
+                parallel.close();
+            }
+        }
     }
 
     static double seconds(long started) {

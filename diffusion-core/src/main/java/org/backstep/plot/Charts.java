@@ -3,6 +3,7 @@ package org.backstep.plot;
 import org.backstep.report.BoundReport;
 import org.backstep.training.EpochRecord;
 import org.backstep.report.StepPlan;
+import org.backstep.report.TrainingPlan;
 import org.backstep.io.AtomicFiles;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;
@@ -270,6 +271,53 @@ public final class Charts {
                 new double[] {pick.boundNatsPerDimension()});
         mark.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
         mark.setMarker(SeriesMarkers.DIAMOND);
+        return c;
+    }
+
+    /**
+     * The training planner's quality (held-out bound per dimension, with bars of one standard
+     * error) against cost (ms per 1,000 samples at each model's T): one legend entry per T with
+     * its bound, the recommended T drawn as a diamond. Models whose sampling chain diverged have no
+     * cost and are named in the title instead.
+     *
+     * @param plan the planner's findings
+     * @return the chart
+     * @throws IllegalArgumentException if every model's sampling chain diverged (nothing to place)
+     */
+    public static XYChart trainingPlan(TrainingPlan plan) {
+        Require.notNull("plan", plan);
+        List<TrainingPlan.Row> drawn = plan.rows().stream().filter(r -> !r.samplesDiverged()).toList();
+        if (drawn.isEmpty()) {
+            throw new IllegalArgumentException("plan has no model whose samples stayed finite; there is no cost to plot");
+        }
+        String left = plan.rows().stream().filter(TrainingPlan.Row::samplesDiverged)
+                .map(r -> Integer.toString(r.steps())).collect(java.util.stream.Collectors.joining(", "));
+        XYChart c = chart("Diffusion steps T, each trained on " + plan.budget() + (left.isEmpty() ? "" : " (diverged: T = " + left + ")"),
+                "milliseconds per 1,000 samples at the model's T", "held-out bound, nats per dimension");
+        double[] x = drawn.stream().mapToDouble(TrainingPlan.Row::millisPer1000).toArray();
+        double[] y = drawn.stream().mapToDouble(TrainingPlan.Row::boundNatsPerDimension).toArray();
+        double[] se = drawn.stream().mapToDouble(TrainingPlan.Row::boundStandardError).toArray();
+        double xMin = java.util.Arrays.stream(x).min().orElseThrow();
+        double xMax = java.util.Arrays.stream(x).max().orElseThrow();
+        boolean logarithmic = xMin > 0 && xMax / xMin > 20;   // a linear axis keeps its tick labels over a short range
+        c.getStyler().setXAxisLogarithmic(logarithmic);
+        c.getStyler().setErrorBarsColorSeriesColor(true);
+        c.getStyler().setMarkerSize(9);
+        XYSeries line = c.addSeries("models in increasing T", x, y);
+        line.setMarker(SeriesMarkers.NONE).setLineColor(new Color(0xA0AEC0));
+        TrainingPlan.Row pick = plan.recommendedRow();
+        int i = 0;
+        for (TrainingPlan.Row r : drawn) {
+            String label = String.format(Locale.ROOT, "T = %d: %.3f +/- %.3f%s", r.steps(), r.boundNatsPerDimension(),
+                    r.boundStandardError(), r == pick ? ", recommended" : "");
+            XYSeries point = c.addSeries(label, new double[] {r.millisPer1000()}, new double[] {r.boundNatsPerDimension()},
+                    new double[] {r.boundStandardError()});
+            point.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
+            point.setMarker(r == pick ? SeriesMarkers.DIAMOND : SeriesMarkers.CIRCLE);
+            Color colour = PALETTE[i++ % PALETTE.length];
+            point.setMarkerColor(colour);
+            point.setLineColor(colour);     // the error bar takes the series' line colour
+        }
         return c;
     }
 

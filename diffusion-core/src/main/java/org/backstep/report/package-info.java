@@ -1,5 +1,5 @@
 /**
- * What the jobs on a fitted model return: bounds per record, anomaly screens, imputations,
- * denoised readings and step-count plans, as immutable values.
+ * What the jobs return: bounds per record, anomaly screens, imputations,
+ * denoised readings, and the step-count plans for sampling and for training, as immutable values.
  */
 package org.backstep.report;

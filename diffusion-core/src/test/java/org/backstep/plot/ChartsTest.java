@@ -4,6 +4,8 @@ import org.backstep.report.BoundReport;
 import org.backstep.BoundReports;
 import org.backstep.training.EpochRecord;
 import org.backstep.report.StepPlan;
+import org.backstep.report.TrainingPlan;
+import org.backstep.option.TrainingBudget;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
@@ -84,6 +86,7 @@ class ChartsTest {
                 new StepPlan.Row(10, 1.40, 0.03, 0.01, 0.09, 12.0),
                 new StepPlan.Row(50, 1.31, 0.01, 0.30, 0.05, 55.0),
                 new StepPlan.Row(100, 1.30, 0.01, 0.40, 0.04, 110.0)), 0.02, 50, "50 steps: within 0.02 of the best")));
+        c.put("trainingPlan", () -> Charts.trainingPlan(trainingPlan(false)));
         return c.entrySet().stream().map(e -> new Object[] {e.getKey(), e.getValue()});
     }
 
@@ -170,6 +173,26 @@ class ChartsTest {
         BoundReport mc = BoundReports.monteCarlo(100, 8, new double[] {1.0, 2.0});
         // BoundReport's Javadoc: a Monte Carlo estimate has no per-step terms
         assertThrows(IllegalArgumentException.class, () -> Charts.boundBreakdown(mc));
+    }
+
+    @Test
+    void trainingPlanNeedsAFiniteModel() {
+        // Charts.trainingPlan's Javadoc: a model whose samples diverged has no cost to place
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> Charts.trainingPlan(trainingPlan(true)));
+        assertTrue(e.getMessage().contains("plan"), e.getMessage());
+    }
+
+    /** Four models, T = 10 diverged; or every model diverged. */
+    private static TrainingPlan trainingPlan(boolean allDiverged) {
+        double nan = Double.NaN;
+        List<TrainingPlan.Row> rows = allDiverged
+                ? List.of(new TrainingPlan.Row(10, 500, 10, 2, 1.6, 0.03, nan, nan, nan, nan, true),
+                        new TrainingPlan.Row(50, 500, 10, 2, 1.4, 0.03, nan, nan, nan, nan, true))
+                : List.of(new TrainingPlan.Row(10, 500, 10, 2, 1.6, 0.03, nan, nan, nan, nan, true),
+                        new TrainingPlan.Row(25, 500, 10, 2, 1.45, 0.03, 0.02, 0.05, 0.08, 30.0, false),
+                        new TrainingPlan.Row(50, 500, 10, 2, 1.31, 0.02, 0.01, 0.30, 0.05, 55.0, false),
+                        new TrainingPlan.Row(100, 500, 10, 2, 1.30, 0.02, 0.01, 0.40, 0.04, 110.0, false));
+        return new TrainingPlan(TrainingBudget.updates(500), 0.02, rows);
     }
 
     private static BoundReport exactReport() {
