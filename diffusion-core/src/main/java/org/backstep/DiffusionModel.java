@@ -53,6 +53,8 @@ public final class DiffusionModel {
      * {@link #impute(Table, int, double, int, int, long)} chooses rounds.
      */
     public static final int IMPUTATION_ROUNDS = 1;
+    /** How imputation holds the chain to the observed cells: to be chosen by measurement. */
+    public static final Conditioning IMPUTATION_CONDITIONING = Conditioning.REPLACEMENT;
     /** Steps of the chain used by {@link #denoise(Table, double[], int, long)} below the starting step, at most. */
     public static final int DENOISING_STEPS = 100;
 
@@ -313,10 +315,33 @@ public final class DiffusionModel {
      * @return the k completions, the per-cell mean and the interval
      */
     public Imputation impute(Table records, int draws, double level, int chainSteps, int rounds, long seed) {
+        return impute(records, draws, level, chainSteps, rounds, IMPUTATION_CONDITIONING, seed);
+    }
+
+    /**
+     * {@link #impute(Table, int, double, int, int, long)} with the method that holds the chain to
+     * the observed cells chosen (see {@link Conditioning} for each method's formula and source).
+     *
+     * <p>Caution: imputed values are not measurements.
+     *
+     * @param records records with the training columns; NaN marks a missing cell
+     * @param draws k, at least 1
+     * @param level the central interval's coverage, in (0, 1)
+     * @param chainSteps steps of the strided chain, 1..T
+     * @param rounds resampling rounds per step, at least 1 (1 is no resampling)
+     * @param conditioning the method, not null
+     * @param seed the seed
+     * @return the k completions, the per-cell mean and the interval
+     * @throws IllegalArgumentException naming the first argument that is out of range or null
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Imputation impute(Table records, int draws, double level, int chainSteps, int rounds,
+                             Conditioning conditioning, long seed) {
         Require.atLeast("draws", draws, 1);
         Require.inOpen("level", level, 0.0, 1.0);
         Require.inRange("chainSteps", chainSteps, 1, steps());
         Require.atLeast("rounds", rounds, 1);
+        Require.notNull("conditioning", conditioning);
         checkColumns(records);
         int rows = records.rows();
         int[] todo = java.util.stream.IntStream.range(0, rows).filter(i -> {
@@ -342,7 +367,7 @@ public final class DiffusionModel {
                 float[] x = new float[m * c.d];
                 c.drawPrior(x, m, rng);
                 ReverseRun.replaceKnown(c, x, kn, m, c.steps, rng);
-                ReverseRun.run(c, x, m, c.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, rng);
+                ReverseRun.run(c, x, m, c.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, conditioning, rng);
                 System.arraycopy(x, 0, all, from * c.d, m * c.d);
             });
             double[][] completed = records.toArray();

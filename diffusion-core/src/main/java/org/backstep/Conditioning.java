@@ -1,0 +1,47 @@
+package org.backstep;
+
+/**
+ * How imputation holds the reverse chain to a record's observed cells, so that its missing cells
+ * are drawn from the model's conditional distribution given the observed ones. Both methods start
+ * the observed cells at step K from q(x_K | x_0 = y), y the observed value in model space, run the
+ * ancestral reverse chain (Ho et al. 2020, algorithm 2) down to x_0, and return the observed cells
+ * as y. With r resampling rounds each step k to k-1 is redone r - 1 more times after diffusing the
+ * whole row one step back up, x_k ~ q(x_k | x_{k-1}) (Lugmayr et al. 2022, algorithm 1).
+ *
+ * <p>The measurement that chose the default is in the Javadoc of
+ * {@link DiffusionModel#IMPUTATION_CONDITIONING}.
+ */
+public enum Conditioning {
+    /**
+     * Replacement: after each reverse step k to k-1, drawn for every cell from p(x_{k-1} | x_k),
+     * the observed cells are overwritten by a fresh draw of the forward marginal of their value,
+     * x_{k-1} ~ q(x_{k-1} | x_0 = y) = N(sqrt(alpha-bar_{k-1}) y, 1 - alpha-bar_{k-1}) for a
+     * continuous cell and the binomial marginal
+     * q(x_{k-1} = 1 | x_0 = y) = gamma_{k-1} y + (1 - gamma_{k-1})/2 for a binary one
+     * (Ho et al. 2020, eq. 4; Sohl-Dickstein et al. 2015, appendix on binomial diffusion), the
+     * observed value itself at k - 1 = 0 (Lugmayr et al. 2022, algorithm 1, lines 4-6). The draw is
+     * independent of the chain's state, so the missing cells feel the observed ones only through
+     * the estimator at the next step.
+     */
+    REPLACEMENT,
+    /**
+     * The perturbed reverse kernel: each reverse kernel is multiplied by a second distribution r
+     * on the observed cells and renormalized, p~(x_{k-1} | x_k) proportional to
+     * p(x_{k-1} | x_k) r_{k-1}(x_{k-1}) (Sohl-Dickstein et al. 2015, section 2.5.2), with r_{k-1}
+     * the forward marginal of the observed value, r_{k-1} = q(x_{k-1} | x_0 = y), a point mass at y
+     * for k - 1 = 0. The kernels factor over cells, so only the observed cells' kernels change:
+     * <ul>
+     *   <li>continuous, kernel N(mu, sigma^2), r = N(m, v) with m = sqrt(alpha-bar_{k-1}) y and
+     *       v = 1 - alpha-bar_{k-1}: the product of two Gaussians,
+     *       N(mu + w (m - mu), w v) with w = sigma^2 / (sigma^2 + v), that is precision
+     *       1/sigma^2 + 1/v and the precision-weighted mean;</li>
+     *   <li>binary, kernel P(x_{k-1} = 1) = p, r(1) = q(x_{k-1} = 1 | x_0 = y) = rho: the
+     *       normalized product p rho / (p rho + (1 - p)(1 - rho)), computed as the sum of the
+     *       two log-odds.</li>
+     * </ul>
+     * Missing cells keep their kernel and feel the observed cells through the estimator at the
+     * next step. The observed cells follow a path drawn toward their forward marginal, not a
+     * fresh draw at each step.
+     */
+    KERNEL_PRODUCT
+}
