@@ -55,11 +55,14 @@ final class ImputationCases {
      *     sample variance of record i's k draws and v_i its exact variance (E[e_i^2] = bias_i^2 +
      *     Var_i / k for a mean of k draws): a systematic error that the signed average can hide,
      *     as errors of opposite sign in different records cancel there
+     * @param slope the least-squares slope of the records' imputed means on their exact means: 1 when
+     *     the imputation follows the observed cells fully, below 1 when it leans toward the
+     *     unconditional mean
      * @param varianceRatio the draws' squared deviations from the exact mean, pooled over records and
      *     draws, over the exact variance (1 when spread and centre are both right)
      * @param coverage the share of records whose held-out true value lies in the imputed interval
      */
-    record Continuous(double meanError, double rmsMeanError, double varianceRatio, double coverage) {
+    record Continuous(double meanError, double rmsMeanError, double slope, double varianceRatio, double coverage) {
     }
 
     /**
@@ -156,8 +159,16 @@ final class ImputationCases {
         double sq = 0.0;
         double var = 0.0;
         int covered = 0;
+        double sx = 0.0;
+        double sy = 0.0;
+        double sxx = 0.0;
+        double sxy = 0.0;
         for (int i = 0; i < n; i++) {
             double v = c.exactVariance()[i];
+            sx += c.exactMean()[i];
+            sy += imp.mean().get(i, column);
+            sxx += c.exactMean()[i] * c.exactMean()[i];
+            sxy += c.exactMean()[i] * imp.mean().get(i, column);
             double m = imp.mean().get(i, column);
             double e = (m - c.exactMean()[i]) / Math.sqrt(v);
             meanErr += e;
@@ -176,7 +187,9 @@ final class ImputationCases {
                 covered++;
             }
         }
-        return new Continuous(meanErr / n, Math.sqrt(Math.max(0.0, (meanSq - noise) / n)), sq / var, covered / (double) n);
+        double slope = (sxy - sx * sy / n) / (sxx - sx * sx / n);
+        return new Continuous(meanErr / n, Math.sqrt(Math.max(0.0, (meanSq - noise) / n)), slope, sq / var,
+                covered / (double) n);
     }
 
     /**

@@ -60,17 +60,19 @@ class ImputationMethodsMeasurement {
                 "#       for b|x, of (share of draws that are 1 - exact P(1)), in probability.",
                 "# rms : root mean square over records of the same error, less the part the draws' own noise",
                 "#       explains: a systematic error that cancels in the average (e.g. a wrong slope) shows here.",
+                "# slope: least-squares slope of the records' imputed means on their exact means (1 when the",
+                "#       imputation follows the observed cells fully, below 1 when it leans to the unconditional mean).",
                 "# var : the draws' squared deviations from the exact mean, pooled, over the exact variance",
                 "#       (issue target 0.8-1.2).",
                 "# cov : share of held-out true values inside the 90% interval (issue target 0.85-0.95).",
                 "# evals: estimator evaluations per record and draw (steps x rounds), the cost; seconds: wall",
                 "#       time of the three cases on this machine (2 threads, shared; indicative only).",
                 "#",
-                String.format(Locale.ROOT, "%-14s %5s %6s %5s | %-26s | %-26s | %-13s | %7s",
+                String.format(Locale.ROOT, "%-14s %5s %6s %5s | %-32s | %-32s | %-13s | %7s",
                         "", "", "", "", "gauss x2|x1", "mixed x|b", "mixed b|x", ""),
-                String.format(Locale.ROOT, "%-14s %5s %6s %5s | %6s %5s %5s %5s  | %6s %5s %5s %5s  | %6s %5s  | %7s",
-                        "method", "steps", "rounds", "evals", "err", "rms", "var", "cov", "err", "rms", "var", "cov",
-                        "err", "rms", "seconds")));
+                String.format(Locale.ROOT, "%-14s %5s %6s %5s | %6s %5s %5s %5s %5s  | %6s %5s %5s %5s %5s  | %6s %5s  | %7s",
+                        "method", "steps", "rounds", "evals", "err", "rms", "slope", "var", "cov", "err", "rms", "slope",
+                        "var", "cov", "err", "rms", "seconds")));
         for (Conditioning method : Conditioning.values()) {
             for (int[] st : SETTINGS) {
                 int steps = st[0];
@@ -84,10 +86,10 @@ class ImputationMethodsMeasurement {
                 ImputationCases.Continuous fx = ImputationCases.continuous(ix, xGivenB);
                 ImputationCases.Binary fb = ImputationCases.binary(ib, bGivenX);
                 lines.add(String.format(Locale.ROOT,
-                        "%-14s %5d %6d %5d | %+6.3f %5.3f %5.3f %5.3f  | %+6.3f %5.3f %5.3f %5.3f  | %+6.3f %5.3f  | %7.1f",
-                        method, steps, rounds, steps * rounds, fg.meanError(), fg.rmsMeanError(), fg.varianceRatio(),
-                        fg.coverage(), fx.meanError(), fx.rmsMeanError(), fx.varianceRatio(), fx.coverage(),
-                        fb.meanError(), fb.rmsError(), seconds));
+                        "%-14s %5d %6d %5d | %+6.3f %5.3f %5.3f %5.3f %5.3f  | %+6.3f %5.3f %5.3f %5.3f %5.3f  | %+6.3f %5.3f  | %7.1f",
+                        method, steps, rounds, steps * rounds, fg.meanError(), fg.rmsMeanError(), fg.slope(),
+                        fg.varianceRatio(), fg.coverage(), fx.meanError(), fx.rmsMeanError(), fx.slope(),
+                        fx.varianceRatio(), fx.coverage(), fb.meanError(), fb.rmsError(), seconds));
             }
         }
         Path file = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
