@@ -19,9 +19,16 @@ public enum Conditioning {
      * continuous cell and the binomial marginal
      * q(x_{k-1} = 1 | x_0 = y) = gamma_{k-1} y + (1 - gamma_{k-1})/2 for a binary one
      * (Ho et al. 2020, eq. 4; Sohl-Dickstein et al. 2015, appendix on binomial diffusion), the
-     * observed value itself at k - 1 = 0 (Lugmayr et al. 2022, algorithm 1, lines 4-6). The draw is
+     * observed value itself at k - 1 = 0 (Lugmayr et al. 2022, algorithm 1). The draw is
      * independent of the chain's state, so the missing cells feel the observed ones only through
-     * the estimator at the next step.
+     * the estimator at the next step. The default ({@link DiffusionModel#IMPUTATION_CONDITIONING}).
+     *
+     * <p>Measured on 2-D Gaussian data without resampling: mean, variance (ratio 1.08) and
+     * coverage within the imputation targets, but the imputed means follow the observed cell with
+     * too small a slope (0.77 of the exact one; an error of 0.17 conditional sd per record that
+     * cancels in the average), which 3 resampling rounds mostly remove (0.93; 0.045 sd). Given an
+     * observed binary cell, a continuous cell's imputed means moved only 0.49 of the way from the
+     * overall mean to the exact conditional one (variance ratio 1.33).
      */
     REPLACEMENT,
     /**
