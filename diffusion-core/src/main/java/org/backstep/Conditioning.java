@@ -48,7 +48,20 @@ public enum Conditioning {
      * </ul>
      * Missing cells keep their kernel and feel the observed cells through the estimator at the
      * next step. The observed cells follow a path drawn toward their forward marginal, not a
-     * fresh draw at each step.
+     * fresh draw at each step. Ancestral sampler only (the implicit sampler has no reverse kernel
+     * to multiply).
+     *
+     * <p>Measured: at the same cost its draws were further from the exact conditional than
+     * replacement's in every case (on 2-D Gaussian data without resampling, variance ratio 1.19
+     * against 1.08 and slope of the imputed on the exact means 0.61 against 0.77; see
+     * {@link DiffusionModel#IMPUTATION_CONDITIONING}). A likely cause is the choice of r: perturbed
+     * kernels aim at the marginals p~(x_t) proportional to p(x_t) r(x_t) (section 2.5.1), so the
+     * observed cells' marginal becomes p(x_{k-1}) q(x_{k-1} | x_0 = y) rather than
+     * q(x_{k-1} | x_0 = y) (for standard normal data, centred at sqrt(alpha-bar) y / (2 - alpha-bar)
+     * instead of sqrt(alpha-bar) y): the pull toward y is too weak while the noise is large, and
+     * the missing cells learn of the observed ones late. The r that would aim at
+     * q(x_{k-1} | x_0 = y) is that divided by the model's own marginal p(x_{k-1}), which a trained
+     * network does not give.
      */
     KERNEL_PRODUCT
 }
