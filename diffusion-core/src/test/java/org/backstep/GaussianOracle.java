@@ -89,7 +89,9 @@ final class GaussianOracle implements Estimator {
     @Override
     public void predict(INDArray xt, int[] steps, INDArray out) {
         int rows = (int) xt.rows();
-        float[] x = xt.dup('c').data().asFloat();
+        float[] x = new float[rows * d];
+        INDArray in = xt.ordering() == 'c' && !xt.isView() ? xt : xt.dup('c');
+        in.data().asNioFloat().get(0, x, 0, x.length);   // a bulk copy (asFloat() copies element by element)
         float[] o = new float[rows * 2 * d];
         for (int r = 0; r < rows; r++) {
             int t = steps[r];
@@ -102,7 +104,11 @@ final class GaussianOracle implements Estimator {
                 o[r * 2 * d + d + i] = (float) v[t][i];
             }
         }
-        out.assign(org.nd4j.linalg.factory.Nd4j.create(o, new long[] {rows, 2L * d}, 'c'));
+        if (out.ordering() == 'c' && !out.isView()) {
+            out.data().asNioFloat().put(0, o, 0, o.length);
+        } else {
+            out.assign(org.nd4j.linalg.factory.Nd4j.create(o, new long[] {rows, 2L * d}, 'c'));
+        }
     }
 
     /** A model whose columns are used in their own units (no standardization): model space = data space. */
