@@ -61,6 +61,12 @@ final class StepPlanner {
         Table held = heldOut.rows() > QUALITY_ROWS ? heldOut.selectRows(evenlySpaced(QUALITY_ROWS, heldOut.rows())) : heldOut;
         double[][] heldModel = model.transform().toModelSpace(held);
         List<StepPlan.Row> rows = new ArrayList<>();
+        // untimed: without it the first (smallest) step count's timing pays for compiling the sampler
+        try {
+            model.sample(Math.min(held.rows(), Parallel.CHUNK_ROWS), SamplingPlan.ancestral(ks[0]), seed);
+        } catch (IllegalStateException e) {
+            LOG.debug("warm-up sampling diverged: {}", e.getMessage());
+        }
         for (int k : ks) {
             BoundReport bound = model.bound(held, k, seed);
             long start = System.nanoTime();
