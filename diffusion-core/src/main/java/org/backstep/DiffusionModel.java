@@ -66,7 +66,10 @@ public final class DiffusionModel {
      * strongly tied air temperatures (90% intervals covered 54% of hidden truths, against 82% with
      * plain replacement). Plain replacement is the robust default; its cost on the exact-kernel
      * model is imputed means that follow the observed cells with a slope 0.77 of the exact one,
-     * 0.93 with 3 rounds (imputation-methods.txt, see {@link #IMPUTATION_CONDITIONING});
+     * 0.93 with 3 rounds (imputation-methods.txt, see {@link #IMPUTATION_CONDITIONING}). Checked
+     * again on the demo's trained model (600 hidden cells, 20 draws, 100 steps): 1, 3 and 5 rounds
+     * gave errors of 0.446, 0.362 and 0.353 column sd and 90% coverage of 80%, 57% and 50% (a
+     * perfect model's 20-draw intervals cover about 81%, {@link Imputation#expectedCoverage()});
      * {@link #impute(Table, int, double, int, int, long)} chooses rounds.
      */
     public static final int IMPUTATION_ROUNDS = 1;

@@ -8,6 +8,18 @@ import java.util.List;
  * Completions of records with missing cells, drawn from the model's conditional distribution of the
  * missing cells given the observed ones. Observed cells are returned unchanged in every table.
  *
+ * <p>The interval runs between the empirical quantiles (1 - level)/2 and (1 + level)/2 of the k
+ * draws (Hyndman &amp; Fan 1996, type 7). Even when the draws come from the exact conditional
+ * distribution, such an interval covers a new value with probability about
+ * {@code level (k - 1) / (k + 1)}, not {@code level} (exactly when both ends fall on draws, as
+ * with k = 21 or 101 at level 0.9; between them the interpolation adds a little, 0.616 against
+ * 0.600 at k = 5 in a simulation): a new exchangeable value falls between the
+ * order statistics X_(i) and X_(j) of k draws with probability (j - i) / (k + 1) (a standard result
+ * on distribution-free tolerance intervals, value from memory), and type 7 puts the ends at
+ * i = 1 + (k - 1)(1 - level)/2 and j = 1 + (k - 1)(1 + level)/2. With k = 20 and level 0.9 that
+ * is 81%; with k = 100, 88%. Ask for more draws for intervals that keep their nominal level;
+ * {@link #expectedCoverage()} gives the figure.
+ *
  * <p>Caution: imputed values are not measurements; they are draws from a model of the training
  * data and carry its blind spots.
  *
@@ -22,5 +34,17 @@ public record Imputation(List<Table> draws, Table mean, Table lower, Table upper
     /** Copies the list. */
     public Imputation {
         draws = List.copyOf(draws);
+    }
+
+    /**
+     * The probability that the interval covers a new value drawn from the same distribution as the
+     * draws, about {@code level (k - 1) / (k + 1)} with k draws (see the class comment): what a perfect
+     * model's intervals would cover.
+     *
+     * @return the expected coverage of the intervals, below {@link #level()}
+     */
+    public double expectedCoverage() {
+        int k = draws.size();
+        return level * (k - 1) / (k + 1);
     }
 }

@@ -340,9 +340,11 @@ public final class MainJob {
         o.put("rmseInColumnSd", rmse);
         o.put("rmseColumnMeanInColumnSd", rmseMean);
         o.put("coverage90", covered / (double) hiddenCount);
+        o.put("coverage90OfPerfectModel", imp.expectedCoverage());
         console.printf(Locale.ROOT, "4. Imputed %d cells hidden on purpose (truth known), %d draws each: RMSE %.3f column sd "
-                        + "(column mean: %.3f); 90%% intervals cover %.1f%%%n",
-                hiddenCount, IMPUTATION_DRAWS, rmse, rmseMean, 100.0 * covered / hiddenCount);
+                        + "(column mean: %.3f); 90%% intervals cover %.1f%% (%.1f%% expected of a perfect model with %d draws)%n",
+                hiddenCount, IMPUTATION_DRAWS, rmse, rmseMean, 100.0 * covered / hiddenCount,
+                100.0 * imp.expectedCoverage(), IMPUTATION_DRAWS);
     }
 
     private static void denoising(DiffusionModel model, Table heldComplete, Config c, PrintStream console, ObjectNode summary) {

@@ -98,6 +98,7 @@ class DemoPipelineTest {
         assertTrue(imp.path("hiddenCells").asInt() > 0);
         assertFinite(imp, "rmseInColumnSd");
         assertUnit(imp, "coverage90");
+        assertUnit(imp, "coverage90OfPerfectModel");
         JsonNode den = s.path("denoising");
         assertTrue(den.path("cells").asInt() > 0);
         assertFinite(den, "rmseBeforeInNoiseSd");
