@@ -102,40 +102,71 @@ final class ReverseRun {
      * @param rng the chunk's generator (advanced)
      */
     static void ancestralStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, SplittableRandom rng) {
+        StepKernel kernel = new StepKernel(chain, k);
         int d = chain.d;
-        int dc = chain.dc;
         int outputs = chain.outputs;
-        boolean learned = chain.variance == ReverseVariance.LEARNED;
-        int lOff = dc * (learned ? 2 : 1);
-        boolean noise = k > 1;
-        // per-step constants, hoisted out of the cell loop (the same values, so the same bits)
-        double epsCoef = chain.epsCoef[k];
-        double sqrtAlpha = chain.sqrtAlpha[k];
-        double logBeta = chain.logBeta[k];
-        double logVar = chain.logVarClipped[k];
-        double fixedSd = learned ? 0.0 : Math.exp(0.5 * chain.reverseLogVariance(k, 0.0));
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             int oo = r * outputs;
-            for (int j = 0; j < dc; j++) {
-                double mean = (x[o + j] - epsCoef * out[oo + j]) / sqrtAlpha;
+            for (int j = 0; j < chain.dc; j++) {
+                double mean = kernel.mean(x[o + j], out[oo + j]);
                 double next = mean;
-                if (noise) {
-                    double sd;
-                    if (learned) {
-                        double v = out[oo + dc + j];
-                        sd = Math.exp(0.5 * chain.clampLogVariance(k, v * logBeta + (1.0 - v) * logVar));   // reverseLogVariance, LEARNED
-                    } else {
-                        sd = fixedSd;
-                    }
-                    next = mean + sd * rng.nextGaussian();
+                if (kernel.noise) {
+                    next = mean + kernel.sd(out, oo, j) * rng.nextGaussian();
                 }
                 if (!Float.isFinite((float) next)) {
                     throw diverged(chain, k, j, next);
                 }
                 x[o + j] = (float) next;
             }
-            binaryStepInPlace(chain, x, out, o, oo + lOff, k, rng);
+            binaryStepInPlace(chain, x, out, o, oo + kernel.logitOffset, k, rng);
+        }
+    }
+
+    /**
+     * The constants of the Gaussian reverse kernel at step k, hoisted out of the cell loops (the same
+     * expressions as before they were hoisted, so the same bits): mean
+     * (x_k - beta_k / sqrt(1 - alpha-bar_k) eps-hat) / sqrt(alpha_k) and standard deviation from
+     * {@link Chain#reverseLogVariance} (Ho et al. 2020, eq. 11; learned variances by Nichol &amp;
+     * Dhariwal 2021, eq. 15).
+     */
+    private static final class StepKernel {
+        final Chain chain;
+        final int k;
+        final boolean learned;
+        final int logitOffset;
+        final boolean noise;
+        final double epsCoef;
+        final double sqrtAlpha;
+        final double logBeta;
+        final double logVar;
+        final double fixedSd;
+
+        StepKernel(Chain chain, int k) {
+            this.chain = chain;
+            this.k = k;
+            learned = chain.variance == ReverseVariance.LEARNED;
+            logitOffset = chain.dc * (learned ? 2 : 1);
+            noise = k > 1;
+            epsCoef = chain.epsCoef[k];
+            sqrtAlpha = chain.sqrtAlpha[k];
+            logBeta = chain.logBeta[k];
+            logVar = chain.logVarClipped[k];
+            fixedSd = learned ? 0.0 : Math.exp(0.5 * chain.reverseLogVariance(k, 0.0));
+        }
+
+        /** The kernel's mean for a cell at x_k with predicted noise eps. */
+        double mean(float xk, float eps) {
+            return (xk - epsCoef * eps) / sqrtAlpha;
+        }
+
+        /** The kernel's standard deviation for continuous cell j of the row whose output starts at oo. */
+        double sd(float[] out, int oo, int j) {
+            if (!learned) {
+                return fixedSd;
+            }
+            double v = out[oo + chain.dc + j];
+            return Math.exp(0.5 * chain.clampLogVariance(k, v * logBeta + (1.0 - v) * logVar));   // reverseLogVariance, LEARNED
         }
     }
 
@@ -160,17 +191,10 @@ final class ReverseRun {
      */
     static void productStepInPlace(Chain chain, float[] x, float[] out, float[] known, int rows, int k,
                                    SplittableRandom rng) {
+        StepKernel kernel = new StepKernel(chain, k);
         int d = chain.d;
         int dc = chain.dc;
         int outputs = chain.outputs;
-        boolean learned = chain.variance == ReverseVariance.LEARNED;
-        int lOff = dc * (learned ? 2 : 1);
-        boolean noise = k > 1;
-        double epsCoef = chain.epsCoef[k];
-        double sqrtAlpha = chain.sqrtAlpha[k];
-        double logBeta = chain.logBeta[k];
-        double logVar = chain.logVarClipped[k];
-        double fixedSd = learned ? 0.0 : Math.exp(0.5 * chain.reverseLogVariance(k, 0.0));
         // r_{k-1} = N(m, v): v = 1 - alpha-bar_{k-1} from the schedule (no cancellation), v > 0 for k > 1
         double targetScale = chain.sqrtAbar[k - 1];
         double targetVar = chain.sqrtOneMinusAbar[k - 1] * chain.sqrtOneMinusAbar[k - 1];
@@ -179,16 +203,10 @@ final class ReverseRun {
             int oo = r * outputs;
             for (int j = 0; j < dc; j++) {
                 float y = known[o + j];
-                double mean = (x[o + j] - epsCoef * out[oo + j]) / sqrtAlpha;
+                double mean = kernel.mean(x[o + j], out[oo + j]);
                 double next = mean;
-                if (noise) {
-                    double sd;
-                    if (learned) {
-                        double v = out[oo + dc + j];
-                        sd = Math.exp(0.5 * chain.clampLogVariance(k, v * logBeta + (1.0 - v) * logVar));   // reverseLogVariance, LEARNED
-                    } else {
-                        sd = fixedSd;
-                    }
+                if (kernel.noise) {
+                    double sd = kernel.sd(out, oo, j);
                     double z = rng.nextGaussian();
                     if (Float.isNaN(y)) {
                         next = mean + sd * z;
@@ -209,7 +227,7 @@ final class ReverseRun {
                 }
                 x[o + j] = (float) next;
             }
-            int logits = oo + lOff;
+            int logits = oo + kernel.logitOffset;
             for (int j = dc; j < d; j++) {
                 double pOne = Chain.sigmoid(out[logits + (j - dc)]);
                 float y = known[o + j];
