@@ -135,20 +135,20 @@ public final class Demo {
                 switch (a) {
                     case "--help", "-h" -> o.help = true;
                     case "--no-progress" -> o.progress = false;
-                    case "--binary" -> o.binary = Arrays.asList(value(args, ++i, a).split(","));
-                    case "--missing" -> o.missing = value(args, ++i, a);
-                    case "--out" -> o.out = Path.of(value(args, ++i, a));
-                    case "--steps" -> o.steps = positive(args, ++i, a);
-                    case "--epochs" -> o.epochs = positive(args, ++i, a);
-                    case "--seed" -> o.seed = Long.parseLong(number(args, ++i, a));
-                    case "--holdout" -> o.holdout = atLeast(args, ++i, a, 2);
-                    case "--containers" -> o.containers = positive(args, ++i, a);
-                    case "--days" -> o.days = positive(args, ++i, a);
+                    case "--binary" -> o.binary = Arrays.asList(Arguments.value(args, ++i, a).split(","));
+                    case "--missing" -> o.missing = Arguments.value(args, ++i, a);
+                    case "--out" -> o.out = Path.of(Arguments.value(args, ++i, a));
+                    case "--steps" -> o.steps = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
+                    case "--epochs" -> o.epochs = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
+                    case "--seed" -> o.seed = Arguments.seed(Arguments.value(args, ++i, a), a);
+                    case "--holdout" -> o.holdout = Arguments.whole(Arguments.value(args, ++i, a), a, 2);
+                    case "--containers" -> o.containers = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
+                    case "--days" -> o.days = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
                     case "--hidden" -> {
-                        String[] parts = value(args, ++i, a).split(",");
+                        String[] parts = Arguments.value(args, ++i, a).split(",");
                         o.hidden = new int[parts.length];
                         for (int k = 0; k < parts.length; k++) {
-                            o.hidden[k] = parsePositive(parts[k], a);
+                            o.hidden[k] = Arguments.whole(parts[k], a, 1);
                         }
                     }
                     default -> {
@@ -166,47 +166,6 @@ public final class Demo {
                 }
             }
             return o;
-        }
-
-        private static String value(String[] args, int i, String option) {
-            if (i >= args.length) {
-                throw new IllegalArgumentException(option + " needs a value");
-            }
-            return args[i];
-        }
-
-        private static String number(String[] args, int i, String option) {
-            String v = value(args, i, option);
-            try {
-                Long.parseLong(v);
-            } catch (NumberFormatException e) {
-                throw new IllegalArgumentException(option + " is '" + v + "'; expected a whole number");
-            }
-            return v;
-        }
-
-        private static int positive(String[] args, int i, String option) {
-            return parsePositive(value(args, i, option), option);
-        }
-
-        private static int atLeast(String[] args, int i, String option, int min) {
-            int v = parsePositive(value(args, i, option), option);
-            if (v < min) {
-                throw new IllegalArgumentException(option + " is " + v + "; expected at least " + min);
-            }
-            return v;
-        }
-
-        private static int parsePositive(String v, String option) {
-            try {
-                int n = Integer.parseInt(v.trim());
-                if (n < 1) {
-                    throw new IllegalArgumentException(option + " is " + v + "; expected a whole number of at least 1");
-                }
-                return n;
-            } catch (NumberFormatException e) {
-                throw new IllegalArgumentException(option + " is '" + v + "'; expected a whole number of at least 1");
-            }
         }
     }
 }

@@ -62,11 +62,10 @@ public final class PlanSteps {
                         out.println(USAGE);
                         return 0;
                     }
-                    case "--tolerance" -> tolerance = Double.parseDouble(next(args, ++i, "--tolerance"));
-                    case "--seed" -> seed = Long.parseLong(next(args, ++i, "--seed"));
-                    case "--out" -> dir = Path.of(next(args, ++i, "--out"));
-                    case "--steps" -> steps = java.util.Arrays.stream(next(args, ++i, "--steps").split(","))
-                            .mapToInt(v -> Integer.parseInt(v.trim())).toArray();
+                    case "--tolerance" -> tolerance = Arguments.number(Arguments.value(args, ++i, "--tolerance"), "--tolerance");
+                    case "--seed" -> seed = Arguments.seed(Arguments.value(args, ++i, "--seed"), "--seed");
+                    case "--out" -> dir = Path.of(Arguments.value(args, ++i, "--out"));
+                    case "--steps" -> steps = Arguments.list(Arguments.value(args, ++i, "--steps"), "--steps", 1);
                     default -> {
                         if (args[i].startsWith("-")) {
                             throw new IllegalArgumentException("unknown option " + args[i]);
@@ -107,12 +106,5 @@ public final class PlanSteps {
             err.println("plan-steps: " + e.getMessage());
             return 1;
         }
-    }
-
-    private static String next(String[] args, int i, String option) {
-        if (i >= args.length) {
-            throw new IllegalArgumentException(option + " needs a value");
-        }
-        return args[i];
     }
 }

@@ -221,7 +221,7 @@ public final class PlanTraining {
                     case "--help", "-h" -> o.help = true;
                     case "--no-progress" -> o.progress = false;
                     case "--steps" -> {
-                        o.steps = list(value(args, ++i, a), a, 2);
+                        o.steps = Arguments.list(Arguments.value(args, ++i, a), a, 2);
                         int[] sorted = o.steps.clone();
                         Arrays.sort(sorted);
                         for (int k = 1; k < sorted.length; k++) {
@@ -231,34 +231,34 @@ public final class PlanTraining {
                         }
                     }
                     case "--seconds" -> {
-                        o.seconds = number(value(args, ++i, a), a);
+                        o.seconds = Arguments.number(Arguments.value(args, ++i, a), a);
                         if (!(o.seconds > 0) || !Double.isFinite(o.seconds)) {
                             throw new IllegalArgumentException(a + " is " + args[i] + "; expected a number of seconds above 0");
                         }
                         secondsGiven = true;
                     }
-                    case "--updates" -> o.updates = whole(value(args, ++i, a), a, 1);
+                    case "--updates" -> o.updates = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
                     case "--tolerance" -> {
-                        o.tolerance = number(value(args, ++i, a), a);
+                        o.tolerance = Arguments.number(Arguments.value(args, ++i, a), a);
                         if (!(o.tolerance >= 0) || !Double.isFinite(o.tolerance)) {
                             throw new IllegalArgumentException(a + " is " + args[i] + "; expected a number of at least 0");
                         }
                     }
-                    case "--hidden" -> o.hidden = list(value(args, ++i, a), a, 1);
+                    case "--hidden" -> o.hidden = Arguments.list(Arguments.value(args, ++i, a), a, 1);
                     case "--seed" -> {
-                        String v = value(args, ++i, a);
+                        String v = Arguments.value(args, ++i, a);
                         try {
                             o.seed = Long.parseLong(v.trim());
                         } catch (NumberFormatException e) {
                             throw new IllegalArgumentException(a + " is '" + v + "'; expected a whole number");
                         }
                     }
-                    case "--holdout" -> o.holdout = whole(value(args, ++i, a), a, 2);
-                    case "--binary" -> o.binary = Arrays.asList(value(args, ++i, a).split(","));
-                    case "--missing" -> o.missing = value(args, ++i, a);
-                    case "--containers" -> o.containers = whole(value(args, ++i, a), a, 1);
-                    case "--days" -> o.days = whole(value(args, ++i, a), a, 1);
-                    case "--out" -> o.out = Path.of(value(args, ++i, a));
+                    case "--holdout" -> o.holdout = Arguments.whole(Arguments.value(args, ++i, a), a, 2);
+                    case "--binary" -> o.binary = Arrays.asList(Arguments.value(args, ++i, a).split(","));
+                    case "--missing" -> o.missing = Arguments.value(args, ++i, a);
+                    case "--containers" -> o.containers = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
+                    case "--days" -> o.days = Arguments.whole(Arguments.value(args, ++i, a), a, 1);
+                    case "--out" -> o.out = Path.of(Arguments.value(args, ++i, a));
                     default -> {
                         if (a.startsWith("-")) {
                             throw new IllegalArgumentException("unknown option " + a);
@@ -277,42 +277,6 @@ public final class PlanTraining {
                 throw new IllegalArgumentException("--seconds and --updates both given; choose one budget");
             }
             return o;
-        }
-
-        private static String value(String[] args, int i, String option) {
-            if (i >= args.length) {
-                throw new IllegalArgumentException(option + " needs a value");
-            }
-            return args[i];
-        }
-
-        private static double number(String v, String option) {
-            try {
-                return Double.parseDouble(v.trim());
-            } catch (NumberFormatException e) {
-                throw new IllegalArgumentException(option + " is '" + v + "'; expected a number");
-            }
-        }
-
-        private static int whole(String v, String option, int min) {
-            try {
-                int n = Integer.parseInt(v.trim());
-                if (n < min) {
-                    throw new IllegalArgumentException(option + " is " + v + "; expected a whole number of at least " + min);
-                }
-                return n;
-            } catch (NumberFormatException e) {
-                throw new IllegalArgumentException(option + " is '" + v + "'; expected a whole number of at least " + min);
-            }
-        }
-
-        private static int[] list(String v, String option, int min) {
-            String[] parts = v.split(",");
-            int[] r = new int[parts.length];
-            for (int k = 0; k < parts.length; k++) {
-                r[k] = whole(parts[k], option, min);
-            }
-            return r;
         }
     }
 }
