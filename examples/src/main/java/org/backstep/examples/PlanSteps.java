@@ -77,9 +77,6 @@ public final class PlanSteps {
             if (files.size() != 2) {
                 throw new IllegalArgumentException("expected a model file and a CSV file, got " + files.size() + " file arguments");
             }
-        } catch (NumberFormatException e) {
-            err.println("plan-steps: a number was expected: " + e.getMessage());
-            return 2;
         } catch (IllegalArgumentException e) {
             err.println("plan-steps: " + e.getMessage());
             err.println("Run examples/plan-steps --help for the options.");

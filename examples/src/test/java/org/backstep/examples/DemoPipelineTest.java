@@ -167,22 +167,11 @@ class DemoPipelineTest {
     }
 
     private static void assertBadArguments(String[] args, String expected) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int code = Demo.run(args, print(out), print(err));
-        String message = err.toString(StandardCharsets.UTF_8);
-        // Demo.run's Javadoc: 2 for bad arguments
-        assertEquals(2, code, String.join(" ", args) + ": " + message);
-        assertTrue(message.startsWith("backstep demo: "), message);
-        assertTrue(message.contains(expected), "message of " + String.join(" ", args) + " is: " + message);
-        assertTrue(message.contains("--help"), "the message should point to --help: " + message);
-        // common practice, no source: a usage error is one line of text, not a stack trace
-        assertFalse(message.contains("\tat ") || message.contains("Exception"), message);
-        assertEquals(0, out.size(), "nothing goes to standard output on a usage error");
+        CommandAssertions.assertBadArguments(Demo::run, "backstep demo: ", args, expected);
     }
 
     private static PrintStream print(ByteArrayOutputStream bytes) {
-        return new PrintStream(bytes, true, StandardCharsets.UTF_8);
+        return CommandAssertions.print(bytes);
     }
 
     private static void assertFinite(JsonNode node, String field) {

@@ -12,7 +12,6 @@ import java.nio.file.Path;
 import java.util.List;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
-import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -65,21 +64,10 @@ class PlanTrainingCommandTest {
     }
 
     private static void assertBadArguments(String[] args, String expected) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int code = PlanTraining.run(args, print(out), print(err));
-        String message = err.toString(StandardCharsets.UTF_8);
-        // PlanTraining.run's Javadoc: 2 for bad arguments
-        assertEquals(2, code, String.join(" ", args) + ": " + message);
-        assertTrue(message.startsWith("plan-training: "), message);
-        assertTrue(message.contains(expected), "message of " + String.join(" ", args) + " is: " + message);
-        assertTrue(message.contains("--help"), "the message should point to --help: " + message);
-        // common practice, no source: a usage error is one line of text, not a stack trace
-        assertFalse(message.contains("\tat ") || message.contains("Exception"), message);
-        assertEquals(0, out.size(), "nothing goes to standard output on a usage error");
+        CommandAssertions.assertBadArguments(PlanTraining::run, "plan-training: ", args, expected);
     }
 
     private static PrintStream print(ByteArrayOutputStream bytes) {
-        return new PrintStream(bytes, true, StandardCharsets.UTF_8);
+        return CommandAssertions.print(bytes);
     }
 }
