@@ -8,6 +8,7 @@ import me.tongfei.progressbar.ProgressBar;
 import me.tongfei.progressbar.ProgressBarBuilder;
 import me.tongfei.progressbar.ProgressBarStyle;
 import me.tongfei.progressbar.ConsoleProgressBarConsumer;
+import org.apache.commons.math3.stat.descriptive.rank.Percentile;
 import org.backstep.report.AnomalyScreen;
 import org.backstep.Backstep;
 import org.backstep.report.BoundReport;
@@ -428,12 +429,8 @@ public final class MainJob {
         return Math.sqrt(s / Math.max(1, v.length - 1));
     }
 
+    /** The empirical q-quantile, type 7 of Hyndman &amp; Fan 1996 (commons-math3's R_7), q in (0, 1]. */
     static double quantile(double[] v, double q) {
-        double[] s = v.clone();
-        Arrays.sort(s);
-        double h = (s.length - 1) * q;
-        int lo = (int) Math.floor(h);
-        int hi = Math.min(s.length - 1, lo + 1);
-        return s[lo] + (h - lo) * (s[hi] - s[lo]);
+        return new Percentile().withEstimationType(Percentile.EstimationType.R_7).evaluate(v, 100.0 * q);
     }
 }
