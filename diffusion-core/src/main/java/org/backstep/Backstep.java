@@ -440,10 +440,7 @@ public final class Backstep {
             for (int t : ts) {
                 perSteps.add(options(t));
             }
-            if (!heldOut.names().equals(training.names()) || !heldOut.kinds().equals(training.kinds())) {
-                throw new IllegalArgumentException("heldOut has columns " + heldOut.names() + " " + heldOut.kinds()
-                        + "; expected the training columns " + training.names() + " " + training.kinds());
-            }
+            Trainer.checkSameLayout(training, heldOut, "heldOut");
             Require.atLeast("complete rows of heldOut", heldOut.completeRows().rows(), 2);
             for (String name : logColumns) {
                 if (!training.names().contains(name)) {

@@ -34,6 +34,7 @@ final class Chain {
     final int db;
     final int d;
     final int outputs;
+    final int logitOffset;          // first output column of the binary logits: dc, or 2 dc with learned variances
     final ReverseVariance variance;
     final Estimator estimator;
     final int steps;
@@ -46,6 +47,8 @@ final class Chain {
     final double[] beta;
     final double[] logBeta;
     final double[] logVarClipped;
+    final double[] learnedLogVarLo;     // the clamp of a learned log-variance: min(log beta, log beta-tilde) - margin
+    final double[] learnedLogVarHi;     // max(log beta, log beta-tilde) + margin
     final double[] coefX0;
     final double[] coefXt;
     final double[] epsCoef;                 // beta / sqrt(1 - abar): mean = (x_t - epsCoef eps-hat) / sqrt(alpha)
@@ -67,7 +70,8 @@ final class Chain {
         this.db = db;
         this.d = dc + db;
         this.variance = variance;
-        this.outputs = dc * (variance == ReverseVariance.LEARNED ? 2 : 1) + db;
+        this.logitOffset = dc * (variance == ReverseVariance.LEARNED ? 2 : 1);
+        this.outputs = logitOffset + db;
         this.estimator = estimator;
         if (estimator.inputs() != d || estimator.outputs() != outputs) {
             throw new IllegalArgumentException("the estimator takes " + estimator.inputs() + " inputs and gives "
@@ -84,6 +88,8 @@ final class Chain {
         beta = new double[n + 1];
         logBeta = new double[n + 1];
         logVarClipped = new double[n + 1];
+        learnedLogVarLo = new double[n + 1];
+        learnedLogVarHi = new double[n + 1];
         coefX0 = new double[n + 1];
         coefXt = new double[n + 1];
         epsCoef = new double[n + 1];
@@ -98,6 +104,8 @@ final class Chain {
             beta[k] = continuous.beta(k);
             logBeta[k] = Math.log(beta[k]);
             logVarClipped[k] = g.posteriorLogVarianceClipped(k);
+            learnedLogVarLo[k] = Math.min(logBeta[k], logVarClipped[k]) - LOG_VARIANCE_MARGIN;
+            learnedLogVarHi[k] = Math.max(logBeta[k], logVarClipped[k]) + LOG_VARIANCE_MARGIN;
             coefX0[k] = g.posteriorMeanCoefX0(k);
             coefXt[k] = g.posteriorMeanCoefXt(k);
             epsCoef[k] = beta[k] / sqrtOneMinusAbar[k];
@@ -152,15 +160,21 @@ final class Chain {
         return switch (variance) {
             case FIXED_BETA -> k == 1 ? logVarClipped[1] : logBeta[k];
             case FIXED_POSTERIOR -> logVarClipped[k];
-            case LEARNED -> clampLogVariance(k, v * logBeta[k] + (1.0 - v) * logVarClipped[k]);
+            case LEARNED -> clampLogVariance(k, interpolatedLogVariance(k, v));
         };
+    }
+
+    /**
+     * The learned log-variance before the clamp, {@code v log beta_k + (1 - v) log beta-tilde_k}
+     * (Nichol &amp; Dhariwal 2021, eq. 15); {@link #reverseLogVariance} clamps it.
+     */
+    double interpolatedLogVariance(int k, double v) {
+        return v * logBeta[k] + (1.0 - v) * logVarClipped[k];
     }
 
     /** The learned log-variance kept within {@link #LOG_VARIANCE_MARGIN} of [log beta-tilde_k, log beta_k]. */
     double clampLogVariance(int k, double lv) {
-        double lo = Math.min(logBeta[k], logVarClipped[k]) - LOG_VARIANCE_MARGIN;
-        double hi = Math.max(logBeta[k], logVarClipped[k]) + LOG_VARIANCE_MARGIN;
-        return Math.max(lo, Math.min(hi, lv));
+        return Math.max(learnedLogVarLo[k], Math.min(learnedLogVarHi[k], lv));
     }
 
     /**
@@ -276,7 +290,6 @@ final class Chain {
     void boundTerms(float[] x0, float[] xt, float[] out, int rows, int[] k, double[] contOut, double[] binOut) {
         boolean learned = variance == ReverseVariance.LEARNED;
         int vOff = dc;
-        int lOff = dc * (learned ? 2 : 1);
         for (int r = 0; r < rows; r++) {
             int s = k[r];
             int o = r * d;
@@ -286,7 +299,6 @@ final class Chain {
             double sa = sqrtAlpha[s];
             double lq = logVarClipped[s];
             double varQ = s == 1 ? 0.0 : Math.exp(lq);
-            double lb = logBeta[s];
             double fixedLv = learned ? 0.0 : reverseLogVariance(s, 0.0);
             double fixedPrecision = learned ? 0.0 : Math.exp(-fixedLv);
             double cx0 = coefX0[s];
@@ -298,7 +310,7 @@ final class Chain {
                 double precision;
                 if (learned) {
                     double v = out[oo + vOff + j];
-                    lv = v * lb + (1.0 - v) * lq;         // reverseLogVariance, LEARNED
+                    lv = interpolatedLogVariance(s, v);   // not clamped (fixed in the next commit)
                     precision = Math.exp(-lv);
                 } else {
                     lv = fixedLv;
@@ -316,7 +328,7 @@ final class Chain {
             }
             double b = 0.0;
             for (int j = 0; j < db; j++) {
-                double pOne = sigmoid(out[oo + lOff + j]);
+                double pOne = sigmoid(out[oo + logitOffset + j]);
                 int x0i = x0[o + dc + j] > 0.5f ? 1 : 0;
                 if (s == 1) {
                     b -= Math.log(clampProb(x0i == 1 ? pOne : 1.0 - pOne));

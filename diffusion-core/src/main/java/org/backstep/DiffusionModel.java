@@ -389,14 +389,7 @@ public final class DiffusionModel {
         Require.notNull("conditioning", conditioning);
         checkColumns(records);
         int rows = records.rows();
-        int[] todo = java.util.stream.IntStream.range(0, rows).filter(i -> {
-            for (int j = 0; j < records.columns(); j++) {
-                if (Double.isNaN(records.get(i, j))) {
-                    return true;
-                }
-            }
-            return false;
-        }).toArray();
+        int[] todo = records.incompleteRowIndices();
         int n = todo.length;
         float[] known = n == 0 ? new float[0] : Trainer.toFloat(transform.toModelSpace(records.selectRows(todo)));
         Chain c = chainFor(chainSteps);

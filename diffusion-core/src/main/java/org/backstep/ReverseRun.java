@@ -119,7 +119,7 @@ final class ReverseRun {
                 }
                 x[o + j] = (float) next;
             }
-            binaryStepInPlace(chain, x, out, o, oo + kernel.logitOffset, k, rng);
+            binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng);
         }
     }
 
@@ -134,24 +134,18 @@ final class ReverseRun {
         final Chain chain;
         final int k;
         final boolean learned;
-        final int logitOffset;
         final boolean noise;
         final double epsCoef;
         final double sqrtAlpha;
-        final double logBeta;
-        final double logVar;
         final double fixedSd;
 
         StepKernel(Chain chain, int k) {
             this.chain = chain;
             this.k = k;
             learned = chain.variance == ReverseVariance.LEARNED;
-            logitOffset = chain.dc * (learned ? 2 : 1);
             noise = k > 1;
             epsCoef = chain.epsCoef[k];
             sqrtAlpha = chain.sqrtAlpha[k];
-            logBeta = chain.logBeta[k];
-            logVar = chain.logVarClipped[k];
             fixedSd = learned ? 0.0 : Math.exp(0.5 * chain.reverseLogVariance(k, 0.0));
         }
 
@@ -166,7 +160,7 @@ final class ReverseRun {
                 return fixedSd;
             }
             double v = out[oo + chain.dc + j];
-            return Math.exp(0.5 * chain.clampLogVariance(k, v * logBeta + (1.0 - v) * logVar));   // reverseLogVariance, LEARNED
+            return Math.exp(0.5 * chain.reverseLogVariance(k, v));
         }
     }
 
@@ -227,7 +221,7 @@ final class ReverseRun {
                 }
                 x[o + j] = (float) next;
             }
-            int logits = oo + kernel.logitOffset;
+            int logits = oo + chain.logitOffset;
             for (int j = dc; j < d; j++) {
                 double pOne = Chain.sigmoid(out[logits + (j - dc)]);
                 float y = known[o + j];
@@ -317,7 +311,6 @@ final class ReverseRun {
         int d = chain.d;
         int dc = chain.dc;
         int outputs = chain.outputs;
-        int lOff = dc * (chain.variance == ReverseVariance.LEARNED ? 2 : 1);
         double abar = chain.sqrtAbar[k] * chain.sqrtAbar[k];
         double abarPrev = chain.sqrtAbar[k - 1] * chain.sqrtAbar[k - 1];
         double sqrtOneMinusAbar = chain.sqrtOneMinusAbar[k];
@@ -340,7 +333,7 @@ final class ReverseRun {
                 }
                 x[o + j] = (float) next;
             }
-            binaryStepInPlace(chain, x, out, o, oo + lOff, k, rng);
+            binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng);
         }
     }
 

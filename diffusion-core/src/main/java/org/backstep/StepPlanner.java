@@ -58,25 +58,15 @@ final class StepPlanner {
                 throw new IllegalArgumentException("step count " + ks[i] + " is listed twice");
             }
         }
-        Table held = heldOut.rows() > QUALITY_ROWS ? heldOut.selectRows(evenlySpaced(QUALITY_ROWS, heldOut.rows())) : heldOut;
+        Table held = qualityRows(heldOut);
         double[][] heldModel = model.transform().toModelSpace(held);
         List<StepPlan.Row> rows = new ArrayList<>();
-        // untimed: without it the first (smallest) step count's timing pays for compiling the sampler
-        try {
-            model.sample(Math.min(held.rows(), Parallel.CHUNK_ROWS), SamplingPlan.ancestral(ks[0]), seed);
-        } catch (IllegalStateException e) {
-            LOG.debug("warm-up sampling diverged: {}", e.getMessage());
-        }
+        warmUp(model, held.rows(), SamplingPlan.ancestral(ks[0]), seed);
         for (int k : ks) {
             BoundReport bound = model.bound(held, k, seed);
-            long start = System.nanoTime();
-            Table samples = model.sample(held.rows(), SamplingPlan.ancestral(k), seed + k);
-            double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / held.rows();
-            double[][] sampleModel = model.transform().toModelSpace(samples);
-            EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, seed);
-            double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
-            rows.add(new StepPlan.Row(k, bound.meanNats() / bound.dimensions(), energy.energyDistance(),
-                    energy.pValue(), maxKs, millis));
+            Quality q = Quality.measure(model, held.rows(), heldModel, SamplingPlan.ancestral(k), seed + k, seed);
+            rows.add(new StepPlan.Row(k, bound.meanNats() / bound.dimensions(), q.energyDistance(),
+                    q.pValue(), q.maxKs(), q.millisPer1000()));
         }
         StepPlan.Row best = rows.stream().min((a, b) -> Double.compare(a.boundNatsPerDimension(), b.boundNatsPerDimension()))
                 .orElseThrow();
@@ -97,8 +87,7 @@ final class StepPlanner {
      */
     static TrainingPlan planTraining(List<FitOptions> perSteps, Table training, Table heldOut, TrainingBudget budget,
                                      double tolerance, TrainingListener listener, BooleanSupplier stop) {
-        Table complete = heldOut.completeRows();
-        Table held = complete.rows() > QUALITY_ROWS ? complete.selectRows(evenlySpaced(QUALITY_ROWS, complete.rows())) : complete;
+        Table held = qualityRows(heldOut.completeRows());
         int models = perSteps.size();
         long perModel = budget.wallClock().map(java.time.Duration::toNanos).orElseGet(() -> (long) budget.updates().orElseThrow());
         List<Trainer.Run> runs = new ArrayList<>();
@@ -125,12 +114,7 @@ final class StepPlanner {
         } finally {
             runs.forEach(Trainer.Run::close);
         }
-        try {
-            // untimed: the first timed sampling run would otherwise pay for the JIT compiler's warm-up
-            fitted.get(0).model().sample(held.rows(), SamplingPlan.ancestral(), perSteps.get(0).seed());
-        } catch (IllegalStateException e) {
-            LOG.debug("warm-up sampling diverged: {}", e.getMessage());
-        }
+        warmUp(fitted.get(0).model(), held.rows(), SamplingPlan.ancestral(), perSteps.get(0).seed());
         List<TrainingPlan.Row> rows = new ArrayList<>();
         for (Trainer.Fitted f : fitted) {
             rows.add(evaluate(f, held, f.model().options().seed()));
@@ -171,22 +155,54 @@ final class StepPlanner {
         double d = bound.dimensions();
         double perDimension = bound.meanNats() / d;
         double standardError = bound.standardErrorOfMean() / d;
-        Table samples;
-        long start = System.nanoTime();
+        Quality q;
         try {
-            samples = model.sample(held.rows(), SamplingPlan.ancestral(), seed + t);
+            q = Quality.measure(model, held.rows(), model.transform().toModelSpace(held), SamplingPlan.ancestral(),
+                    seed + t, seed);
         } catch (IllegalStateException e) {     // the chain left the float range (ReverseRun)
             LOG.info("training plan: the sampling chain of T = {} diverged: {}", t, e.getMessage());
             return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
                     standardError, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true);
         }
-        double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / held.rows();
-        double[][] heldModel = model.transform().toModelSpace(held);
-        double[][] sampleModel = model.transform().toModelSpace(samples);
-        EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, seed);
-        double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
         return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
-                standardError, energy.energyDistance(), energy.pValue(), maxKs, millis, false);
+                standardError, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(), false);
+    }
+
+    /** At most {@link #QUALITY_ROWS} rows of {@code table}, spread evenly over it. */
+    private static Table qualityRows(Table table) {
+        return table.rows() > QUALITY_ROWS ? table.selectRows(evenlySpaced(QUALITY_ROWS, table.rows())) : table;
+    }
+
+    /**
+     * An untimed sampling run of at most one chunk of rows: without it the first timed run pays for
+     * compiling the sampler (measured: up to 1.6x slower in a fresh JVM).
+     */
+    private static void warmUp(DiffusionModel model, int rows, SamplingPlan plan, long seed) {
+        try {
+            model.sample(Math.min(rows, Parallel.CHUNK_ROWS), plan, seed);
+        } catch (IllegalStateException e) {
+            LOG.debug("warm-up sampling diverged: {}", e.getMessage());
+        }
+    }
+
+    /**
+     * The quality and cost of {@code rows} samples drawn with a plan: the energy distance to the
+     * held-out rows with its permutation p-value (Szekely &amp; Rizzo 2004), the largest per-column
+     * two-sample Kolmogorov-Smirnov statistic, and the wall time per 1,000 samples.
+     */
+    private record Quality(double energyDistance, double pValue, double maxKs, double millisPer1000) {
+
+        /** Draws and scores the samples; throws IllegalStateException if the chain diverges. */
+        static Quality measure(DiffusionModel model, int rows, double[][] heldModel, SamplingPlan plan,
+                               long sampleSeed, long testSeed) {
+            long start = System.nanoTime();
+            Table samples = model.sample(rows, plan, sampleSeed);
+            double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / rows;
+            double[][] sampleModel = model.transform().toModelSpace(samples);
+            EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, testSeed);
+            double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
+            return new Quality(energy.energyDistance(), energy.pValue(), maxKs, millis);
+        }
     }
 
     /** n row indices spread evenly over 0..total-1, so that a table sorted by time or unit is not cut to its start. */

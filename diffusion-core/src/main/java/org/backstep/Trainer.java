@@ -180,7 +180,7 @@ final class Trainer {
                 notes.add("validation: " + split[1].length + " rows drawn at random (fraction "
                         + options.validationFraction() + ", seed " + options.seed() + ")");
             } else if (held != null) {
-                checkSameLayout(table, held);
+                checkSameLayout(table, held, "validation");
                 notes.add("validation: " + held.rows() + " rows given by the caller");
             }
             Table complete = train.completeRows();
@@ -260,11 +260,6 @@ final class Trainer {
             weight = new double[batch];
             perm = identity(n);
             parallel = ParallelStep.create(net, batch, options.threads());
-        }
-
-        /** @return true once training has ended (its last epoch, a budget, a stop request, early stopping) */
-        boolean finished() {
-            return finished;
         }
 
         /** @return updates done so far */
@@ -404,7 +399,7 @@ final class Trainer {
                 LOG.info(stopReason);
             }
             ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
-            Provenance provenance = provenance(options, table, n, nv, seconds(started), history, notes);
+            Provenance provenance = provenance(table, n, nv, seconds(started), history, notes);
             DiffusionModel model = new DiffusionModel(options, transform, fitted, new NetworkEstimator(fitted), provenance);
             return new Fitted(model, step, step / (double) batchesPerEpoch, updateNanos / 1e9);
         }
@@ -434,9 +429,10 @@ final class Trainer {
         return new int[][] {trainRows, heldRows};
     }
 
-    static void checkSameLayout(Table a, Table b) {
+    /** Refuses {@code b} (called {@code name} in the message) unless its columns are those of {@code a}. */
+    static void checkSameLayout(Table a, Table b, String name) {
         if (!a.names().equals(b.names()) || !a.kinds().equals(b.kinds())) {
-            throw new IllegalArgumentException("validation has columns " + b.names() + " " + b.kinds()
+            throw new IllegalArgumentException(name + " has columns " + b.names() + " " + b.kinds()
                     + "; expected the training columns " + a.names() + " " + a.kinds());
         }
     }
@@ -602,7 +598,6 @@ final class Trainer {
             float[] grad = new float[rows * outputs];
             int d = dc + db;
             int vOff = dc;
-            int lOff = dc * (learned ? 2 : 1);
             double total = 0.0;
             for (int i = 0; i < rows; i++) {
                 int r = rowOffset + i;
@@ -615,7 +610,8 @@ final class Trainer {
                 for (int j = 0; j < dc; j++) {
                     double eh = out[oo + j];
                     double v = learned ? out[oo + vOff + j] : 0.0;
-                    double lv = chain.reverseLogVariance(s, v);
+                    double raw = learned ? chain.interpolatedLogVariance(s, v) : 0.0;
+                    double lv = learned ? chain.clampLogVariance(s, raw) : chain.reverseLogVariance(s, v);
                     double inv = Math.exp(-lv);
                     double mp = (xt[o + j] - chain.epsCoef[s] * eh) / chain.sqrtAlpha[s];
                     double term;
@@ -637,7 +633,7 @@ final class Trainer {
                     }
                     bound += term;
                     double dMeanDEps = -chain.epsCoef[s] / chain.sqrtAlpha[s];
-                    double dLogVarDv = learned && lv != v * chain.logBeta[s] + (1.0 - v) * chain.logVarClipped[s]
+                    double dLogVarDv = learned && lv != raw
                             ? 0.0 : chain.logBeta[s] - chain.logVarClipped[s];   // zero where the clamp holds
                     double gEps = 0.0;
                     double gV = 0.0;
@@ -665,7 +661,7 @@ final class Trainer {
                     }
                 }
                 for (int j = 0; j < db; j++) {
-                    double logit = out[oo + lOff + j];
+                    double logit = out[oo + chain.logitOffset + j];
                     double pOne = Chain.sigmoid(logit);
                     int x0i = x0[o + dc + j] > 0.5f ? 1 : 0;
                     double term;
@@ -685,7 +681,7 @@ final class Trainer {
                     }
                     bound += term;
                     rowLoss += steps * term;
-                    grad[oo + lOff + j] = (float) (w * steps * gLogit);
+                    grad[oo + chain.logitOffset + j] = (float) (w * steps * gLogit);
                 }
                 rowBound[r] = bound;
                 total += w * rowLoss;
@@ -696,7 +692,7 @@ final class Trainer {
     }
 
     /** What the fit records about itself: this library, this JVM and machine, the clock, the data's hash. */
-    private static Provenance provenance(FitOptions options, Table table, int trainingRows, int validationRows,
+    private static Provenance provenance(Table table, int trainingRows, int validationRows,
                                          double seconds, List<EpochRecord> history, List<String> notes) {
         return new Provenance(Provenance.currentLibraryVersion(), System.getProperty("java.version"),
                 System.getProperty("os.name") + " " + System.getProperty("os.version"),

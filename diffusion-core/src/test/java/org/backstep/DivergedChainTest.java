@@ -11,7 +11,6 @@ import org.backstep.table.ColumnTransform;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
 import org.junit.jupiter.api.Test;
-import org.nd4j.linalg.api.ndarray.INDArray;
 
 import java.util.List;
 
@@ -34,22 +33,7 @@ class DivergedChainTest {
                 .loss(TrainingLoss.SIMPLE).threads(1).options();
         TableTransform transform = TableTransform.of(List.of("a"), List.of(ColumnKind.CONTINUOUS),
                 List.of(ColumnTransform.standardize(0.0, 1.0)));
-        Estimator wild = new Estimator() {
-            @Override
-            public int inputs() {
-                return 1;
-            }
-
-            @Override
-            public int outputs() {
-                return 1;
-            }
-
-            @Override
-            public void predict(INDArray xt, int[] steps, INDArray out) {
-                out.assign(WILD_EPSILON);
-            }
-        };
+        Estimator wild = new ConstantEstimator(1, 1, WILD_EPSILON);
         return DiffusionModel.withEstimator(options, transform, wild);
     }
 

@@ -296,7 +296,6 @@ public final class Charts {
                 "milliseconds per 1,000 samples at the model's T", "held-out bound, nats per dimension");
         double[] x = drawn.stream().mapToDouble(TrainingPlan.Row::millisPer1000).toArray();
         double[] y = drawn.stream().mapToDouble(TrainingPlan.Row::boundNatsPerDimension).toArray();
-        double[] se = drawn.stream().mapToDouble(TrainingPlan.Row::boundStandardError).toArray();
         double xMin = java.util.Arrays.stream(x).min().orElseThrow();
         double xMax = java.util.Arrays.stream(x).max().orElseThrow();
         boolean logarithmic = xMin > 0 && xMax / xMin > 20;   // a linear axis keeps its tick labels over a short range

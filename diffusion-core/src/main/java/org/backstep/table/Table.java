@@ -300,14 +300,21 @@ public final class Table {
 
     /** @return the indices of the rows without a missing cell, in order */
     public int[] completeRowIndices() {
-        return java.util.stream.IntStream.range(0, rows()).filter(r -> {
-            for (int c = 0; c < columns(); c++) {
-                if (Double.isNaN(get(r, c))) {
-                    return false;
-                }
+        return java.util.stream.IntStream.range(0, rows()).filter(this::rowComplete).toArray();
+    }
+
+    /** @return the indices of the rows with at least one missing cell, in order */
+    public int[] incompleteRowIndices() {
+        return java.util.stream.IntStream.range(0, rows()).filter(r -> !rowComplete(r)).toArray();
+    }
+
+    private boolean rowComplete(int r) {
+        for (int c = 0; c < columns(); c++) {
+            if (Double.isNaN(get(r, c))) {
+                return false;
             }
-            return true;
-        }).toArray();
+        }
+        return true;
     }
 
     /** @return the rows without a missing cell (this table itself when none is missing) */

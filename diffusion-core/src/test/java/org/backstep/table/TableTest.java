@@ -266,6 +266,7 @@ class TableTest {
                 ColumnKind.CONTINUOUS, ColumnKind.BINARY);
         // by definition: a row is complete when none of its cells is NaN (common practice, no source)
         org.junit.jupiter.api.Assertions.assertArrayEquals(new int[] {0, 3}, t.completeRowIndices());
+        org.junit.jupiter.api.Assertions.assertArrayEquals(new int[] {1, 2}, t.incompleteRowIndices());
         org.junit.jupiter.api.Assertions.assertArrayEquals(new double[][] {{1, 0}, {4, 1}}, t.completeRows().toArray());
         Table full = t.completeRows();
         org.junit.jupiter.api.Assertions.assertSame(full, full.completeRows());

@@ -2,9 +2,7 @@ package org.backstep.examples;
 
 import org.backstep.Defaults;
 import org.backstep.examples.fleet.FleetTables;
-import org.backstep.examples.fleet.ReeferFleet;
 import org.backstep.examples.fleet.Telemetry;
-import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
 import org.backstep.table.TableFormatException;
 
@@ -83,19 +81,11 @@ public final class Demo {
         try {
             MainJob.Config config;
             if (o.file == null) {
-                Telemetry t = ReeferFleet.generate(ReeferFleet.options().withContainers(o.containers).withDays(o.days)
-                        .withSeed(2026 + o.seed));
-                out.printf("Invented reefer telemetry (for demonstration, not measurements): %d containers, %d days, %d rows%n",
-                        o.containers, o.days, t.rows());
+                Telemetry t = CommandTables.inventedFleet(o.containers, o.days, o.seed, out);
                 config = new MainJob.Config(FleetTables.cells(t), FleetTables.truth(t), t.faultRows(), o.out, o.steps,
                         o.epochs, o.hidden, o.seed, o.holdout, null);
             } else {
-                CsvTables.Reader reader = CsvTables.reader().missingToken(o.missing);
-                if (!o.binary.isEmpty()) {
-                    reader = reader.binary(o.binary.toArray(String[]::new));
-                }
-                Table table = reader.read(o.file);
-                out.printf("Table %s: %d rows x %d columns%n", o.file, table.rows(), table.columns());
+                Table table = CommandTables.csv(o.file, o.missing, o.binary, out);
                 config = new MainJob.Config(table, null, null, o.out, o.steps, o.epochs, o.hidden, o.seed, o.holdout, null);
             }
             MainJob.run(config, out, o.progress);

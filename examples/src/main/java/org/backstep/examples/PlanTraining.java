@@ -7,13 +7,10 @@ import me.tongfei.progressbar.ProgressBarStyle;
 import org.backstep.Backstep;
 import org.backstep.Defaults;
 import org.backstep.examples.fleet.FleetTables;
-import org.backstep.examples.fleet.ReeferFleet;
-import org.backstep.examples.fleet.Telemetry;
 import org.backstep.io.AtomicFiles;
 import org.backstep.option.TrainingBudget;
 import org.backstep.plot.Charts;
 import org.backstep.report.TrainingPlan;
-import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
 import org.backstep.table.TableFormatException;
 import org.backstep.training.TrainingListener;
@@ -105,18 +102,9 @@ public final class PlanTraining {
         try {
             Table table;
             if (o.file == null) {
-                Telemetry t = ReeferFleet.generate(ReeferFleet.options().withContainers(o.containers).withDays(o.days)
-                        .withSeed(ReeferFleet.DEFAULT_SEED + o.seed));
-                out.printf(Locale.ROOT, "Invented reefer telemetry (for demonstration, not measurements): %d containers, %d days, %d rows%n",
-                        o.containers, o.days, t.rows());
-                table = FleetTables.cells(t);
+                table = FleetTables.cells(CommandTables.inventedFleet(o.containers, o.days, o.seed, out));
             } else {
-                CsvTables.Reader reader = CsvTables.reader().missingToken(o.missing);
-                if (!o.binary.isEmpty()) {
-                    reader = reader.binary(o.binary.toArray(String[]::new));
-                }
-                table = reader.read(o.file);
-                out.printf(Locale.ROOT, "Table %s: %d rows x %d columns%n", o.file, table.rows(), table.columns());
+                table = CommandTables.csv(o.file, o.missing, o.binary, out);
             }
             Table train = table.filterRows(i -> i % o.holdout != 0);
             Table held = table.filterRows(i -> i % o.holdout == 0);

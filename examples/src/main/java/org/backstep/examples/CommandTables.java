@@ -1,0 +1,43 @@
+package org.backstep.examples;
+
+import java.io.IOException;
+import java.io.PrintStream;
+import java.nio.file.Path;
+import java.util.List;
+import java.util.Locale;
+
+import org.backstep.examples.fleet.ReeferFleet;
+import org.backstep.examples.fleet.Telemetry;
+import org.backstep.table.CsvTables;
+import org.backstep.table.Table;
+import org.backstep.table.TableFormatException;
+
+/** Where the example commands get their table: invented reefer telemetry, or a user's CSV file. */
+final class CommandTables {
+
+    private CommandTables() {
+    }
+
+    /**
+     * Invented telemetry of a fleet (seed {@link ReeferFleet#DEFAULT_SEED} + {@code seed}), with a
+     * line on {@code out} saying that it is invented.
+     */
+    static Telemetry inventedFleet(int containers, int days, long seed, PrintStream out) {
+        Telemetry t = ReeferFleet.generate(ReeferFleet.options().withContainers(containers).withDays(days)
+                .withSeed(ReeferFleet.DEFAULT_SEED + seed));
+        out.printf(Locale.ROOT, "Invented reefer telemetry (for demonstration, not measurements): %d containers, %d days, %d rows%n",
+                containers, days, t.rows());
+        return t;
+    }
+
+    /** A CSV file with the given missing-cell token and binary columns, with a line on {@code out} saying its size. */
+    static Table csv(Path file, String missing, List<String> binary, PrintStream out) throws IOException, TableFormatException {
+        CsvTables.Reader reader = CsvTables.reader().missingToken(missing);
+        if (!binary.isEmpty()) {
+            reader = reader.binary(binary.toArray(String[]::new));
+        }
+        Table table = reader.read(file);
+        out.printf(Locale.ROOT, "Table %s: %d rows x %d columns%n", file, table.rows(), table.columns());
+        return table;
+    }
+}
