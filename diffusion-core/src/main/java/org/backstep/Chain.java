@@ -310,7 +310,7 @@ final class Chain {
                 double precision;
                 if (learned) {
                     double v = out[oo + vOff + j];
-                    lv = interpolatedLogVariance(s, v);   // not clamped (fixed in the next commit)
+                    lv = reverseLogVariance(s, v);
                     precision = Math.exp(-lv);
                 } else {
                     lv = fixedLv;
