@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.internal.plan.StepPlanner;
+import org.backstep.internal.train.Trainer;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
 import org.backstep.option.ReverseVariance;
@@ -10,7 +12,7 @@ import org.backstep.option.TrainingLoss;
 import org.backstep.report.TrainingPlan;
 import org.backstep.training.TrainingListener;
 
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;
 import org.backstep.table.Table;
@@ -43,6 +45,9 @@ import java.util.function.BooleanSupplier;
  * probabilities of a fault. Imputed, denoised and synthetic values are not measurements, and
  * synthetic rows can reproduce training rows. For safety-, health- or compliance-critical
  * decisions, defer to local regulations and qualified review.
+ *
+ * <p>One file of more than 400 lines because the builder is one contract: every option with its
+ * default and the one validation of all of them.
  */
 public final class Backstep {
 
@@ -65,9 +70,9 @@ public final class Backstep {
         private ScheduleFamily binaryFamily = Defaults.BINARY_SCHEDULE;
         private NoiseSchedule continuousSchedule;
         private NoiseSchedule binarySchedule;
-        private int[] hidden = Defaults.HIDDEN.clone();
+        private int[] hidden = Defaults.HIDDEN.stream().mapToInt(Integer::intValue).toArray();
         private int embeddingSize = Defaults.EMBEDDING_SIZE;
-        private TimeConditioning conditioning = Defaults.CONDITIONING;
+        private StepInput stepInput = Defaults.STEP_INPUT;
         private ReverseVariance variance = Defaults.VARIANCE;
         private TrainingLoss loss = Defaults.LOSS;
         private double hybridWeight = Defaults.HYBRID_WEIGHT;
@@ -81,9 +86,11 @@ public final class Backstep {
         private double emaDecay = Defaults.EMA_DECAY;
         private int batchSize = Defaults.BATCH_SIZE;
         private int epochs = 0;
-        private double validationFraction = Defaults.VALIDATION_FRACTION;
+        private int trainingSteps = Defaults.TRAINING_STEPS;
+        private int evaluations = Defaults.EVALUATIONS;
+        private double checkpointFraction = Defaults.CHECKPOINT_FRACTION;
         private int evaluateEvery = 0;
-        private int validationDraws = Defaults.VALIDATION_DRAWS;
+        private int checkpointDraws = Defaults.CHECKPOINT_DRAWS;
         private int patience = Defaults.PATIENCE;
         private Set<String> logColumns = new LinkedHashSet<>();
         private long seed = Defaults.SEED;
@@ -133,9 +140,9 @@ public final class Backstep {
         }
 
         /** The embedding of t; defaults {@link Defaults#EMBEDDING_SIZE} and {@link Defaults#CONDITIONING}. @param size even size @param where where it enters @return this */
-        public Builder timeEmbedding(int size, TimeConditioning where) {
+        public Builder timeEmbedding(int size, StepInput where) {
             this.embeddingSize = size;
-            this.conditioning = where;
+            this.stepInput = where;
             return this;
         }
 
@@ -207,9 +214,9 @@ public final class Backstep {
             return this;
         }
 
-        /** Share of rows held out for validation when no validation table is given; default {@link Defaults#VALIDATION_FRACTION}. @param fraction in [0, 0.9] @return this */
-        public Builder validationFraction(double fraction) {
-            this.validationFraction = fraction;
+        /** Share of rows set aside as checkpoint rows (on which the kept weights are chosen) when none are given; default {@link Defaults#CHECKPOINT_FRACTION}. @param fraction in [0, 0.9] @return this */
+        public Builder checkpointFraction(double fraction) {
+            this.checkpointFraction = fraction;
             return this;
         }
 
@@ -219,9 +226,34 @@ public final class Backstep {
             return this;
         }
 
-        /** Steps drawn per record in the held-out bound; default {@link Defaults#VALIDATION_DRAWS}. @param draws at least 1 @return this */
-        public Builder validationDraws(int draws) {
-            this.validationDraws = draws;
+        /**
+         * The minibatch updates the default epoch count aims at, epochs = ceil(trainingSteps /
+         * minibatches per epoch), used when {@link #epochs(int)} is not set; default
+         * {@link Defaults#TRAINING_STEPS}.
+         *
+         * @param updates at least 1
+         * @return this
+         */
+        public Builder trainingSteps(int updates) {
+            this.trainingSteps = updates;
+            return this;
+        }
+
+        /**
+         * How many times the checkpoint bound is evaluated over a run when
+         * {@link #evaluateEvery(int)} is not set; default {@link Defaults#EVALUATIONS}.
+         *
+         * @param count at least 1
+         * @return this
+         */
+        public Builder evaluations(int count) {
+            this.evaluations = count;
+            return this;
+        }
+
+        /** Steps drawn per record in the held-out bound; default {@link Defaults#CHECKPOINT_DRAWS}. @param draws at least 1 @return this */
+        public Builder checkpointDraws(int draws) {
+            this.checkpointDraws = draws;
             return this;
         }
 
@@ -258,7 +290,7 @@ public final class Backstep {
         /**
          * A stop request polled after every minibatch step, for cancelling from another thread;
          * training then ends early and returns the model so far (the averaged weights are evaluated
-         * on the validation rows once more, and the best weights so far are kept), with the stop
+         * on the checkpoint rows once more, and the best weights so far are kept), with the stop
          * noted in its provenance. Default never.
          *
          * @param stopRequested true when training should stop
@@ -301,7 +333,7 @@ public final class Backstep {
             if (embeddingSize % 2 != 0) {
                 throw new IllegalArgumentException("embeddingSize is " + embeddingSize + "; expected an even number");
             }
-            Require.notNull("conditioning", conditioning);
+            Require.notNull("stepInput", stepInput);
             Require.notNull("variance", variance);
             Require.notNull("loss", loss);
             if (loss == TrainingLoss.HYBRID && variance != ReverseVariance.LEARNED) {
@@ -322,22 +354,24 @@ public final class Backstep {
             Require.nonNegative("weightDecay", weightDecay);
             checkMoment("emaDecay", emaDecay);
             Require.atLeast("batchSize", batchSize, 1);
+            Require.atLeast("trainingSteps", trainingSteps, 1);
+            Require.atLeast("evaluations", evaluations, 1);
             if (epochs != 0) {
                 Require.atLeast("epochs", epochs, 1);
             }
-            Require.inClosed("validationFraction", validationFraction, 0.0, 0.9);
+            Require.inClosed("checkpointFraction", checkpointFraction, 0.0, 0.9);
             if (evaluateEvery != 0) {
                 Require.atLeast("evaluateEvery", evaluateEvery, 1);
             }
-            Require.atLeast("validationDraws", validationDraws, 1);
+            Require.atLeast("checkpointDraws", checkpointDraws, 1);
             Require.atLeast("patience", patience, 0);
             Require.notNull("logColumns", logColumns);
             Require.atLeast("threads", threads, 1);
             Require.notNull("listener", listener);
             Require.notNull("stopWhen", stopRequested);
-            return new FitOptions(cont, bin, hidden, embeddingSize, conditioning, variance, loss, hybridWeight,
+            return new FitOptions(cont, bin, hidden, embeddingSize, stepInput, variance, loss, hybridWeight,
                     stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
-                    batchSize, epochs, validationFraction, evaluateEvery, validationDraws, patience,
+                    batchSize, epochs, trainingSteps, checkpointFraction, evaluateEvery, evaluations, checkpointDraws, patience,
                     logColumns, seed, threads);
         }
 
@@ -348,7 +382,7 @@ public final class Backstep {
         }
 
         /**
-         * Validates every option, draws a validation split of {@link #validationFraction(double)}
+         * Validates every option, draws the checkpoint rows {@link #checkpointFraction(double)}
          * (seeded), and fits.
          *
          * @param training the table to model; rows with a missing cell are left out of training
@@ -358,22 +392,22 @@ public final class Backstep {
         public DiffusionModel fit(Table training) {
             FitOptions options = options();
             Require.notNull("training", training);
-            return Trainer.fit(options, training, null, listener, stopRequested);
+            return DiffusionModel.of(Trainer.fit(options, training, null, listener, stopRequested, null).parts());
         }
 
         /**
          * Validates every option and fits, evaluating the held-out bound on the given rows.
          *
          * @param training the table to model
-         * @param validation held-out rows with the same columns
+         * @param checkpointRows rows with the same columns on which the kept weights are chosen (not trained on)
          * @return the fitted model
          * @throws IllegalArgumentException naming the first bad option or the tables' problem
          */
-        public DiffusionModel fit(Table training, Table validation) {
+        public DiffusionModel fit(Table training, Table checkpointRows) {
             FitOptions options = options();
             Require.notNull("training", training);
-            Require.notNull("validation", validation);
-            return Trainer.fit(options, training, validation, listener, stopRequested);
+            Require.notNull("checkpointRows", checkpointRows);
+            return DiffusionModel.of(Trainer.fit(options, training, checkpointRows, listener, stopRequested, null).parts());
         }
 
         /**
@@ -385,8 +419,8 @@ public final class Backstep {
          * sampling at its T; recommends the smallest T whose bound lies within {@code tolerance} of
          * the best. See {@link TrainingPlan} for the formulas.
          *
-         * <p>How each model is fitted: as {@link #fit(Table)} does, with a validation split of
-         * {@link #validationFraction(double)} drawn from {@code training} (the same rows for every
+         * <p>How each model is fitted: as {@link #fit(Table)} does, with checkpoint rows of
+         * {@link #checkpointFraction(double)} drawn from {@code training} (the same rows for every
          * T) to keep the best averaged weights; the budget replaces {@link #epochs(int)}. The
          * held-out rows are used only for the report (at most 1,000 complete rows, spread evenly).
          * The models train in turns, each for 1/20 of its budget per round with the order rotating,
@@ -448,7 +482,8 @@ public final class Backstep {
                             + "', which is not a column of training " + training.names());
                 }
             }
-            return StepPlanner.planTraining(perSteps, training, heldOut, budget, tolerance, listener, stopRequested);
+            return StepPlanner.planTraining(perSteps, training, heldOut, budget, Defaults.PLANNER_ROUNDS, tolerance,
+                    listener, stopRequested);
         }
     }
 }

@@ -1,5 +1,6 @@
 package org.backstep;
 
+import org.backstep.option.BoundOptions;
 import org.backstep.report.BoundReport;
 
 import org.apache.commons.math3.distribution.NormalDistribution;
@@ -110,7 +111,7 @@ class BoundIdentityTest {
                 ColumnTransform.Kind.STANDARDIZE);
         Table data = draws(2000, 12);
         BoundReport exact = model.bound(data, 1);
-        BoundReport mc = model.boundMonteCarlo(data, 16, 2);
+        BoundReport mc = model.bound(data, BoundOptions.sampled(16), 2);
         double[] a = exact.nats();
         double[] b = mc.nats();
         double[] diff = new double[a.length];

@@ -1,5 +1,9 @@
 package org.backstep;
 
+import org.backstep.internal.chain.ReverseRun;
+import org.backstep.internal.chain.Chain;
+import org.backstep.option.BoundOptions;
+import org.backstep.option.ImputationOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.SamplerKind;
 import org.backstep.option.SamplingPlan;
@@ -53,7 +57,7 @@ class ConditionalOracleTest {
     private static final double[] KERNEL_PRODUCT_EXCESS = {0.1, 0.3};
     /** Quadrature of the Gaussian product's moments (commons-math3 Legendre-Gauss), relative to its sd or variance. */
     private static final double QUADRATURE_TOLERANCE = 1e-8;
-    /** Probabilities kept off 0 and 1 by {@link Chain#PROB_FLOOR} differ from the exact ones by about that much. */
+    /** Probabilities kept off 0 and 1 by {@link org.backstep.posterior.Divergence#PROBABILITY_FLOOR} differ from the exact ones by about that much. */
     private static final double FLOOR_TOLERANCE = 1e-6;
 
     private static final double[] MU = ImputationCases.MU;
@@ -88,7 +92,7 @@ class ConditionalOracleTest {
     @Test
     void replacementMatchesSchurComplement() {
         ImputationCases.Case c = ImputationCases.gaussian(RECORDS, 3);
-        Imputation imp = GAUSS.impute(c.records(), DRAWS, 0.9, 100, 1, Conditioning.REPLACEMENT, 17);
+        Imputation imp = GAUSS.impute(c.records(), new ImputationOptions(DRAWS, 0.9, 100, 1, Conditioning.REPLACEMENT), 17);
         observedCellsUnchanged(c, imp);
         ImputationCases.Continuous f = ImputationCases.continuous(imp, c);
         assertIssueTargets(f);
@@ -105,7 +109,7 @@ class ConditionalOracleTest {
     @Test
     void kernelProductMatchesSchurComplementExceptForItsVariance() {
         ImputationCases.Case c = ImputationCases.gaussian(RECORDS, 3);
-        Imputation imp = GAUSS.impute(c.records(), DRAWS, 0.9, 100, 1, Conditioning.KERNEL_PRODUCT, 17);
+        Imputation imp = GAUSS.impute(c.records(), new ImputationOptions(DRAWS, 0.9, 100, 1, Conditioning.KERNEL_PRODUCT), 17);
         observedCellsUnchanged(c, imp);
         ImputationCases.Continuous f = ImputationCases.continuous(imp, c);
         assertMeanAndCoverageTargets(f);
@@ -124,7 +128,7 @@ class ConditionalOracleTest {
     @CsvSource({"REPLACEMENT, 3", "KERNEL_PRODUCT, 5"})
     void resamplingMeetsTheTargetsRecordByRecord(Conditioning method, int rounds) {
         ImputationCases.Case c = ImputationCases.gaussian(RECORDS, 3);
-        Imputation imp = GAUSS.impute(c.records(), DRAWS, 0.9, 100, rounds, method, 17);
+        Imputation imp = GAUSS.impute(c.records(), new ImputationOptions(DRAWS, 0.9, 100, rounds, method), 17);
         observedCellsUnchanged(c, imp);
         ImputationCases.Continuous f = ImputationCases.continuous(imp, c);
         assertIssueTargets(f);
@@ -165,7 +169,7 @@ class ConditionalOracleTest {
     @CsvSource({"REPLACEMENT, 1.45", "KERNEL_PRODUCT, 1.55"})
     void continuousGivenBinaryMeetsMeanAndCoverage(Conditioning method, double varianceBound) {
         ImputationCases.Case c = ImputationCases.mixed(RECORDS, 4, true);
-        Imputation imp = MIXED.impute(c.records(), DRAWS, 0.9, 100, 1, method, 17);
+        Imputation imp = MIXED.impute(c.records(), new ImputationOptions(DRAWS, 0.9, 100, 1, method), 17);
         observedCellsUnchanged(c, imp);
         ImputationCases.Continuous f = ImputationCases.continuous(imp, c);
         assertMeanAndCoverageTargets(f);
@@ -185,7 +189,7 @@ class ConditionalOracleTest {
     @CsvSource({"REPLACEMENT, 0.13", "KERNEL_PRODUCT, 0.17"})
     void binaryGivenContinuousMatchesBayesRule(Conditioning method, double rmsBound) {
         ImputationCases.Case c = ImputationCases.mixed(RECORDS, 5, false);
-        Imputation imp = MIXED.impute(c.records(), DRAWS, 0.9, 100, 1, method, 17);
+        Imputation imp = MIXED.impute(c.records(), new ImputationOptions(DRAWS, 0.9, 100, 1, method), 17);
         observedCellsUnchanged(c, imp);
         for (Table t : imp.draws()) {
             for (int i = 0; i < c.records().rows(); i++) {
@@ -232,17 +236,16 @@ class ConditionalOracleTest {
     @Test
     void defaultOverloadsUseTheDefaultsAndAreDeterministic() {
         ImputationCases.Case c = ImputationCases.gaussian(20, 8);
-        Imputation viaDefault = GAUSS.impute(c.records(), 4, 0.9, 23);
-        Imputation explicit = GAUSS.impute(c.records(), 4, 0.9, Math.min(DiffusionModel.IMPUTATION_STEPS, GAUSS.steps()),
-                DiffusionModel.IMPUTATION_ROUNDS, DiffusionModel.IMPUTATION_CONDITIONING, 23);
+        Imputation viaDefault = GAUSS.impute(c.records(), Defaults.imputation().withDraws(4).withLevel(0.9), 23);
+        Imputation explicit = GAUSS.impute(c.records(), new ImputationOptions(4, 0.9, Math.min(Defaults.IMPUTATION_STEPS, GAUSS.steps()), Defaults.IMPUTATION_ROUNDS, Defaults.IMPUTATION_CONDITIONING), 23);
         // common practice, no source: same seed and settings, bit-identical draws
         assertEquals(explicit.draws(), viaDefault.draws());
-        Imputation sixArguments = GAUSS.impute(c.records(), 4, 0.9, 10, 2, 23);
-        assertEquals(GAUSS.impute(c.records(), 4, 0.9, 10, 2, DiffusionModel.IMPUTATION_CONDITIONING, 23).draws(),
+        Imputation sixArguments = GAUSS.impute(c.records(), Defaults.imputation().withDraws(4).withLevel(0.9).withSteps(10).withRounds(2), 23);
+        assertEquals(GAUSS.impute(c.records(), new ImputationOptions(4, 0.9, 10, 2, Defaults.IMPUTATION_CONDITIONING), 23).draws(),
                 sixArguments.draws());
-        Imputation product = GAUSS.impute(c.records(), 4, 0.9, 10, 2, Conditioning.KERNEL_PRODUCT, 23);
-        assertEquals(product.draws(), GAUSS.impute(c.records(), 4, 0.9, 10, 2, Conditioning.KERNEL_PRODUCT, 23).draws());
-        assertNotEquals(product.draws(), GAUSS.impute(c.records(), 4, 0.9, 10, 2, Conditioning.REPLACEMENT, 23).draws(),
+        Imputation product = GAUSS.impute(c.records(), new ImputationOptions(4, 0.9, 10, 2, Conditioning.KERNEL_PRODUCT), 23);
+        assertEquals(product.draws(), GAUSS.impute(c.records(), new ImputationOptions(4, 0.9, 10, 2, Conditioning.KERNEL_PRODUCT), 23).draws());
+        assertNotEquals(product.draws(), GAUSS.impute(c.records(), new ImputationOptions(4, 0.9, 10, 2, Conditioning.REPLACEMENT), 23).draws(),
                 "the two methods draw differently");
     }
 
@@ -259,11 +262,11 @@ class ConditionalOracleTest {
         NoiseSchedule binomial = NoiseSchedule.binomial(12);
         Chain full = new Chain(NoiseSchedule.linear(12), binomial, 0, 1, ReverseVariance.FIXED_BETA, new ConstantEstimator(1, 1, 0f));
         for (Chain chain : new Chain[] {full, full.strided(5)}) {
-            for (int k = 1; k <= chain.steps; k++) {
+            for (int k = 1; k <= chain.steps(); k++) {
                 for (int xk = 0; xk <= 1; xk++) {
                     for (int y = 0; y <= 1; y++) {
                         for (double pOne : new double[] {0.03, 0.5, 0.9}) {
-                            double expected = enumeratedProductOne(chain.binary, k, xk, pOne, y);
+                            double expected = enumeratedProductOne(chain.binarySchedule(), k, xk, pOne, y);
                             double got = ReverseRun.productBinaryOne(chain, k, xk, pOne, y);
                             assertEquals(expected, got, IDENTITY_TOLERANCE, "k " + k + ", x_k " + xk + ", y " + y + ", pOne " + pOne);
                         }
@@ -271,7 +274,7 @@ class ConditionalOracleTest {
                             // an estimator that is certain: the product stays a probability (no 0/0)
                             double got = ReverseRun.productBinaryOne(chain, k, xk, pOne, y);
                             assertTrue(got >= 0.0 && got <= 1.0, "k " + k + ": " + got);
-                            assertEquals(enumeratedProductOne(chain.binary, k, xk, pOne, y), got, FLOOR_TOLERANCE);
+                            assertEquals(enumeratedProductOne(chain.binarySchedule(), k, xk, pOne, y), got, FLOOR_TOLERANCE);
                         }
                     }
                 }
@@ -381,7 +384,7 @@ class ConditionalOracleTest {
             r[0] = y;
         }
         Table readings = Table.of(List.of("x0"), List.of(ColumnKind.CONTINUOUS), rows);
-        Denoising out = model.denoise(readings, new double[] {Math.sqrt(noiseVar)}, 20, 9);
+        Denoising out = model.denoise(readings, Defaults.denoising(new double[] {Math.sqrt(noiseVar)}).withDraws(20), 9);
         double mean = 0;
         double var = 0;
         for (int i = 0; i < n; i++) {
@@ -407,33 +410,34 @@ class ConditionalOracleTest {
         // common practice, no source: each message names what is wrong
         assertTrue(assertThrows(IllegalArgumentException.class, () -> model.bound(missing, 1)).getMessage().contains("row 0"));
         assertTrue(assertThrows(IllegalArgumentException.class, () -> model.bound(wrong, 1)).getMessage().contains("columns"));
-        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.impute(one, 0, 0.9, 1)).getMessage().contains("draws"));
-        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.impute(one, 2, 0.9, 10, 1, null, 1))
-                .getMessage().contains("conditioning"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.impute(one, Defaults.imputation().withDraws(0).withLevel(0.9), 1)).getMessage().contains("draws"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.impute(one, new ImputationOptions(2, 0.9, 10, 1, null), 1))
+                .getMessage().contains("method"));
         assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(one, 2, 1.0, 10, 1, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("level"));
+                () -> model.impute(one, new ImputationOptions(2, 1.0, 10, 1, Conditioning.KERNEL_PRODUCT), 1)).getMessage().contains("level"));
         assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(one, 2, 0.9, 0, 1, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("chainSteps"));
+                () -> model.impute(one, new ImputationOptions(2, 0.9, 0, 1, Conditioning.KERNEL_PRODUCT), 1)).getMessage().contains("steps"));
+        // steps is a most: past T the chain has T steps (ImputationOptions' contract)
+        assertEquals(model.impute(one, new ImputationOptions(2, 0.9, 100, 1, Conditioning.KERNEL_PRODUCT), 1).draws(),
+                model.impute(one, new ImputationOptions(2, 0.9, 101, 1, Conditioning.KERNEL_PRODUCT), 1).draws());
         assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(one, 2, 0.9, 101, 1, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("chainSteps"));
+                () -> model.impute(one, new ImputationOptions(2, 0.9, 10, 0, Conditioning.KERNEL_PRODUCT), 1)).getMessage().contains("rounds"));
         assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(one, 2, 0.9, 10, 0, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("rounds"));
+                () -> model.impute(one, new ImputationOptions(0, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT), 1)).getMessage().contains("draws"));
         assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(one, 0, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("draws"));
+                () -> model.impute(null, new ImputationOptions(2, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT), 1)).getMessage().contains("records"));
         assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(null, 2, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("records"));
-        assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> model.impute(wrong, 2, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT, 1)).getMessage().contains("columns"));
+                () -> model.impute(wrong, new ImputationOptions(2, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT), 1)).getMessage().contains("columns"));
         // the implicit sampler has no reverse kernel to multiply
         Chain chain = model.chain();
         float[] state = new float[1];
         float[] known = {1f};
-        assertTrue(assertThrows(IllegalArgumentException.class, () -> ReverseRun.run(chain, state, 1, chain.steps, known, 1,
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> ReverseRun.run(chain, state, 1, chain.steps(), known, 1,
                 SamplerKind.IMPLICIT, 0.0, Conditioning.KERNEL_PRODUCT, new java.util.SplittableRandom(1)))
                 .getMessage().contains("kind"));
-        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.denoise(one, new double[] {0.0}, 2, 1)).getMessage().contains("noiseSd"));
-        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.denoise(one, new double[] {-1.0}, 2, 1)).getMessage().contains("noiseSd"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.denoise(one, Defaults.denoising(new double[] {0.0}).withDraws(2), 1)).getMessage().contains("noiseSd"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.denoise(one, Defaults.denoising(new double[] {-1.0}).withDraws(2), 1)).getMessage().contains("noiseSd"));
         assertTrue(assertThrows(IllegalArgumentException.class, () -> model.sample(0, 1)).getMessage().contains("count"));
-        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.boundMonteCarlo(one, 0, 1)).getMessage().contains("draws"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> model.bound(one, BoundOptions.sampled(0), 1)).getMessage().contains("draws"));
     }
 }

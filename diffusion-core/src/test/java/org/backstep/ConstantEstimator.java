@@ -1,5 +1,6 @@
 package org.backstep;
 
+import org.backstep.internal.chain.Estimator;
 import org.nd4j.linalg.api.ndarray.INDArray;
 
 /**

@@ -1,5 +1,6 @@
 package org.backstep;
 
+import org.backstep.internal.chain.Estimator;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.SamplingPlan;
@@ -48,6 +49,6 @@ class DivergedChainTest {
                 () -> model.sample(4, SamplingPlan.implicit(10, 0.0), 1));
         assertTrue(implicit.getMessage().contains("diverged"), implicit.getMessage());
         Table holes = Table.of(List.of("a"), List.of(ColumnKind.CONTINUOUS), new double[][] {{Double.NaN}, {0.5}});
-        assertThrows(IllegalStateException.class, () -> model.impute(holes, 2, 0.9, 1));
+        assertThrows(IllegalStateException.class, () -> model.impute(holes, Defaults.imputation().withDraws(2).withLevel(0.9), 1));
     }
 }

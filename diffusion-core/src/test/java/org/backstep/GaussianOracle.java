@@ -1,5 +1,6 @@
 package org.backstep;
 
+import org.backstep.internal.chain.Estimator;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.TrainingLoss;
@@ -8,7 +9,7 @@ import org.apache.commons.math3.linear.Array2DRowRealMatrix;
 import org.apache.commons.math3.linear.LUDecomposition;
 import org.apache.commons.math3.linear.MatrixUtils;
 import org.apache.commons.math3.linear.RealMatrix;
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.ColumnTransform;
@@ -122,7 +123,7 @@ final class GaussianOracle implements Estimator {
             transforms.add(new ColumnTransform(kind, 0.0, 1.0));
         }
         FitOptions options = Backstep.builder().continuousSchedule(schedule).variance(ReverseVariance.LEARNED)
-                .loss(TrainingLoss.HYBRID).timeEmbedding(2, TimeConditioning.INPUT).hidden(1)
+                .loss(TrainingLoss.HYBRID).timeEmbedding(2, StepInput.INPUT).hidden(1)
                 .logColumns().threads(2).options();
         return DiffusionModel.withEstimator(options, TableTransform.of(names, kinds, transforms),
                 new GaussianOracle(schedule, mu, sigma));

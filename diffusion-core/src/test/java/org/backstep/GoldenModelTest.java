@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.internal.store.ModelFile;
+import org.backstep.internal.chain.Estimator;
 import org.backstep.option.FitOptions;
 import org.backstep.report.BoundReport;
 import org.backstep.training.Provenance;
@@ -9,13 +11,15 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;
 import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
-import org.backstep.net.DoubleReference;
-import org.backstep.net.NetworkShape;
-import org.backstep.net.TimeConditioning;
+import org.backstep.internal.net.DoubleReference;
+import org.backstep.internal.net.NetworkShape;
+import org.backstep.option.StepInput;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
+import org.junit.jupiter.params.provider.ValueSource;
+import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.condition.EnabledIfSystemProperty;
 import org.nd4j.linalg.api.ndarray.INDArray;
@@ -66,9 +70,18 @@ class GoldenModelTest {
     private static final double REFERENCE_SHARE = 0.5;
 
     static final String FOLDER = "golden";
-    static final String MODEL = "model-v1.backstep";
-    static final String EXPECTED = "model-v1-expected.json";
-    static final String TRAINING = "model-v1-training.csv";
+    /** The golden files of format version v: the model, the figures expected of it, its training table. */
+    static String model(int v) {
+        return "model-v" + v + ".backstep";
+    }
+
+    static String expected(int v) {
+        return "model-v" + v + "-expected.json";
+    }
+
+    static String training(int v) {
+        return "model-v" + v + "-training.csv";
+    }
     /** Seeds of the golden figures. */
     static final long FIT_SEED = 20260;
     static final long BOUND_SEED = 11;
@@ -79,16 +92,20 @@ class GoldenModelTest {
 
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
-    @Test
-    void goldenModelStillLoadsAndGivesTheSameNumbers() throws Exception {
-        JsonNode expected = JSON.readTree(resource(EXPECTED));
+    @ParameterizedTest(name = "format version {0}")
+    @ValueSource(ints = {1, 2})
+    void goldenModelStillLoadsAndGivesTheSameNumbers(int version) throws Exception {
+        String MODEL = model(version);
+        String TRAINING = training(version);
+        JsonNode expected = JSON.readTree(resource(expected(version)));
         Path file = Path.of(resource(MODEL).toURI());
 
         // the container: the three entries of format version 1 (ModelFile's Javadoc)
         assertEquals(new TreeSet<>(List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS, ModelFile.SUMS)), zipEntries(file),
                 "entries of the golden file");
-        assertEquals(1, ModelFile.VERSION, "this test pins format version 1; add a golden file for a new version");
-        assertEquals(ModelFile.VERSION, expected.path("formatVersion").asInt());
+        assertEquals(2, ModelFile.VERSION, "this test pins format versions 1 and 2; add a golden file for a new version");
+        assertTrue(ModelFile.OLDEST_VERSION <= version, "version " + version + " must still load");
+        assertEquals(version, expected.path("formatVersion").asInt());
 
         DiffusionModel model = DiffusionModel.load(file);
 
@@ -117,7 +134,7 @@ class GoldenModelTest {
         assertEquals(ep.path("trainingSeconds").asDouble(), p.trainingSeconds());
         assertEquals(ep.path("tableRows").asInt(), p.tableRows());
         assertEquals(ep.path("trainingRows").asInt(), p.trainingRows());
-        assertEquals(ep.path("validationRows").asInt(), p.validationRows());
+        assertEquals(ep.path(version == 1 ? "validationRows" : "checkpointRows").asInt(), p.checkpointRows());
         assertEquals(ep.path("tableSha256").asText(), p.tableSha256());
         assertEquals(EPOCHS, p.history().size());
         assertEquals(ep.path("historyLosses").size(), p.history().size());
@@ -148,15 +165,18 @@ class GoldenModelTest {
         }
     }
 
-    @Test
-    void goldenFiguresHoldForADoublePrecisionNetwork() throws Exception {
+    @ParameterizedTest(name = "format version {0}")
+    @ValueSource(ints = {1, 2})
+    void goldenFiguresHoldForADoublePrecisionNetwork(int version) throws Exception {
+        String EXPECTED = expected(version);
+        String MODEL = model(version);
         // The same weights evaluated by DoubleReference (plain double loops written from the
         // network's documented formula) instead of ND4J's float32 kernels: what is left is float32
         // rounding, which is what differs between machines. It must fit well inside the tolerance.
         JsonNode expected = JSON.readTree(resource(EXPECTED));
         DiffusionModel model = DiffusionModel.load(Path.of(resource(MODEL).toURI()));
         DiffusionModel reference = DiffusionModel.withEstimator(model.options(), model.transform(),
-                doublePrecision(model.network().shape(), model.network().parameters()));
+                doublePrecision(model.parts().network().shape(), model.parts().network().parameters()));
         double tol = REFERENCE_SHARE * GOLDEN_REL_TOL;
         Table records = recordsOf(expected.path("records"), model);
         assertClose(doubles(expected.path("boundNats")), reference.bound(records, expected.path("boundSeed").asLong()).nats(),
@@ -208,6 +228,9 @@ class GoldenModelTest {
         Path folder = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
                 .resolve("src/test/resources").resolve(FOLDER);
         Files.createDirectories(folder);
+        String TRAINING = training(ModelFile.VERSION);
+        String MODEL = model(ModelFile.VERSION);
+        String EXPECTED = expected(ModelFile.VERSION);
 
         Table training = sensorTable(300, 5);
         CsvTables.writer().write(training, folder.resolve(TRAINING));
@@ -215,8 +238,8 @@ class GoldenModelTest {
         assertEquals(training, back, "CSV round trip of the training table");
 
         DiffusionModel fitted = Backstep.builder().continuousSchedule(goldenSchedule()).hidden(16, 16)
-                .timeEmbedding(8, TimeConditioning.EVERY_BLOCK).epochs(EPOCHS).batchSize(64).learningRate(3e-3)
-                .validationFraction(0.1).seed(FIT_SEED).threads(2).fit(back);
+                .timeEmbedding(8, StepInput.EVERY_BLOCK).epochs(EPOCHS).batchSize(64).learningRate(3e-3)
+                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).fit(back);
         Path modelFile = folder.resolve(MODEL);
         fitted.save(modelFile);
         DiffusionModel model = DiffusionModel.load(modelFile);
@@ -265,7 +288,7 @@ class GoldenModelTest {
         prov.put("trainingSeconds", p.trainingSeconds());
         prov.put("tableRows", p.tableRows());
         prov.put("trainingRows", p.trainingRows());
-        prov.put("validationRows", p.validationRows());
+        prov.put("checkpointRows", p.checkpointRows());
         prov.put("tableSha256", p.tableSha256());
         ArrayNode losses = prov.putArray("historyLosses");
         p.history().forEach(e -> losses.add(e.loss()));

@@ -1,5 +1,6 @@
 package org.backstep;
 
+import org.backstep.option.ImputationOptions;
 import org.backstep.report.Imputation;
 
 import org.backstep.option.Conditioning;
@@ -42,8 +43,8 @@ class ImputationMethodsMeasurement {
         ImputationCases.Case xGivenB = ImputationCases.mixed(RECORDS, 4, true);
         ImputationCases.Case bGivenX = ImputationCases.mixed(RECORDS, 5, false);
         for (Conditioning method : Conditioning.values()) {     // warm-up, so that the first row's time is not the JIT's
-            gauss.impute(g.records(), 10, 0.9, 100, 1, method, SEED);
-            mixed.impute(bGivenX.records(), 10, 0.9, 100, 1, method, SEED);
+            gauss.impute(g.records(), new ImputationOptions(10, 0.9, 100, 1, method), SEED);
+            mixed.impute(bGivenX.records(), new ImputationOptions(10, 0.9, 100, 1, method), SEED);
         }
 
         List<String> lines = new ArrayList<>(List.of(
@@ -82,9 +83,9 @@ class ImputationMethodsMeasurement {
                 int steps = st[0];
                 int rounds = st[1];
                 long start = System.nanoTime();
-                Imputation ig = gauss.impute(g.records(), DRAWS, 0.9, steps, rounds, method, SEED);
-                Imputation ix = mixed.impute(xGivenB.records(), DRAWS, 0.9, steps, rounds, method, SEED);
-                Imputation ib = mixed.impute(bGivenX.records(), DRAWS, 0.9, steps, rounds, method, SEED);
+                Imputation ig = gauss.impute(g.records(), new ImputationOptions(DRAWS, 0.9, steps, rounds, method), SEED);
+                Imputation ix = mixed.impute(xGivenB.records(), new ImputationOptions(DRAWS, 0.9, steps, rounds, method), SEED);
+                Imputation ib = mixed.impute(bGivenX.records(), new ImputationOptions(DRAWS, 0.9, steps, rounds, method), SEED);
                 double seconds = (System.nanoTime() - start) / 1e9;
                 ImputationCases.Continuous fg = ImputationCases.continuous(ig, g);
                 ImputationCases.Continuous fx = ImputationCases.continuous(ix, xGivenB);

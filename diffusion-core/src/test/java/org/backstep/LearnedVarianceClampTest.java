@@ -1,5 +1,7 @@
 package org.backstep;
 
+import org.backstep.internal.chain.Chain;
+import org.backstep.internal.chain.Estimator;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 

@@ -1,10 +1,12 @@
 package org.backstep;
 
+import org.backstep.internal.chain.Chain;
+import org.backstep.internal.chain.Estimator;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.TrainingLoss;
 
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.posterior.BinomialDiffusion;
 import org.backstep.posterior.GaussianDiffusion;
 import org.backstep.schedule.NoiseSchedule;
@@ -125,7 +127,7 @@ final class MixedOracle implements Estimator {
     static DiffusionModel model(NoiseSchedule schedule, double pi, double m0, double m1, double s) {
         NoiseSchedule bin = NoiseSchedule.binomial(schedule.steps());
         FitOptions options = Backstep.builder().continuousSchedule(schedule).binarySchedule(bin)
-                .variance(ReverseVariance.LEARNED).loss(TrainingLoss.HYBRID).timeEmbedding(2, TimeConditioning.INPUT)
+                .variance(ReverseVariance.LEARNED).loss(TrainingLoss.HYBRID).timeEmbedding(2, StepInput.INPUT)
                 .hidden(1).logColumns().threads(2).options();
         TableTransform transform = TableTransform.of(List.of("x", "b"), List.of(ColumnKind.CONTINUOUS, ColumnKind.BINARY),
                 List.of(new ColumnTransform(ColumnTransform.Kind.STANDARDIZE, 0.0, 1.0), ColumnTransform.identity()));

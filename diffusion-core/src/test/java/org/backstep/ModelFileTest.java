@@ -1,8 +1,9 @@
 package org.backstep;
 
+import org.backstep.internal.store.ModelFile;
 import org.backstep.io.ModelFileException;
 
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.junit.jupiter.api.BeforeAll;
@@ -44,7 +45,7 @@ class ModelFileTest {
         }
         data = Table.of(List.of("supply", "return", "door"),
                 List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.BINARY), rows);
-        model = Backstep.builder().steps(20).hidden(16, 16).timeEmbedding(8, TimeConditioning.INPUT).epochs(3)
+        model = Backstep.builder().steps(20).hidden(16, 16).timeEmbedding(8, StepInput.INPUT).epochs(3)
                 .batchSize(64).seed(5).threads(2).fit(data);
     }
 
@@ -53,7 +54,7 @@ class ModelFileTest {
         Path f = dir.resolve("m.backstep");
         model.save(f);
         DiffusionModel back = DiffusionModel.load(f);
-        assertArrayEquals(model.network().parameters(), back.network().parameters());
+        assertArrayEquals(model.parts().network().parameters(), back.parts().network().parameters());
         assertArrayEquals(model.bound(data, 3).nats(), back.bound(data, 3).nats());
         assertArrayEquals(model.sample(50, 4).toArray(), back.sample(50, 4).toArray());
         assertEquals(model.options(), back.options());
@@ -146,7 +147,7 @@ class ModelFileTest {
 
         e = entries(f);
         String manifest = new String(e.get(ModelFile.MANIFEST), StandardCharsets.UTF_8);
-        e.put(ModelFile.MANIFEST, manifest.replace("\"formatVersion\" : 1", "\"formatVersion\" : 99").getBytes(StandardCharsets.UTF_8));
+        e.put(ModelFile.MANIFEST, manifest.replace("\"formatVersion\" : " + ModelFile.VERSION, "\"formatVersion\" : 99").getBytes(StandardCharsets.UTF_8));
         e.put(ModelFile.SUMS, sums(e).getBytes(StandardCharsets.UTF_8));
         Path version = dir.resolve("version");
         write(version, e);
@@ -155,7 +156,7 @@ class ModelFileTest {
 
         e = entries(f);
         manifest = new String(e.get(ModelFile.MANIFEST), StandardCharsets.UTF_8);
-        int p = model.network().parameters().length;
+        int p = model.parts().network().parameters().length;
         e.put(ModelFile.MANIFEST, manifest.replace("\"parameters\" : " + p, "\"parameters\" : " + (p + 1))
                 .getBytes(StandardCharsets.UTF_8));
         e.put(ModelFile.SUMS, sums(e).getBytes(StandardCharsets.UTF_8));

@@ -40,7 +40,7 @@ class OpenDataBoundTest {
      */
     private static Backstep.Builder builder() {
         return Backstep.builder().steps(100).hidden(64, 64).batchSize(32).epochs(2000).learningRate(1e-2)
-                .validationFraction(0.0).threads(2).seed(1);
+                .checkpointFraction(0.0).threads(2).seed(1);
     }
 
     static Table iris() throws Exception {
@@ -94,9 +94,9 @@ class OpenDataBoundTest {
             assertEquals(mean[j], t.shift(), IDENTITY_TOL * Math.abs(mean[j]), iris.name(j));
             assertEquals(sd[j], t.scale(), IDENTITY_TOL * sd[j], iris.name(j));
         }
-        // validationFraction 0: every training row was trained on, and no test row was seen
+        // checkpointFraction 0: every training row was trained on, and no test row was seen
         assertEquals(train.rows(), model.provenance().trainingRows());
-        assertEquals(0, model.provenance().validationRows());
+        assertEquals(0, model.provenance().checkpointRows());
 
         BoundReport bound = model.bound(test, 7);
         assertEquals(BoundReport.Method.EXACT, bound.method());

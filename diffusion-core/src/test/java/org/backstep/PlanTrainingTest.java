@@ -1,12 +1,14 @@
 package org.backstep;
 
 
+import org.backstep.internal.train.TrainingRun;
+import org.backstep.internal.train.Trainer;
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.linear.LUDecomposition;
 import org.apache.commons.math3.linear.MatrixUtils;
 import org.apache.commons.math3.random.Well19937c;
 import org.apache.commons.math3.stat.descriptive.moment.StandardDeviation;
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.option.TrainingBudget;
 import org.backstep.report.TrainingPlan;
 import org.backstep.schedule.NoiseSchedule;
@@ -47,8 +49,8 @@ class PlanTrainingTest {
     private static final double[][] SIGMA = {{2.0, 0.9}, {0.9, 1.0}};
 
     private static Backstep.Builder tiny() {
-        return Backstep.builder().hidden(32, 32).timeEmbedding(16, TimeConditioning.EVERY_BLOCK).batchSize(128)
-                .validationFraction(0.0).threads(2).seed(3);
+        return Backstep.builder().hidden(32, 32).timeEmbedding(16, StepInput.EVERY_BLOCK).batchSize(128)
+                .checkpointFraction(0.0).threads(2).seed(3);
     }
 
     private static Table gaussian(int n, long seed) {
@@ -166,11 +168,11 @@ class PlanTrainingTest {
     @Test
     void pausingAFitDoesNotChangeIt() {
         Table t = gaussian(700, 9);
-        org.backstep.option.FitOptions options = tiny().steps(20).validationFraction(0.1).epochs(12).options();
+        org.backstep.option.FitOptions options = tiny().steps(20).checkpointFraction(0.1).epochs(12).options();
         for (TrainingBudget budget : new TrainingBudget[] {null, TrainingBudget.updates(50)}) {
-            Trainer.Fitted whole = Trainer.run(options, t, null, TrainingListener.NONE, () -> false, budget);
+            Trainer.Fitted whole = Trainer.fit(options, t, null, TrainingListener.NONE, () -> false, budget);
             Trainer.Fitted paused;
-            try (Trainer.Run run = new Trainer.Run(options, t, null, TrainingListener.NONE, () -> false, budget)) {
+            try (TrainingRun run = new TrainingRun(options, t, null, TrainingListener.NONE, () -> false, budget)) {
                 run.advance(7);       // inside the second epoch (5 minibatches of 128 per epoch)
                 run.advance(7);       // nothing to do
                 run.advance(33);
@@ -178,11 +180,11 @@ class PlanTrainingTest {
                 paused = run.finish();
             }
             // Determinism is a project rule (STYLE.md): the planner's turns must not change a model
-            assertArrayEquals(whole.model().network().parameters(), paused.model().network().parameters(),
+            assertArrayEquals(whole.parts().network().parameters(), paused.parts().network().parameters(),
                     "budget " + budget);
             assertEquals(whole.updates(), paused.updates());
-            assertEquals(whole.model().history().stream().map(EpochRecord::loss).toList(),
-                    paused.model().history().stream().map(EpochRecord::loss).toList());
+            assertEquals(whole.parts().provenance().history().stream().map(EpochRecord::loss).toList(),
+                    paused.parts().provenance().history().stream().map(EpochRecord::loss).toList());
         }
     }
 
@@ -191,10 +193,10 @@ class PlanTrainingTest {
         Table t = gaussian(2000, 8);
         AtomicInteger polls = new AtomicInteger();
         // stopped after 3 updates, long before the first scheduled held-out evaluation (epoch 5 of 100)
-        DiffusionModel m = tiny().validationFraction(0.1).epochs(100).stopWhen(() -> polls.incrementAndGet() >= 3).fit(t);
+        DiffusionModel m = tiny().checkpointFraction(0.1).epochs(100).stopWhen(() -> polls.incrementAndGet() >= 3).fit(t);
         // common practice, no source: the model returned on a stop is the evaluated average of the
         // updates done, not the untrained starting weights
-        assertTrue(m.history().get(m.history().size() - 1).heldOutBound().isPresent(), "the stop is evaluated");
+        assertTrue(m.history().get(m.history().size() - 1).checkpointBound().isPresent(), "the stop is evaluated");
         assertTrue(m.provenance().notes().stream().anyMatch(n -> n.startsWith("kept the averaged weights")
                 && !n.contains("Infinity")), m.provenance().notes().toString());
     }

@@ -1,5 +1,6 @@
 package org.backstep;
 
+import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.SamplingPlan;
 import org.backstep.option.TrainingLoss;
@@ -10,7 +11,7 @@ import org.backstep.training.TrainingProgress;
 
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.random.Well19937c;
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.quality.EnergyTest;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
@@ -42,8 +43,8 @@ class TrainedModelTest {
     private static final double ENERGY_LEVEL = 0.01;
 
     static Backstep.Builder small() {
-        return Backstep.builder().steps(100).hidden(64, 64).timeEmbedding(16, TimeConditioning.EVERY_BLOCK)
-                .batchSize(128).validationFraction(0.0).threads(2).seed(3);
+        return Backstep.builder().steps(100).hidden(64, 64).timeEmbedding(16, StepInput.EVERY_BLOCK)
+                .batchSize(128).checkpointFraction(0.0).threads(2).seed(3);
     }
 
     /**
@@ -138,10 +139,10 @@ class TrainedModelTest {
         DiffusionModel a = barelyTrained().epochs(3).fit(t);
         DiffusionModel b = barelyTrained().epochs(3).fit(t);
         // Determinism is a project rule (STYLE.md): bit-identical weights and samples for the same seed
-        assertArrayEquals(a.network().parameters(), b.network().parameters());
+        assertArrayEquals(a.parts().network().parameters(), b.parts().network().parameters());
         assertArrayEquals(a.sample(300, 4).toArray(), b.sample(300, 4).toArray());
         DiffusionModel c = barelyTrained().seed(4).epochs(3).fit(t);
-        assertTrue(!java.util.Arrays.equals(a.network().parameters(), c.network().parameters()), "another seed, other weights");
+        assertTrue(!java.util.Arrays.equals(a.parts().network().parameters(), c.parts().network().parameters()), "another seed, other weights");
     }
 
     @Test
@@ -149,7 +150,7 @@ class TrainedModelTest {
         Table t = gaussian(600, 7, new double[] {0, 0}, new double[][] {{1, 0.5}, {0.5, 1}});
         DiffusionModel a = barelyTrained().epochs(2).fit(t);
         DiffusionModel one = DiffusionModel.withEstimator(barelyTrained().threads(1).epochs(2).options(), a.transform(),
-                new NetworkEstimator(a.network()));
+                new NetworkEstimator(a.parts().network()));
         // chunk-seeded generators (our design): same samples whatever the thread count
         assertArrayEquals(a.sample(700, 5).toArray(), one.sample(700, 5).toArray());
     }
@@ -158,12 +159,12 @@ class TrainedModelTest {
     void lossGoesDownAndListenerHearsEveryEpoch() {
         Table t = gaussian(2000, 8, new double[] {0, 0}, new double[][] {{1, 0.8}, {0.8, 1}});
         List<TrainingProgress> seen = new ArrayList<>();
-        DiffusionModel m = small().epochs(20).validationFraction(0.1).listener(seen::add).fit(t);
+        DiffusionModel m = small().epochs(20).checkpointFraction(0.1).listener(seen::add).fit(t);
         List<EpochRecord> h = m.history();
         assertEquals(20, h.size());
         // common practice, no source: training reduces the loss
         assertTrue(h.get(h.size() - 1).loss() < h.get(0).loss(), "loss " + h.get(0).loss() + " -> " + h.get(h.size() - 1).loss());
-        assertTrue(h.stream().anyMatch(e -> e.heldOutBound().isPresent()));
+        assertTrue(h.stream().anyMatch(e -> e.checkpointBound().isPresent()));
         assertTrue(seen.stream().filter(p -> p.step() == p.totalSteps()).count() >= 1);
         assertEquals(20, seen.get(seen.size() - 1).epoch());
     }
@@ -185,12 +186,12 @@ class TrainedModelTest {
         // common practice, no source: each message names the option
         assertMessage("steps", () -> small().steps(0).listener(l).fit(t));
         assertMessage("hidden[1]", () -> small().hidden(8, 0).listener(l).fit(t));
-        assertMessage("embeddingSize", () -> small().timeEmbedding(7, TimeConditioning.INPUT).listener(l).fit(t));
+        assertMessage("embeddingSize", () -> small().timeEmbedding(7, StepInput.INPUT).listener(l).fit(t));
         assertMessage("learningRate", () -> small().learningRate(-1).listener(l).fit(t));
         assertMessage("batchSize", () -> small().batchSize(0).listener(l).fit(t));
         assertMessage("HYBRID", () -> small().loss(TrainingLoss.HYBRID).variance(ReverseVariance.FIXED_BETA).listener(l).fit(t));
         assertMessage("SIMPLE", () -> small().loss(TrainingLoss.SIMPLE).variance(ReverseVariance.LEARNED).listener(l).fit(t));
-        assertMessage("validationFraction", () -> small().validationFraction(0.95).listener(l).fit(t));
+        assertMessage("checkpointFraction", () -> small().checkpointFraction(0.95).listener(l).fit(t));
         assertMessage("emaDecay", () -> small().emaDecay(1.0).listener(l).fit(t));
         assertMessage("threads", () -> small().threads(0).listener(l).fit(t));
         assertMessage("logColumns", () -> small().logColumns("nope").listener(l).fit(t));

@@ -1,5 +1,6 @@
 package org.backstep.bench;
 
+import org.backstep.option.BoundOptions;
 import java.util.concurrent.TimeUnit;
 
 import org.backstep.report.BoundReport;
@@ -67,6 +68,6 @@ public class BoundBenchmark {
     /** @return the Monte Carlo estimate of every record's bound */
     @Benchmark
     public BoundReport monteCarlo() {
-        return model.boundMonteCarlo(records, DRAWS, 5);
+        return model.bound(records, BoundOptions.sampled(DRAWS), 5);
     }
 }

@@ -8,7 +8,7 @@ import org.backstep.Backstep;
 import org.backstep.DiffusionModel;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
-import org.backstep.net.TimeConditioning;
+import org.backstep.option.StepInput;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 
@@ -72,7 +72,7 @@ final class Fixtures {
                 .steps(steps)
                 .hidden(HIDDEN)
                 .epochs(1)
-                .validationFraction(0.0)
+                .checkpointFraction(0.0)
                 .threads(threads)
                 .seed(seed)
                 .fit(telemetry(1024, columns, seed));
@@ -90,7 +90,7 @@ final class Fixtures {
         int d = model.dimensions();
         int outputs = o.variance() == ReverseVariance.LEARNED ? 2 * d : d;   // all columns continuous here
         return forwardFlopsPerRow(d, o.hidden(), outputs, o.embeddingSize(),
-                o.conditioning() == TimeConditioning.EVERY_BLOCK);
+                o.stepInput() == StepInput.EVERY_BLOCK);
     }
 
     /**

@@ -3,12 +3,12 @@ package org.backstep.bench;
 import java.util.Random;
 import java.util.concurrent.TimeUnit;
 
-import org.backstep.net.AdamOptimizer;
-import org.backstep.net.NetworkShape;
-import org.backstep.net.ParallelStep;
-import org.backstep.net.ReverseNetwork;
-import org.backstep.net.SquaredError;
-import org.backstep.net.TimeConditioning;
+import org.backstep.internal.net.AdamOptimizer;
+import org.backstep.internal.net.NetworkShape;
+import org.backstep.internal.net.ParallelStep;
+import org.backstep.internal.net.ReverseNetwork;
+import org.backstep.internal.net.SquaredError;
+import org.backstep.option.StepInput;
 import org.nd4j.linalg.api.ndarray.INDArray;
 import org.nd4j.linalg.factory.Nd4j;
 import org.openjdk.jmh.annotations.Benchmark;
@@ -74,7 +74,7 @@ public class TrainingStepBenchmark {
         boolean reference = "reference".equals(columns);
         int in = reference ? 128 : Integer.parseInt(columns);
         int out = reference ? 64 : in;
-        return new NetworkShape(in, new int[] {WIDTH, WIDTH, WIDTH}, out, EMBEDDING, TimeConditioning.INPUT);
+        return new NetworkShape(in, new int[] {WIDTH, WIDTH, WIDTH}, out, EMBEDDING, StepInput.INPUT);
     }
 
     /** Multiply-adds of forward and backward, times 2 flops each: 2 * batch * sum_j fanIn_j fanOut_j * 3. */

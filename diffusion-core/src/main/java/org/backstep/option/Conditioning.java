@@ -1,6 +1,5 @@
 package org.backstep.option;
 
-import org.backstep.DiffusionModel;
 
 /**
  * How imputation holds the reverse chain to a record's observed cells, so that its missing cells
@@ -11,7 +10,7 @@ import org.backstep.DiffusionModel;
  * whole row one step back up, x_k ~ q(x_k | x_{k-1}) (Lugmayr et al. 2022, algorithm 1).
  *
  * <p>The measurement that chose the default is in the Javadoc of
- * {@link DiffusionModel#IMPUTATION_CONDITIONING}.
+ * {@code org.backstep.Defaults#IMPUTATION_CONDITIONING}.
  */
 public enum Conditioning {
     /**
@@ -23,7 +22,7 @@ public enum Conditioning {
      * (Ho et al. 2020, eq. 4; Sohl-Dickstein et al. 2015, appendix on binomial diffusion), the
      * observed value itself at k - 1 = 0 (Lugmayr et al. 2022, algorithm 1). The draw is
      * independent of the chain's state, so the missing cells feel the observed ones only through
-     * the estimator at the next step. The default ({@link DiffusionModel#IMPUTATION_CONDITIONING}).
+     * the estimator at the next step. The default ({@code org.backstep.Defaults#IMPUTATION_CONDITIONING}).
      *
      * <p>Measured on 2-D Gaussian data without resampling: mean, variance (ratio 1.08) and
      * coverage within the imputation targets, but the imputed means follow the observed cell with
@@ -56,7 +55,7 @@ public enum Conditioning {
      * <p>Measured: at the same cost its draws were further from the exact conditional than
      * replacement's in every case (on 2-D Gaussian data without resampling, variance ratio 1.19
      * against 1.08 and slope of the imputed on the exact means 0.61 against 0.77; see
-     * {@link DiffusionModel#IMPUTATION_CONDITIONING}). A likely cause is the choice of r: perturbed
+     * {@code org.backstep.Defaults#IMPUTATION_CONDITIONING}). A likely cause is the choice of r: perturbed
      * kernels aim at the marginals p~(x_t) proportional to p(x_t) r(x_t) (section 2.5.1), so the
      * observed cells' marginal becomes p(x_{k-1}) q(x_{k-1} | x_0 = y) rather than
      * q(x_{k-1} | x_0 = y) (for standard normal data, centred at sqrt(alpha-bar) y / (2 - alpha-bar)

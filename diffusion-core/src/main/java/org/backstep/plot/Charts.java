@@ -164,9 +164,9 @@ public final class Charts {
             EpochRecord r = history.get(i);
             e[i] = r.epoch();
             l[i] = r.loss();
-            if (r.heldOutBound().isPresent()) {
+            if (r.checkpointBound().isPresent()) {
                 be.add((double) r.epoch());
-                bv.add(r.heldOutBound().getAsDouble());
+                bv.add(r.checkpointBound().getAsDouble());
             }
         }
         c.addSeries("training loss", e, l).setMarker(SeriesMarkers.NONE);

@@ -2,9 +2,6 @@ package org.backstep.posterior;
 
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;
-import org.nd4j.linalg.api.buffer.DataType;
-import org.nd4j.linalg.api.ndarray.INDArray;
-import org.nd4j.linalg.ops.transforms.Transforms;
 
 /**
  * The binomial diffusion of binary data of Sohl-Dickstein, Weiss, Maheswaranathan &amp; Ganguli
@@ -25,8 +22,7 @@ import org.nd4j.linalg.ops.transforms.Transforms;
  *
  * <p>Values x_0 may be probabilities P(x_0 = 1) in [0, 1]: the marginal and transition are linear
  * in them, and the posterior is averaged over x_0 (see {@link #posteriorOne(int, double, double)}).
- * Batched forms take rows = records, columns = bits, float32 or float64, one step per row, never
- * modify their arguments and return new arrays in the inputs' data type.
+ * Every method works on one cell, in double.
  */
 public final class BinomialDiffusion {
 
@@ -177,80 +173,6 @@ public final class BinomialDiffusion {
         return Math.max(0.0, u * atanh + 0.5 * Math.log1p(-u * u));
     }
 
-    // ------------------------------------------------------------------ batched forms
-
-    /**
-     * Draws x_t from q(x_t | x_0) given uniforms: 1 where uniforms &lt; x_0 gamma_t + (1 - gamma_t)/2,
-     * else 0, row i at step t[i].
-     *
-     * @param x0 rows x D bits or probabilities in [0, 1] (not modified)
-     * @param t one step per row, each 0..T (not modified)
-     * @param uniforms rows x D draws from U(0, 1) (not modified)
-     * @return a new rows x D array of 0 and 1
-     * @throws IllegalArgumentException on shape or type mismatch (both shapes named), a bad step or
-     *     x0 outside [0, 1]
-     */
-    public INDArray marginalSample(INDArray x0, int[] t, INDArray uniforms) {
-        Rows.requireBatch("x0", x0);
-        Rows.requireSameShape("x0", x0, "uniforms", uniforms);
-        Rows.requireSteps(t, x0.rows(), "x0", 0, steps);
-        Rows.requireProbabilities("x0", x0);
-        INDArray one = marginalOne(x0, t);
-        return uniforms.lt(one).castTo(x0.dataType());
-    }
-
-    /** q(x_t = 1 | x_0) cell by cell: x0 gamma_t + (1 - gamma_t)/2. */
-    private INDArray marginalOne(INDArray x0, int[] t) {
-        DataType type = x0.dataType();
-        return x0.mulColumnVector(Rows.column(gamma, t, type)).addiColumnVector(Rows.column(halfOneMinusGamma, t, type));
-    }
-
-    /**
-     * {@link #posteriorOne(int, double, double)} cell by cell: with post_b = xt q(.|1, x0=b) +
-     * (1 - xt) q(.|0, x0=b) selected exactly by the bit xt, returns post0 + p0 (post1 - post0),
-     * clamped to [0, 1].
-     *
-     * @param p0 rows x D probabilities P(x_0 = 1), in [0, 1] (not modified)
-     * @param xt rows x D bits, 0 or 1 (not modified)
-     * @param t one step per row, each 1..T (not modified)
-     * @return a new rows x D array of probabilities that x_{t-1} = 1
-     * @throws IllegalArgumentException on shape or type mismatch (both shapes named), a bad step,
-     *     p0 outside [0, 1] or xt not all bits
-     */
-    public INDArray posteriorOne(INDArray p0, INDArray xt, int[] t) {
-        Rows.requireBatch("p0", p0);
-        Rows.requireSameShape("p0", p0, "xt", xt);
-        Rows.requireSteps(t, p0.rows(), "p0", 1, steps);
-        Rows.requireProbabilities("p0", p0);
-        Rows.requireBits("xt", xt);
-        DataType type = p0.dataType();
-        INDArray notXt = xt.rsub(1.0);
-        INDArray post1 = xt.mulColumnVector(Rows.column(posterior[1][1], t, type))
-                .addi(notXt.mulColumnVector(Rows.column(posterior[1][0], t, type)));
-        INDArray post0 = xt.mulColumnVector(Rows.column(posterior[0][1], t, type))
-                .addi(notXt.muliColumnVector(Rows.column(posterior[0][0], t, type)));
-        INDArray result = post1.subi(post0).muli(p0).addi(post0);
-        return Transforms.min(Transforms.max(result, 0.0, false), 1.0, false);
-    }
-
-    /**
-     * Per-row sum of {@link #priorKl(double)}, in the same form: u = (2 x_0 - 1) gamma_T,
-     * KL = u atanh(u) + log1p(-u^2) / 2 cell by cell.
-     *
-     * @param x0 rows x D bits or probabilities in [0, 1] (not modified)
-     * @return a new vector of length rows, in nats
-     */
-    public INDArray priorKl(INDArray x0) {
-        Rows.requireBatch("x0", x0);
-        Rows.requireProbabilities("x0", x0);
-        double limit = 1.0 - (x0.dataType() == DataType.FLOAT ? Math.ulp(1.0f) : Math.ulp(1.0));
-        INDArray u = x0.mul(2.0).subi(1.0).muli(gamma[steps]);
-        Transforms.min(Transforms.max(u, -limit, false), limit, false);
-        INDArray kl = Transforms.atanh(u, true).muli(u).addi(Elementwise.log1p(u.mul(u).negi()).muli(0.5));
-        return Transforms.max(kl.sum(1), 0.0, false);
-    }
-
-    /** @return the schedule's description */
     @Override
     public String toString() {
         return "BinomialDiffusion[" + schedule + "]";

@@ -2,8 +2,6 @@ package org.backstep.posterior;
 
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;
-import org.nd4j.linalg.api.buffer.DataType;
-import org.nd4j.linalg.api.ndarray.INDArray;
 
 /**
  * The Gaussian diffusion of Ho, Jain &amp; Abbeel 2020 ("Denoising Diffusion Probabilistic
@@ -19,9 +17,8 @@ import org.nd4j.linalg.api.ndarray.INDArray;
  * when the object is made. Steps t run over 1..T of the given schedule (a strided schedule's own
  * steps); the marginal also accepts t = 0, where it is x_0 itself.
  *
- * <p>Scalar forms work on one coordinate. Batched forms take rows = records and columns =
- * dimensions, as float32 or float64 INDArrays of one type, with one step per row; they never
- * modify their arguments and return new arrays in the inputs' data type. A schedule whose last
+ * <p>Every method works on one coordinate, in double; the engine's chain
+ * ({@code org.backstep.internal.chain.Chain}) tabulates these coefficients once. A schedule whose last
  * beta is 1 (alpha-bar_T = 0) is allowed: x_T is then pure noise and only
  * {@link #x0FromEpsilon(int, double, double)} at that step is refused.
  */
@@ -211,108 +208,6 @@ public final class GaussianDiffusion {
         return Divergence.gaussianKl(sqrtAlphaBar[steps] * x0, Math.log(schedule.oneMinusAlphaBar(steps)), 0.0, 0.0);
     }
 
-    // ------------------------------------------------------------------ batched forms
-
-    /**
-     * Draws x_t from q(x_t | x_0) by the reparameterization of eq. 4 (Ho et al. 2020, section 3.2):
-     * x_t = sqrt(abar_t) x_0 + sqrt(1 - abar_t) noise, row i at step t[i].
-     *
-     * @param x0 rows x D clean data (not modified)
-     * @param t one step per row, each 0..T (not modified)
-     * @param noise rows x D standard normal draws (not modified)
-     * @return a new rows x D array
-     * @throws IllegalArgumentException on shape or type mismatch (both shapes named) or a bad step
-     */
-    public INDArray marginalSample(INDArray x0, int[] t, INDArray noise) {
-        Rows.requireBatch("x0", x0);
-        Rows.requireSameShape("x0", x0, "noise", noise);
-        Rows.requireSteps(t, x0.rows(), "x0", 0, steps);
-        DataType type = x0.dataType();
-        return x0.mulColumnVector(Rows.column(sqrtAlphaBar, t, type))
-                .addi(noise.mulColumnVector(Rows.column(sqrtOneMinusAlphaBar, t, type)));
-    }
-
-    /**
-     * The posterior mean mu~_t(x_t, x_0) of eq. 7 (Ho et al. 2020) row by row.
-     *
-     * @param x0 rows x D clean data (not modified)
-     * @param xt rows x D noisy data (not modified)
-     * @param t one step per row, each 1..T (not modified)
-     * @return a new rows x D array
-     * @throws IllegalArgumentException on shape or type mismatch (both shapes named) or a bad step
-     */
-    public INDArray posteriorMean(INDArray x0, INDArray xt, int[] t) {
-        Rows.requireBatch("x0", x0);
-        Rows.requireSameShape("x0", x0, "xt", xt);
-        Rows.requireSteps(t, x0.rows(), "x0", 1, steps);
-        DataType type = x0.dataType();
-        return x0.mulColumnVector(Rows.column(coefX0, t, type))
-                .addi(xt.mulColumnVector(Rows.column(coefXt, t, type)));
-    }
-
-    /**
-     * {@link #posteriorLogVarianceClipped(int)} per row, as a float32 column.
-     *
-     * @param t one step per row, each 1..T (not modified)
-     * @return a new rows x 1 float32 array
-     */
-    public INDArray posteriorLogVarianceClipped(int[] t) {
-        return posteriorLogVarianceClipped(t, DataType.FLOAT);
-    }
-
-    /**
-     * {@link #posteriorLogVarianceClipped(int)} per row, as a column of the given type.
-     *
-     * @param t one step per row, each 1..T (not modified)
-     * @param type FLOAT or DOUBLE
-     * @return a new rows x 1 array
-     */
-    public INDArray posteriorLogVarianceClipped(int[] t, DataType type) {
-        Require.notNull("t", t);
-        if (type != DataType.FLOAT && type != DataType.DOUBLE) {
-            throw new IllegalArgumentException("type is " + type + "; expected FLOAT or DOUBLE");
-        }
-        Require.atLeast("number of steps in t", t.length, 1);
-        Rows.requireSteps(t, t.length, "the batch", 1, steps);
-        return Rows.column(logVarianceClipped, t, type);
-    }
-
-    /**
-     * x_0 from x_t and the noise row by row, eq. 4 solved for x_0 (Ho et al. 2020, section 3.2):
-     * x_0 = x_t / sqrt(abar_t) - sqrt(1 - abar_t)/sqrt(abar_t) eps.
-     *
-     * @param xt rows x D noisy data (not modified)
-     * @param eps rows x D noise, e.g. a network's prediction (not modified)
-     * @param t one step per row, each 1..T with abar_t &gt; 0 (not modified)
-     * @return a new rows x D array
-     * @throws IllegalArgumentException on shape or type mismatch (both shapes named) or a bad step
-     */
-    public INDArray x0FromEpsilon(INDArray xt, INDArray eps, int[] t) {
-        Rows.requireBatch("xt", xt);
-        Rows.requireSameShape("xt", xt, "eps", eps);
-        Rows.requireSteps(t, xt.rows(), "xt", 1, steps);
-        for (int i = 0; i < t.length; i++) {
-            requireRecoverable(t[i], "t[" + i + "]");
-        }
-        DataType type = xt.dataType();
-        return xt.mulColumnVector(Rows.column(recipSqrtAlphaBar, t, type))
-                .subi(eps.mulColumnVector(Rows.column(epsToX0, t, type)));
-    }
-
-    /**
-     * Per-row sum of {@link #priorKl(double)}: 1/2 abar_T sum_j x_j^2 + D/2 (-abar_T - log(1 - abar_T)).
-     *
-     * @param x0 rows x D clean data (not modified)
-     * @return a new vector of length rows, in nats
-     */
-    public INDArray priorKl(INDArray x0) {
-        Rows.requireBatch("x0", x0);
-        double abar = schedule.alphaBar(steps);
-        double perDimension = priorKl(0.0);     // 1/2 (-abar - log(1 - abar))
-        return x0.mul(x0).sum(1).muli(0.5 * abar).addi(x0.columns() * perDimension);
-    }
-
-    /** @return the schedule's description */
     @Override
     public String toString() {
         return "GaussianDiffusion[" + schedule + "]";

@@ -7,9 +7,9 @@ import java.util.OptionalDouble;
  *
  * @param epoch the epoch, 1-based
  * @param loss the mean training loss over the epoch's minibatches
- * @param heldOutBound the held-out bound, nats per record in model space (Monte Carlo estimate
+ * @param checkpointBound the held-out bound, nats per record in model space (Monte Carlo estimate
  *     with the averaged weights), where it was evaluated at this epoch
  * @param seconds wall time since training started, at the end of this epoch
  */
-public record EpochRecord(int epoch, double loss, OptionalDouble heldOutBound, double seconds) {
+public record EpochRecord(int epoch, double loss, OptionalDouble checkpointBound, double seconds) {
 }

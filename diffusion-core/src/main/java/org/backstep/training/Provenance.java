@@ -1,6 +1,5 @@
 package org.backstep.training;
 
-import org.backstep.Backstep;
 import org.backstep.option.FitOptions;
 
 import org.backstep.table.Table;
@@ -22,19 +21,39 @@ import java.util.Properties;
  * @param trainingSeconds wall time of training
  * @param tableRows rows of the table given to fit
  * @param trainingRows rows trained on (complete rows of the training part)
- * @param validationRows complete held-out rows
+ * @param checkpointRows complete checkpoint rows (the trainer's own split, on which the kept weights were chosen)
  * @param tableSha256 SHA-256 of the table given to fit ({@link Table#sha256()})
  * @param history one record per epoch
  * @param notes what the fit decided on its own (dropped rows, constant columns, early stop)
  */
 public record Provenance(String libraryVersion, String javaVersion, String os, String arch, String fittedAt,
-                         double trainingSeconds, int tableRows, int trainingRows, int validationRows,
+                         double trainingSeconds, int tableRows, int trainingRows, int checkpointRows,
                          String tableSha256, List<EpochRecord> history, List<String> notes) {
 
     /** Copies the lists. */
     public Provenance {
         history = List.copyOf(history);
         notes = List.copyOf(notes);
+    }
+
+    /**
+     * The provenance of a fit that ends now, on this JVM and machine.
+     *
+     * @param tableRows rows of the table given to fit
+     * @param tableSha256 its {@link Table#sha256()}
+     * @param trainingRows rows trained on
+     * @param checkpointRows complete checkpoint rows
+     * @param seconds wall time of training
+     * @param history one record per epoch
+     * @param notes what the fit decided on its own
+     * @return the provenance
+     */
+    public static Provenance ofFit(int tableRows, String tableSha256, int trainingRows, int checkpointRows,
+                                   double seconds, List<EpochRecord> history, List<String> notes) {
+        return new Provenance(currentLibraryVersion(), System.getProperty("java.version"),
+                System.getProperty("os.name") + " " + System.getProperty("os.version"), System.getProperty("os.arch"),
+                java.time.Instant.now().toString(), seconds, tableRows, trainingRows, checkpointRows, tableSha256,
+                history, notes);
     }
 
 

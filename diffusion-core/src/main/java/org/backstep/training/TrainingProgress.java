@@ -10,10 +10,10 @@ import java.util.OptionalDouble;
  * @param step minibatch steps done so far
  * @param totalSteps minibatch steps planned
  * @param loss the mean training loss of the current epoch so far
- * @param heldOutBound the latest held-out bound in nats per record (model space), if evaluated yet
+ * @param checkpointBound the latest held-out bound in nats per record (model space), if evaluated yet
  * @param rowsPerSecond training rows processed per second of wall time
  * @param secondsLeft estimated seconds until the planned end
  */
 public record TrainingProgress(int epoch, int epochs, long step, long totalSteps, double loss,
-                               OptionalDouble heldOutBound, double rowsPerSecond, double secondsLeft) {
+                               OptionalDouble checkpointBound, double rowsPerSecond, double secondsLeft) {
 }

@@ -2,7 +2,6 @@ package org.backstep.posterior;
 
 import static org.backstep.posterior.Near.IDENTITY_REL;
 import static org.backstep.posterior.Near.assertClose;
-import static org.backstep.posterior.Near.assertVector;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNotSame;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -13,9 +12,6 @@ import org.apache.commons.math3.distribution.BinomialDistribution;
 import org.backstep.schedule.NoiseSchedule;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.function.Executable;
-import org.nd4j.linalg.api.buffer.DataType;
-import org.nd4j.linalg.api.ndarray.INDArray;
-import org.nd4j.linalg.factory.Nd4j;
 
 /**
  * The contract of {@link BinomialDiffusion} over a short schedule: marginal and posterior against
@@ -175,89 +171,6 @@ abstract class BinomialDiffusionContract {
 
     // ------------------------------------------------------------------ batched == scalar
 
-    @Test
-    void batchedFormsAgreeWithScalarForms() {
-        for (DataType type : new DataType[] {DataType.DOUBLE, DataType.FLOAT}) {
-            checkBatched(type);
-        }
-    }
-
-    private void checkBatched(DataType type) {
-        BinomialDiffusion d = create();
-        int steps = d.schedule().steps();
-        int rows = 2 * steps + 2;
-        int cols = 4;
-        Random random = new Random(21);
-        double[][] p0v = new double[rows][cols];
-        double[][] xtv = new double[rows][cols];
-        double[][] uv = new double[rows][cols];
-        int[] t = new int[rows];
-        int[] t0 = new int[rows];
-        for (int r = 0; r < rows; r++) {
-            t[r] = 1 + r % steps;
-            t0[r] = r % (steps + 1);
-            for (int c = 0; c < cols; c++) {
-                p0v[r][c] = c == 0 ? 0.0 : c == 1 ? 1.0 : random.nextDouble();   // bits and probabilities
-                xtv[r][c] = random.nextBoolean() ? 1.0 : 0.0;
-                uv[r][c] = random.nextDouble();
-            }
-        }
-        INDArray p0 = Near.matrix(p0v, type);
-        INDArray xt = Near.matrix(xtv, type);
-        INDArray u = Near.matrix(uv, type);
-        INDArray p0Before = p0.dup();
-        p0v = p0.castTo(DataType.DOUBLE).toDoubleMatrix();
-        uv = u.castTo(DataType.DOUBLE).toDoubleMatrix();
-        double tol = Near.tolerance(type);
-
-        INDArray post = d.posteriorOne(p0, xt, t);
-        assertEquals(type, post.dataType());
-        double[][] expected = new double[rows][cols];
-        for (int r = 0; r < rows; r++) {
-            for (int c = 0; c < cols; c++) {
-                expected[r][c] = d.posteriorOne(t[r], p0v[r][c], xtv[r][c]);
-            }
-        }
-        Near.assertCells(expected, post, tol, 1.0, "posteriorOne");
-
-        INDArray sample = d.marginalSample(p0, t0, u);
-        assertEquals(type, sample.dataType());
-        for (int r = 0; r < rows; r++) {
-            for (int c = 0; c < cols; c++) {
-                double one = d.marginalOne(t0[r], p0v[r][c]);
-                if (Math.abs(uv[r][c] - one) > 1e-6) {     // away from a float32 tie
-                    assertEquals(uv[r][c] < one ? 1.0 : 0.0, sample.getDouble(r, c), 0.0, "sample at " + r + ", " + c);
-                }
-            }
-        }
-
-        INDArray prior = d.priorKl(p0);
-        double[] expectedPrior = new double[rows];
-        for (int r = 0; r < rows; r++) {
-            for (int c = 0; c < cols; c++) {
-                expectedPrior[r] += d.priorKl(p0v[r][c]);
-            }
-        }
-        assertEquals(type, prior.dataType());
-        assertVector(expectedPrior, prior, tol, KL_SCALE, "priorKl rows");
-
-        assertEquals(p0Before, p0, "p0 not modified");
-        assertNotSame(p0, post);
-    }
-
-    @Test
-    void theMarginalSampleFollowsItsThreshold() {
-        BinomialDiffusion d = create();
-        int steps = d.schedule().steps();
-        // q(x_t = 1 | x_0) is at least beta-free 0 and at most 1: uniforms 0 always give 1 unless q = 0
-        INDArray x0 = Nd4j.create(new double[][] {{1.0, 0.0}});
-        INDArray sample = d.marginalSample(x0, new int[] {steps}, Nd4j.create(new double[][] {{0.0, 0.999999}}));
-        assertEquals(1.0, sample.getDouble(0, 0), 0.0, "a uniform of 0 is below any positive probability");
-        assertEquals(0.0, sample.getDouble(0, 1), 0.0, "q(x_T = 1 | x_0 = 0) <= 1/2 is below 0.999999");
-        INDArray unchanged = d.marginalSample(x0, new int[] {0}, Nd4j.create(new double[][] {{0.5, 0.5}}));
-        assertEquals(x0, unchanged, "t = 0 keeps x_0");
-    }
-
     // ------------------------------------------------------------------ refusals
 
     private static void assertRefused(Executable call, String... fragments) {
@@ -267,35 +180,4 @@ abstract class BinomialDiffusionContract {
         }
     }
 
-    @Test
-    void badInputIsRefused() {
-        BinomialDiffusion d = create();
-        int steps = d.schedule().steps();
-        int big = steps + 1;
-        assertRefused(() -> d.posteriorOne(0, 1.0, 1.0), "t is 0");
-        assertRefused(() -> d.posteriorOne(big, 1.0, 1.0), "t is " + big);
-        assertRefused(() -> d.transitionOne(0, 1.0), "t is 0");
-        assertRefused(() -> d.marginalOne(big, 1.0), "t is " + big);
-        assertRefused(() -> d.marginalOne(1, 1.5), "x0 is 1.5");
-        assertRefused(() -> d.posteriorOne(1, Double.NaN, 1.0), "x0 is NaN");
-        assertRefused(() -> d.posteriorOne(1, 1.0, 0.5), "xt is 0.5", "0 or 1");
-        assertRefused(() -> d.transitionOne(1, -0.1), "xPrev is -0.1");
-        assertRefused(() -> d.priorKl(2.0), "x0 is 2.0");
-
-        INDArray a = Nd4j.zeros(DataType.FLOAT, 3, 2);
-        INDArray wide = Nd4j.zeros(DataType.FLOAT, 3, 5);
-        int[] t = {1, 1, steps};
-        assertRefused(() -> d.posteriorOne(a, wide, t), "p0 has shape [3, 2]", "xt has shape [3, 5]");
-        assertRefused(() -> d.marginalSample(a, t, wide), "[3, 2]", "[3, 5]");
-        assertRefused(() -> d.posteriorOne(a, a, new int[] {1, 1}), "t has 2 entries", "3 rows");
-        assertRefused(() -> d.posteriorOne(a, a, new int[] {1, big, 1}), "t[1] is " + big);
-        assertRefused(() -> d.posteriorOne(a.add(1.2), a, t), "p0 holds values from 1.2");
-        assertRefused(() -> d.posteriorOne(a, a.add(0.5), t), "xt holds a value other than 0 or 1");
-        INDArray withNaN = a.dup();
-        withNaN.putScalar(1, 1, Float.NaN);
-        assertRefused(() -> d.posteriorOne(withNaN, a, t), "p0", "NaN");
-        assertRefused(() -> d.posteriorOne(a, withNaN, t), "xt");
-        assertRefused(() -> d.priorKl(a.sub(0.1)), "x0 holds values from");
-        assertRefused(() -> d.posteriorOne(a, a.castTo(DataType.DOUBLE), t), "FLOAT", "DOUBLE");
-    }
 }

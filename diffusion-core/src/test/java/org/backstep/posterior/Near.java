@@ -4,9 +4,6 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.Arrays;
-import org.nd4j.linalg.api.buffer.DataType;
-import org.nd4j.linalg.api.ndarray.INDArray;
-import org.nd4j.linalg.factory.Nd4j;
 
 /** Tolerances and closeness checks shared by the posterior tests (tolerances live here, not in equals). */
 final class Near {
@@ -40,33 +37,4 @@ final class Near {
         assertClose(expected, actual, rel, 0.0, what);
     }
 
-    /** Asserts that every cell of {@code actual} is close to {@code expected[r][c]}. */
-    static void assertCells(double[][] expected, INDArray actual, double rel, double floor, String what) {
-        assertEquals(expected.length, actual.rows(), what + ": rows");
-        assertEquals(expected[0].length, actual.columns(), what + ": columns");
-        for (int r = 0; r < expected.length; r++) {
-            for (int c = 0; c < expected[r].length; c++) {
-                assertClose(expected[r][c], actual.getDouble(r, c), rel, floor, what + " at [" + r + ", " + c + "]");
-            }
-        }
-    }
-
-    /** Asserts that a rank-1 vector of length rows is close to {@code expected}. */
-    static void assertVector(double[] expected, INDArray actual, double rel, double floor, String what) {
-        assertEquals(1, actual.rank(), what + ": rank of " + Arrays.toString(actual.shape()));
-        assertEquals(expected.length, actual.length(), what + ": length");
-        for (int r = 0; r < expected.length; r++) {
-            assertClose(expected[r], actual.getDouble(r), rel, floor, what + " at [" + r + "]");
-        }
-    }
-
-    /** @return a rows x columns array of the given type holding {@code values} */
-    static INDArray matrix(double[][] values, DataType type) {
-        return Nd4j.create(values).castTo(type);
-    }
-
-    /** @return the tolerance of a batched form of this type against the double scalar form */
-    static double tolerance(DataType type) {
-        return type == DataType.FLOAT ? FLOAT32_REL : IDENTITY_REL;
-    }
 }

@@ -25,6 +25,9 @@ import java.util.Locale;
  * <p>Made by static factories: {@link #linear(int)}, {@link #cosine(int)}, {@link #binomial(int)},
  * {@link #ofBetas(double...)}; a sub-schedule over fewer steps comes from {@link #strided(int)} or
  * {@link #subset(int...)}. Arrays returned are copies.
+ *
+ * <p>One file of more than 400 lines: every schedule family and every derived quantity (alpha-bar,
+ * SNR, beta-tilde, strided subsets) is one value type with one validation.
  */
 public final class NoiseSchedule {
 
@@ -470,7 +473,7 @@ public final class NoiseSchedule {
      *
      * @return the table, one line per step
      */
-    public String toTable() {
+    public String toTableText() {
         StringBuilder sb = new StringBuilder();
         sb.append(String.format(Locale.ROOT, "%6s %6s %12s %12s %12s %10s %12s%n",
                 "t", "source", "beta", "alpha-bar", "SNR", "log-SNR", "beta-tilde"));

@@ -1,7 +1,7 @@
 package org.backstep.schedule;
 
 /**
- * One row of a schedule's per-step table, as printed by {@link NoiseSchedule#toTable()}.
+ * One row of a schedule's per-step table, as printed by {@link NoiseSchedule#toTableText()}.
  *
  * @param step the step t, 1-based
  * @param sourceStep the step of the schedule this one was strided from (equal to {@code step} for

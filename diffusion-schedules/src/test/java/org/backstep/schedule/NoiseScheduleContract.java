@@ -198,7 +198,7 @@ abstract class NoiseScheduleContract {
         NoiseSchedule rebuilt = NoiseSchedule.of(s.kind(), s.betas(), s.sourceSteps());
         assertEquals(s, rebuilt, "rebuilt from kind, betas and source steps");
         assertEquals(s.hashCode(), rebuilt.hashCode());
-        assertEquals(s.toTable(), rebuilt.toTable());
+        assertEquals(s.toTableText(), rebuilt.toTableText());
 
         double[] nudged = s.betas();
         nudged[0] = Math.nextDown(nudged[0]);
@@ -232,7 +232,7 @@ abstract class NoiseScheduleContract {
     @Test
     void toTableHasAHeaderAndOneLinePerStep() {
         NoiseSchedule s = create();
-        String table = s.toTable();
+        String table = s.toTableText();
         List<String> lines = table.lines().toList();
         // common practice, no source
         assertEquals(s.steps() + 1, lines.size(), "T + 1 lines");
@@ -257,7 +257,7 @@ abstract class NoiseScheduleContract {
         assertRelative(b, s.oneMinusAlphaBar(1), IDENTITY_REL, "1 - alpha-bar_1 = beta_1");
         assertEquals(0.0, s.posteriorVariance(1), 0.0, "beta-tilde_1 = 0 (Ho et al. 2020, eq. 7)");
         assertArrayEquals(new double[] {b}, s.betas(), 0.0);
-        assertEquals(2, s.toTable().lines().count());
+        assertEquals(2, s.toTableText().lines().count());
         assertEquals(s, NoiseSchedule.of(s.kind(), s.betas(), s.sourceSteps()));
         assertEquals(1, s.strided(1).steps());
         assertRelative(s.alphaBar(1), s.strided(1).alphaBar(1), IDENTITY_REL, "strided(1) of T = 1");

@@ -110,7 +110,7 @@ public final class Demo {
         Path out = Path.of("backstep-report");
         int steps = Defaults.STEPS;
         int epochs = 0;
-        int[] hidden = Defaults.HIDDEN.clone();
+        int[] hidden = Defaults.HIDDEN.stream().mapToInt(Integer::intValue).toArray();
         long seed = Defaults.SEED;
         int holdout = 5;
         int containers = 24;

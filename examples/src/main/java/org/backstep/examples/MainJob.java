@@ -1,5 +1,6 @@
 package org.backstep.examples;
 
+import org.backstep.Defaults;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;
 import com.fasterxml.jackson.databind.node.ArrayNode;
@@ -124,7 +125,7 @@ public final class MainJob {
                         bar.maxHint(p.totalSteps());
                         bar.stepTo(p.step());
                         bar.setExtraMessage(String.format(Locale.ROOT, " loss %.3f%s", p.loss(),
-                                p.heldOutBound().isPresent() ? String.format(Locale.ROOT, ", bound %.3f", p.heldOutBound().getAsDouble()) : ""));
+                                p.checkpointBound().isPresent() ? String.format(Locale.ROOT, ", bound %.3f", p.checkpointBound().getAsDouble()) : ""));
                     }
                 });
         if (c.epochs() > 0) {
@@ -173,7 +174,7 @@ public final class MainJob {
         // 3. Anomaly screen
         Table scoredRows = table.completeRows();
         int[] scoredIndex = table.completeRowIndices();
-        AnomalyScreen screen = model.screen(heldComplete, scoredRows, 0.99, c.seed());
+        AnomalyScreen screen = model.screen(heldComplete, scoredRows, Defaults.screening().withQuantile(0.99), c.seed());
         ObjectNode a = summary.putObject("anomalies");
         a.put("scoredRows", scoredRows.rows());
         a.put("threshold", screen.threshold());
@@ -308,7 +309,7 @@ public final class MainJob {
             hiddenCount++;
         }
         Table masked = truth.withRows(hidden);
-        Imputation imp = model.impute(masked, IMPUTATION_DRAWS, 0.9, c.seed());
+        Imputation imp = model.impute(masked, Defaults.imputation().withDraws(IMPUTATION_DRAWS).withLevel(0.9), c.seed());
         double se = 0;
         double seMean = 0;
         int covered = 0;
@@ -363,7 +364,7 @@ public final class MainJob {
                 row[j] += noise[j] * rng.nextGaussian();
             }
         }
-        Denoising d = model.denoise(truth.withRows(noisy), noise, 8, c.seed());
+        Denoising d = model.denoise(truth.withRows(noisy), Defaults.denoising(noise).withDraws(8), c.seed());
         double before = 0;
         double after = 0;
         for (int i = 0; i < n; i++) {

@@ -192,7 +192,7 @@ public final class PlanTraining {
         double seconds = DEFAULT_SECONDS;
         int updates = 0;
         double tolerance = 0.02;
-        int[] hidden = Defaults.HIDDEN.clone();
+        int[] hidden = Defaults.HIDDEN.stream().mapToInt(Integer::intValue).toArray();
         long seed = Defaults.SEED;
         int holdout = 5;
         int containers = 24;

@@ -32,7 +32,7 @@ final class Report {
             h.append("<h3>").append(escape(e.getKey())).append("</h3>\n<img alt=\"").append(escape(e.getKey()))
                     .append("\" src=\"data:image/png;base64,").append(e.getValue()).append("\">\n");
         }
-        h.append("<h2>Provenance</h2>\n<pre>").append(escape(model.describe())).append("</pre>\n");
+        h.append("<h2>Provenance</h2>\n<pre>").append(escape(model.describeText())).append("</pre>\n");
         h.append("</body></html>\n");
         return h.toString();
     }

@@ -113,11 +113,11 @@ class DemoPipelineTest {
         assertUnit(smp, "shareCloserThanHeldOutFirstPercentile");
         assertEquals(7, smp.path("columns").size());
 
-        // the planner: DiffusionModel.PLANNER_STEP_COUNTS below T, and T itself
+        // the planner: Defaults.PLANNER_STEP_COUNTS below T, and T itself
         JsonNode p = s.path("planner");
         JsonNode rows = p.path("rows");
         int[] expectedSteps = java.util.stream.IntStream.concat(
-                java.util.Arrays.stream(DiffusionModel.PLANNER_STEP_COUNTS).filter(k -> k < STEPS),
+                org.backstep.Defaults.PLANNER_STEP_COUNTS.stream().mapToInt(Integer::intValue).filter(k -> k < STEPS),
                 java.util.stream.IntStream.of(STEPS)).toArray();
         assertEquals(expectedSteps.length, rows.size(), "planner rows");
         int[] got = new int[rows.size()];

@@ -1,0 +1,178 @@
+package org.backstep.internal.chain;
+
+import org.backstep.option.ReverseVariance;
+import org.backstep.posterior.Divergence;
+
+/**
+ * Every term of the variational bound, in one place: the trainer's loss and its gradient, the
+ * bound evaluator and the planners all call these methods (Ho et al. 2020, eq. 5; Sohl-Dickstein
+ * et al. 2015, eq. 14):
+ * <pre>
+ *   L = L_T + sum_{t=2..T} L_{t-1} + L_0
+ *   L_T     = KL(q(x_T | x_0) || p(x_T))                          {@link #continuousPrior}, {@link #binaryPrior}
+ *   L_{t-1} = KL(q(x_{t-1} | x_t, x_0) || p(x_{t-1} | x_t))       {@link #continuous}, {@link #binary} at t &gt; 1
+ *   L_0     = -log p(x_0 | x_1)                                   {@link #continuous}, {@link #binary} at t = 1
+ * </pre>
+ * A continuous cell's reverse kernel is N(mu, sigma^2) with mu = (x_t - beta_t / sqrt(1 - alpha-bar_t)
+ * eps-hat) / sqrt(alpha_t) (Ho et al. 2020, eq. 11) and sigma^2 fixed or learned (Nichol &amp;
+ * Dhariwal 2021, eq. 15); a binary cell's is Bernoulli(q0 + P(x_0 = 1) (q1 - q0)) (see
+ * {@link Chain#binaryReverseOne}). The Gaussian KL and the Bernoulli KL come from
+ * {@link Divergence}, which holds the one probability floor.
+ */
+public final class BoundTerms {
+
+    /** log(2 pi). */
+    static final double LOG_2PI = Math.log(2.0 * Math.PI);
+
+    private BoundTerms() {
+    }
+
+    /**
+     * L_{k-1} of one continuous cell: the KL divergence of the Gaussian posterior
+     * q(x_{k-1} | x_k, x_0) = N(c0 x_0 + ct x_k, beta-tilde_k) from the reverse kernel
+     * N(mu, sigma^2) for k &gt; 1, 1/2 (log sigma^2 - log beta-tilde + (beta-tilde + (m_q - mu)^2) / sigma^2 - 1);
+     * and at k = 1 the decoder term -log N(x_0; mu, sigma^2) = 1/2 (log 2 pi + log sigma^2 + (x_0 - mu)^2 / sigma^2).
+     *
+     * @param c the chain
+     * @param k the chain step, 1..K
+     * @param x0 the cell's value in model space
+     * @param xt the cell's value at step k
+     * @param epsHat the estimator's noise prediction
+     * @param v the estimator's variance interpolation (ignored unless learned)
+     * @param partials null, or length 2: written with d term / d mu and d term / d log sigma^2
+     * @return the term in nats
+     */
+    public static double continuous(Chain c, int k, double x0, double xt, double epsHat, double v, double[] partials) {
+        double lv = c.reverseLogVariance(k, v);
+        double precision = Math.exp(-lv);
+        double mp = (xt - c.epsCoef[k] * epsHat) / c.sqrtAlpha[k];
+        if (k == 1) {
+            double diff = x0 - mp;
+            if (partials != null) {
+                partials[0] = -diff * precision;
+                partials[1] = 0.5 * (1.0 - diff * diff * precision);
+            }
+            return 0.5 * (LOG_2PI + lv + diff * diff * precision);
+        }
+        double lq = c.logVarClipped[k];
+        double mq = c.coefX0[k] * x0 + c.coefXt[k] * xt;
+        double diff = mq - mp;
+        double num = Math.exp(lq) + diff * diff;
+        if (partials != null) {
+            partials[0] = -diff * precision;
+            partials[1] = 0.5 * (1.0 - num * precision);
+        }
+        return 0.5 * (lv - lq + num * precision - 1.0);
+    }
+
+    /** @return d mu / d eps-hat at chain step k: -beta_k / (sqrt(1 - alpha-bar_k) sqrt(alpha_k)) */
+    public static double meanPerEpsilon(Chain c, int k) {
+        return -c.epsCoef[k] / c.sqrtAlpha[k];
+    }
+
+    /**
+     * @return d log sigma^2 / d v at chain step k: log beta_k - log beta-tilde_k for a learned
+     *     variance inside its clamp, 0 where the clamp holds it (and for fixed variances)
+     */
+    public static double logVariancePerV(Chain c, int k, double v) {
+        if (c.variance != ReverseVariance.LEARNED) {
+            return 0.0;
+        }
+        double raw = c.interpolatedLogVariance(k, v);
+        return c.clampLogVariance(k, raw) != raw ? 0.0 : c.logBeta[k] - c.logVarClipped[k];
+    }
+
+    /**
+     * L_{k-1} of one binary cell: KL(Bernoulli(a) || Bernoulli(p)) with a = q(x_{k-1} = 1 | x_k, x_0)
+     * and p the reverse kernel's probability of a one, for k &gt; 1; at k = 1 the decoder term
+     * -log p(x_0 | x_1), the cross-entropy of the predicted P(x_0 = 1).
+     *
+     * @param c the chain
+     * @param k the chain step, 1..K
+     * @param x0 the cell's value, 0 or 1
+     * @param xt the cell's value at step k, 0 or 1
+     * @param logit the estimator's logit of P(x_0 = 1)
+     * @param partials null, or length at least 1: written with d term / d logit
+     * @return the term in nats
+     */
+    public static double binary(Chain c, int k, int x0, int xt, double logit, double[] partials) {
+        double pOne = Chain.sigmoid(logit);
+        if (k == 1) {
+            double p = Divergence.clampProbability(x0 == 1 ? pOne : 1.0 - pOne);
+            if (partials != null) {
+                partials[0] = pOne - x0;
+            }
+            return -Math.log(p);
+        }
+        double a = c.binPosterior[k][2 * x0 + xt];
+        double q1 = c.binPosterior[k][2 + xt];
+        double q0 = c.binPosterior[k][xt];
+        double p = Divergence.clampProbability(q0 + pOne * (q1 - q0));
+        if (partials != null) {
+            partials[0] = (p - a) / (p * (1.0 - p)) * (q1 - q0) * pOne * (1.0 - pOne);
+        }
+        return Divergence.bernoulliKl(a, p);
+    }
+
+    /** @return L_T of one continuous cell, KL(N(sqrt(alpha-bar_K) x_0, 1 - alpha-bar_K) || N(0, 1)) */
+    public static double continuousPrior(Chain c, double x0) {
+        double m = c.priorMeanScale * x0;
+        return 0.5 * (-Math.log(c.priorVariance) + c.priorVariance + m * m - 1.0);
+    }
+
+    /** @return L_T of one binary cell, KL(q(x_K | x_0) || Bernoulli(1/2)) */
+    public static double binaryPrior(Chain c, int x0) {
+        return Divergence.bernoulliKl(x0 == 1 ? c.binMarginalOne1[c.steps] : c.binMarginalOne0[c.steps], 0.5);
+    }
+
+    /**
+     * The terms of step k for every row, summed over cells, added into contOut and binOut (length
+     * rows): {@link #continuous} and {@link #binary} for each cell.
+     *
+     * @param x0 rows x D model-space records, not modified
+     * @param xt rows x D states at each row's step, not modified
+     * @param out rows x outputs estimator outputs, not modified
+     * @param k each row's chain step
+     */
+    static void rowTerms(Chain c, float[] x0, float[] xt, float[] out, int rows, int[] k, double[] contOut,
+                         double[] binOut) {
+        int dc = c.dc;
+        int d = c.d;
+        int outputs = c.outputs;
+        boolean learned = c.variance == ReverseVariance.LEARNED;
+        for (int r = 0; r < rows; r++) {
+            int s = k[r];
+            int o = r * d;
+            int oo = r * outputs;
+            double cont = 0.0;
+            for (int j = 0; j < dc; j++) {
+                double v = learned ? out[oo + dc + j] : 0.0;
+                cont += continuous(c, s, x0[o + j], xt[o + j], out[oo + j], v, null);
+            }
+            double bin = 0.0;
+            for (int j = 0; j < c.db; j++) {
+                bin += binary(c, s, x0[o + dc + j] > 0.5f ? 1 : 0, xt[o + dc + j] > 0.5f ? 1 : 0,
+                        out[oo + c.logitOffset + j], null);
+            }
+            contOut[r] += cont;
+            binOut[r] += bin;
+        }
+    }
+
+    /** The prior terms L_T per row, added into contOut and binOut. */
+    static void priorRows(Chain c, float[] x0, int rows, double[] contOut, double[] binOut) {
+        for (int r = 0; r < rows; r++) {
+            int o = r * c.d;
+            double cont = 0.0;
+            for (int j = 0; j < c.dc; j++) {
+                cont += continuousPrior(c, x0[o + j]);
+            }
+            double bin = 0.0;
+            for (int j = c.dc; j < c.d; j++) {
+                bin += binaryPrior(c, x0[o + j] > 0.5f ? 1 : 0);
+            }
+            contOut[r] += cont;
+            binOut[r] += bin;
+        }
+    }
+}

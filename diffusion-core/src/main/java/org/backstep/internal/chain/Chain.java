@@ -1,0 +1,331 @@
+package org.backstep.internal.chain;
+
+import org.backstep.option.ReverseVariance;
+
+import org.backstep.posterior.BinomialDiffusion;
+import org.backstep.posterior.GaussianDiffusion;
+import org.backstep.schedule.NoiseSchedule;
+import org.nd4j.linalg.api.buffer.DataType;
+import org.nd4j.linalg.api.ndarray.INDArray;
+import org.nd4j.linalg.factory.Nd4j;
+
+import java.nio.FloatBuffer;
+import java.util.SplittableRandom;
+
+/**
+ * The reverse chain in model space over one pair of schedules (continuous and binary, the same
+ * number of steps K), possibly strided from the training schedules. Every per-step coefficient is
+ * computed once in double from {@link GaussianDiffusion} and {@link BinomialDiffusion}; the
+ * per-cell work runs in plain Java loops over float rows, which for a table's few columns is faster
+ * than a chain of small native calls. The estimator (a network, or an exact closed form in tests)
+ * is called with the source step of each chain step.
+ *
+ * <p>Row-major float arrays: x has rows x D cells, continuous columns first, then binary ones.
+ */
+public final class Chain {
+
+
+    final NoiseSchedule continuous;
+    final NoiseSchedule binary;
+    final int dc;
+    final int db;
+    final int d;
+    final int outputs;
+    final int logitOffset;          // first output column of the binary logits: dc, or 2 dc with learned variances
+    final ReverseVariance variance;
+    final Estimator estimator;
+    final int steps;
+
+    // index k = 1..K (index 0 unused)
+    final int[] source;
+    final double[] sqrtAbar;
+    final double[] sqrtOneMinusAbar;
+    final double[] sqrtAlpha;
+    final double[] beta;
+    final double[] logBeta;
+    final double[] logVarClipped;
+    final double[] learnedLogVarLo;     // the clamp of a learned log-variance: min(log beta, log beta-tilde) - margin
+    final double[] learnedLogVarHi;     // max(log beta, log beta-tilde) + margin
+    final double[] coefX0;
+    final double[] coefXt;
+    final double[] epsCoef;                 // beta / sqrt(1 - abar): mean = (x_t - epsCoef eps-hat) / sqrt(alpha)
+    final double[] binMarginalOne0;         // q(x_k = 1 | x0 = 0)
+    final double[] binMarginalOne1;         // q(x_k = 1 | x0 = 1)
+    final double[][] binPosterior;          // [k][2 x0 + xk] = q(x_{k-1} = 1 | x_k, x0)
+    final double priorMeanScale;            // sqrt(abar_K)
+    final double priorVariance;             // 1 - abar_K
+
+    /**
+     * @param continuous the Gaussian schedule of the continuous columns
+     * @param binary the binomial schedule of the binary columns, with as many steps
+     * @param dc diffused continuous columns
+     * @param db diffused binary columns
+     * @param variance how the continuous reverse variance is set
+     * @param estimator the network (or an exact closed form in tests), inputs dc + db, outputs as {@link Estimator} says
+     */
+    public Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, ReverseVariance variance,
+          Estimator estimator) {
+        if (continuous.steps() != binary.steps()) {
+            throw new IllegalArgumentException("the binary schedule has " + binary.steps()
+                    + " steps and the continuous one " + continuous.steps() + "; both kinds are diffused at the same t");
+        }
+        this.continuous = continuous;
+        this.binary = binary;
+        this.dc = dc;
+        this.db = db;
+        this.d = dc + db;
+        this.variance = variance;
+        this.logitOffset = dc * (variance == ReverseVariance.LEARNED ? 2 : 1);
+        this.outputs = logitOffset + db;
+        this.estimator = estimator;
+        if (estimator.inputs() != d || estimator.outputs() != outputs) {
+            throw new IllegalArgumentException("the estimator takes " + estimator.inputs() + " inputs and gives "
+                    + estimator.outputs() + " outputs; the chain needs " + d + " and " + outputs);
+        }
+        int n = continuous.steps();
+        this.steps = n;
+        GaussianDiffusion g = GaussianDiffusion.of(continuous);
+        BinomialDiffusion b = BinomialDiffusion.of(binary);
+        source = new int[n + 1];
+        sqrtAbar = new double[n + 1];
+        sqrtOneMinusAbar = new double[n + 1];
+        sqrtAlpha = new double[n + 1];
+        beta = new double[n + 1];
+        logBeta = new double[n + 1];
+        logVarClipped = new double[n + 1];
+        learnedLogVarLo = new double[n + 1];
+        learnedLogVarHi = new double[n + 1];
+        coefX0 = new double[n + 1];
+        coefXt = new double[n + 1];
+        epsCoef = new double[n + 1];
+        binMarginalOne0 = new double[n + 1];
+        binMarginalOne1 = new double[n + 1];
+        binPosterior = new double[n + 1][4];
+        for (int k = 1; k <= n; k++) {
+            source[k] = continuous.sourceStep(k);
+            sqrtAbar[k] = Math.sqrt(continuous.alphaBar(k));
+            sqrtOneMinusAbar[k] = Math.sqrt(continuous.oneMinusAlphaBar(k));
+            sqrtAlpha[k] = Math.sqrt(continuous.alpha(k));
+            beta[k] = continuous.beta(k);
+            logBeta[k] = Math.log(beta[k]);
+            logVarClipped[k] = g.posteriorLogVarianceClipped(k);
+            learnedLogVarLo[k] = Math.min(logBeta[k], logVarClipped[k]) - LOG_VARIANCE_MARGIN;
+            learnedLogVarHi[k] = Math.max(logBeta[k], logVarClipped[k]) + LOG_VARIANCE_MARGIN;
+            coefX0[k] = g.posteriorMeanCoefX0(k);
+            coefXt[k] = g.posteriorMeanCoefXt(k);
+            epsCoef[k] = beta[k] / sqrtOneMinusAbar[k];
+            binMarginalOne0[k] = b.marginalOne(k, 0.0);
+            binMarginalOne1[k] = b.marginalOne(k, 1.0);
+            for (int x0 = 0; x0 < 2; x0++) {
+                for (int xk = 0; xk < 2; xk++) {
+                    binPosterior[k][2 * x0 + xk] = b.posteriorOne(k, x0, xk);
+                }
+            }
+        }
+        sqrtAbar[0] = 1.0;          // alpha-bar_0 = 1
+        sqrtOneMinusAbar[0] = 0.0;
+        priorMeanScale = sqrtAbar[n];
+        priorVariance = continuous.oneMinusAlphaBar(n);
+    }
+
+    /** The same estimator over the sub-schedules that keep the given steps of this chain. */
+    public Chain subset(int[] keep) {
+        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, variance, estimator);
+    }
+
+    /** The same estimator over count evenly spaced steps (see {@link NoiseSchedule#strided(int)}). */
+    public Chain strided(int count) {
+        NoiseSchedule c = continuous.strided(count);
+        int[] keep = new int[count];
+        for (int i = 0; i < count; i++) {
+            keep[i] = indexOfSource(c.sourceStep(i + 1));
+        }
+        return subset(keep);
+    }
+
+    private int indexOfSource(int src) {
+        for (int k = 1; k <= steps; k++) {
+            if (source[k] == src) {
+                return k;
+            }
+        }
+        throw new IllegalStateException("source step " + src + " not in chain");
+    }
+
+    /**
+     * How far, in nats of log-variance, a learned variance may leave the interval between
+     * log beta-tilde_t and log beta_t. The exact reverse variance lies close to that interval
+     * (Nichol &amp; Dhariwal 2021, section 3.1); the clamp only stops a network that extrapolates off
+     * the data (in sampling) from producing an infinite variance.
+     */
+    static final double LOG_VARIANCE_MARGIN = 5.0;
+
+    /** log sigma^2 of the continuous reverse kernel at step k, given the network's v (ignored unless learned). */
+    double reverseLogVariance(int k, double v) {
+        return switch (variance) {
+            case FIXED_BETA -> k == 1 ? logVarClipped[1] : logBeta[k];
+            case FIXED_POSTERIOR -> logVarClipped[k];
+            case LEARNED -> clampLogVariance(k, interpolatedLogVariance(k, v));
+        };
+    }
+
+    /**
+     * The learned log-variance before the clamp, {@code v log beta_k + (1 - v) log beta-tilde_k}
+     * (Nichol &amp; Dhariwal 2021, eq. 15); {@link #reverseLogVariance} clamps it.
+     */
+    double interpolatedLogVariance(int k, double v) {
+        return v * logBeta[k] + (1.0 - v) * logVarClipped[k];
+    }
+
+    /** The learned log-variance kept within {@link #LOG_VARIANCE_MARGIN} of [log beta-tilde_k, log beta_k]. */
+    double clampLogVariance(int k, double lv) {
+        return Math.max(learnedLogVarLo[k], Math.min(learnedLogVarHi[k], lv));
+    }
+
+    /**
+     * Buffers for running the estimator on a batch of one size: x_t and the output as ND4J arrays,
+     * bulk views of their native memory, and a heap copy of the output. Not thread-safe.
+     *
+     * <p>Copies go through {@link FloatBuffer} bulk get and put (a memory copy); ND4J's
+     * {@code setData(float[])} and {@code asFloat()} copy element by element, which measured about
+     * ten times slower (about 0.2 ms each way for 256 rows of 64 columns, a sizeable share of a step
+     * of a 3 x 256 network).
+     */
+    static final class Workspace {
+        final INDArray xt;
+        final INDArray out;
+        final int rows;
+        final int[] stepBuf;
+        private final FloatBuffer xtView;
+        private final FloatBuffer outView;
+        private final float[] outHeap;
+
+        Workspace(int rows, int d, int outputs) {
+            this.rows = rows;
+            this.xt = Nd4j.create(DataType.FLOAT, rows, d);
+            this.out = Nd4j.create(DataType.FLOAT, rows, outputs);
+            this.stepBuf = new int[rows];
+            this.xtView = xt.data().asNioFloat();
+            this.outView = out.data().asNioFloat();
+            this.outHeap = new float[rows * outputs];
+        }
+    }
+
+    Workspace workspace(int rows) {
+        return new Workspace(rows, d, outputs);
+    }
+
+    /**
+     * Predicts for rows of x (rows x D) with each row at source step src[r].
+     *
+     * @param ws the workspace of this batch size (its buffers are modified)
+     * @param x rows x D, not modified
+     * @param srcSteps the training-schedule step of each row, not modified
+     * @return rows x outputs, the workspace's own array: valid until the next call with {@code ws}
+     */
+    float[] predict(Workspace ws, float[] x, int[] srcSteps) {
+        ws.xtView.put(0, x, 0, ws.rows * d);
+        estimator.predict(ws.xt, srcSteps, ws.out);
+        ws.outView.get(0, ws.outHeap, 0, ws.outHeap.length);
+        return ws.outHeap;
+    }
+
+    float[] predictAtStep(Workspace ws, float[] x, int k) {
+        java.util.Arrays.fill(ws.stepBuf, source[k]);
+        return predict(ws, x, ws.stepBuf);
+    }
+
+    /** Fills x (rows x D) with draws of the prior: N(0, 1) for continuous cells, Bernoulli(1/2) for binary ones. */
+    void drawPrior(float[] x, int rows, SplittableRandom rng) {
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            for (int j = 0; j < dc; j++) {
+                x[o + j] = (float) rng.nextGaussian();
+            }
+            for (int j = dc; j < d; j++) {
+                x[o + j] = rng.nextDouble() < 0.5 ? 1f : 0f;
+            }
+        }
+    }
+
+    /**
+     * Draws x_k ~ q(x_k | x_0) into xt for every row (Ho et al. 2020, eq. 4; Sohl-Dickstein et al.
+     * 2015 for binary cells), at chain step k[r] of each row. Continuous noise is written to eps.
+     */
+    public void diffuse(float[] x0, int rows, int[] k, float[] xt, float[] eps, SplittableRandom rng) {
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            int s = k[r];
+            double a = sqrtAbar[s];
+            double sd = sqrtOneMinusAbar[s];
+            for (int j = 0; j < dc; j++) {
+                double e = rng.nextGaussian();
+                if (eps != null) {
+                    eps[r * dc + j] = (float) e;
+                }
+                xt[o + j] = (float) (a * x0[o + j] + sd * e);
+            }
+            for (int j = dc; j < d; j++) {
+                double p1 = x0[o + j] > 0.5f ? binMarginalOne1[s] : binMarginalOne0[s];
+                xt[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+            }
+        }
+    }
+
+    /** @return the logistic function 1 / (1 + e^-l), computed without overflow */
+    public static double sigmoid(double l) {
+        return l >= 0 ? 1.0 / (1.0 + Math.exp(-l)) : Math.exp(l) / (1.0 + Math.exp(l));
+    }
+
+    /**
+     * p(x_{k-1} = 1 | x_k) for a binary cell: the posterior averaged over the predicted x_0,
+     * q0 + P(x_0 = 1) (q1 - q0) with q_i = q(x_{k-1} = 1 | x_k, x_0 = i) (Sohl-Dickstein et al.
+     * 2015, appendix B; the same reverse kernel the bound scores and the sampler draws from).
+     */
+    double binaryReverseOne(int k, float xk, double pOne) {
+        int xi = xk > 0.5f ? 1 : 0;
+        double q0 = binPosterior[k][xi];
+        return q0 + pOne * (binPosterior[k][2 + xi] - q0);
+    }
+
+    /** @return the binomial schedule of the binary columns */
+    public NoiseSchedule binarySchedule() {
+        return binary;
+    }
+
+    /** @return K, the number of steps of this chain */
+    public int steps() {
+        return steps;
+    }
+
+    /** @return Dc, the diffused continuous columns */
+    public int continuousColumns() {
+        return dc;
+    }
+
+    /** @return Db, the diffused binary columns */
+    public int binaryColumns() {
+        return db;
+    }
+
+    /** @return D = Dc + Db, the width of a model-space row */
+    public int width() {
+        return d;
+    }
+
+    /** @return the estimator's output columns */
+    public int outputs() {
+        return outputs;
+    }
+
+    /** @return the first output column of the binary logits */
+    public int logitOffset() {
+        return logitOffset;
+    }
+
+    /** @return the step of the training schedule that chain step k stands for */
+    public int source(int k) {
+        return source[k];
+    }
+
+}

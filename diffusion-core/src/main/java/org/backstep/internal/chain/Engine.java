@@ -1,0 +1,142 @@
+package org.backstep.internal.chain;
+
+import org.backstep.option.BoundOptions;
+import org.backstep.option.SamplingPlan;
+import org.backstep.report.BoundReport;
+import org.backstep.table.Table;
+import org.backstep.table.TableTransform;
+
+/**
+ * The jobs of a fitted model on its reverse chain: bounds, sampling, and (through {@link Imputer}
+ * and {@link Denoiser}) imputation and denoising. Callers hand it validated arguments: the front
+ * door ({@code org.backstep.DiffusionModel}) checks columns, ranges and missing cells first; the
+ * planners call it directly.
+ *
+ * <p>Immutable and safe to share between threads.
+ */
+public final class Engine {
+
+    private final ModelParts parts;
+    private final Chain chain;
+    private final int threads;
+
+    /** @param parts the model's parts */
+    public Engine(ModelParts parts) {
+        this.parts = parts;
+        this.chain = parts.chain();
+        this.threads = parts.options().threads();
+    }
+
+    /** @return the parts this engine runs */
+    public ModelParts parts() {
+        return parts;
+    }
+
+    /** @return the full chain */
+    public Chain chain() {
+        return chain;
+    }
+
+    /** @return the column transforms */
+    public TableTransform transform() {
+        return parts.transform();
+    }
+
+    /** @return T */
+    public int steps() {
+        return chain.steps;
+    }
+
+    /** @return worker threads of every job */
+    int threads() {
+        return threads;
+    }
+
+    /**
+     * @param steps 0 or T for the full chain, else a strided chain of that many steps
+     * @return the chain of that many steps
+     */
+    public Chain chainOf(int steps) {
+        return steps == 0 || steps == chain.steps ? chain : chain.strided(steps);
+    }
+
+    /**
+     * Records in model space as one row-major float array (rows x D), the layout every chain job takes.
+     *
+     * @param records records with the training columns (missing cells stay NaN)
+     * @return rows x D
+     */
+    public float[] modelSpace(Table records) {
+        return toFloat(parts.transform().toModelSpace(records));
+    }
+
+    /**
+     * The bound of each record by the given method (see {@link BoundOptions}), with the
+     * log-Jacobian of the column transforms so that the report also gives nats in original units.
+     *
+     * @param records complete records with the training columns
+     * @param how exact (full or strided chain) or sampled
+     * @param seed the seed of the x_t draws
+     * @return the per-record report
+     */
+    public BoundReport bound(Table records, BoundOptions how, long seed) {
+        float[] x = modelSpace(records);
+        double[] logJacobian = parts.transform().logJacobian(records);
+        if (how.sampled()) {
+            BoundEvaluator.Result r = BoundEvaluator.monteCarlo(chain, x, records.rows(), how.draws(), seed, threads);
+            return BoundReport.of(BoundReport.Method.MONTE_CARLO, chain.steps, how.draws(), chain.d, r.continuous,
+                    r.binary, logJacobian, r.standardError, r.perStepMean);
+        }
+        Chain c = chainOf(how.steps());
+        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), seed, threads);
+        return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary, logJacobian,
+                r.standardError, r.perStepMean);
+    }
+
+    /**
+     * Synthetic records drawn by the plan, chunk by chunk ({@link Parallel#fillChunks}).
+     *
+     * @param count how many, at least 1
+     * @param plan the sampler, steps and eta
+     * @param seed the seed
+     * @return the records in original units
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Table sample(int count, SamplingPlan plan, long seed) {
+        Chain c = chainOf(plan.steps());
+        float[] all = Parallel.fillChunks(count, c.d, threads, seed, (from, n, rng, x) -> {
+            c.drawPrior(x, n, rng);
+            ReverseRun.run(c, x, n, c.steps, null, 1, plan.kind(), plan.eta(), rng);
+        });
+        return parts.transform().fromModelSpace(toRows(all, count, c.d));
+    }
+
+    /**
+     * @param rows a table's rows as doubles, every row of one width
+     * @return the same values as one row-major float array
+     */
+    public static float[] toFloat(double[][] rows) {
+        int d = rows.length == 0 ? 0 : rows[0].length;
+        float[] f = new float[Math.multiplyExact(rows.length, d)];
+        for (int r = 0; r < rows.length; r++) {
+            for (int j = 0; j < d; j++) {
+                f[r * d + j] = (float) rows[r][j];
+            }
+        }
+        return f;
+    }
+
+    /**
+     * @param x rows x d, row-major
+     * @return the same values as rows of doubles
+     */
+    public static double[][] toRows(float[] x, int rows, int d) {
+        double[][] out = new double[rows][d];
+        for (int r = 0; r < rows; r++) {
+            for (int j = 0; j < d; j++) {
+                out[r][j] = x[r * d + j];
+            }
+        }
+        return out;
+    }
+}

@@ -1,0 +1,34 @@
+package org.backstep.internal.chain;
+
+import org.nd4j.linalg.api.ndarray.INDArray;
+
+/**
+ * What the reverse process asks of a learned (or exact) estimator: from a batch of noisy records
+ * x_t in model space and the step t of each row, predict
+ * <pre>
+ *   columns [0, Dc)            epsilon-hat for each continuous column (Ho et al. 2020, eq. 11)
+ *   columns [Dc, 2 Dc)         v, the log-variance interpolation of each continuous column
+ *                              (Nichol &amp; Dhariwal 2021, eq. 15), present only with learned variances
+ *   the last Db columns        the logit of P(x_0 = 1 | x_t) for each binary column
+ * </pre>
+ * where Dc and Db count the diffused continuous and binary columns. The trained network of a
+ * {@code org.backstep.DiffusionModel} is one implementation; tests supply exact closed-form estimators through
+ * the same interface, so they run the same bound and sampling code.
+ */
+public interface Estimator {
+
+    /** @return D = Dc + Db, the width of x_t */
+    int inputs();
+
+    /** @return the number of output columns, Dc (1 + [learned variance]) + Db */
+    int outputs();
+
+    /**
+     * Predicts for every row. Must be safe to call from several threads at once.
+     *
+     * @param xt rows x {@link #inputs()} float32, not modified
+     * @param steps the step of each row, 1..T of the training schedule, not modified
+     * @param out rows x {@link #outputs()} float32, written in place
+     */
+    void predict(INDArray xt, int[] steps, INDArray out);
+}
