@@ -2,7 +2,7 @@ package org.backstep.internal.store;
 
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.io.ModelFileException;
-import org.backstep.io.ProvenanceJson;
+import org.backstep.training.ProvenanceJson;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
 import org.backstep.option.ReverseVariance;

@@ -1,11 +1,10 @@
-package org.backstep.io;
+package org.backstep.training;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.JsonNodeFactory;
 import com.fasterxml.jackson.databind.node.ObjectNode;
-import org.backstep.training.EpochRecord;
-import org.backstep.training.Provenance;
+import org.backstep.io.ModelFileException;
 
 import java.util.ArrayList;
 import java.util.List;
