@@ -101,16 +101,27 @@ public final class CategoricalDiffusion {
             logAlphaBar[t] = schedule.logAlphaBar(t);
             double noised = schedule.oneMinusAlphaBar(t);                // 1 - abar_t, no cancellation
             logLeave[t] = Math.log(noised) - logCategories;               // log((1 - abar_t)/K); -inf at t = 0
-            // log(abar_t + (1 - abar_t)/K) = log1p(-(1 - abar_t)(K - 1)/K); exactly uniform where abar_t = 0
-            logStay[t] = logAlphaBar[t] == Double.NEGATIVE_INFINITY ? logLeave[t] : Math.log1p(-noised * othersShare);
+            // log(abar_t + (1 - abar_t)/K); exactly uniform where abar_t = 0
+            logStay[t] = logAlphaBar[t] == Double.NEGATIVE_INFINITY ? logLeave[t]
+                    : logOneMinus(noised * othersShare, Math.exp(logAlphaBar[t]) + noised / categories);
         }
         for (int t = 1; t <= steps; t++) {
             double beta = schedule.beta(t);
             logMove[t] = Math.log(beta) - logCategories;                  // log(beta_t / K)
-            // log(1 - beta_t + beta_t/K) = log1p(-beta_t (K - 1)/K); exactly uniform where beta_t = 1
-            logKeep[t] = beta == 1.0 ? logMove[t] : Math.log1p(-beta * othersShare);
+            // log(1 - beta_t + beta_t/K); exactly uniform where beta_t = 1
+            logKeep[t] = beta == 1.0 ? logMove[t] : logOneMinus(beta * othersShare, schedule.alpha(t) + beta / categories);
         }
         priorKl = uniformPriorKl(logAlphaBar[steps], schedule.oneMinusAlphaBar(steps), categories);
+    }
+
+    /**
+     * log(1 - x) for a share x in [0, 1] that is also known as the sum {@code complement} = 1 - x of
+     * positive terms: log1p(-x) while x &lt;= 1/2, where 1 - x has no cancellation to fear, else the
+     * log of the complement, which keeps its relative precision where x is near 1 (1 - x formed
+     * from a rounded x near 1 would lose it: at K = 100,000 and alpha-bar = 4e-5 about 1e-12).
+     */
+    private static double logOneMinus(double x, double complement) {
+        return x <= 0.5 ? Math.log1p(-x) : Math.log(complement);
     }
 
     /**
