@@ -45,7 +45,8 @@ import org.backstep.schedule.Require;
  * is certain and wrong costs about 27.6 nats, not infinity.
  *
  * <p>Everything is computed in log space in double: the per-step logarithms of the kernel and the
- * marginal are computed once, with log1p where a value is near 1, and every vector over the K
+ * marginal are computed once, each from whichever of its two forms (log1p of a small share, or the
+ * log of a sum of positive terms) has no cancellation, and every vector over the K
  * categories is built from them and the logits without forming a probability that could
  * underflow. Memory and time are O(K) per call. Categories are indices 0..K-1. Arrays passed in
  * are never modified; arrays returned are new.

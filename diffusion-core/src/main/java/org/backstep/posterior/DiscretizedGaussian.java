@@ -34,9 +34,10 @@ import org.backstep.schedule.Require;
  * continued fraction of Mills' ratio, Phi(x) = phi(x) / (z + 1/(z + 2/(z + 3/(z + ...)))), z = -x
  * (Laplace; Abramowitz &amp; Stegun 26.2.14), which has converged to double precision there with
  * {@value #MILLS_TERMS} terms, so that log Phi stays finite far past the point (about x = -38)
- * where Phi itself underflows. Very narrow bins (a few 1e-7 standard deviations and less) wholly in
- * one tail lose relative precision in proportion to their narrowness, since their edges' log Phi
- * nearly cancel; at that width the mass is below any count's meaningful resolution.
+ * where Phi itself underflows. A narrow bin (at most {@value #NARROW_HALF_WIDTH} standard deviations
+ * either side of its middle m, and not too far out: half-width times |m| at most
+ * {@value #NARROW_SPREAD}) is instead integrated from the Taylor series of the normal density about
+ * its middle, since the log Phi of its two edges would nearly cancel.
  *
  * <p>Immutable. Integers are {@code long}; the support and the integers passed in must lie within
  * +-2^52, where every integer and half-integer is a double.
@@ -45,6 +46,12 @@ public final class DiscretizedGaussian {
 
     /** Below this standardized value log Phi comes from Mills' ratio instead of erfc. */
     static final double TAIL_START = -20.0;
+
+    /** A bin at most twice this wide (in standard deviations) is narrow: its mass comes from a series. */
+    static final double NARROW_HALF_WIDTH = 0.05;
+
+    /** A narrow bin also has half-width times the distance of its middle from the mean at most this. */
+    static final double NARROW_SPREAD = 0.25;
 
     /** Terms of Mills' continued fraction, evaluated from the back (ample for z &gt;= 20). */
     static final int MILLS_TERMS = 60;
@@ -214,10 +221,15 @@ public final class DiscretizedGaussian {
     }
 
     /**
-     * log(Phi(b) - Phi(a)) for standardized edges a &lt; b (either may be infinite), by the three cases
-     * of the class description.
+     * log(Phi(b) - Phi(a)) for standardized edges a &lt; b (either may be infinite): a narrow bin by
+     * {@link #logNarrowMass(double, double)}, any other by the three cases of the class description.
      */
     static double logStandardNormalMass(double a, double b) {
+        double half = 0.5 * (b - a);
+        double mid = 0.5 * a + 0.5 * b;
+        if (half <= NARROW_HALF_WIDTH && half * Math.abs(mid) <= NARROW_SPREAD) {
+            return logNarrowMass(mid, half);
+        }
         if (a >= 0.0) {
             return logStandardNormalMass(-b, -a);        // reflection: Phi(b) - Phi(a) = Phi(-a) - Phi(-b)
         }
@@ -233,6 +245,38 @@ public final class DiscretizedGaussian {
             return Math.log1p(-tails);
         }
         return Math.log(0.5 * (Erf.erf(b * SQRT_HALF) + Erf.erf(-a * SQRT_HALF)));
+    }
+
+    /**
+     * log of the mass of a narrow bin (m - h, m + h) from the Taylor series of phi about m,
+     * integrated term by term:
+     * <pre>
+     *   Phi(m + h) - Phi(m - h) = 2 h phi(m) sum_{n &gt;= 0} He_{2n}(m) h^{2n} / (2n + 1)!
+     * </pre>
+     * since the k-th derivative of phi is (-1)^k He_k phi, with He the probabilists' Hermite
+     * polynomials, He_{k+1}(m) = m He_k(m) - k He_{k-1}(m) (Abramowitz &amp; Stegun 26.2.4 and 22.7.14;
+     * their He_n). With h &lt;= {@value #NARROW_HALF_WIDTH} and h |m| &lt;= {@value #NARROW_SPREAD} the
+     * sum is 1 within about 1 percent and its terms fall fast; log phi(m) = -m^2/2 - log sqrt(2 pi)
+     * never underflows.
+     */
+    static double logNarrowMass(double m, double h) {
+        double h2 = h * h;
+        double sum = 1.0;
+        double hePrev = 1.0;     // He_{2n-2}, starting with He_0
+        double he = m;           // He_{2n-1}, starting with He_1
+        double factor = 1.0;     // h^{2n} / (2n + 1)!
+        for (int n = 1; n <= 40; n++) {
+            double even = m * he - (2 * n - 1) * hePrev;          // He_{2n}
+            factor *= h2 / ((2.0 * n) * (2.0 * n + 1.0));
+            double term = even * factor;
+            sum += term;
+            if (Math.abs(term) <= 1e-17 * sum) {
+                break;
+            }
+            hePrev = even;
+            he = m * even - (2 * n) * he;                          // He_{2n+1}
+        }
+        return Math.log(2.0 * h) - 0.5 * m * m - LOG_SQRT_TWO_PI + Math.log(sum);
     }
 
     /**

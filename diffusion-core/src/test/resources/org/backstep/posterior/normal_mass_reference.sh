@@ -33,7 +33,8 @@ LOG_MASS = [
     ('-0.5', '0.5'), ('-2', '3'), ('-8', '8'), ('-12', '9'), ('-40', '40'), ('-inf', '0.3'),
     ('0.3', 'inf'), ('-inf', 'inf'), ('1', '1.001'), ('0.999999', '1'), ('2.5', '3'), ('7.9', '8.2'),
     ('9.5', '10.5'), ('19.5', '20.5'), ('37.5', '38.5'), ('40', '40.5'), ('40', 'inf'), ('60', 'inf'),
-    ('0', '1e-12'), ('-1e-12', '0'), ('-0.25', '1e6'),
+    ('0', '1e-12'), ('-1e-12', '0'), ('-0.25', '1e6'), ('-40.001', '-40'), ('-1000.0001', '-1000'),
+    ('1000', '1000.0001'), ('-3.05', '-2.95'), ('5.98', '6.02'), ('-0.3', '-0.2'), ('39.9', '40.1'),
 ]
 
 
@@ -52,7 +53,10 @@ def main():
     for x in LOG_CDF:
         out.write('log_cdf %r %s\n' % (x, fmt(mpmath.log(mpmath.ncdf(mpmath.mpf(x))))))
     for a, b in LOG_MASS:
-        mass = mpmath.ncdf(value(b)) - mpmath.ncdf(value(a))
+        if value(a) >= 0:   # Phi(b) - Phi(a) = Phi(-a) - Phi(-b): both terms tiny, no digits lost far out
+            mass = mpmath.ncdf(-value(a)) - mpmath.ncdf(-value(b))
+        else:
+            mass = mpmath.ncdf(value(b)) - mpmath.ncdf(value(a))
         out.write('log_mass %s %s %s\n' % (a, b, fmt(mpmath.log(mass))))
 
 
