@@ -465,6 +465,78 @@ public final class CategoricalDiffusion {
     }
 
     /**
+     * The bound term of step t for one cell and its gradient with respect to the logits, for a
+     * trainer: L_0 = {@link #decoderNll(int, double[])} at t = 1 and L_{t-1} =
+     * {@link #posteriorKl(int, int, int, double[])} for t &gt;= 2, with
+     * <pre>
+     *   t = 1:   dL/dlogit_j = x0hat_j - [j = x_0]                                  (cross-entropy)
+     *   t &gt;= 2:  dL/dlogit_j = x0hat_j (g_j - sum_c x0hat_c g_c),   g_c = dL/dx0hat_c
+     *            g_c = -sum_k q_k P_c(k) / p_k
+     *                = -[abar_{t-1} a_c q_c / p_c + (1 - abar_{t-1})/K * sum_k a_k q_k / p_k] / z_c
+     * </pre>
+     * where q is the posterior, p the reverse kernel, P_c = q(x_{t-1} | x_t, x_0 = c) and a, z as in
+     * the class description (the chain rule through p_k = sum_c x0hat_c P_c(k) and the softmax);
+     * O(K), every ratio formed in log space. The gradient is that of the divergence before the floor,
+     * which only acts where a model probability is below {@link #PROBABILITY_FLOOR}.
+     *
+     * @param t the step, 1..T
+     * @param x0 the category x_0, 0..K-1
+     * @param xt the category x_t, 0..K-1 (not used at t = 1)
+     * @param x0Logits K logits of the predicted x_0 (not modified), as for
+     *     {@link #reverseLogProbabilities(int, int, double[])}
+     * @param gradient K entries, overwritten with dL/dlogit (modified)
+     * @return the bound term L_{t-1} in nats
+     * @throws IllegalArgumentException naming the argument out of range, the bad logit, or a gradient
+     *     array of the wrong length
+     */
+    public double boundTermGradientInPlace(int t, int x0, int xt, double[] x0Logits, double[] gradient) {
+        Require.inRange("t", t, 1, steps);
+        category("x0", x0);
+        category("xt", xt);
+        checkLogits("x0Logits", x0Logits);
+        Require.notNull("gradient", gradient);
+        if (gradient.length != categories) {
+            throw new IllegalArgumentException("gradient has " + gradient.length
+                    + " entries; expected one per category, " + categories);
+        }
+        double max = max(x0Logits, -1);
+        double logNorm = logNormalizer(x0Logits, max);
+        if (t == 1) {
+            for (int j = 0; j < categories; j++) {
+                gradient[j] = Math.exp((x0Logits[j] - max) - logNorm);
+            }
+            gradient[x0] -= 1.0;
+            return decoderNll(x0, x0Logits);
+        }
+        double[] q = new double[categories];
+        double[] p = new double[categories];
+        fillLogPosterior(t, x0, xt, q);
+        fillReverse(t, xt, x0Logits, p);
+        double abarPrev = logAlphaBar[t - 1];
+        double leavePrev = logLeave[t - 1];
+        // log sum_k a_k q_k / p_k
+        double logR = Double.NEGATIVE_INFINITY;
+        for (int k = 0; k < categories; k++) {
+            double la = k == xt ? logKeep[t] : logMove[t];
+            logR = logAddExp(logR, la + q[k] - p[k]);
+        }
+        // x0hat_c g_c, formed as one exponential (x0hat_c g_c is at least -1; g_c alone can overflow
+        // where x0hat_c is tiny), and their sum, the mean of g under x0hat
+        double mean = 0.0;
+        for (int c = 0; c < categories; c++) {
+            double la = c == xt ? logKeep[t] : logMove[t];
+            double lz = c == xt ? logStay[t] : logLeave[t];
+            double logShare = (x0Logits[c] - max) - logNorm;
+            gradient[c] = -Math.exp(logShare + logAddExp(abarPrev + la + q[c] - p[c], leavePrev + logR) - lz);
+            mean += gradient[c];
+        }
+        for (int c = 0; c < categories; c++) {
+            gradient[c] -= Math.exp((x0Logits[c] - max) - logNorm) * mean;
+        }
+        return klOfLogs(q, p);
+    }
+
+    /**
      * KL(P || Q) = sum_k P_k (log P_k - log max(Q_k, {@link #PROBABILITY_FLOOR})) in nats between
      * two categorical distributions given as log-probabilities, with 0 log 0 = 0 (relative entropy,
      * Cover &amp; Thomas, "Elements of Information Theory", section 2.3). Working from logarithms,

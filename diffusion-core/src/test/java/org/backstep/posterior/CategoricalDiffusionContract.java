@@ -388,6 +388,81 @@ abstract class CategoricalDiffusionContract {
         assertEquals(entropy + mismatch, direct, ENTROPY_TOLERANCE, "the bound summed over every path");
     }
 
+    /** Central differences with step {@link #FD_STEP}: truncation about h^2, rounding about 1e-16 L / h. */
+    static final double FD_REL = 1e-6;
+
+    /** Below this size gradients are compared absolutely (FD_REL times it). */
+    static final double FD_FLOOR = 1e-2;
+
+    static final double FD_STEP = 1e-5;
+
+    /**
+     * The gradient is that of the divergence before the floor (as a trainer wants it: a model
+     * certain and wrong is still pushed back), so it is checked against central differences of the
+     * unfloored term, -log x0hat_{x_0} at t = 1 and sum_k q_k (log q_k - log p_k) at t &gt;= 2, built
+     * from the log-probabilities that the other tests check against enumeration.
+     */
+    @Test
+    void gradientMatchesCentralDifferences() {
+        CategoricalDiffusion d = create();
+        int k = d.categories();
+        int steps = d.schedule().steps();
+        for (double[] logits : someLogits(k, 11)) {
+            for (int t = 1; t <= steps; t++) {
+                for (int x0 = 0; x0 < k; x0++) {
+                    for (int xt = 0; xt < k; xt++) {
+                        int step = t;
+                        int first = x0;
+                        int noisy = xt;
+                        double[] logQ = t == 1 ? null : d.logPosterior(t, x0, xt);
+                        java.util.function.ToDoubleFunction<double[]> unfloored = l -> {
+                            double[] logP = d.reverseLogProbabilities(step, noisy, l);
+                            if (step == 1) {
+                                return -logP[first];
+                            }
+                            double kl = 0.0;
+                            for (int a = 0; a < k; a++) {
+                                kl += Math.exp(logQ[a]) * (logQ[a] - logP[a]);
+                            }
+                            return kl;
+                        };
+                        double[] g = new double[k];
+                        double value = d.boundTermGradientInPlace(t, x0, xt, logits, g);
+                        double term = t == 1 ? d.decoderNll(x0, logits) : d.posteriorKl(t, x0, xt, logits);
+                        assertEquals(term, value, 0.0, "the term itself");
+                        double[] x0hat = softmax(logits);
+                        double sum = 0.0;
+                        for (int j = 0; j < k; j++) {
+                            sum += g[j];
+                            if (t == 1 && x0hat[x0] == 0.0) {
+                                // a ruled-out x_0: the cross-entropy gradient x0hat - onehot(x_0) (common practice)
+                                assertClose(x0hat[j] - (j == x0 ? 1.0 : 0.0), g[j], IDENTITY_REL, FD_FLOOR,
+                                        "cross-entropy gradient of a ruled-out x_0");
+                                continue;
+                            }
+                            if (logits[j] == Double.NEGATIVE_INFINITY) {
+                                assertEquals(0.0, g[j], 0.0, "a ruled-out category has no gradient");
+                                continue;
+                            }
+                            double[] up = logits.clone();
+                            double[] down = logits.clone();
+                            up[j] += FD_STEP;
+                            down[j] -= FD_STEP;
+                            // central difference (common practice, no source)
+                            double fd = (unfloored.applyAsDouble(up) - unfloored.applyAsDouble(down)) / (2 * FD_STEP);
+                            assertClose(fd, g[j], FD_REL, FD_FLOOR,
+                                    "dL/dlogit_" + j + " at t = " + t + ", x_0 = " + x0 + ", x_t = " + xt);
+                        }
+                        // softmax: adding one constant to every logit changes nothing, so the gradient sums to 0
+                        assertEquals(0.0, sum, 1e-12, "gradient sums to 0");
+                    }
+                }
+            }
+        }
+        assertRefused(() -> d.boundTermGradientInPlace(1, 0, 0, new double[k], new double[k + 1]),
+                "gradient has " + (k + 1));
+    }
+
     // ------------------------------------------------------------------ draws
 
     @Test

@@ -87,6 +87,17 @@ class CategoricalLargeKTest {
                         }
                     }
                 }
+                double[] gradient = new double[k];
+                for (int t : new int[] {1, 2, steps}) {
+                    double term = d.boundTermGradientInPlace(t, k / 3, 0, logits, gradient);
+                    assertTrue(Double.isFinite(term), "term at t = " + t);
+                    double sum = 0.0;
+                    for (double g : gradient) {
+                        assertTrue(Double.isFinite(g), "gradient entry " + g + " at t = " + t);
+                        sum += g;
+                    }
+                    assertEquals(0.0, sum, 1e-9, "a softmax gradient sums to 0, t = " + t);
+                }
                 double worst = d.decoderNll(k - 1, logits);
                 assertEquals(-Math.log(CategoricalDiffusion.PROBABILITY_FLOOR), worst, 1e-12,
                         "a ruled-out category costs -log of the floor");
