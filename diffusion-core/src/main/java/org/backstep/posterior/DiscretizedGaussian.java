@@ -204,6 +204,47 @@ public final class DiscretizedGaussian {
     }
 
     /**
+     * {@link #logProbability(long, double, double)} and its gradient, for a trainer: with standardized
+     * edges a = (delta_- - mu)/sigma, b = (delta_+ - mu)/sigma, P = Phi(b) - Phi(a) and phi the
+     * standard normal density (taken as 0, and a phi(a) as 0, at an infinite edge),
+     * <pre>
+     *   d log P / d mu             = (phi(a) - phi(b)) / (sigma P)
+     *   d log P / d log sigma^2    = (a phi(a) - b phi(b)) / (2 P)
+     * </pre>
+     * (differentiating Ho et al. 2020, eq. 13, under the integral's limits), each ratio phi / P
+     * formed as exp(log phi - log P), so that it stays finite far in the tails, where both underflow.
+     *
+     * @param n the observed integer, in the support
+     * @param mean mu, finite
+     * @param logVariance log sigma^2, with sigma finite and above 0
+     * @param gradient two entries, overwritten with d log P / d mean and d log P / d logVariance (modified)
+     * @return log P, as {@link #logProbability(long, double, double)} returns it
+     * @throws IllegalArgumentException naming the argument that is out of range, or a gradient array
+     *     of another length than 2
+     */
+    public double logProbabilityGradientInPlace(long n, double mean, double logVariance, double[] gradient) {
+        Require.notNull("gradient", gradient);
+        if (gradient.length != 2) {
+            throw new IllegalArgumentException("gradient has " + gradient.length
+                    + " entries; expected 2 (d/d mean, d/d logVariance)");
+        }
+        double logP = logProbability(n, mean, logVariance);
+        double sd = Math.exp(0.5 * logVariance);
+        double a = (lowerEdge(n) - mean) / sd;
+        double b = (upperEdge(n) - mean) / sd;
+        double densityA = densityRatio(a, logP);      // phi(a) / P
+        double densityB = densityRatio(b, logP);      // phi(b) / P
+        gradient[0] = (densityA - densityB) / sd;
+        gradient[1] = 0.5 * ((Double.isInfinite(a) ? 0.0 : a * densityA) - (Double.isInfinite(b) ? 0.0 : b * densityB));
+        return logP;
+    }
+
+    /** phi(x) / P as exp(log phi(x) - log P); 0 at an infinite edge. */
+    private static double densityRatio(double x, double logP) {
+        return Double.isInfinite(x) ? 0.0 : Math.exp(-0.5 * x * x - LOG_SQRT_TWO_PI - logP);
+    }
+
+    /**
      * The integer whose bin holds a model-space value: floor(shift + scale z + 1/2), kept within
      * the support (the edge bins reach to infinity). Drawing z from N(mu, sigma^2) and taking this
      * integer draws from the decoder's distribution exactly.

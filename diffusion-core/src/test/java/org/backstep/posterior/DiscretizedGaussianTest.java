@@ -191,6 +191,37 @@ class DiscretizedGaussianTest {
         assertEquals((4.5 - 3.2) / 1.7, g.upperEdge(4), 1e-15, "(n + 1/2 - shift) / scale");
     }
 
+    /** Central differences with step 1e-6: truncation about h^2, rounding about 1e-16 |log P| / h (common practice, no source). */
+    private static final double FD_REL = 1e-6;
+
+    @Test
+    void gradientMatchesCentralDifferences() {
+        DiscretizedGaussian g = DiscretizedGaussian.bounded(3.2, 1.7, 0, 9);
+        DiscretizedGaussian plain = DiscretizedGaussian.unbounded(0.0, 1.0);
+        double h = 1e-6;
+        double[][] cases = {   // {n, mean, logVariance, which decoder: 0 bounded, 1 unbounded}
+            {0, 0.4, Math.log(0.3), 0}, {4, 0.4, Math.log(0.3), 0}, {9, -1.0, Math.log(2.0), 0},
+            {5, 0.0, Math.log(1e-3), 0}, {7, -0.5, Math.log(0.01), 0}, {38, 0.0, 0.0, 1}, {-38, 0.0, 0.0, 1},
+            {3, 0.1, Math.log(1e-6), 1}, {0, 0.2, Math.log(25.0), 1},
+        };
+        for (double[] c : cases) {
+            DiscretizedGaussian d = c[3] == 0 ? g : plain;
+            long n = (long) c[0];
+            double[] grad = new double[2];
+            double logP = d.logProbabilityGradientInPlace(n, c[1], c[2], grad);
+            assertEquals(d.logProbability(n, c[1], c[2]), logP, 0.0, "log P itself");
+            // central differences in mean and log variance (common practice, no source)
+            double dMean = (d.logProbability(n, c[1] + h, c[2]) - d.logProbability(n, c[1] - h, c[2])) / (2 * h);
+            double dLogVar = (d.logProbability(n, c[1], c[2] + h) - d.logProbability(n, c[1], c[2] - h)) / (2 * h);
+            double scale = Math.max(1.0, Math.abs(logP));
+            assertClose(dMean, grad[0], FD_REL, scale, "d log P / d mean for " + java.util.Arrays.toString(c));
+            assertClose(dLogVar, grad[1], FD_REL, scale, "d log P / d logVariance for " + java.util.Arrays.toString(c));
+        }
+        double[] far = new double[2];
+        plain.logProbabilityGradientInPlace(0, 1000.5, 0.0, far);
+        assertTrue(Double.isFinite(far[0]) && Double.isFinite(far[1]) && far[0] < 0, "1000 sd out: " + far[0]);
+    }
+
     private static void assertRefused(Executable call, String... fragments) {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class, call);
         for (String fragment : fragments) {
@@ -213,5 +244,6 @@ class DiscretizedGaussianTest {
         assertRefused(() -> g.logProbability(3, 0.0, 2000.0), "logVariance is 2000.0", "finite");
         assertRefused(() -> g.integerAt(Double.NaN), "z is NaN");
         assertRefused(() -> g.modelValue(12), "n is 12");
+        assertRefused(() -> g.logProbabilityGradientInPlace(3, 0.0, 0.0, new double[3]), "gradient has 3 entries");
     }
 }
