@@ -392,9 +392,9 @@ public final class CategoricalDiffusion {
 
     /**
      * r(x) = log(1 + x) - x without cancellation: for -1/2 &lt;= x &lt;= 1 from the series
-     * log(1 + x) = 2 (y + y^3/3 + y^5/5 + ...), y = x/(2 + x) (Abramowitz &amp; Stegun 4.1.28), whose
-     * first term makes 2y - x = -x^2/(2 + x); |y| &lt;= 1/3 there, so 40 terms are far more than
-     * double precision needs. Elsewhere log1p(x) - x has no damaging cancellation.
+     * log(1 + x) = 2 atanh(y) = 2 (y + y^3/3 + y^5/5 + ...), y = x/(2 + x), whose first term makes
+     * 2y - x = -x^2/(2 + x); |y| &lt;= 1/3 there, so 40 terms are far more than double precision
+     * needs. Elsewhere log1p(x) - x has no damaging cancellation.
      */
     static double log1pMinusX(double x) {
         if (x < -0.5 || x > 1.0) {

@@ -32,12 +32,12 @@ import org.backstep.schedule.Require;
  * </ul>
  * log Phi(x) comes from commons-math3's erfc down to x = {@value #TAIL_START} and below from the
  * continued fraction of Mills' ratio, Phi(x) = phi(x) / (z + 1/(z + 2/(z + 3/(z + ...)))), z = -x
- * (Laplace; Abramowitz &amp; Stegun 26.2.14), which has converged to double precision there with
- * {@value #MILLS_TERMS} terms, so that log Phi stays finite far past the point (about x = -38)
- * where Phi itself underflows. A narrow bin (at most {@value #NARROW_HALF_WIDTH} standard deviations
- * either side of its middle m, and not too far out: half-width times |m| at most
- * {@value #NARROW_SPREAD}) is instead integrated from the Taylor series of the normal density about
- * its middle, since the log Phi of its two edges would nearly cancel.
+ * (Laplace's continued fraction, Abramowitz &amp; Stegun, section 26.2), which has converged to
+ * double precision there with {@value #MILLS_TERMS} terms, so that log Phi stays finite far past the
+ * point (about x = -38) where Phi itself underflows. A narrow bin (at most
+ * {@value #NARROW_HALF_WIDTH} standard deviations either side of its middle m, and not too far out:
+ * half-width times |m| at most {@value #NARROW_SPREAD}) is instead integrated from the Taylor series
+ * of the normal density about its middle, since the log Phi of its two edges would nearly cancel.
  *
  * <p>Immutable. Integers are {@code long}; the support and the integers passed in must lie within
  * +-2^52, where every integer and half-integer is a double.
@@ -295,7 +295,7 @@ public final class DiscretizedGaussian {
      *   Phi(m + h) - Phi(m - h) = 2 h phi(m) sum_{n &gt;= 0} He_{2n}(m) h^{2n} / (2n + 1)!
      * </pre>
      * since the k-th derivative of phi is (-1)^k He_k phi, with He the probabilists' Hermite
-     * polynomials, He_{k+1}(m) = m He_k(m) - k He_{k-1}(m) (Abramowitz &amp; Stegun 26.2.4 and 22.7.14;
+     * polynomials, He_{k+1}(m) = m He_k(m) - k He_{k-1}(m) (Abramowitz &amp; Stegun, chapter 22,
      * their He_n). With h &lt;= {@value #NARROW_HALF_WIDTH} and h |m| &lt;= {@value #NARROW_SPREAD} the
      * sum is 1 within about 1 percent and its terms fall fast; log phi(m) = -m^2/2 - log sqrt(2 pi)
      * never underflows.
@@ -324,7 +324,7 @@ public final class DiscretizedGaussian {
      * log Phi(x), the log of the standard normal distribution function: log(erfc(-x/sqrt 2)/2) for
      * {@value #TAIL_START} &lt;= x &lt; 0, log1p(-erfc(x/sqrt 2)/2) for x &gt;= 0, and below
      * {@value #TAIL_START} -x^2/2 - log sqrt(2 pi) - log(z + 1/(z + 2/(z + ...))), z = -x, the
-     * continued fraction of Mills' ratio (Abramowitz &amp; Stegun 26.2.14) evaluated from its
+     * continued fraction of Mills' ratio (Abramowitz &amp; Stegun, section 26.2) evaluated from its
      * {@value #MILLS_TERMS}th term back.
      */
     static double logNormalCdf(double x) {
