@@ -62,7 +62,7 @@ class CategoricalLargeKTest {
     void thousandCategoriesStayFiniteAndNormalized() {
         for (int k : new int[] {1000, 100_000}) {
             double[] logits = steepLogits(k);
-            for (NoiseSchedule s : SCHEDULES) {
+            for (NoiseSchedule s : k == 1000 ? SCHEDULES : SCHEDULES.subList(0, 1)) {   // seconds, not minutes
                 CategoricalDiffusion d = CategoricalDiffusion.of(s, k);
                 int steps = s.steps();
                 for (int t : new int[] {1, 2, Math.max(2, steps / 2), steps}) {
