@@ -42,7 +42,7 @@ import org.backstep.schedule.Require;
  * eq. 14) are {@link #priorKl()} (L_T), {@link #posteriorKl(int, int, int, double[])} (L_{t-1},
  * t &gt;= 2) and {@link #decoderNll(int, double[])} (L_0). Model probabilities below
  * {@link #PROBABILITY_FLOOR} are raised to it before their logarithm is taken, so that a model that
- * is certain and wrong costs about 27.6 nats, not infinity.
+ * is certain and wrong costs about 16.1 nats, not infinity.
  *
  * <p>Everything is computed in log space in double: the per-step logarithms of the kernel and the
  * marginal are computed once, each from whichever of its two forms (log1p of a small share, or the
@@ -55,11 +55,11 @@ public final class CategoricalDiffusion {
 
     /**
      * The smallest model probability whose logarithm enters a divergence or the decoder term: a
-     * model probability below it counts as this value (the same size as
-     * {@link Divergence#PROBABILITY_CLAMP} of the Bernoulli divergence). -log of it is about 27.6
-     * nats.
+     * model probability below it counts as this value. It is the library's one floor,
+     * {@link Divergence#PROBABILITY_FLOOR}, so that a K = 2 column scores as a binary one; -log of
+     * it is about 16.1 nats.
      */
-    public static final double PROBABILITY_FLOOR = 1e-12;
+    public static final double PROBABILITY_FLOOR = Divergence.PROBABILITY_FLOOR;
 
     /**
      * How far from 1 the total of a distribution passed as log-probabilities may be (double
@@ -453,7 +453,7 @@ public final class CategoricalDiffusion {
      * @param x0 the observed category, 0..K-1
      * @param x0Logits K logits of the predicted x_0 (not modified), as for
      *     {@link #reverseLogProbabilities(int, int, double[])}
-     * @return the negative log-likelihood, from 0 to about 27.6
+     * @return the negative log-likelihood, from 0 to about 16.1 (-log of the floor)
      * @throws IllegalArgumentException naming the argument out of range or the bad logit
      */
     public double decoderNll(int x0, double[] x0Logits) {
