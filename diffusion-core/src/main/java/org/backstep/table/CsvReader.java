@@ -39,9 +39,10 @@ import org.backstep.schedule.Require;
  * <p><b>Memory.</b> The text is never held whole: it is decoded and parsed a chunk at a time, and
  * the cells go straight into primitive arrays. A regular file is read twice: the first pass checks
  * every cell and counts the rows, the second stores the cells into one array of exactly the table's
- * size, so the heap needed is the table (8 bytes per cell) plus a constant. A stream can be read only
- * once; its cells go into arrays of 256 KiB that grow with the rows and are joined at the end, which
- * needs up to twice the table's size for a moment.
+ * size, so the heap needed is the table (8 bytes per cell) plus a constant (measured with G1: the
+ * smallest -Xmx that read a file was 0.98 times the table plus 9 MB). A stream can be read only once;
+ * its cells go into arrays of 256 KiB that grow with the rows and are joined at the end, so the table
+ * is held twice for a moment (measured: 2.4 times the table; diffusion-bench CsvReadMemory).
  */
 public final class CsvReader {
 
@@ -50,8 +51,8 @@ public final class CsvReader {
     /**
      * Cells per block of the growing store for streams: 256 KiB of doubles, under half of G1's
      * smallest region (1 MiB), so that a block is an ordinary object and not a "humongous" one that
-     * occupies whole regions (with 512 KiB blocks the heap needed for a stream was 3.1 times the
-     * table, not about 2; diffusion-bench CsvReadMemory).
+     * occupies whole regions (with 512 KiB blocks the smallest heap that read a stream was 3.1 times
+     * the table, with 256 KiB blocks 2.4; diffusion-bench/results/csv-read-memory.txt).
      */
     static final int BLOCK_CELLS = 1 << 15;
 
