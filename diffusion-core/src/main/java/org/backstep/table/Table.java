@@ -31,14 +31,13 @@ import org.nd4j.linalg.factory.Nd4j;
  * <p>Arrays passed in are copied and arrays returned are copies, so a table never changes.
  * {@link #equals(Object)} is exact: same names, kinds and cells bit for bit (every NaN equal to every
  * NaN, as in {@link Arrays#equals(double[], double[])}). Row and column indices are 0-based.
+ * {@link #toString()} is a one-line summary; {@link #toText(int)} prints the cells.
+ *
+ * <p>(This file stays one class of about 600 lines: every method reads the one private row-major
+ * cell array, and splitting the selections or the digest out would hand that array to other
+ * classes; the text layout lives in {@code TableText}, which needs only the public accessors.)
  */
 public final class Table {
-
-    /** How many rows {@link #toString()} shows. */
-    static final int SHOWN_ROWS = 5;
-
-    /** How many columns {@link #toString()} shows. */
-    static final int SHOWN_COLUMNS = 8;
 
     /** The most cells a table holds (one Java array). */
     static final int MAX_CELLS = Integer.MAX_VALUE - 8;
@@ -443,65 +442,45 @@ public final class Table {
     // ------------------------------------------------------------------ object
 
     /**
-     * A readable summary for JShell and logs: the shape, the kinds, the missing count, then the names,
-     * kinds and first {@value #SHOWN_ROWS} rows in right-aligned columns (at most
-     * {@value #SHOWN_COLUMNS} columns shown). Missing cells show as {@code NA}, binary cells as
-     * {@code 0}/{@code 1}, continuous cells by {@link Double#toString(double)}.
+     * The printout of the first rows, for JShell and logs: a summary line, a header line with each
+     * column's kind in brackets ({@code temp_c [cont]}, {@code door_open [bin]}), then one line per
+     * row labelled by its 0-based index, cells right-aligned; missing cells show as {@code ?}, binary
+     * cells as 0 or 1, continuous cells by {@link Double#toString(double)}; a last line names the rows
+     * left out. Every column is shown.
      *
-     * @return the summary, lines separated by '\n'
+     * @param maxRows how many rows to show at most, 0 or more
+     * @return the printout, lines ending with '\n'
+     * @throws IllegalArgumentException if {@code maxRows} is negative
+     */
+    public String toText(int maxRows) {
+        return toText(maxRows, columns);
+    }
+
+    /**
+     * The printout of {@link #toText(int)}, of at most {@code maxColumns} columns (the first ones);
+     * the last line names the rows and columns left out.
+     *
+     * @param maxRows how many rows to show at most, 0 or more
+     * @param maxColumns how many columns to show at most, 1 or more
+     * @return the printout, lines ending with '\n'
+     * @throws IllegalArgumentException if {@code maxRows} is negative or {@code maxColumns} below 1
+     */
+    public String toText(int maxRows, int maxColumns) {
+        Require.atLeast("maxRows", maxRows, 0);
+        Require.atLeast("maxColumns", maxColumns, 1);
+        return TableText.text(this, maxRows, maxColumns);
+    }
+
+    /**
+     * A one-line summary: shape, kinds and missing cells, e.g.
+     * {@code Table: 150 rows x 4 columns (4 continuous, 0 binary), no missing cells}. The cells are
+     * shown by {@link #toText(int)}.
+     *
+     * @return the summary, without a line break
      */
     @Override
     public String toString() {
-        StringBuilder sb = new StringBuilder();
-        sb.append("Table ").append(rows).append(rows == 1 ? " row" : " rows").append(" x ").append(columns)
-                .append(columns == 1 ? " column" : " columns").append(" (").append(continuous.length)
-                .append(" continuous, ").append(binary.length).append(" binary), ").append(missing)
-                .append(" missing (NA)\n");
-        int shownCols = Math.min(columns, SHOWN_COLUMNS);
-        int shownRows = Math.min(rows, SHOWN_ROWS);
-        String[][] grid = new String[shownRows + 2][shownCols];
-        int[] width = new int[shownCols];
-        for (int c = 0; c < shownCols; c++) {
-            grid[0][c] = names.get(c);
-            grid[1][c] = kinds.get(c) == ColumnKind.CONTINUOUS ? "continuous" : "binary";
-            for (int r = 0; r < shownRows; r++) {
-                grid[r + 2][c] = cellText(cells[r * columns + c], kinds.get(c));
-            }
-            for (String[] line : grid) {
-                width[c] = Math.max(width[c], line[c].length());
-            }
-        }
-        String rowLabel = "row";
-        int labelWidth = Math.max(rowLabel.length(), String.valueOf(Math.max(0, shownRows - 1)).length());
-        for (int line = 0; line < grid.length; line++) {
-            String label = line == 0 ? rowLabel : line == 1 ? "" : String.valueOf(line - 2);
-            sb.append(pad(label, labelWidth));
-            for (int c = 0; c < shownCols; c++) {
-                sb.append("  ").append(pad(grid[line][c], width[c]));
-            }
-            if (shownCols < columns && line == 0) {
-                sb.append("  ... (").append(columns - shownCols).append(" more columns)");
-            }
-            sb.append('\n');
-        }
-        if (shownRows < rows) {
-            sb.append("... (").append(rows - shownRows).append(" more rows)\n");
-        }
-        return sb.toString();
-    }
-
-    private static String cellText(double v, ColumnKind kind) {
-        if (Double.isNaN(v)) {
-            return "NA";
-        }
-        if (kind == ColumnKind.BINARY) {
-            return v == 1.0 ? "1" : "0";
-        }
-        return Double.toString(v);
-    }
-
-    private static String pad(String s, int width) {
-        return " ".repeat(Math.max(0, width - s.length())) + s;
+        return TableText.summary(this);
     }
 
     /**
@@ -623,24 +602,46 @@ public final class Table {
                             + (row == null ? "no array (null)" : row.length + " values")
                             + "; expected " + cols + " (one per column)");
                 }
-                for (int c = 0; c < cols; c++) {
-                    double v = row[c];
+                System.arraycopy(row, 0, cells, r * cols, cols);
+            }
+            return adopt(rowArrays.length, cells);
+        }
+
+        /**
+         * A table that takes {@code cells} as its own storage, without a copy: the caller must not
+         * keep or change the array. Checks every cell and stores a binary -0.0 as 0.0 in place.
+         *
+         * @param rows the row count
+         * @param cells row-major, {@code cells[r * columns + c]}, exactly rows x columns long
+         */
+        Table adopt(int rows, double[] cells) {
+            int cols = names.size();
+            if ((long) rows * cols != cells.length) {
+                throw new IllegalArgumentException("cells has " + cells.length + " values; expected " + rows + " x "
+                        + cols);
+            }
+            boolean[] binary = new boolean[cols];
+            for (int c = 0; c < cols; c++) {
+                binary[c] = kinds.get(c) == ColumnKind.BINARY;
+            }
+            for (int r = 0, i = 0; r < rows; r++) {
+                for (int c = 0; c < cols; c++, i++) {
+                    double v = cells[i];
                     if (Double.isInfinite(v)) {
                         throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
                                 + "' is " + v + "; expected a finite number or NaN for a missing cell");
                     }
-                    if (kinds.get(c) == ColumnKind.BINARY) {
+                    if (binary[c]) {
                         if (v == 0.0) {
-                            v = 0.0; // stores -0.0 as 0.0
+                            cells[i] = 0.0; // stores -0.0 as 0.0
                         } else if (v != 1.0 && !Double.isNaN(v)) {
                             throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
                                     + "' is " + v + "; the column is BINARY, expected 0, 1 or NaN for a missing cell");
                         }
                     }
-                    cells[r * cols + c] = v;
                 }
             }
-            return new Table(names, kinds, index, rowArrays.length, cells);
+            return new Table(names, kinds, index, rows, cells);
         }
     }
 }

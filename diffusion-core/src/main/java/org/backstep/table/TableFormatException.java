@@ -5,8 +5,10 @@ import java.util.List;
 /**
  * A CSV source could not be read as a {@link Table}. It carries every problem found in one pass over
  * the whole source (up to {@link #MAX_PROBLEMS}; the rest are counted by {@link #omitted()}), each
- * with its 1-based line and its column name, so that all of them can be fixed at once. The reader
- * that throws it returns no partial table.
+ * with its 1-based line and its column name, so that all of them can be fixed at once; a problem of
+ * the text itself (not UTF-8, a NUL character, a byte order mark inside, an unclosed quote) ends the
+ * pass, and its message gives the column in characters and the byte offset. The reader that throws
+ * it returns no partial table.
  */
 public final class TableFormatException extends Exception {
 
@@ -88,7 +90,7 @@ public final class TableFormatException extends Exception {
         return source;
     }
 
-    /** @return the problems, in the order found (line order), at most {@link #MAX_PROBLEMS} (unmodifiable) */
+    /** @return the problems, in line order, at most {@link #MAX_PROBLEMS} (unmodifiable) */
     public List<Problem> problems() {
         return problems;
     }

@@ -16,7 +16,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * The atomic replacement of {@link CsvTables.Writer#write(Table, Path)}: on success the new content is
+ * The atomic replacement of {@link CsvWriter#write(Table, Path)}: on success the new content is
  * in place; on any failure the old file is byte for byte as before and no temporary file is left.
  * (Common practice, no source: write-to-temporary, force, rename.)
  */
@@ -59,7 +59,7 @@ class CsvAtomicWriteTest {
         Path file = dir.resolve("telemetry.csv");
         Files.write(file, OLD);
         IOException boom = new IOException("disk unplugged");
-        IOException thrown = assertThrows(IOException.class, () -> CsvTables.writeAtomically(file, out -> {
+        IOException thrown = assertThrows(IOException.class, () -> CsvWriter.writeAtomically(file, out -> {
             for (int i = 0; i < 100_000; i++) {
                 out.write("1.0,2.0\n"); // well past any buffer, so part of it reached the temporary file
             }
@@ -75,7 +75,7 @@ class CsvAtomicWriteTest {
     void runtimeFailureMidWayLeavesOldFileAndNoTemp(@TempDir Path dir) throws Exception {
         Path file = dir.resolve("telemetry.csv");
         Files.write(file, OLD);
-        assertThrows(IllegalStateException.class, () -> CsvTables.writeAtomically(file, out -> {
+        assertThrows(IllegalStateException.class, () -> CsvWriter.writeAtomically(file, out -> {
             out.write("half a row,");
             out.flush();
             throw new IllegalStateException("writer broke");

@@ -187,30 +187,50 @@ class TableTest {
     }
 
     @Test
-    void toStringShowsShapeKindsAndAlignedRows() {
-        Table iris = OpenData.read("iris.csv");
-        String s = iris.toString();
-        String[] lines = s.split("\n");
-        // common practice, no source: a summary line, names, kinds, 5 rows, a "more rows" line
-        assertTrue(lines[0].startsWith("Table 150 rows x 4 columns (4 continuous, 0 binary), 0 missing"), lines[0]);
-        assertTrue(lines[1].contains("sepal_length_cm"), lines[1]);
-        assertTrue(lines[2].contains("continuous"), lines[2]);
-        assertTrue(lines[3].contains("5.1") && lines[3].contains("3.5"), lines[3]);
-        assertEquals(1 + 2 + Table.SHOWN_ROWS + 1, lines.length);
-        assertEquals("... (145 more rows)", lines[lines.length - 1]);
-        for (int i = 2; i < 1 + 2 + Table.SHOWN_ROWS; i++) {
-            assertEquals(lines[1].length(), lines[i].length(), "aligned line " + i);
-        }
-        String small = small().toString();
-        assertTrue(small.contains("NA") && small.contains("binary"), small);
+    void toStringIsTheOneLineSummary() {
+        // common practice, no source: a short toString, the cells only on request
+        assertEquals("Table: 150 rows x 4 columns (4 continuous, 0 binary), no missing cells",
+                OpenData.read("iris.csv").toString());
+        assertEquals("Table: 3 rows x 3 columns (2 continuous, 1 binary), 2 missing cells (shown as ?)",
+                small().toString());
+        assertEquals("Table: 1 row x 1 column (1 continuous, 0 binary), no missing cells",
+                Table.of(new double[][] {{1.0}}, CONTINUOUS).toString());
     }
 
     @Test
-    void toStringOfAWideTableShowsTheFirstColumns() {
+    void toTextMatchesTheGoldenFile() throws Exception {
+        Table iris = OpenData.read("iris.csv");
         Table digits = OpenData.read("digits_binary.csv");
-        String header = digits.toString().split("\n")[1];
-        // common practice, no source: at most SHOWN_COLUMNS columns, then a count of the rest
-        assertTrue(header.endsWith("... (" + (64 - Table.SHOWN_COLUMNS) + " more columns)"), header);
+        String text = String.join("\n",
+                "small().toText(5)", small().toText(5),
+                "small().toText(1)", small().toText(1),
+                "iris.toText(3)", iris.toText(3),
+                "digits.toText(2, 3)", digits.toText(2, 3),
+                "digits.toText(150, 1)", digits.selectRows(new int[] {0}).toText(150, 1),
+                "zero rows: toText(5)", Table.of(new double[0][], CONTINUOUS, BINARY).toText(5),
+                "toText(0)", small().toText(0));
+        // golden file (our own layout, documented on TableText), checked by eye when it was made
+        java.net.URL golden = TableTest.class.getResource("table-text.txt");
+        assertTrue(golden != null, "missing test resource org/backstep/table/table-text.txt");
+        assertEquals(new String(golden.openStream().readAllBytes(), java.nio.charset.StandardCharsets.UTF_8), text);
+    }
+
+    @Test
+    void toTextAlignsEveryLineOfTheGrid() {
+        String[] lines = OpenData.read("iris.csv").toText(6).split("\n");
+        // common practice, no source: summary, header, 6 rows, the rows left out
+        assertEquals(1 + 1 + 6 + 1, lines.length);
+        for (int i = 2; i < 8; i++) {
+            assertEquals(lines[1].length(), lines[i].length(), "aligned line " + i);
+        }
+        assertEquals("(rows 6 to 149 not shown)", lines[8]);
+    }
+
+    @Test
+    void toTextRefusesBadLimits() {
+        // common practice, no source: the limits are validated
+        assertMessageHas(assertThrows(IllegalArgumentException.class, () -> small().toText(-1)), "maxRows");
+        assertMessageHas(assertThrows(IllegalArgumentException.class, () -> small().toText(2, 0)), "maxColumns");
     }
 
     @Test
@@ -256,7 +276,7 @@ class TableTest {
         assertEquals(0, t.rows());
         assertFalse(t.hasMissing());
         assertEquals(0, t.toArray().length);
-        assertTrue(t.toString().startsWith("Table 0 rows x 2 columns"));
+        assertTrue(t.toString().startsWith("Table: 0 rows x 2 columns"));
         assertEquals(Arrays.asList("c0", "c1"), t.names());
     }
 

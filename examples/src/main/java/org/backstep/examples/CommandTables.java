@@ -8,6 +8,7 @@ import java.util.Locale;
 
 import org.backstep.examples.fleet.ReeferFleet;
 import org.backstep.examples.fleet.Telemetry;
+import org.backstep.table.CsvReader;
 import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
 import org.backstep.table.TableFormatException;
@@ -32,7 +33,7 @@ final class CommandTables {
 
     /** A CSV file with the given missing-cell token and binary columns, with a line on {@code out} saying its size. */
     static Table csv(Path file, String missing, List<String> binary, PrintStream out) throws IOException, TableFormatException {
-        CsvTables.Reader reader = CsvTables.reader().missingToken(missing);
+        CsvReader reader = CsvTables.reader().missingToken(missing);
         if (!binary.isEmpty()) {
             reader = reader.binary(binary.toArray(String[]::new));
         }
