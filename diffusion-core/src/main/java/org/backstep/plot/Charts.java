@@ -69,6 +69,9 @@ public final class Charts {
         c.getStyler().setAxisTickLabelsFont(new Font(Font.SANS_SERIF, Font.PLAIN, 12));
         c.getStyler().setPlotGridLinesColor(new Color(0xD9D9CF));
         c.getStyler().setMarkerSize(5);
+        c.getStyler().setAnnotationTextPanelFont(new Font(Font.SANS_SERIF, Font.PLAIN, 13));
+        c.getStyler().setAnnotationTextPanelFontColor(new Color(0x1F2933));
+        c.getStyler().setAnnotationTextPanelBorderColor(new Color(0xD9D9CF));
         return c;
     }
 

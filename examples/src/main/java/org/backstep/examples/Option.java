@@ -28,11 +28,11 @@ enum Option {
             + " compares, each in 1..T (default: " + join(DiffusionModel.PLANNER_STEP_COUNTS) + " and T, those below T)",
             (s, v) -> s.sampleSteps = Parse.distinct(Parse.list(v, "--sample-steps", 1), "--sample-steps")),
     TOLERANCE("--tolerance", "X", "how far above the best bound, in nats per dimension, a planner's cheaper choice may lie"
-            + " (default: " + Settings.TOLERANCE + ")",
+            + " (default: " + plain(Settings.TOLERANCE) + ")",
             (s, v) -> s.tolerance = Parse.nonNegative(v, "--tolerance")),
     EPOCHS("--epochs", "N", "training epochs (default: about " + Defaults.TRAINING_STEPS + " minibatch updates)",
             (s, v) -> s.epochs = Parse.whole(v, "--epochs", 1)),
-    SECONDS("--seconds", "S", "wall-clock training budget per model (default: " + Settings.PLANNED_SECONDS + "); the updates done"
+    SECONDS("--seconds", "S", "wall-clock training budget per model (default: " + plain(Settings.PLANNED_SECONDS) + "); the updates done"
             + " depend on the machine's speed and load",
             (s, v) -> {
                 s.seconds = Parse.positive(v, "--seconds");
@@ -43,7 +43,7 @@ enum Option {
             (s, v) -> s.updates = Parse.whole(v, "--updates", 1)),
     HIDDEN("--hidden", "W,W,...", "hidden widths of the network (default: " + join(Defaults.HIDDEN) + ")",
             (s, v) -> s.hidden = Parse.list(v, "--hidden", 1)),
-    SEED("--seed", "S", "the seed of training, of every draw and of the invented data (default: " + Defaults.SEED + ")",
+    SEED("--seed", "S", "the seed of every random draw: the network's start, the samples, the invented data (default: " + Defaults.SEED + ")",
             (s, v) -> s.seed = Parse.seed(v, "--seed")),
     HOLDOUT("--holdout", "K", "the held-out rows, kept back from training and used to judge the model: those whose"
             + " 0-based index i has i % K == 0 (default: " + Settings.HOLDOUT + ")",
@@ -77,6 +77,10 @@ enum Option {
     /** Sets this option's value (null for a flag) in {@code settings}; throws IllegalArgumentException naming the option. */
     void apply(Settings settings, String v) {
         apply.accept(settings, v);
+    }
+
+    private static String plain(double value) {
+        return new java.math.BigDecimal(Double.toString(value)).stripTrailingZeros().toPlainString();
     }
 
     private static String join(int[] values) {
