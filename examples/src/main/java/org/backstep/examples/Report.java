@@ -41,7 +41,8 @@ final class Report {
             + "color:#4A5568;font-style:italic}img{max-width:100%}.caution{background:#FFF6E0;border-left:4px solid #E0A030;"
             + "padding:0.4em 1em;margin:0.8em 0}.note{color:#4A5568}figure{margin:1em 0}figcaption{color:#4A5568}"
             + "pre{white-space:pre-wrap;overflow-wrap:anywhere;background:#F7F7F2;padding:0.8em;font-size:0.85em}"
-            + "table.figures{width:100%}table.figures td:first-child{width:26%}td.v{white-space:nowrap}";
+            + "table.figures{width:100%}table.figures td:nth-child(1){width:26%}table.figures td:nth-child(3){width:30%}"
+            + "table.figures td:nth-child(4){width:24%}td.v{white-space:nowrap}";
 
     private Report() {
     }
@@ -296,9 +297,9 @@ final class Report {
             from = i + 1;
         }
         h.append("</table>\n");
-        h.append(p("The first epoch, " + (byBound ? (every == 1 ? "every epoch" : "every " + ordinal(every) + " epoch")
-                + " at which the checkpoint rows' bound was measured" : (every == 1 ? "every epoch" : "every " + ordinal(every)
-                + " epoch")) + " and the last, of " + history.size() + " epochs; model.backstep keeps them all."));
+        String which = byBound ? (every == 1 ? "every measurement" : "every " + ordinal(every) + " measurement")
+                + " of the checkpoint rows' bound" : every == 1 ? "every epoch" : "every " + ordinal(every) + " epoch";
+        h.append(p("The first epoch, " + which + ", and the last, of " + history.size() + " epochs; model.backstep keeps them all."));
     }
 
     private static String ordinal(int n) {
