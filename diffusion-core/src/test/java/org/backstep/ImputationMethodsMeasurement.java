@@ -1,13 +1,12 @@
 package org.backstep;
 
 import org.backstep.option.ImputationOptions;
+import org.backstep.io.AtomicFiles;
 import org.backstep.report.Imputation;
 
 import org.backstep.option.Conditioning;
 
 import org.backstep.schedule.NoiseSchedule;
-import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.condition.EnabledIfSystemProperty;
 
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
@@ -17,15 +16,21 @@ import java.util.List;
 import java.util.Locale;
 
 /**
- * The measurement that chose {@link DiffusionModel#IMPUTATION_CONDITIONING}: both methods of
- * {@link Conditioning}, at several resampling rounds and chain lengths, on exact-kernel models
- * (no training) whose conditional distributions are known in closed form ({@link ImputationCases}).
- * Writes src/test/resources/org/backstep/imputation-methods.txt of this module. Skipped unless the
- * system property {@code backstep.measureImputation} is {@code true}:
- * {@code mvn -B -o -pl diffusion-schedules,diffusion-core test -Dtest=ImputationMethodsMeasurement
- * -Dbackstep.measureImputation=true} (about 15 minutes on two cores).
+ * The measurement that chose {@link DiffusionModel#IMPUTATION_CONDITIONING}, as a program: both
+ * methods of {@link Conditioning}, at several resampling rounds and chain lengths, on exact-kernel
+ * models (no training) whose conditional distributions are known in closed form
+ * ({@link ImputationCases}, which is why it lives beside the tests). It writes its table to the file
+ * it is given, atomically, and prints one line per setting as it goes. Run it from the repository's
+ * root (DEVELOPERS.md, "Build"; about 15 minutes on two cores):
+ * <pre>
+ * mvn -B -o -pl diffusion-schedules,diffusion-core test-compile exec:java -Dexec.classpathScope=test \
+ *     -Dexec.mainClass=org.backstep.ImputationMethodsMeasurement -Dexec.args=diffusion-core/target/imputation-methods.txt
+ * </pre>
+ * The table the README and the Javadoc of {@link DiffusionModel#IMPUTATION_CONDITIONING} quote is
+ * {@code src/test/resources/org/backstep/imputation-methods.txt}; replace it with a new run's output
+ * only together with the figures that quote it.
  */
-class ImputationMethodsMeasurement {
+public final class ImputationMethodsMeasurement {
 
     private static final int RECORDS = 400;
     private static final int DRAWS = 100;
@@ -33,9 +38,29 @@ class ImputationMethodsMeasurement {
     /** {steps, rounds} of each row, for each method. */
     private static final int[][] SETTINGS = {{100, 1}, {100, 3}, {100, 5}, {100, 10}, {1000, 1}, {1000, 3}, {1000, 5}};
 
-    @Test
-    @EnabledIfSystemProperty(named = "backstep.measureImputation", matches = "true")
-    void measureImputationMethods() throws Exception {
+    private ImputationMethodsMeasurement() {
+    }
+
+    /**
+     * @param args one argument: the file to write the table to (its folder is created)
+     * @throws Exception if the file cannot be written
+     */
+    public static void main(String[] args) throws Exception {
+        if (args.length != 1 || args[0].startsWith("-")) {
+            System.err.println("Usage: ImputationMethodsMeasurement OUTPUT.txt   (writes the table of imputation methods to OUTPUT.txt)");
+            System.exit(2);
+        }
+        Path file = Path.of(args[0]).toAbsolutePath();
+        List<String> lines = measure();
+        if (file.getParent() != null) {
+            Files.createDirectories(file.getParent());
+        }
+        AtomicFiles.write(file, (String.join("\n", lines) + "\n").getBytes(StandardCharsets.UTF_8));
+        System.out.println("Wrote " + file);
+    }
+
+    /** @return the lines of the table */
+    static List<String> measure() {
         NoiseSchedule schedule = NoiseSchedule.linear(1000);
         DiffusionModel gauss = ImputationCases.gaussianModel(schedule);
         DiffusionModel mixed = ImputationCases.mixedModel(schedule);
@@ -50,8 +75,8 @@ class ImputationMethodsMeasurement {
         List<String> lines = new ArrayList<>(List.of(
                 "# Imputation methods against the exact conditional distribution",
                 "#",
-                "# Written by ImputationMethodsMeasurement (diffusion-core tests), skipped unless",
-                "# -Dbackstep.measureImputation=true. Exact-kernel models, no training: T = 1000, linear schedule",
+                "# Written by ImputationMethodsMeasurement (a program in diffusion-core's test sources; DEVELOPERS.md).",
+                "# Exact-kernel models, no training: T = 1000, linear schedule",
                 "# (binomial for the binary column), learned-variance encoding, chains strided to 'steps'.",
                 "# " + RECORDS + " records per case, " + DRAWS + " draws each, 90% intervals, seed " + SEED + ".",
                 "#",
@@ -87,6 +112,7 @@ class ImputationMethodsMeasurement {
                 Imputation ix = mixed.impute(xGivenB.records(), new ImputationOptions(DRAWS, 0.9, steps, rounds, method), SEED);
                 Imputation ib = mixed.impute(bGivenX.records(), new ImputationOptions(DRAWS, 0.9, steps, rounds, method), SEED);
                 double seconds = (System.nanoTime() - start) / 1e9;
+                System.out.printf(Locale.ROOT, "%s, %d steps, %d rounds: %.1f s%n", method, steps, rounds, seconds);
                 ImputationCases.Continuous fg = ImputationCases.continuous(ig, g);
                 ImputationCases.Continuous fx = ImputationCases.continuous(ix, xGivenB);
                 ImputationCases.Binary fb = ImputationCases.binary(ib, bGivenX);
@@ -97,9 +123,6 @@ class ImputationMethodsMeasurement {
                         fx.varianceRatio(), fx.coverage(), fb.meanError(), fb.rmsError(), seconds));
             }
         }
-        Path file = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
-                .resolve("src/test/resources/org/backstep/imputation-methods.txt");
-        Files.createDirectories(file.getParent());
-        Files.write(file, lines, StandardCharsets.UTF_8);
+        return lines;
     }
 }

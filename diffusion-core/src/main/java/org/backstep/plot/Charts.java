@@ -8,6 +8,8 @@ import org.backstep.io.AtomicFiles;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;
 import org.backstep.table.Table;
+import org.knowm.xchart.AnnotationText;
+import org.knowm.xchart.AnnotationTextPanel;
 import org.knowm.xchart.BitmapEncoder;
 import org.knowm.xchart.VectorGraphicsEncoder;
 import org.knowm.xchart.XYChart;
@@ -46,6 +48,9 @@ public final class Charts {
         new Color(0x6B8E23), new Color(0x7B4B94)
     };
 
+    /** Lines of a chart's note, at most, before "and N more". */
+    private static final int NOTE_LINES = 4;
+
     private Charts() {
     }
 
@@ -64,6 +69,9 @@ public final class Charts {
         c.getStyler().setAxisTickLabelsFont(new Font(Font.SANS_SERIF, Font.PLAIN, 12));
         c.getStyler().setPlotGridLinesColor(new Color(0xD9D9CF));
         c.getStyler().setMarkerSize(5);
+        c.getStyler().setAnnotationTextPanelFont(new Font(Font.SANS_SERIF, Font.PLAIN, 13));
+        c.getStyler().setAnnotationTextPanelFontColor(new Color(0x1F2933));
+        c.getStyler().setAnnotationTextPanelBorderColor(new Color(0xD9D9CF));
         return c;
     }
 
@@ -114,8 +122,11 @@ public final class Charts {
     }
 
     /**
-     * The mean of each bound term over the records: the decoder term L_0 at t = 1, L_{t-1} for
-     * t &gt; 1, and the prior term L_T drawn at T + 1, on a log scale (Ho et al. 2020, eq. 5).
+     * The mean of each bound term over the records on a log scale (Ho et al. 2020, eq. 5): the
+     * decoder term L_0 at t = 1, L_{t-1} for t &gt; 1, and the prior term L_T drawn at T + 1. A
+     * term that is not above 0 has no place on a log scale: the decoder term of continuous columns
+     * is the negative log of a density and is often negative. Such a term is not drawn, and a note
+     * on the chart gives its value, so that no term is left out silently.
      *
      * @param report an exact bound report
      * @return the chart
@@ -125,28 +136,65 @@ public final class Charts {
         if (per.length == 0) {
             throw new IllegalArgumentException("report is a Monte Carlo estimate; the breakdown needs the exact bound");
         }
-        XYChart c = chart("Bound terms per step (" + report.records() + " records)", "step t",
+        XYChart c = chart("Bound terms per step (" + report.records() + " records)", "step t (prior term at T + 1)",
                 "mean term, nats per record (model space)");
         c.getStyler().setYAxisLogarithmic(true);
         List<Double> t = new ArrayList<>();
         List<Double> v = new ArrayList<>();
-        for (int k = 1; k < per.length; k++) {
+        List<String> notDrawn = new ArrayList<>();
+        for (int k = 2; k < per.length; k++) {
             if (per[k] > 0) {
                 t.add((double) k);
                 v.add(per[k]);
+            } else {
+                notDrawn.add(String.format(Locale.ROOT, "L_%d at t = %d: %.4g nats", k - 1, k, per[k]));
             }
         }
-        c.addSeries("L_{t-1}", t, v).setMarker(SeriesMarkers.NONE);
+        if (!t.isEmpty()) {
+            c.addSeries("L_{t-1}, t = 2.." + (per.length - 1), t, v).setMarker(SeriesMarkers.NONE);
+        }
+        if (per.length > 1) {
+            if (per[1] > 0) {
+                XYSeries decoder = c.addSeries(String.format(Locale.ROOT, "decoder L_0 at t = 1: %.3g", per[1]),
+                        new double[] {1}, new double[] {per[1]});
+                decoder.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
+                decoder.setMarker(SeriesMarkers.SQUARE);
+            } else {
+                notDrawn.add(0, String.format(Locale.ROOT, "decoder L_0 at t = 1: %.3f nats", per[1]));
+            }
+        }
         if (per[0] > 0) {
-            XYSeries prior = c.addSeries("prior L_T", new double[] {per.length}, new double[] {per[0]});
+            XYSeries prior = c.addSeries(String.format(Locale.ROOT, "prior L_T at T + 1: %.3g", per[0]),
+                    new double[] {per.length}, new double[] {per[0]});
             prior.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
             prior.setMarker(SeriesMarkers.DIAMOND);
+        } else {
+            notDrawn.add(String.format(Locale.ROOT, "prior L_T: %.4g nats", per[0]));
+        }
+        if (c.getSeriesMap().isEmpty()) {
+            throw new IllegalArgumentException("no bound term of the report is above 0; there is nothing to draw on a log scale");
+        }
+        if (!notDrawn.isEmpty()) {
+            List<String> lines = new ArrayList<>();
+            lines.add("Not drawn (not above 0, so not on a log scale):");
+            lines.addAll(notDrawn.size() > NOTE_LINES ? notDrawn.subList(0, NOTE_LINES) : notDrawn);
+            if (notDrawn.size() > NOTE_LINES) {
+                lines.add("and " + (notDrawn.size() - NOTE_LINES) + " more");
+            }
+            c.addAnnotation(new AnnotationTextPanel(String.join("\n", lines), 90, 80, true));
         }
         return c;
     }
 
     /**
-     * Training loss and held-out bound against epoch.
+     * Training loss and the checkpoint rows' bound against epoch. The per-epoch loss of small
+     * minibatches is noisy, so it is drawn faint with its running mean over a window of about a
+     * fiftieth of the epochs (at least 1) drawn over it. An epoch's loss is its minibatches' mean,
+     * drawn at the middle of the epoch (e - 0.5); the bound is measured at the end of its epoch (e).
+     * (Besides being where each belongs, this keeps XChart from reading the epochs as equally spaced
+     * categories, whose tick labels it packs until they touch.) The bound is that of the trainer's
+     * own checkpoint rows (the share of the training rows it keeps back to choose its weights), on
+     * the right axis.
      *
      * @param history the fitted model's history
      * @return the chart
@@ -154,28 +202,53 @@ public final class Charts {
     public static XYChart trainingHistory(List<EpochRecord> history) {
         Require.atLeast("epochs in history", history.size(), 1);
         XYChart c = chart("Training history", "epoch", "training loss (per cell)");
-        c.setYAxisGroupTitle(1, "held-out bound, nats per record");
+        c.setYAxisGroupTitle(1, "checkpoint rows' bound, nats per record");
         c.getStyler().setYAxisGroupPosition(1, Styler.YAxisPosition.Right);
+        c.getStyler().setXAxisMin(0.0);
         double[] e = new double[history.size()];
         double[] l = new double[history.size()];
         List<Double> be = new ArrayList<>();
         List<Double> bv = new ArrayList<>();
         for (int i = 0; i < e.length; i++) {
             EpochRecord r = history.get(i);
-            e[i] = r.epoch();
+            e[i] = r.epoch() - 0.5;
             l[i] = r.loss();
             if (r.checkpointBound().isPresent()) {
                 be.add((double) r.epoch());
                 bv.add(r.checkpointBound().getAsDouble());
             }
         }
-        c.addSeries("training loss", e, l).setMarker(SeriesMarkers.NONE);
+        int window = Math.max(1, e.length / 50);
+        XYSeries raw = c.addSeries("training loss, each epoch", e, l);
+        raw.setMarker(SeriesMarkers.NONE).setLineColor(new Color(0xB8D4D4));
+        raw.setLineWidth(1f);
+        if (window > 1) {
+            XYSeries mean = c.addSeries("training loss, running mean of " + window + " epochs", e, runningMean(l, window));
+            mean.setMarker(SeriesMarkers.NONE).setLineColor(PALETTE[0]);
+            mean.setLineWidth(2.5f);
+        }
         if (!be.isEmpty()) {
-            XYSeries s = c.addSeries("held-out bound", be, bv);
+            XYSeries s = c.addSeries("checkpoint rows' bound", be, bv);
             s.setMarker(SeriesMarkers.CIRCLE);
+            s.setLineColor(PALETTE[1]);
+            s.setMarkerColor(PALETTE[1]);
             s.setYAxisGroup(1);
         }
         return c;
+    }
+
+    /** The mean of the last {@code window} values up to each index (fewer at the start). */
+    static double[] runningMean(double[] v, int window) {
+        double[] m = new double[v.length];
+        double sum = 0;
+        for (int i = 0; i < v.length; i++) {
+            sum += v[i];
+            if (i >= window) {
+                sum -= v[i - window];
+            }
+            m[i] = sum / Math.min(i + 1, window);
+        }
+        return m;
     }
 
     /**
@@ -253,32 +326,82 @@ public final class Charts {
     }
 
     /**
-     * The step planner's quality (held-out bound) against cost (ms per 1,000 samples), the
-     * recommended step count marked.
+     * The step planner's quality (held-out bound) against cost (ms per 1,000 samples): one marker
+     * per step count, labelled with it, the recommended step count drawn as a diamond. The points
+     * are not joined: timings are noisy, and a line through them in step order could fold back. The
+     * cost axis is logarithmic only when it then carries at least two labelled powers of ten.
      *
      * @param plan the planner's findings
      * @return the chart
      */
     public static XYChart stepPlan(StepPlan plan) {
-        XYChart c = chart("Step count: quality against cost", "milliseconds per 1,000 samples",
+        XYChart c = chart("Sampling step count K: quality against cost", "milliseconds per 1,000 samples",
                 "held-out bound, nats per dimension");
-        c.getStyler().setXAxisLogarithmic(true);
         double[] x = plan.rows().stream().mapToDouble(StepPlan.Row::millisPer1000).toArray();
         double[] y = plan.rows().stream().mapToDouble(StepPlan.Row::boundNatsPerDimension).toArray();
-        c.addSeries("step counts", x, y).setMarker(SeriesMarkers.CIRCLE);
+        c.getStyler().setXAxisLogarithmic(logarithmicKeepsLabels(x));
+        c.getStyler().setMarkerSize(9);
         StepPlan.Row pick = plan.rows().stream().filter(r -> r.steps() == plan.recommended()).findFirst().orElseThrow();
+        List<Double> ox = new ArrayList<>();
+        List<Double> oy = new ArrayList<>();
+        for (StepPlan.Row r : plan.rows()) {
+            if (r != pick) {
+                ox.add(r.millisPer1000());
+                oy.add(r.boundNatsPerDimension());
+            }
+        }
+        if (!ox.isEmpty()) {
+            XYSeries others = c.addSeries("step counts", ox, oy);
+            others.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
+            others.setMarker(SeriesMarkers.CIRCLE);
+        }
         XYSeries mark = c.addSeries("recommended: " + pick.steps() + " steps", new double[] {pick.millisPer1000()},
                 new double[] {pick.boundNatsPerDimension()});
         mark.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
         mark.setMarker(SeriesMarkers.DIAMOND);
+        label(c, plan.rows().stream().map(r -> r.steps() + " steps").toList(), x, y, new double[x.length]);
         return c;
+    }
+
+    /**
+     * Writes each point's label just above it (above its error bar of half-height {@code bar[i]}),
+     * in data coordinates (the y axis is linear); the y range is padded so that the top label stays
+     * inside the plot.
+     */
+    private static void label(XYChart c, List<String> labels, double[] x, double[] y, double[] bar) {
+        double lo = Double.POSITIVE_INFINITY;
+        double hi = Double.NEGATIVE_INFINITY;
+        for (int i = 0; i < y.length; i++) {
+            lo = Math.min(lo, y[i] - bar[i]);
+            hi = Math.max(hi, y[i] + bar[i]);
+        }
+        double span = hi > lo ? hi - lo : Math.max(1e-9, Math.abs(hi));
+        c.getStyler().setYAxisMin(lo - 0.05 * span);
+        c.getStyler().setYAxisMax(hi + 0.12 * span);
+        c.getStyler().setAnnotationTextFont(new Font(Font.SANS_SERIF, Font.PLAIN, 13));
+        c.getStyler().setAnnotationTextFontColor(new Color(0x1F2933));
+        for (int i = 0; i < labels.size(); i++) {
+            c.addAnnotation(new AnnotationText(labels.get(i), x[i], y[i] + bar[i] + 0.05 * span, false));
+        }
+    }
+
+    /**
+     * Whether a logarithmic axis over these positive values would carry at least two labelled
+     * ticks: XChart labels a logarithmic axis at powers of ten only, so a range inside one decade
+     * would show no number at all.
+     */
+    static boolean logarithmicKeepsLabels(double[] values) {
+        double min = java.util.Arrays.stream(values).min().orElseThrow();
+        double max = java.util.Arrays.stream(values).max().orElseThrow();
+        return min > 0 && Math.floor(Math.log10(max)) - Math.ceil(Math.log10(min)) >= 1;
     }
 
     /**
      * The training planner's quality (held-out bound per dimension, with bars of one standard
      * error) against cost (ms per 1,000 samples at each model's T): one legend entry per T with
-     * its bound, the recommended T drawn as a diamond. Models whose sampling chain diverged have no
-     * cost and are named in the title instead.
+     * its bound, each point labelled with its T, the recommended T drawn as a diamond. The points
+     * are not joined (noisy timings could fold a line back). Models whose sampling chain diverged
+     * have no cost and are named in the title instead.
      *
      * @param plan the planner's findings
      * @return the chart
@@ -296,14 +419,9 @@ public final class Charts {
                 "milliseconds per 1,000 samples at the model's T", "held-out bound, nats per dimension");
         double[] x = drawn.stream().mapToDouble(TrainingPlan.Row::millisPer1000).toArray();
         double[] y = drawn.stream().mapToDouble(TrainingPlan.Row::boundNatsPerDimension).toArray();
-        double xMin = java.util.Arrays.stream(x).min().orElseThrow();
-        double xMax = java.util.Arrays.stream(x).max().orElseThrow();
-        boolean logarithmic = xMin > 0 && xMax / xMin > 20;   // a linear axis keeps its tick labels over a short range
-        c.getStyler().setXAxisLogarithmic(logarithmic);
+        c.getStyler().setXAxisLogarithmic(logarithmicKeepsLabels(x));
         c.getStyler().setErrorBarsColorSeriesColor(true);
         c.getStyler().setMarkerSize(9);
-        XYSeries line = c.addSeries("models in increasing T", x, y);
-        line.setMarker(SeriesMarkers.NONE).setLineColor(new Color(0xA0AEC0));
         TrainingPlan.Row pick = plan.recommendedRow();
         int i = 0;
         for (TrainingPlan.Row r : drawn) {
@@ -317,6 +435,8 @@ public final class Charts {
             point.setMarkerColor(colour);
             point.setLineColor(colour);     // the error bar takes the series' line colour
         }
+        label(c, drawn.stream().map(r -> "T = " + r.steps()).toList(), x, y,
+                drawn.stream().mapToDouble(TrainingPlan.Row::boundStandardError).toArray());
         return c;
     }
 

@@ -37,6 +37,7 @@ import java.util.stream.Stream;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
@@ -54,6 +55,8 @@ class ChartsTest {
     private static final String SVG_NAMESPACE = "http://www.w3.org/2000/svg";
     /** An SVG file that draws a whole chart is larger than this (common practice, no source: an empty SVG is ~200 bytes). */
     private static final int MIN_SVG_BYTES = 2_000;
+    /** Sums of a few small doubles (common practice, no source). */
+    private static final double ROUNDING = 1e-12;
 
     /** One named chart per public method of Charts. */
     static Stream<Object[]> charts() {
@@ -173,6 +176,48 @@ class ChartsTest {
         BoundReport mc = BoundReports.monteCarlo(100, 8, new double[] {1.0, 2.0});
         // BoundReport's Javadoc: a Monte Carlo estimate has no per-step terms
         assertThrows(IllegalArgumentException.class, () -> Charts.boundBreakdown(mc));
+    }
+
+    /**
+     * Every term of the bound is on the chart or named: a decoder term that is not above 0 (a
+     * density's negative log can be below 0) cannot sit on the log scale, and its value is then
+     * written on the chart; a positive one is its own series.
+     */
+    @Test
+    void breakdownShowsTheDecoderTermOrSaysWhyNot() {
+        XYChart positive = Charts.boundBreakdown(exactReport());
+        assertTrue(positive.getSeriesMap().keySet().stream().anyMatch(k -> k.startsWith("decoder L_0 at t = 1")),
+                positive.getSeriesMap().keySet().toString());
+        int steps = 50;
+        double[] perStep = new double[steps + 1];
+        perStep[0] = 1e-4;
+        perStep[1] = -2.5;
+        for (int t = 2; t <= steps; t++) {
+            perStep[t] = 0.02 + 1.5 / t;
+        }
+        XYChart negative = Charts.boundBreakdown(BoundReports.exact(steps, 2, new double[] {2.0, 2.5}, new double[] {0.3, 0.2}, perStep));
+        assertTrue(negative.getSeriesMap().keySet().stream().noneMatch(k -> k.startsWith("decoder")),
+                negative.getSeriesMap().keySet().toString());
+        assertTrue(negative.getSeriesMap().containsKey("L_{t-1}, t = 2..50"), negative.getSeriesMap().keySet().toString());
+    }
+
+    /**
+     * XChart labels a logarithmic axis at powers of ten only (as its charts show), so the step-count
+     * and training-plan charts take a logarithmic cost axis only when it holds two powers of ten.
+     */
+    @Test
+    void logarithmicCostAxisOnlyWithTwoLabelledDecades() {
+        assertTrue(Charts.logarithmicKeepsLabels(new double[] {45, 213, 4600}));      // 100 and 1,000 inside
+        assertTrue(Charts.logarithmicKeepsLabels(new double[] {5, 120}));             // 10 and 100
+        assertFalse(Charts.logarithmicKeepsLabels(new double[] {81, 139, 508}));      // only 100
+        assertFalse(Charts.logarithmicKeepsLabels(new double[] {12, 110}));           // only 100
+        assertFalse(Charts.logarithmicKeepsLabels(new double[] {0, 50, 5000}));       // not all above 0
+    }
+
+    /** The running mean drawn over the noisy loss: a window of w values, fewer at the start (definition). */
+    @Test
+    void runningMeanOfTheLoss() {
+        assertArrayEquals(new double[] {1, 1.5, 2, 3, 4}, Charts.runningMean(new double[] {1, 2, 3, 4, 5}, 3), ROUNDING);
     }
 
     @Test

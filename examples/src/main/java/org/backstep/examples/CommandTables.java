@@ -6,6 +6,7 @@ import java.nio.file.Path;
 import java.util.List;
 import java.util.Locale;
 
+import org.backstep.Defaults;
 import org.backstep.examples.fleet.ReeferFleet;
 import org.backstep.examples.fleet.Telemetry;
 import org.backstep.table.CsvReader;
@@ -40,5 +41,15 @@ final class CommandTables {
         Table table = reader.read(file);
         out.printf(Locale.ROOT, "Table %s: %d rows x %d columns%n", file, table.rows(), table.columns());
         return table;
+    }
+
+    /**
+     * One line on the user's split: the rows of the training part (the trainer keeps a share of them
+     * back as its checkpoint rows) and the held-out rows, which no model trains on.
+     */
+    static String split(Table train, Table held, int holdout) {
+        return String.format(Locale.ROOT, "%d rows in the training part (the trainer keeps %.0f%% of them back as checkpoint rows"
+                        + " to choose its weights), %d held-out rows (row %% %d == 0, never trained on)",
+                train.rows(), 100 * Defaults.CHECKPOINT_FRACTION, held.rows(), holdout);
     }
 }

@@ -8,6 +8,7 @@ import org.backstep.examples.fleet.FleetTables;
 import org.backstep.examples.fleet.ReeferFleet;
 import org.backstep.examples.fleet.Telemetry;
 import org.backstep.table.Table;
+import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -16,17 +17,22 @@ import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.List;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
+import static org.junit.jupiter.api.Assumptions.assumeTrue;
 
 /**
- * The main job end to end on a small invented fleet, and the demo command's handling of its
- * arguments. Figures are checked for presence and sanity, not for quality (a model trained for
- * seconds). The generator's determinism is tested in the fleet tests and not repeated here.
+ * The main job end to end on a small invented fleet (run once, its report folder kept in
+ * target/demo-report), and the demo command's handling of its arguments. Figures are checked for
+ * presence and sanity, not for quality (a model trained for seconds); counts printed against counts
+ * written; summary.json's keys against a golden list. The generator's determinism is tested in the
+ * fleet tests and not repeated here; report.html rendered by headless Chromium, its screenshot kept beside it.
  */
 class DemoPipelineTest {
 
@@ -47,30 +53,54 @@ class DemoPipelineTest {
     /** Probabilities and shares lie in [0, 1] (definition). */
     static final double UNIT_LOW = 0.0;
     static final double UNIT_HIGH = 1.0;
+    /** The step-count planner's tolerance, nats per dimension (the commands' default). */
+    static final double TOLERANCE = Settings.TOLERANCE;
 
-    @Test
-    void mainJobWritesASaneReportFolder(@TempDir Path out) throws Exception {
+    /** The report folder of the one main-job run these tests share; kept under target/ for a person to open. */
+    static final Path OUT = JShellScriptsTest.basedir().resolve("target/demo-report");
+    /** The golden list of summary.json's keys (one path a line; "[]" marks an array of objects). */
+    static final String GOLDEN_KEYS = "/org/backstep/examples/summary-keys.txt";
+
+    /** Width of the browser window for the screenshot, pixels (a laptop's window, wider than the page's 960). */
+    static final int SCREENSHOT_WIDTH = 1000;
+    /** Height of the browser window: taller than the page, whose screenshot is then cut below its end. */
+    static final int SCREENSHOT_WINDOW_HEIGHT = 14000;
+
+    private static Table table;
+    private static ObjectNode returned;
+    private static String console;
+
+    /** Runs the main job once on the small fleet; the tests below read what it wrote. */
+    @BeforeAll
+    static void runMainJob() throws Exception {
         Telemetry t = ReeferFleet.generate(ReeferFleet.options().withContainers(CONTAINERS).withDays(DAYS).withSeed(FLEET_SEED));
         assertEquals(CONTAINERS * DAYS * ReeferFleet.READINGS_PER_DAY, t.rows());
-        boolean[] faults = t.faultRows();
         int faultRows = 0;
-        for (boolean f : faults) {
+        for (boolean f : t.faultRows()) {
             faultRows += f ? 1 : 0;
         }
         assertTrue(faultRows > 0, "the small fleet has no fault rows; the screen's precision and recall need some");
-        Table table = FleetTables.cells(t);
-        MainJob.Config config = new MainJob.Config(table, FleetTables.truth(t), faults, out, STEPS, EPOCHS, HIDDEN, 3, 5, null);
-        ByteArrayOutputStream console = new ByteArrayOutputStream();
-        ObjectNode returned = MainJob.run(config, new PrintStream(console, true, StandardCharsets.UTF_8), false);
+        table = FleetTables.cells(t);
+        deleteRecursively(OUT);
+        MainJob.Config config = new MainJob.Config(table, FleetTables.truth(t), t.faultRows(), OUT, STEPS, EPOCHS, HIDDEN, 3, 5,
+                new int[0], TOLERANCE, null);
+        ByteArrayOutputStream bytes = new ByteArrayOutputStream();
+        returned = MainJob.run(config, new PrintStream(bytes, true, StandardCharsets.UTF_8), false);
+        console = bytes.toString(StandardCharsets.UTF_8);
+    }
 
+    @Test
+    void mainJobWritesASaneReportFolder() throws Exception {
+        Path out = OUT;
         // every step printed its line (MainJob numbers them 1 to 8)
-        String text = console.toString(StandardCharsets.UTF_8);
+        String text = console;
         for (int step = 1; step <= 8; step++) {
             assertTrue(text.contains("\n" + step + ". ") || text.startsWith(step + ". "), "no line for step " + step + ":\n" + text);
         }
 
-        // the files of the report folder
-        for (String f : List.of("summary.json", "report.html", "model.backstep", "planner.csv", "table.csv")) {
+        // the files of the report folder; the step plan's names are those plan-steps writes (PlanFiles)
+        for (String f : List.of("summary.json", "report.html", "model.backstep", PlanFiles.STEP_PLAN_CSV, PlanFiles.STEP_PLAN_PNG,
+                "table.csv")) {
             assertTrue(Files.size(out.resolve(f)) > 0, f + " is missing or empty");
         }
         JsonNode s = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
@@ -83,6 +113,7 @@ class DemoPipelineTest {
         }
         assertTrue(b.path("standardError").asDouble() > 0, "standard error of the bound");
         // bits per dimension = nats / (D ln 2) (BoundReport's Javadoc); D = 7 modelled columns here
+        assertEquals(7, b.path("dimensions").asInt());
         assertEquals(b.path("natsPerRecordModelSpace").asDouble() / (7 * Math.log(2)), b.path("bitsPerDimension").asDouble(), 1e-9);
         assertTrue(b.path("mixtureComponents").asInt() >= 1);
 
@@ -115,7 +146,7 @@ class DemoPipelineTest {
 
         // the planner: Defaults.PLANNER_STEP_COUNTS below T, and T itself
         JsonNode p = s.path("planner");
-        JsonNode rows = p.path("rows");
+        JsonNode rows = p.path("stepCounts");
         int[] expectedSteps = java.util.stream.IntStream.concat(
                 org.backstep.Defaults.PLANNER_STEP_COUNTS.stream().mapToInt(Integer::intValue).filter(k -> k < STEPS),
                 java.util.stream.IntStream.of(STEPS)).toArray();
@@ -134,10 +165,16 @@ class DemoPipelineTest {
         int recommended = p.path("recommended").asInt();
         assertTrue(java.util.Arrays.stream(got).anyMatch(k -> k == recommended), "recommended " + recommended);
         assertFalse(p.path("reason").asText().isBlank());
+        // step-plan.csv: a header and one line per step count (StepPlan.toCsv)
+        assertEquals(expectedSteps.length + 1, Files.readAllLines(out.resolve(PlanFiles.STEP_PLAN_CSV)).size());
 
-        String html = Files.readString(out.resolve("report.html"), StandardCharsets.UTF_8);
-        assertTrue(html.startsWith("<!DOCTYPE html>") && html.contains("</html>"), "report.html is not a whole page");
-        assertTrue(html.contains("data:image/png;base64,"), "report.html has no chart");
+        // the time of each stage, and the stages add up to at most the whole (common practice, no source)
+        double stages = 0;
+        for (String stage : List.of("fit", "bound", "screen", "imputation", "denoising", "samples", "planner", "report")) {
+            assertTrue(s.path("stageSeconds").path(stage).asDouble(-1) >= 0, "stage " + stage);
+            stages += s.path("stageSeconds").path(stage).asDouble();
+        }
+        assertTrue(stages <= s.path("seconds").asDouble(), stages + " s of stages, " + s.path("seconds") + " s in all");
 
         DiffusionModel model = DiffusionModel.load(out.resolve("model.backstep"));
         assertEquals(STEPS, model.steps());
@@ -145,12 +182,114 @@ class DemoPipelineTest {
         assertEquals(table.names(), model.transform().names());
     }
 
+    /**
+     * Counts printed and counts written agree, and add up: the training part is the rows trained
+     * on, the checkpoint rows and the rows left out; "N rows trained on" is the model's own count.
+     */
+    @Test
+    void printedCountsAgreeWithSummaryAndModel() throws Exception {
+        JsonNode d = returned.path("data");
+        JsonNode t = returned.path("training");
+        DiffusionModel model = DiffusionModel.load(OUT.resolve("model.backstep"));
+        assertEquals(model.provenance().trainingRows(), t.path("trainedRows").asInt());
+        assertEquals(d.path("trainingPartRows").asInt(), t.path("trainedRows").asInt() + t.path("checkpointRows").asInt()
+                + t.path("rowsLeftOut").asInt());
+        assertEquals(table.rows(), d.path("trainingPartRows").asInt() + d.path("heldOutRows").asInt());
+        assertTrue(console.contains(d.path("trainingPartRows").asInt() + " rows in the training part"), console);
+        assertTrue(console.contains(d.path("heldOutRows").asInt() + " held-out rows"), console);
+        assertTrue(console.contains("trained on " + t.path("trainedRows").asInt() + " of the " + d.path("trainingPartRows").asInt()),
+                console);
+        assertTrue(console.contains(t.path("checkpointRows").asInt() + " checkpoint rows"), console);
+        assertTrue(console.contains("Denoised " + returned.path("denoising").path("cells").asInt() + " readings ("
+                + returned.path("denoising").path("rows").asInt() + " complete held-out rows"), console);
+        assertTrue(console.contains("Imputed " + returned.path("imputation").path("hiddenCells").asInt() + " cells"), console);
+        assertTrue(console.contains(returned.path("samples").path("count").asInt() + " synthetic rows"), console);
+    }
+
+    /** summary.json has exactly the keys of the golden list, so that a change to them is deliberate. */
+    @Test
+    void summaryKeysMatchTheGoldenList() throws Exception {
+        List<String> keys = new ArrayList<>();
+        keyPaths("", returned, keys);
+        List<String> golden;
+        try (var in = DemoPipelineTest.class.getResourceAsStream(GOLDEN_KEYS)) {
+            assertNotNull(in, GOLDEN_KEYS + " is missing");
+            golden = new String(in.readAllBytes(), StandardCharsets.UTF_8).lines()
+                    .filter(l -> !l.isBlank() && !l.startsWith("#")).toList();
+        }
+        assertEquals(String.join("\n", golden), String.join("\n", keys),
+                "summary.json's keys changed; if that is meant, update src/test/resources" + GOLDEN_KEYS
+                        + " and the report (Report.java) that reads them");
+    }
+
+    /** plan-steps on the demo's model writes the files the demo writes, by the same names. */
+    @Test
+    void planStepsOnTheDemosModelWritesTheSameFiles(@TempDir Path dir) {
+        ByteArrayOutputStream out = new ByteArrayOutputStream();
+        ByteArrayOutputStream err = new ByteArrayOutputStream();
+        int code = PlanSteps.run(new String[] {OUT.resolve("model.backstep").toString(), OUT.resolve("table.csv").toString(),
+                "--sample-steps", "10,50", "--out", dir.toString()}, print(out), print(err));
+        assertEquals(0, code, err.toString(StandardCharsets.UTF_8));
+        for (String f : List.of(PlanFiles.STEP_PLAN_CSV, PlanFiles.STEP_PLAN_PNG)) {
+            assertTrue(Files.isRegularFile(dir.resolve(f)), f + " not written by plan-steps");
+            assertTrue(Files.isRegularFile(OUT.resolve(f)), f + " not written by the demo");
+        }
+    }
+
+    /**
+     * report.html as a person sees it: headless Chromium renders the page 1,000 pixels wide, and the
+     * screenshot is kept as target/demo-report/report-screenshot.png. Skipped, with a message, on a
+     * machine without Chromium (CI installs Debian's package chromium in .ci/run).
+     */
+    @Test
+    void reportRendersInHeadlessChromium() throws Exception {
+        Path browser = Chromium.find().orElse(null);
+        assumeTrue(browser != null, "no chromium on this machine (looked for " + Chromium.NAMES + " on the PATH and the system "
+                + "property backstep.chromium): the screenshot of report.html is skipped. Install Debian's package chromium.");
+        java.awt.image.BufferedImage shot = Chromium.screenshot(browser, OUT.resolve("report.html"),
+                OUT.resolve("report-screenshot.png"), SCREENSHOT_WIDTH, SCREENSHOT_WINDOW_HEIGHT);
+        assertEquals(SCREENSHOT_WIDTH, shot.getWidth());
+        // common practice, no source: six charts of Charts.HEIGHT pixels, shown at their size (the page is
+        // wider than a chart), cannot fit in less; a page whose images failed to load is far shorter
+        int charts = 6;
+        assertTrue(shot.getHeight() > charts * org.backstep.plot.Charts.HEIGHT, "the rendered page is only " + shot.getHeight()
+                + " pixels high; are its charts missing? See " + OUT.resolve("report-screenshot.png"));
+        assertTrue(shot.getHeight() < SCREENSHOT_WINDOW_HEIGHT, "the page is longer than the screenshot window of "
+                + SCREENSHOT_WINDOW_HEIGHT + " pixels; raise SCREENSHOT_WINDOW_HEIGHT");
+    }
+
+    /** Paths of every key: "a", "a.b", "a[].b" for an array of objects (its first element's keys). */
+    static void keyPaths(String prefix, JsonNode node, List<String> keys) {
+        node.fields().forEachRemaining(e -> {
+            String path = prefix + e.getKey();
+            keys.add(path);
+            JsonNode v = e.getValue();
+            if (v.isObject()) {
+                keyPaths(path + ".", v, keys);
+            } else if (v.isArray() && v.size() > 0 && v.get(0).isObject()) {
+                keyPaths(path + "[].", v.get(0), keys);
+            }
+        });
+    }
+
+    static void deleteRecursively(Path dir) throws java.io.IOException {
+        if (Files.exists(dir)) {
+            try (var walk = Files.walk(dir)) {
+                for (Path p : walk.sorted(java.util.Comparator.reverseOrder()).toList()) {
+                    Files.delete(p);
+                }
+            }
+        }
+    }
+
     @Test
     void badArgumentsExitWithTwoAndAClearMessage(@TempDir Path dir) {
         assertBadArguments(new String[] {"--frobnicate"}, "unknown option --frobnicate");
         assertBadArguments(new String[] {dir.resolve("no-such.csv").toString()}, "no such file");
-        assertBadArguments(new String[] {"--steps", "0"}, "--steps");
-        assertBadArguments(new String[] {"--steps"}, "--steps needs a value");
+        assertBadArguments(new String[] {"--train-steps", "0"}, "--train-steps is 0");
+        assertBadArguments(new String[] {"--train-steps"}, "--train-steps needs a value");
+        assertBadArguments(new String[] {"--steps", "100"}, "unknown option --steps");
+        assertBadArguments(new String[] {"--sample-steps", "10,10"}, "--sample-steps lists 10 twice");
         assertBadArguments(new String[] {"--hidden", "64,x"}, "--hidden");
     }
 
@@ -162,12 +301,12 @@ class DemoPipelineTest {
         assertEquals(0, code);
         String usage = out.toString(StandardCharsets.UTF_8);
         assertTrue(usage.startsWith("Usage: examples/demo"), usage);
-        assertTrue(usage.contains("--steps") && usage.contains("--out"), usage);
+        assertTrue(usage.contains("--train-steps T") && usage.contains("--sample-steps") && usage.contains("--out"), usage);
         assertEquals(0, err.size(), "--help wrote to standard error");
     }
 
     private static void assertBadArguments(String[] args, String expected) {
-        CommandAssertions.assertBadArguments(Demo::run, "backstep demo: ", args, expected);
+        CommandAssertions.assertBadArguments(Demo::run, "demo: ", args, expected);
     }
 
     private static PrintStream print(ByteArrayOutputStream bytes) {

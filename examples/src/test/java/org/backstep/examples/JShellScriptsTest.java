@@ -6,7 +6,11 @@ import jdk.jshell.JShellException;
 import jdk.jshell.Snippet;
 import jdk.jshell.SnippetEvent;
 import jdk.jshell.SourceCodeAnalysis;
+import org.backstep.examples.fleet.FleetTables;
+import org.backstep.examples.fleet.ReeferFleet;
+import org.backstep.table.CsvTables;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
 
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
@@ -22,12 +26,14 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import static org.junit.jupiter.api.Assertions.fail;
 
 /**
- * The README's JShell block and {@code examples/session.jsh} run as written, through the JDK's own
- * JShell engine (module jdk.jshell) in this JVM: first the DEFAULT imports and
+ * The README's JShell block, the README's tour and {@code examples/session.jsh} run as written,
+ * through the JDK's own JShell engine (module jdk.jshell) in this JVM: first the DEFAULT imports and
  * {@code src/main/jshell/imports.jsh}, as the {@code examples/jshell} launcher loads them, then the
- * script split into snippets by {@link SourceCodeAnalysis#analyzeCompletion(String)}. JShell
- * commands (lines starting with "/") are skipped. Any rejected snippet, unresolved reference or
- * exception fails the test with the snippet and JShell's diagnostics.
+ * script fed line by line, as pasted text reaches the JShell tool, each snippet evaluated once the
+ * lines so far complete it ({@link SourceCodeAnalysis#analyzeCompletion(String)}). JShell commands
+ * (lines starting with "/") are skipped; the README's JShell block must end with /exit. Any
+ * rejected snippet, unresolved reference or exception fails the test with the snippet and JShell's
+ * diagnostics.
  */
 class JShellScriptsTest {
 
@@ -41,6 +47,11 @@ class JShellScriptsTest {
             "import java.util.prefs.*;", "import java.util.regex.*;", "import java.util.stream.*;");
     /** A script run here must have at least this many snippets, so that a parse slip cannot pass as an empty run. */
     static final int MIN_SNIPPETS = 3;
+    /** The heading of the README's tour, whose first ```java block is run. */
+    static final String TOUR_HEADING = "## A tour of the API";
+    /** The tour's fleet.csv: 2 containers for 1 day, 192 rows (ReeferFleet.READINGS_PER_DAY = 96). */
+    static final int TOUR_CONTAINERS = 2;
+    static final long TOUR_FLEET_SEED = 11;
 
     /** @return the module's folder (Maven runs tests there and sets "basedir") */
     static Path basedir() {
@@ -52,34 +63,69 @@ class JShellScriptsTest {
      * @throws AssertionError naming what is missing
      */
     static String readmeJshellBlock() throws IOException {
+        return readmeBlock("```jshell", null);
+    }
+
+    /**
+     * @return the first fenced block marked {@code ```java} after the heading "## A tour of the API"
+     * @throws AssertionError naming what is missing
+     */
+    static String readmeTourBlock() throws IOException {
+        return readmeBlock("```java", TOUR_HEADING);
+    }
+
+    /** The first fenced block whose opening line is {@code fence}, after the line {@code after} when that is not null. */
+    private static String readmeBlock(String fence, String after) throws IOException {
         Path readme = basedir().resolve("../README.md").normalize();
         assertTrue(Files.isRegularFile(readme), "no README.md at " + readme);
         List<String> lines = Files.readAllLines(readme, StandardCharsets.UTF_8);
+        int from = after == null ? 0 : lines.indexOf(after);
+        assertTrue(from >= 0, readme + " has no line " + after);
         int start = -1;
-        for (int i = 0; i < lines.size(); i++) {
-            if (lines.get(i).strip().equals("```jshell")) {
+        for (int i = from; i < lines.size(); i++) {
+            if (lines.get(i).strip().equals(fence)) {
                 start = i + 1;
                 break;
             }
         }
         if (start < 0) {
-            fail(readme + " has no fenced block marked ```jshell. Add one (a short session that runs in "
-                    + "seconds under examples/jshell); this test runs it with src/main/jshell/imports.jsh.");
+            fail(readme + " has no fenced block marked " + fence + (after == null ? "" : " after " + after)
+                    + ". This test runs it with src/main/jshell/imports.jsh, as examples/jshell would.");
         }
         List<String> block = new ArrayList<>();
         for (int i = start; i < lines.size(); i++) {
             if (lines.get(i).strip().startsWith("```")) {
-                assertTrue(!block.isEmpty(), "the ```jshell block of " + readme + " is empty");
+                assertTrue(!block.isEmpty(), "the " + fence + " block of " + readme + " is empty");
                 return String.join("\n", block);
             }
             block.add(lines.get(i));
         }
-        return fail("the ```jshell block of " + readme + " is not closed by a ``` line");
+        return fail("the " + fence + " block of " + readme + " is not closed by a ``` line");
     }
 
     @Test
-    void readmeJshellBlockRuns() throws IOException {
-        run("README.md ```jshell block", readmeJshellBlock());
+    void readmeJshellBlockRunsAndEndsTheSession() throws IOException {
+        String block = readmeJshellBlock();
+        List<String> lines = block.lines().filter(l -> !l.isBlank()).toList();
+        // the JShell tool's command that ends a session (JDK 17, jshell's /help): a block pasted into
+        // examples/jshell returns to the shell instead of leaving the user at jshell's prompt
+        assertTrue(lines.get(lines.size() - 1).strip().equals("/exit"), "the ```jshell block should end with /exit: " + block);
+        run("README.md ```jshell block", block);
+    }
+
+    /**
+     * The README's tour, pasted into JShell as written. Two things are given to it that a reader
+     * brings along: the file fleet.csv (here a small invented fleet, written by CsvTables, its path
+     * put in place of "fleet.csv") and nothing else; the network's size and training are the tour's.
+     */
+    @Test
+    void readmeTourRunsAsPasted(@TempDir Path dir) throws Exception {
+        Path csv = dir.resolve("fleet.csv");
+        CsvTables.writer().write(FleetTables.cells(ReeferFleet.generate(ReeferFleet.options().withContainers(TOUR_CONTAINERS)
+                .withDays(1).withSeed(TOUR_FLEET_SEED))), csv);
+        String tour = readmeTourBlock();
+        assertTrue(tour.contains("\"fleet.csv\""), "the tour no longer reads \"fleet.csv\"; adapt this test:\n" + tour);
+        run("README.md tour", tour.replace("\"fleet.csv\"", "\"" + csv.toString().replace("\\", "\\\\") + "\""));
     }
 
     @Test
@@ -111,20 +157,30 @@ class JShellScriptsTest {
         assertTrue(captured.size() > 0, name + " printed nothing");
     }
 
-    /** @return the number of snippets evaluated */
+    /**
+     * Evaluates the script as the JShell tool does with pasted text: line by line, each snippet as
+     * soon as the lines so far make a complete one ({@link SourceCodeAnalysis#analyzeCompletion}).
+     * So a chain whose next line starts with '.' fails here as it does in the tool: the line before
+     * is already a complete statement.
+     *
+     * @return the number of snippets evaluated
+     */
     private static int evaluate(JShell shell, String name, String script, ByteArrayOutputStream captured) {
-        String source = script.lines().filter(l -> !l.strip().startsWith("/")).collect(Collectors.joining("\n"));
         SourceCodeAnalysis analysis = shell.sourceCodeAnalysis();
         int count = 0;
-        while (!source.isBlank()) {
-            SourceCodeAnalysis.CompletionInfo info = analysis.analyzeCompletion(source);
-            if (info.completeness() == SourceCodeAnalysis.Completeness.EMPTY) {
-                break;
+        StringBuilder pending = new StringBuilder();
+        for (String line : script.split("\n", -1)) {
+            if (pending.length() == 0 && (line.isBlank() || line.strip().startsWith("/"))) {
+                continue;       // blank lines between snippets, and JShell commands such as /exit
             }
+            pending.append(line).append('\n');
+            SourceCodeAnalysis.CompletionInfo info = analysis.analyzeCompletion(pending.toString());
             if (!info.completeness().isComplete()) {
-                fail(name + ": the script ends in an incomplete snippet (" + info.completeness() + "):\n" + source);
+                continue;
             }
             String snippet = info.source();
+            pending.setLength(0);
+            pending.append(info.remaining().isBlank() ? "" : info.remaining());
             for (SnippetEvent e : shell.eval(snippet)) {
                 if (e.status() == Snippet.Status.REJECTED || e.status() == Snippet.Status.RECOVERABLE_NOT_DEFINED) {
                     String diagnostics = shell.diagnostics(e.snippet())
@@ -139,7 +195,9 @@ class JShellScriptsTest {
                 }
             }
             count++;
-            source = info.remaining();
+        }
+        if (!pending.toString().isBlank()) {
+            fail(name + ": the script ends in an incomplete snippet:\n" + pending);
         }
         return count;
     }

@@ -26,25 +26,26 @@ class PlanTrainingCommandTest {
     void writesTableCsvAndChart(@TempDir Path out) throws Exception {
         ByteArrayOutputStream console = new ByteArrayOutputStream();
         ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int code = PlanTraining.run(new String[] {"--containers", "4", "--days", "1", "--steps", "20,10", "--updates", "40",
+        int code = PlanTraining.run(new String[] {"--containers", "4", "--days", "1", "--train-steps", "20,10", "--updates", "40",
                 "--hidden", "16,16", "--no-progress", "--out", out.toString()}, print(console), print(err));
         String text = console.toString(StandardCharsets.UTF_8);
         assertEquals(0, code, err.toString(StandardCharsets.UTF_8));
         // TrainingPlan.toString: a header line, one line per T, the recommendation marked once
         assertTrue(text.contains("Budget per model: 40 updates"), text);
         assertEquals(1, text.split("<- recommended", -1).length - 1, text);
-        List<String> csv = Files.readAllLines(out.resolve("training-plan.csv"));
+        List<String> csv = Files.readAllLines(out.resolve(PlanFiles.TRAINING_PLAN_CSV));
         assertEquals(3, csv.size(), "header and two rows: " + csv);
         assertTrue(csv.get(1).startsWith("10,40,") && csv.get(2).startsWith("20,40,"), csv.toString());
         // javax.imageio reads the chart
-        assertNotNull(ImageIO.read(out.resolve("training-plan.png").toFile()), "training-plan.png is not readable");
+        assertNotNull(ImageIO.read(out.resolve(PlanFiles.TRAINING_PLAN_PNG).toFile()), "training-plan.png is not readable");
     }
 
     @Test
     void badArgumentsExitWithTwoAndAClearMessage() {
         assertBadArguments(new String[] {"--frobnicate"}, "unknown option --frobnicate");
-        assertBadArguments(new String[] {"--steps", "10,1"}, "--steps is 1");
-        assertBadArguments(new String[] {"--steps", "10,10"}, "--steps lists 10 twice");
+        assertBadArguments(new String[] {"--train-steps", "10,1"}, "--train-steps is 1");
+        assertBadArguments(new String[] {"--train-steps", "10,10"}, "--train-steps lists 10 twice");
+        assertBadArguments(new String[] {"--steps", "10"}, "unknown option --steps");
         assertBadArguments(new String[] {"--seconds", "0"}, "--seconds");
         assertBadArguments(new String[] {"--updates", "0"}, "--updates");
         assertBadArguments(new String[] {"--seconds", "5", "--updates", "100"}, "choose one budget");
