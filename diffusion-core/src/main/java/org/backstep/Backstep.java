@@ -4,6 +4,7 @@ import org.backstep.internal.plan.StepPlanner;
 import org.backstep.internal.train.Trainer;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.Limits;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.ScheduleFamily;
 import org.backstep.option.StepSampling;
@@ -265,7 +266,11 @@ public final class Backstep {
 
         /** Continuous columns to model on a log scale (strictly positive, skewed); default none. @param names column names @return this */
         public Builder logColumns(String... names) {
-            this.logColumns = new LinkedHashSet<>(List.of(names));
+            Require.notNull("names", names);
+            for (int i = 0; i < names.length; i++) {
+                Require.notNull("names[" + i + "]", names[i]);
+            }
+            this.logColumns = new LinkedHashSet<>(java.util.Arrays.asList(names));
             return this;
         }
 
@@ -312,73 +317,20 @@ public final class Backstep {
         }
 
         private FitOptions options(int steps) {
-            Require.atLeast("steps", steps, 1);
+            // T first, before a schedule of T betas is built; every other option is checked by
+            // FitOptions, the one validation that the model file's loader shares
+            Require.inRange("steps", steps, 1, Limits.MAX_STEPS);
             Require.notNull("continuousSchedule", continuousFamily);
             Require.notNull("binarySchedule", binaryFamily);
             NoiseSchedule cont = continuousSchedule != null ? continuousSchedule : continuousFamily.schedule(steps);
+            Require.inRange("steps of continuousSchedule", cont.steps(), 1, Limits.MAX_STEPS);
             NoiseSchedule bin = binarySchedule != null ? binarySchedule : binaryFamily.schedule(cont.steps());
-            if (cont.isStrided() || bin.isStrided()) {
-                throw new IllegalArgumentException("a training schedule is strided; train on a full schedule and stride it for sampling");
-            }
-            if (bin.steps() != cont.steps()) {
-                throw new IllegalArgumentException("binarySchedule has " + bin.steps() + " steps and continuousSchedule "
-                        + cont.steps() + "; both kinds are diffused at the same t, so T must agree");
-            }
-            Require.notNull("hidden", hidden);
-            Require.atLeast("number of hidden layers", hidden.length, 1);
-            for (int i = 0; i < hidden.length; i++) {
-                Require.atLeast("hidden[" + i + "]", hidden[i], 1);
-            }
-            Require.atLeast("embeddingSize", embeddingSize, 2);
-            if (embeddingSize % 2 != 0) {
-                throw new IllegalArgumentException("embeddingSize is " + embeddingSize + "; expected an even number");
-            }
-            Require.notNull("stepInput", stepInput);
-            Require.notNull("variance", variance);
-            Require.notNull("loss", loss);
-            if (loss == TrainingLoss.HYBRID && variance != ReverseVariance.LEARNED) {
-                throw new IllegalArgumentException("loss is HYBRID but variance is " + variance
-                        + "; the hybrid loss trains learned variances (choose variance LEARNED or loss SIMPLE)");
-            }
-            if (loss == TrainingLoss.SIMPLE && variance == ReverseVariance.LEARNED) {
-                throw new IllegalArgumentException("loss is SIMPLE but variance is LEARNED; the simple loss does not train "
-                        + "variances (choose loss HYBRID or BOUND, or a fixed variance)");
-            }
-            Require.positive("hybridWeight", hybridWeight);
-            Require.notNull("stepSampling", stepSampling);
-            Require.positive("learningRate", learningRate);
-            Require.notNull("learningRateSchedule", learningRateSchedule);
-            checkMoment("adam beta1", adamBeta1);
-            checkMoment("adam beta2", adamBeta2);
-            Require.positive("adam epsilon", adamEpsilon);
-            Require.nonNegative("weightDecay", weightDecay);
-            checkMoment("emaDecay", emaDecay);
-            Require.atLeast("batchSize", batchSize, 1);
-            Require.atLeast("trainingSteps", trainingSteps, 1);
-            Require.atLeast("evaluations", evaluations, 1);
-            if (epochs != 0) {
-                Require.atLeast("epochs", epochs, 1);
-            }
-            Require.inClosed("checkpointFraction", checkpointFraction, 0.0, 0.9);
-            if (evaluateEvery != 0) {
-                Require.atLeast("evaluateEvery", evaluateEvery, 1);
-            }
-            Require.atLeast("checkpointDraws", checkpointDraws, 1);
-            Require.atLeast("patience", patience, 0);
-            Require.notNull("logColumns", logColumns);
-            Require.atLeast("threads", threads, 1);
             Require.notNull("listener", listener);
             Require.notNull("stopWhen", stopRequested);
             return new FitOptions(cont, bin, hidden, embeddingSize, stepInput, variance, loss, hybridWeight,
                     stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
                     batchSize, epochs, trainingSteps, checkpointFraction, evaluateEvery, evaluations, checkpointDraws, patience,
                     logColumns, seed, threads);
-        }
-
-        private static void checkMoment(String name, double value) {
-            if (!(value >= 0.0 && value < 1.0)) {
-                throw new IllegalArgumentException(name + " is " + value + "; expected a number in [0, 1)");
-            }
         }
 
         /**
