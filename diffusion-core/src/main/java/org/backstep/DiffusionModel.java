@@ -13,12 +13,15 @@ import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ImputationOptions;
+import org.backstep.option.Limits;
 import org.backstep.option.SamplingPlan;
 import org.backstep.option.ScreeningOptions;
 import org.backstep.report.AnomalyScreen;
 import org.backstep.report.BoundReport;
+import org.backstep.report.CheckedSample;
 import org.backstep.report.Denoising;
 import org.backstep.report.Imputation;
+import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
 import org.backstep.schedule.Require;
 import org.backstep.table.Table;
@@ -255,17 +258,39 @@ public final class DiffusionModel {
      *
      * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
      *
-     * @param count how many, at least 1
+     * @param count how many, at least 1; count x columns at most {@link Limits#MAX_CELLS}
      * @param plan sampler, steps and eta
      * @param seed the seed
      * @return a table with the training columns, in original units
+     * @throws IllegalArgumentException naming count and the limit if the table would be too large
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Table sample(int count, SamplingPlan plan, long seed) {
+        return sampleChecked(count, plan, seed).table();
+    }
+
+    /**
+     * Synthetic records by the given plan, as {@link #sample(int, SamplingPlan, long)} draws them,
+     * with the check of how far they strayed: the share of rows with a value beyond
+     * {@link SampleCheck#BOUND_WIDTHS} widths of the training range in model space (see
+     * {@link SampleCheck}). Such rows come from a chain that diverges (too few steps for the
+     * schedule, an undertrained network); both methods also log a warning through SLF4J when any
+     * row lies beyond the bound.
+     *
+     * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
+     *
+     * @param count how many, at least 1; count x columns at most {@link Limits#MAX_CELLS}
+     * @param plan sampler, steps and eta
+     * @param seed the seed
+     * @return the table in original units and the check
+     * @throws IllegalStateException if the chain diverges so far that a cell leaves the float range
+     */
+    public CheckedSample sampleChecked(int count, SamplingPlan plan, long seed) {
         Require.atLeast("count", count, 1);
+        Limits.checkCells("count x columns of the sample", count, transform().names().size());
         Require.notNull("plan", plan);
         Require.inRange("steps", plan.steps(), 0, steps());
-        return engine.sample(count, plan, seed);
+        return engine.sampleChecked(count, plan, seed);
     }
 
     // ------------------------------------------------------------------ imputation
@@ -306,6 +331,7 @@ public final class DiffusionModel {
     public Imputation impute(Table records, ImputationOptions how, long seed) {
         Require.notNull("how", how);
         checkColumns(records);
+        Limits.checkCells("draws x rows x columns of the imputation", how.draws(), records.rows(), records.columns());
         return Imputer.impute(engine, records, how, seed);
     }
 

@@ -75,7 +75,8 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
      * @param energyPValue its permutation p-value (NaN if the samples diverged)
      * @param maxKs the largest per-column Kolmogorov-Smirnov statistic (NaN if the samples diverged)
      * @param millisPer1000 milliseconds to draw 1,000 samples through all T steps (NaN if the samples diverged)
-     * @param samplesDiverged whether the sampling chain left the float range; such a model is not recommended
+     * @param samplesDiverged whether its samples diverged: some lay beyond the bound of {@link SampleCheck}, or
+     *     the sampling chain left the float range (then the sample figures are NaN); such a model is not recommended
      */
     public record Row(int steps, long updates, double epochs, double trainingSeconds, double boundNatsPerDimension,
                       double boundStandardError, double energyDistance, double energyPValue, double maxKs,
