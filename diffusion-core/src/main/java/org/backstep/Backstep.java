@@ -110,6 +110,7 @@ public final class Backstep {
 
         /** The schedule family of continuous columns; default {@link Defaults#CONTINUOUS_SCHEDULE}. @param family the family @return this */
         public Builder continuousSchedule(ScheduleFamily family) {
+            Require.notNull("family", family);
             this.continuousFamily = family;
             this.continuousSchedule = null;
             return this;
@@ -117,12 +118,14 @@ public final class Backstep {
 
         /** An explicit schedule for continuous columns; its T overrides {@link #steps(int)}. @param schedule the schedule @return this */
         public Builder continuousSchedule(NoiseSchedule schedule) {
+            Require.notNull("schedule", schedule);
             this.continuousSchedule = schedule;
             return this;
         }
 
         /** The schedule family of binary columns; default {@link Defaults#BINARY_SCHEDULE}. @param family the family @return this */
         public Builder binarySchedule(ScheduleFamily family) {
+            Require.notNull("family", family);
             this.binaryFamily = family;
             this.binarySchedule = null;
             return this;
@@ -130,31 +133,36 @@ public final class Backstep {
 
         /** An explicit schedule for binary columns, with the continuous schedule's T. @param schedule the schedule @return this */
         public Builder binarySchedule(NoiseSchedule schedule) {
+            Require.notNull("schedule", schedule);
             this.binarySchedule = schedule;
             return this;
         }
 
         /** Hidden widths of the estimator; default {@link Defaults#HIDDEN}. @param widths one per hidden layer @return this */
         public Builder hidden(int... widths) {
-            this.hidden = widths == null ? null : widths.clone();
+            Require.notNull("widths", widths);
+            this.hidden = widths.clone();
             return this;
         }
 
         /** The embedding of t; defaults {@link Defaults#EMBEDDING_SIZE} and {@link Defaults#CONDITIONING}. @param size even size @param where where it enters @return this */
         public Builder timeEmbedding(int size, StepInput where) {
             this.embeddingSize = size;
+            Require.notNull("where", where);
             this.stepInput = where;
             return this;
         }
 
         /** The reverse variance; default {@link Defaults#VARIANCE}. @param variance the choice @return this */
         public Builder variance(ReverseVariance variance) {
+            Require.notNull("variance", variance);
             this.variance = variance;
             return this;
         }
 
         /** The training objective; default {@link Defaults#LOSS}. @param loss the choice @return this */
         public Builder loss(TrainingLoss loss) {
+            Require.notNull("loss", loss);
             this.loss = loss;
             return this;
         }
@@ -167,6 +175,7 @@ public final class Backstep {
 
         /** How t is drawn; default {@link Defaults#STEP_SAMPLING}. @param sampling the choice @return this */
         public Builder stepSampling(StepSampling sampling) {
+            Require.notNull("sampling", sampling);
             this.stepSampling = sampling;
             return this;
         }
@@ -179,6 +188,7 @@ public final class Backstep {
 
         /** How the step size changes over training; default {@link Defaults#LEARNING_RATE_SCHEDULE}. @param schedule the schedule @return this */
         public Builder learningRateSchedule(LearningRateSchedule schedule) {
+            Require.notNull("schedule", schedule);
             this.learningRateSchedule = schedule;
             return this;
         }
@@ -288,6 +298,7 @@ public final class Backstep {
 
         /** Where progress goes; default none. @param listener the listener @return this */
         public Builder listener(TrainingListener listener) {
+            Require.notNull("listener", listener);
             this.listener = listener;
             return this;
         }
@@ -302,6 +313,7 @@ public final class Backstep {
          * @return this
          */
         public Builder stopWhen(BooleanSupplier stopRequested) {
+            Require.notNull("stopRequested", stopRequested);
             this.stopRequested = stopRequested;
             return this;
         }

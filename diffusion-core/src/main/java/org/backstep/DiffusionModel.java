@@ -193,7 +193,7 @@ public final class DiffusionModel {
     public BoundReport bound(Table records, BoundOptions how, long seed) {
         Require.notNull("how", how);
         Require.inRange("steps", how.steps(), 0, steps());
-        checkComplete(records);
+        checkComplete(records, "records");
         return engine.bound(records, how, seed);
     }
 
@@ -224,6 +224,8 @@ public final class DiffusionModel {
      * @return the threshold, every score and the flagged rows
      */
     public AnomalyScreen screen(Table heldOut, Table records, ScreeningOptions how, long seed) {
+        Require.notNull("heldOut", heldOut);
+        Require.notNull("records", records);
         Require.notNull("how", how);
         BoundOptions b = how.bound();
         if (b.sampled() && b.draws() > steps()) {
@@ -330,7 +332,7 @@ public final class DiffusionModel {
      */
     public Imputation impute(Table records, ImputationOptions how, long seed) {
         Require.notNull("how", how);
-        checkColumns(records);
+        checkColumns(records, "records");
         Limits.checkCells("draws x rows x columns of the imputation", how.draws(), records.rows(), records.columns());
         return Imputer.impute(engine, records, how, seed);
     }
@@ -363,7 +365,7 @@ public final class DiffusionModel {
      */
     public Denoising denoise(Table readings, DenoisingOptions how, long seed) {
         Require.notNull("how", how);
-        checkComplete(readings);
+        checkComplete(readings, "readings");
         return Denoiser.denoise(engine, readings, how, seed);
     }
 
@@ -386,7 +388,7 @@ public final class DiffusionModel {
     public StepPlan planSteps(Table heldOut, double tolerance, long seed, int... stepCounts) {
         Require.nonNegative("tolerance", tolerance);
         Require.notNull("stepCounts", stepCounts);
-        checkColumns(heldOut);
+        checkColumns(heldOut, "heldOut");
         int[] counts = stepCounts.length > 0 ? stepCounts
                 : IntStream.concat(Defaults.PLANNER_STEP_COUNTS.stream().mapToInt(Integer::intValue)
                         .filter(k -> k < steps()), IntStream.of(steps())).toArray();
@@ -425,30 +427,30 @@ public final class DiffusionModel {
 
     // ------------------------------------------------------------------ helpers
 
-    private void checkColumns(Table records) {
-        Require.notNull("records", records);
+    private void checkColumns(Table records, String name) {
+        Require.notNull(name, records);
         TableTransform t = transform();
         if (!records.names().equals(t.names()) || !records.kinds().equals(t.kinds())) {
-            throw new IllegalArgumentException("records have columns " + records.names() + " " + records.kinds()
+            throw new IllegalArgumentException(name + " have columns " + records.names() + " " + records.kinds()
                     + "; expected the training columns " + t.names() + " " + t.kinds());
         }
     }
 
     /** Refuses a column mismatch, an empty table and the first missing cell (row and column named). */
-    private void checkComplete(Table records) {
-        checkColumns(records);
+    private void checkComplete(Table records, String name) {
+        checkColumns(records, name);
         if (records.hasMissing()) {
             for (int i = 0; i < records.rows(); i++) {
                 for (int j = 0; j < records.columns(); j++) {
                     if (Double.isNaN(records.get(i, j))) {
-                        throw new IllegalArgumentException("row " + i + ", column '" + records.name(j)
+                        throw new IllegalArgumentException(name + ": row " + i + ", column '" + records.name(j)
                                 + "' is missing; this needs complete records (impute them first)");
                     }
                 }
             }
         }
         if (records.rows() == 0) {
-            throw new IllegalArgumentException("records has 0 rows; expected at least 1");
+            throw new IllegalArgumentException(name + " has 0 rows; expected at least 1");
         }
     }
 

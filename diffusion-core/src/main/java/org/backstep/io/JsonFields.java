@@ -1,6 +1,7 @@
 package org.backstep.io;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import org.backstep.schedule.Require;
 
 /**
  * Typed reads of the JSON in a model file, which is untrusted input: each read checks the JSON
@@ -23,6 +24,8 @@ public final class JsonFields {
      * @throws ModelFileException if {@code parent} is not an object or the field is missing or null
      */
     public static JsonNode field(JsonNode parent, String key, String where) throws ModelFileException {
+        Require.notNull("key", key);
+        Require.notNull("where", where);
         if (parent == null || !parent.isObject()) {
             throw new ModelFileException(where, "expected a JSON object, found " + describe(parent));
         }
@@ -40,6 +43,7 @@ public final class JsonFields {
      * @throws ModelFileException otherwise
      */
     public static JsonNode object(JsonNode value, String where) throws ModelFileException {
+        Require.notNull("where", where);
         if (value == null || !value.isObject()) {
             throw new ModelFileException(where, "expected a JSON object, found " + describe(value));
         }
@@ -55,6 +59,7 @@ public final class JsonFields {
      * @throws ModelFileException otherwise
      */
     public static JsonNode array(JsonNode value, String where, int minSize, int maxSize) throws ModelFileException {
+        Require.notNull("where", where);
         if (value == null || !value.isArray()) {
             throw new ModelFileException(where, "expected a JSON array, found " + describe(value));
         }
@@ -71,6 +76,7 @@ public final class JsonFields {
      * @throws ModelFileException if not a JSON string
      */
     public static String text(JsonNode value, String where) throws ModelFileException {
+        Require.notNull("where", where);
         if (value == null || !value.isTextual()) {
             throw new ModelFileException(where, "expected a JSON string, found " + describe(value));
         }
@@ -86,6 +92,8 @@ public final class JsonFields {
      * @throws ModelFileException if not a string naming one of the constants
      */
     public static <E extends Enum<E>> E constant(JsonNode value, String where, Class<E> type) throws ModelFileException {
+        Require.notNull("where", where);
+        Require.notNull("type", type);
         String name = text(value, where);
         for (E e : type.getEnumConstants()) {
             if (e.name().equals(name)) {
@@ -105,6 +113,7 @@ public final class JsonFields {
      * @throws ModelFileException otherwise
      */
     public static long whole(JsonNode value, String where, long lo, long hi) throws ModelFileException {
+        Require.notNull("where", where);
         if (value == null || !value.isIntegralNumber()) {
             throw new ModelFileException(where, "expected a JSON whole number, found " + describe(value));
         }
@@ -133,6 +142,7 @@ public final class JsonFields {
      * @throws ModelFileException if not a number, or not finite in double (1e400 is refused)
      */
     public static double finite(JsonNode value, String where) throws ModelFileException {
+        Require.notNull("where", where);
         if (value == null || !value.isNumber()) {
             throw new ModelFileException(where, "expected a JSON number, found " + describe(value));
         }
@@ -166,6 +176,7 @@ public final class JsonFields {
      * @throws ModelFileException otherwise
      */
     public static boolean bool(JsonNode value, String where) throws ModelFileException {
+        Require.notNull("where", where);
         if (value == null || !value.isBoolean()) {
             throw new ModelFileException(where, "expected true or false, found " + describe(value));
         }
@@ -188,6 +199,7 @@ public final class JsonFields {
      * @return at most 60 characters of it, so that a hostile file cannot fill a message
      */
     public static String shorten(String s) {
+        Require.notNull("s", s);
         return s.length() <= 60 ? s : s.substring(0, 57) + "...";
     }
 }

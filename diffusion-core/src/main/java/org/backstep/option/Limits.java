@@ -81,6 +81,8 @@ public final class Limits {
      * @throws IllegalArgumentException naming {@code what}, the product and the limit
      */
     public static long checkCells(String what, long... factors) {
+        Require.notNull("what", what);
+        Require.notNull("factors", factors);
         StringBuilder shown = new StringBuilder();
         boolean zero = false;
         boolean over = false;
@@ -116,6 +118,7 @@ public final class Limits {
      * @throws IllegalArgumentException naming the parameter, its value and the limit
      */
     public static int checkDraws(String name, int draws) {
+        Require.notNull("name", name);
         return Require.inRange(name, draws, 1, MAX_DRAWS);
     }
 
@@ -128,6 +131,7 @@ public final class Limits {
      * @throws IllegalArgumentException naming the column, the value and the limit
      */
     public static void checkTransform(String column, double shift, double scale) {
+        Require.notNull("column", column);
         if (!(Math.abs(shift) <= MAX_SHIFT)) {
             throw new IllegalArgumentException("shift of column '" + column + "' is " + shift
                     + "; expected a finite number of magnitude at most " + MAX_SHIFT + " (Limits.MAX_SHIFT)");

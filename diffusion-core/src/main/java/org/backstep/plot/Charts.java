@@ -121,6 +121,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart boundBreakdown(BoundReport report) {
+        Require.notNull("report", report);
         double[] per = report.perStepMean();
         if (per.length == 0) {
             throw new IllegalArgumentException("report is a Monte Carlo estimate; the breakdown needs the exact bound");
@@ -152,6 +153,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart trainingHistory(List<EpochRecord> history) {
+        Require.notNull("history", history);
         Require.atLeast("epochs in history", history.size(), 1);
         XYChart c = chart("Training history", "epoch", "training loss (per cell)");
         c.setYAxisGroupTitle(1, "held-out bound, nats per record");
@@ -187,6 +189,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart scoreHistogram(double[] scores, double threshold, int bins) {
+        Require.notNull("scores", scores);
         Require.atLeast("scores", scores.length, 1);
         Require.atLeast("bins", bins, 2);
         double lo = Math.min(threshold, java.util.Arrays.stream(scores).min().orElseThrow());
@@ -226,6 +229,10 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart pairPlot(Table samples, Table heldOut, String xColumn, String yColumn) {
+        Require.notNull("samples", samples);
+        Require.notNull("heldOut", heldOut);
+        Require.notNull("xColumn", xColumn);
+        Require.notNull("yColumn", yColumn);
         XYChart c = chart("Samples against held-out rows", xColumn, yColumn);
         c.getStyler().setDefaultSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
         c.getStyler().setMarkerSize(4);
@@ -260,6 +267,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart stepPlan(StepPlan plan) {
+        Require.notNull("plan", plan);
         XYChart c = chart("Step count: quality against cost", "milliseconds per 1,000 samples",
                 "held-out bound, nats per dimension");
         c.getStyler().setXAxisLogarithmic(true);

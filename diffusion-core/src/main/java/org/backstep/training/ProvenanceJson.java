@@ -6,6 +6,7 @@ import com.fasterxml.jackson.databind.node.JsonNodeFactory;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import org.backstep.io.JsonFields;
 import org.backstep.io.ModelFileException;
+import org.backstep.schedule.Require;
 
 import java.util.ArrayList;
 import java.util.List;
@@ -23,6 +24,9 @@ import java.util.OptionalDouble;
  */
 public final class ProvenanceJson {
 
+    /** The most epochs of history, and notes, a provenance read from a file may hold. */
+    public static final int MAX_ENTRIES = 10_000_000;
+
     private ProvenanceJson() {
     }
 
@@ -31,6 +35,7 @@ public final class ProvenanceJson {
      * @return a new JSON object holding it
      */
     public static ObjectNode write(Provenance p) {
+        Require.notNull("p", p);
         ObjectNode prov = JsonNodeFactory.instance.objectNode();
         prov.put("libraryVersion", p.libraryVersion());
         prov.put("javaVersion", p.javaVersion());
@@ -62,13 +67,15 @@ public final class ProvenanceJson {
      * whole number of 32 bits where a count belongs), counts must be at least 0, and lists may
      * hold at most {@link #MAX_ENTRIES} entries.
      *
-     * @param p a JSON object written by {@link #write} (or by format version 1)
+     * @param json a JSON object written by {@link #write} (or by format version 1)
      * @return the provenance
      * @throws ModelFileException naming the missing or mistyped field
+     * @throws IllegalArgumentException if {@code json} is null
      */
-    public static Provenance read(JsonNode p) throws ModelFileException {
+    public static Provenance read(JsonNode json) throws ModelFileException {
+        Require.notNull("json", json);
         String where = "model.json provenance";
-        JsonFields.object(p, where);
+        JsonNode p = JsonFields.object(json, where);
         List<EpochRecord> history = new ArrayList<>();
         JsonNode hist = JsonFields.array(JsonFields.field(p, "history", where), where + ".history", 0, MAX_ENTRIES);
         for (int i = 0; i < hist.size(); i++) {
@@ -93,9 +100,6 @@ public final class ProvenanceJson {
                 count(p, "tableRows"), count(p, "trainingRows"), count(p, checkpointKey), text(p, "tableSha256"), history,
                 notes);
     }
-
-    /** The most epochs of history, and notes, a provenance read from a file may hold. */
-    public static final int MAX_ENTRIES = 10_000_000;
 
     private static String text(JsonNode p, String key) throws ModelFileException {
         return JsonFields.text(JsonFields.field(p, key, "model.json provenance"), "model.json provenance." + key);
