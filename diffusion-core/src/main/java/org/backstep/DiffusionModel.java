@@ -416,8 +416,10 @@ public final class DiffusionModel {
      *
      * @param file the model file
      * @return the model
-     * @throws ModelFileException if the file is foreign, truncated, of an unknown version, missing
-     *     an entry, fails a checksum, or disagrees with its manifest
+     * @throws ModelFileException naming the part, if the file is foreign, truncated, of an unknown
+     *     version, holds an entry the format does not name or misses one, fails a checksum, holds a
+     *     field of the wrong type or past {@link Limits}, options the builder would refuse, or
+     *     disagrees with its manifest (a model file is read as untrusted input; see the README)
      * @throws IOException if the file cannot be read
      */
     public static DiffusionModel load(Path file) throws IOException {

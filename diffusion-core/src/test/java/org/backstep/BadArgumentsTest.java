@@ -119,6 +119,9 @@ class BadArgumentsTest {
         cases.add(new Case("listener(null)", () -> Backstep.builder().listener(null).options(),
                 "listener is null; expected a value"));
         cases.add(new Case("fit(null)", () -> Backstep.builder().fit(null), "training is null; expected a value"));
+        cases.add(new Case("fit(a table with a value of 1e35)", () -> Backstep.builder().fit(records(new double[] {1e35, 5, 0},
+                new double[] {3, 4, 1})), "training: row 0, column 'supply_c' is 1.0E35; expected a magnitude of at most "
+                + "1.0E30 (Limits.MAX_SHIFT), or the column among logColumns"));
         cases.add(new Case("planTraining(..., stepCounts 1)", () -> Backstep.builder().planTraining(good, good,
                 TrainingBudget.updates(10), 0.0, 1), "stepCounts[0] is 1; expected at least 2"));
         // the model's jobs
