@@ -261,20 +261,29 @@ public final class Charts {
 
     /**
      * The step planner's quality (held-out bound) against cost (ms per 1,000 samples), the
-     * recommended step count marked.
+     * recommended step count marked; step counts whose chain left the float range have no cost and
+     * are left out.
      *
      * @param plan the planner's findings
      * @return the chart
+     * @throws IllegalArgumentException if no step count has a cost
      */
     public static XYChart stepPlan(StepPlan plan) {
         Require.notNull("plan", plan);
         XYChart c = chart("Step count: quality against cost", "milliseconds per 1,000 samples",
                 "held-out bound, nats per dimension");
         c.getStyler().setXAxisLogarithmic(true);
-        double[] x = plan.rows().stream().mapToDouble(StepPlan.Row::millisPer1000).toArray();
-        double[] y = plan.rows().stream().mapToDouble(StepPlan.Row::boundNatsPerDimension).toArray();
+        List<StepPlan.Row> timed = plan.rows().stream().filter(r -> Double.isFinite(r.millisPer1000())).toList();
+        if (timed.isEmpty()) {
+            throw new IllegalArgumentException("plan has no step count whose sampling chain stayed finite; there is no cost to plot");
+        }
+        double[] x = timed.stream().mapToDouble(StepPlan.Row::millisPer1000).toArray();
+        double[] y = timed.stream().mapToDouble(StepPlan.Row::boundNatsPerDimension).toArray();
         c.addSeries("step counts", x, y).setMarker(SeriesMarkers.CIRCLE);
-        StepPlan.Row pick = plan.rows().stream().filter(r -> r.steps() == plan.recommended()).findFirst().orElseThrow();
+        StepPlan.Row pick = timed.stream().filter(r -> r.steps() == plan.recommended()).findFirst().orElse(null);
+        if (pick == null) {
+            return c;
+        }
         XYSeries mark = c.addSeries("recommended: " + pick.steps() + " steps", new double[] {pick.millisPer1000()},
                 new double[] {pick.boundNatsPerDimension()});
         mark.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
