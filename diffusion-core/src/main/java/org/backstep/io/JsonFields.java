@@ -8,8 +8,8 @@ import org.backstep.schedule.Require;
  * type and refuses a mismatch, never coercing (a string where a number belongs, an array, a
  * fraction where a whole number belongs, a whole number past 32 bits, a number past the double
  * range are all refused, where Jackson's {@code asInt()} would read 0, 20 or Infinity). Every
- * refusal is a {@link ModelFileException} whose part names the field, for example
- * {@code "model.json options.hidden[1]"}.
+ * refusal is a {@link ModelFileException} whose part names the entry and the field, for example
+ * {@code "model.json options.hidden[1]"} (see {@link #child}).
  */
 public final class JsonFields {
 
@@ -31,7 +31,7 @@ public final class JsonFields {
         }
         JsonNode v = parent.get(key);
         if (v == null || v.isNull()) {
-            throw new ModelFileException(where + "." + key, "field missing");
+            throw new ModelFileException(child(where, key), "field missing");
         }
         return v;
     }
@@ -181,6 +181,21 @@ public final class JsonFields {
             throw new ModelFileException(where, "expected true or false, found " + describe(value));
         }
         return value.booleanValue();
+    }
+
+    /**
+     * The name of a field in messages: {@code "model.json options"} and {@code "hidden"} give
+     * {@code "model.json options.hidden"}; an entry's name and a top-level field are parted by a
+     * space, {@code "model.json format"}.
+     *
+     * @param where the parent's name
+     * @param key the field's name
+     * @return the field's name
+     */
+    public static String child(String where, String key) {
+        Require.notNull("where", where);
+        Require.notNull("key", key);
+        return where + (where.indexOf(' ') < 0 ? " " : ".") + key;
     }
 
     /** The JSON type of a value and a short view of it, for messages. */

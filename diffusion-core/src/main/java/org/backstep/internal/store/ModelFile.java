@@ -267,13 +267,13 @@ public final class ModelFile {
                 throw new ModelFileException(MANIFEST, "not valid JSON: " + JsonFields.shorten(e.getOriginalMessage()), e);
             }
             JsonFields.object(root, MANIFEST);
-            if (!FORMAT.equals(JsonFields.text(JsonFields.field(root, "format", MANIFEST), MANIFEST + ".format"))) {
-                throw new ModelFileException(MANIFEST + ".format", "expected \"" + FORMAT + "\", found " + root.get("format"));
+            if (!FORMAT.equals(JsonFields.text(JsonFields.field(root, "format", MANIFEST), MANIFEST + " format"))) {
+                throw new ModelFileException(MANIFEST + " format", "expected \"" + FORMAT + "\", found " + root.get("format"));
             }
-            int version = JsonFields.int32(JsonFields.field(root, "formatVersion", MANIFEST), MANIFEST + ".formatVersion",
+            int version = JsonFields.int32(JsonFields.field(root, "formatVersion", MANIFEST), MANIFEST + " formatVersion",
                     Integer.MIN_VALUE, Integer.MAX_VALUE);
             if (version < OLDEST_VERSION || version > VERSION) {
-                throw new ModelFileException(MANIFEST + ".formatVersion", "version " + version
+                throw new ModelFileException(MANIFEST + " formatVersion", "version " + version
                         + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + VERSION);
             }
             Manifest m = readManifest(root, version);
@@ -466,16 +466,16 @@ public final class ModelFile {
     }
 
     private static int int32(JsonNode parent, String where, String key, int lo, int hi) throws ModelFileException {
-        return JsonFields.int32(JsonFields.field(parent, key, where), where + "." + key, lo, hi);
+        return JsonFields.int32(JsonFields.field(parent, key, where), JsonFields.child(where, key), lo, hi);
     }
 
     private static double number(JsonNode parent, String where, String key) throws ModelFileException {
-        return JsonFields.finite(JsonFields.field(parent, key, where), where + "." + key);
+        return JsonFields.finite(JsonFields.field(parent, key, where), JsonFields.child(where, key));
     }
 
     private static <E extends Enum<E>> E constant(JsonNode parent, String where, String key, Class<E> type)
             throws ModelFileException {
-        return JsonFields.constant(JsonFields.field(parent, key, where), where + "." + key, type);
+        return JsonFields.constant(JsonFields.field(parent, key, where), JsonFields.child(where, key), type);
     }
 
     /**
