@@ -182,7 +182,7 @@ public final class StepPlanner {
                     standardError, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true);
         }
         return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
-                standardError, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(), q.check().diverged());
+                standardError, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(), false, q.check().shareBeyond());
     }
 
     /** At most {@link #QUALITY_ROWS} rows of {@code table}, spread evenly over it. */
