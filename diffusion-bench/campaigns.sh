@@ -26,12 +26,13 @@ started=$(date -u '+%Y-%m-%d %H:%M')
 load_before=$(cut -d' ' -f1-3 /proc/loadavg)
 log=$(mktemp)
 status=0
-OMP_NUM_THREADS=1 java -Xmx2g -cp "${jar}" org.backstep.bench.Campaigns "${files}" "${kills}" "${seed}" "${bomb}" \
+OMP_NUM_THREADS=1 java -Xmx2g -Dorg.slf4j.simpleLogger.log.org.backstep.internal.chain.Engine=error \
+  -cp "${jar}" org.backstep.bench.Campaigns "${files}" "${kills}" "${seed}" "${bomb}" \
   > "${log}" || status=$?
 {
   echo "Backstep hardening campaigns, run ${started} to $(date -u '+%H:%M UTC'), git $(cd "${root}" && git rev-parse --short HEAD)$(cd "${root}" && git diff --quiet HEAD -- . ':!diffusion-bench/results' || echo ' (uncommitted changes)')"
   echo "machine: $(nproc) CPUs, kernel $(uname -sr); load average (1, 5, 15 min) before ${load_before}, after $(cut -d' ' -f1-3 /proc/loadavg) (the machine is shared)"
-  echo "java: $(java -version 2>&1 | head -1); -Xmx2g; OMP_NUM_THREADS=1; OPENBLAS_CORETYPE=${OPENBLAS_CORETYPE:-(not set)}"
+  echo "java: $(java -version 2>&1 | head -1); -Xmx2g; OMP_NUM_THREADS=1; the mutated models' sampling warnings silenced; OPENBLAS_CORETYPE=${OPENBLAS_CORETYPE:-(not set)}"
   echo "arguments: ${files} files, ${kills} kills, seed ${seed}, zero bombs of ${bomb} MiB; exit status ${status}"
   echo
   cat "${log}"
