@@ -211,10 +211,20 @@ public final class JsonFields {
 
     /**
      * @param s any text
-     * @return at most 60 characters of it, so that a hostile file cannot fill a message
+     * @return at most 60 characters of it, control characters written as a backslash, u and four hex digits, so that a hostile
+     *     file can neither fill a message nor hide in it
      */
     public static String shorten(String s) {
         Require.notNull("s", s);
-        return s.length() <= 60 ? s : s.substring(0, 57) + "...";
+        String cut = s.length() <= 60 ? s : s.substring(0, 57) + "...";
+        StringBuilder sb = new StringBuilder(cut.length());
+        for (char ch : cut.toCharArray()) {
+            if (Character.isISOControl(ch)) {
+                sb.append(String.format(java.util.Locale.ROOT, "\\u%04x", (int) ch));
+            } else {
+                sb.append(ch);
+            }
+        }
+        return sb.toString();
     }
 }
