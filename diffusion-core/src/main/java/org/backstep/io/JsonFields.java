@@ -211,8 +211,8 @@ public final class JsonFields {
 
     /**
      * @param s any text
-     * @return at most 60 characters of it, control characters written as a backslash, u and four hex digits, so that a hostile
-     *     file can neither fill a message nor hide in it
+     * @return at most 60 characters of it, control characters written as a backslash, u and four
+     *     hex digits, so that a hostile file can neither fill a message nor hide in it
      */
     public static String shorten(String s) {
         Require.notNull("s", s);
