@@ -4,6 +4,7 @@ import org.backstep.internal.plan.StepPlanner;
 import org.backstep.internal.train.Trainer;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.Limits;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.ScheduleFamily;
 import org.backstep.option.StepSampling;
@@ -109,6 +110,7 @@ public final class Backstep {
 
         /** The schedule family of continuous columns; default {@link Defaults#CONTINUOUS_SCHEDULE}. @param family the family @return this */
         public Builder continuousSchedule(ScheduleFamily family) {
+            Require.notNull("family", family);
             this.continuousFamily = family;
             this.continuousSchedule = null;
             return this;
@@ -116,12 +118,14 @@ public final class Backstep {
 
         /** An explicit schedule for continuous columns; its T overrides {@link #steps(int)}. @param schedule the schedule @return this */
         public Builder continuousSchedule(NoiseSchedule schedule) {
+            Require.notNull("schedule", schedule);
             this.continuousSchedule = schedule;
             return this;
         }
 
         /** The schedule family of binary columns; default {@link Defaults#BINARY_SCHEDULE}. @param family the family @return this */
         public Builder binarySchedule(ScheduleFamily family) {
+            Require.notNull("family", family);
             this.binaryFamily = family;
             this.binarySchedule = null;
             return this;
@@ -129,31 +133,36 @@ public final class Backstep {
 
         /** An explicit schedule for binary columns, with the continuous schedule's T. @param schedule the schedule @return this */
         public Builder binarySchedule(NoiseSchedule schedule) {
+            Require.notNull("schedule", schedule);
             this.binarySchedule = schedule;
             return this;
         }
 
         /** Hidden widths of the estimator; default {@link Defaults#HIDDEN}. @param widths one per hidden layer @return this */
         public Builder hidden(int... widths) {
-            this.hidden = widths == null ? null : widths.clone();
+            Require.notNull("widths", widths);
+            this.hidden = widths.clone();
             return this;
         }
 
         /** The embedding of t; defaults {@link Defaults#EMBEDDING_SIZE} and {@link Defaults#CONDITIONING}. @param size even size @param where where it enters @return this */
         public Builder timeEmbedding(int size, StepInput where) {
             this.embeddingSize = size;
+            Require.notNull("where", where);
             this.stepInput = where;
             return this;
         }
 
         /** The reverse variance; default {@link Defaults#VARIANCE}. @param variance the choice @return this */
         public Builder variance(ReverseVariance variance) {
+            Require.notNull("variance", variance);
             this.variance = variance;
             return this;
         }
 
         /** The training objective; default {@link Defaults#LOSS}. @param loss the choice @return this */
         public Builder loss(TrainingLoss loss) {
+            Require.notNull("loss", loss);
             this.loss = loss;
             return this;
         }
@@ -166,6 +175,7 @@ public final class Backstep {
 
         /** How t is drawn; default {@link Defaults#STEP_SAMPLING}. @param sampling the choice @return this */
         public Builder stepSampling(StepSampling sampling) {
+            Require.notNull("sampling", sampling);
             this.stepSampling = sampling;
             return this;
         }
@@ -178,6 +188,7 @@ public final class Backstep {
 
         /** How the step size changes over training; default {@link Defaults#LEARNING_RATE_SCHEDULE}. @param schedule the schedule @return this */
         public Builder learningRateSchedule(LearningRateSchedule schedule) {
+            Require.notNull("schedule", schedule);
             this.learningRateSchedule = schedule;
             return this;
         }
@@ -265,7 +276,11 @@ public final class Backstep {
 
         /** Continuous columns to model on a log scale (strictly positive, skewed); default none. @param names column names @return this */
         public Builder logColumns(String... names) {
-            this.logColumns = new LinkedHashSet<>(List.of(names));
+            Require.notNull("names", names);
+            for (int i = 0; i < names.length; i++) {
+                Require.notNull("names[" + i + "]", names[i]);
+            }
+            this.logColumns = new LinkedHashSet<>(java.util.Arrays.asList(names));
             return this;
         }
 
@@ -283,6 +298,7 @@ public final class Backstep {
 
         /** Where progress goes; default none. @param listener the listener @return this */
         public Builder listener(TrainingListener listener) {
+            Require.notNull("listener", listener);
             this.listener = listener;
             return this;
         }
@@ -297,6 +313,7 @@ public final class Backstep {
          * @return this
          */
         public Builder stopWhen(BooleanSupplier stopRequested) {
+            Require.notNull("stopRequested", stopRequested);
             this.stopRequested = stopRequested;
             return this;
         }
@@ -312,61 +329,14 @@ public final class Backstep {
         }
 
         private FitOptions options(int steps) {
-            Require.atLeast("steps", steps, 1);
+            // T first, before a schedule of T betas is built; every other option is checked by
+            // FitOptions, the one validation that the model file's loader shares
+            Require.inRange("steps", steps, 1, Limits.MAX_STEPS);
             Require.notNull("continuousSchedule", continuousFamily);
             Require.notNull("binarySchedule", binaryFamily);
             NoiseSchedule cont = continuousSchedule != null ? continuousSchedule : continuousFamily.schedule(steps);
+            Require.inRange("steps of continuousSchedule", cont.steps(), 1, Limits.MAX_STEPS);
             NoiseSchedule bin = binarySchedule != null ? binarySchedule : binaryFamily.schedule(cont.steps());
-            if (cont.isStrided() || bin.isStrided()) {
-                throw new IllegalArgumentException("a training schedule is strided; train on a full schedule and stride it for sampling");
-            }
-            if (bin.steps() != cont.steps()) {
-                throw new IllegalArgumentException("binarySchedule has " + bin.steps() + " steps and continuousSchedule "
-                        + cont.steps() + "; both kinds are diffused at the same t, so T must agree");
-            }
-            Require.notNull("hidden", hidden);
-            Require.atLeast("number of hidden layers", hidden.length, 1);
-            for (int i = 0; i < hidden.length; i++) {
-                Require.atLeast("hidden[" + i + "]", hidden[i], 1);
-            }
-            Require.atLeast("embeddingSize", embeddingSize, 2);
-            if (embeddingSize % 2 != 0) {
-                throw new IllegalArgumentException("embeddingSize is " + embeddingSize + "; expected an even number");
-            }
-            Require.notNull("stepInput", stepInput);
-            Require.notNull("variance", variance);
-            Require.notNull("loss", loss);
-            if (loss == TrainingLoss.HYBRID && variance != ReverseVariance.LEARNED) {
-                throw new IllegalArgumentException("loss is HYBRID but variance is " + variance
-                        + "; the hybrid loss trains learned variances (choose variance LEARNED or loss SIMPLE)");
-            }
-            if (loss == TrainingLoss.SIMPLE && variance == ReverseVariance.LEARNED) {
-                throw new IllegalArgumentException("loss is SIMPLE but variance is LEARNED; the simple loss does not train "
-                        + "variances (choose loss HYBRID or BOUND, or a fixed variance)");
-            }
-            Require.positive("hybridWeight", hybridWeight);
-            Require.notNull("stepSampling", stepSampling);
-            Require.positive("learningRate", learningRate);
-            Require.notNull("learningRateSchedule", learningRateSchedule);
-            checkMoment("adam beta1", adamBeta1);
-            checkMoment("adam beta2", adamBeta2);
-            Require.positive("adam epsilon", adamEpsilon);
-            Require.nonNegative("weightDecay", weightDecay);
-            checkMoment("emaDecay", emaDecay);
-            Require.atLeast("batchSize", batchSize, 1);
-            Require.atLeast("trainingSteps", trainingSteps, 1);
-            Require.atLeast("evaluations", evaluations, 1);
-            if (epochs != 0) {
-                Require.atLeast("epochs", epochs, 1);
-            }
-            Require.inClosed("checkpointFraction", checkpointFraction, 0.0, 0.9);
-            if (evaluateEvery != 0) {
-                Require.atLeast("evaluateEvery", evaluateEvery, 1);
-            }
-            Require.atLeast("checkpointDraws", checkpointDraws, 1);
-            Require.atLeast("patience", patience, 0);
-            Require.notNull("logColumns", logColumns);
-            Require.atLeast("threads", threads, 1);
             Require.notNull("listener", listener);
             Require.notNull("stopWhen", stopRequested);
             return new FitOptions(cont, bin, hidden, embeddingSize, stepInput, variance, loss, hybridWeight,
@@ -375,9 +345,25 @@ public final class Backstep {
                     logColumns, seed, threads);
         }
 
-        private static void checkMoment(String name, double value) {
-            if (!(value >= 0.0 && value < 1.0)) {
-                throw new IllegalArgumentException(name + " is " + value + "; expected a number in [0, 1)");
+        /**
+         * Refuses a value of a continuous column, not modelled on a log scale, past
+         * {@link Limits#MAX_SHIFT} in magnitude: its column's mean or standard deviation would lie
+         * outside the transform limits that the model file's loader enforces, so the fit would be
+         * refused only after training.
+         */
+        private static void checkMagnitudes(Table t, Set<String> logColumns) {
+            for (int j = 0; j < t.columns(); j++) {
+                if (t.kind(j) != org.backstep.table.ColumnKind.CONTINUOUS || logColumns.contains(t.name(j))) {
+                    continue;
+                }
+                for (int i = 0; i < t.rows(); i++) {
+                    double v = t.get(i, j);
+                    if (Math.abs(v) > Limits.MAX_SHIFT) {
+                        throw new IllegalArgumentException("training: row " + i + ", column '" + t.name(j) + "' is " + v
+                                + "; expected a magnitude of at most " + Limits.MAX_SHIFT + " (Limits.MAX_SHIFT), or the "
+                                + "column among logColumns");
+                    }
+                }
             }
         }
 
@@ -392,6 +378,7 @@ public final class Backstep {
         public DiffusionModel fit(Table training) {
             FitOptions options = options();
             Require.notNull("training", training);
+            checkMagnitudes(training, logColumns);
             return DiffusionModel.of(Trainer.fit(options, training, null, listener, stopRequested, null).parts());
         }
 
@@ -406,6 +393,7 @@ public final class Backstep {
         public DiffusionModel fit(Table training, Table checkpointRows) {
             FitOptions options = options();
             Require.notNull("training", training);
+            checkMagnitudes(training, logColumns);
             Require.notNull("checkpointRows", checkpointRows);
             return DiffusionModel.of(Trainer.fit(options, training, checkpointRows, listener, stopRequested, null).parts());
         }
@@ -451,6 +439,7 @@ public final class Backstep {
         public TrainingPlan planTraining(Table training, Table heldOut, TrainingBudget budget, double tolerance,
                                          int... stepCounts) {
             Require.notNull("training", training);
+            checkMagnitudes(training, logColumns);
             Require.notNull("heldOut", heldOut);
             Require.notNull("budget", budget);
             Require.nonNegative("tolerance", tolerance);

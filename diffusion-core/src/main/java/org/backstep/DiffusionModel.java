@@ -13,12 +13,15 @@ import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ImputationOptions;
+import org.backstep.option.Limits;
 import org.backstep.option.SamplingPlan;
 import org.backstep.option.ScreeningOptions;
 import org.backstep.report.AnomalyScreen;
 import org.backstep.report.BoundReport;
+import org.backstep.report.CheckedSample;
 import org.backstep.report.Denoising;
 import org.backstep.report.Imputation;
+import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
 import org.backstep.schedule.Require;
 import org.backstep.table.Table;
@@ -190,7 +193,7 @@ public final class DiffusionModel {
     public BoundReport bound(Table records, BoundOptions how, long seed) {
         Require.notNull("how", how);
         Require.inRange("steps", how.steps(), 0, steps());
-        checkComplete(records);
+        checkComplete(records, "records");
         return engine.bound(records, how, seed);
     }
 
@@ -221,6 +224,8 @@ public final class DiffusionModel {
      * @return the threshold, every score and the flagged rows
      */
     public AnomalyScreen screen(Table heldOut, Table records, ScreeningOptions how, long seed) {
+        Require.notNull("heldOut", heldOut);
+        Require.notNull("records", records);
         Require.notNull("how", how);
         BoundOptions b = how.bound();
         if (b.sampled() && b.draws() > steps()) {
@@ -255,17 +260,39 @@ public final class DiffusionModel {
      *
      * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
      *
-     * @param count how many, at least 1
+     * @param count how many, at least 1; count x columns at most {@link Limits#MAX_CELLS}
      * @param plan sampler, steps and eta
      * @param seed the seed
      * @return a table with the training columns, in original units
+     * @throws IllegalArgumentException naming count and the limit if the table would be too large
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Table sample(int count, SamplingPlan plan, long seed) {
+        return sampleChecked(count, plan, seed).table();
+    }
+
+    /**
+     * Synthetic records by the given plan, as {@link #sample(int, SamplingPlan, long)} draws them,
+     * with the check of how far they strayed: the share of rows with a value beyond
+     * {@link SampleCheck#BOUND_WIDTHS} widths of the training range in model space (see
+     * {@link SampleCheck}). Such rows come from a chain that diverges (too few steps for the
+     * schedule, an undertrained network); both methods also log a warning through SLF4J when any
+     * row lies beyond the bound.
+     *
+     * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
+     *
+     * @param count how many, at least 1; count x columns at most {@link Limits#MAX_CELLS}
+     * @param plan sampler, steps and eta
+     * @param seed the seed
+     * @return the table in original units and the check
+     * @throws IllegalStateException if the chain diverges so far that a cell leaves the float range
+     */
+    public CheckedSample sampleChecked(int count, SamplingPlan plan, long seed) {
         Require.atLeast("count", count, 1);
+        Limits.checkCells("count x columns of the sample", count, transform().names().size());
         Require.notNull("plan", plan);
         Require.inRange("steps", plan.steps(), 0, steps());
-        return engine.sample(count, plan, seed);
+        return engine.sampleChecked(count, plan, seed);
     }
 
     // ------------------------------------------------------------------ imputation
@@ -305,7 +332,8 @@ public final class DiffusionModel {
      */
     public Imputation impute(Table records, ImputationOptions how, long seed) {
         Require.notNull("how", how);
-        checkColumns(records);
+        checkColumns(records, "records");
+        Limits.checkCells("draws x rows x columns of the imputation", how.draws(), records.rows(), records.columns());
         return Imputer.impute(engine, records, how, seed);
     }
 
@@ -337,7 +365,7 @@ public final class DiffusionModel {
      */
     public Denoising denoise(Table readings, DenoisingOptions how, long seed) {
         Require.notNull("how", how);
-        checkComplete(readings);
+        checkComplete(readings, "readings");
         return Denoiser.denoise(engine, readings, how, seed);
     }
 
@@ -360,7 +388,7 @@ public final class DiffusionModel {
     public StepPlan planSteps(Table heldOut, double tolerance, long seed, int... stepCounts) {
         Require.nonNegative("tolerance", tolerance);
         Require.notNull("stepCounts", stepCounts);
-        checkColumns(heldOut);
+        checkColumns(heldOut, "heldOut");
         int[] counts = stepCounts.length > 0 ? stepCounts
                 : IntStream.concat(Defaults.PLANNER_STEP_COUNTS.stream().mapToInt(Integer::intValue)
                         .filter(k -> k < steps()), IntStream.of(steps())).toArray();
@@ -388,8 +416,10 @@ public final class DiffusionModel {
      *
      * @param file the model file
      * @return the model
-     * @throws ModelFileException if the file is foreign, truncated, of an unknown version, missing
-     *     an entry, fails a checksum, or disagrees with its manifest
+     * @throws ModelFileException naming the part, if the file is foreign, truncated, of an unknown
+     *     version, holds an entry the format does not name or misses one, fails a checksum, holds a
+     *     field of the wrong type or past {@link Limits}, options the builder would refuse, or
+     *     disagrees with its manifest (a model file is read as untrusted input; see the README)
      * @throws IOException if the file cannot be read
      */
     public static DiffusionModel load(Path file) throws IOException {
@@ -399,30 +429,30 @@ public final class DiffusionModel {
 
     // ------------------------------------------------------------------ helpers
 
-    private void checkColumns(Table records) {
-        Require.notNull("records", records);
+    private void checkColumns(Table records, String name) {
+        Require.notNull(name, records);
         TableTransform t = transform();
         if (!records.names().equals(t.names()) || !records.kinds().equals(t.kinds())) {
-            throw new IllegalArgumentException("records have columns " + records.names() + " " + records.kinds()
+            throw new IllegalArgumentException(name + " have columns " + records.names() + " " + records.kinds()
                     + "; expected the training columns " + t.names() + " " + t.kinds());
         }
     }
 
     /** Refuses a column mismatch, an empty table and the first missing cell (row and column named). */
-    private void checkComplete(Table records) {
-        checkColumns(records);
+    private void checkComplete(Table records, String name) {
+        checkColumns(records, name);
         if (records.hasMissing()) {
             for (int i = 0; i < records.rows(); i++) {
                 for (int j = 0; j < records.columns(); j++) {
                     if (Double.isNaN(records.get(i, j))) {
-                        throw new IllegalArgumentException("row " + i + ", column '" + records.name(j)
+                        throw new IllegalArgumentException(name + ": row " + i + ", column '" + records.name(j)
                                 + "' is missing; this needs complete records (impute them first)");
                     }
                 }
             }
         }
         if (records.rows() == 0) {
-            throw new IllegalArgumentException("records has 0 rows; expected at least 1");
+            throw new IllegalArgumentException(name + " has 0 rows; expected at least 1");
         }
     }
 

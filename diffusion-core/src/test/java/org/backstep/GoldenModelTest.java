@@ -2,6 +2,7 @@ package org.backstep;
 
 import org.backstep.internal.store.ModelFile;
 import org.backstep.internal.chain.Estimator;
+import org.backstep.internal.chain.ModelRange;
 import org.backstep.option.FitOptions;
 import org.backstep.report.BoundReport;
 import org.backstep.training.Provenance;
@@ -45,8 +46,8 @@ import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 /**
- * A model saved by release 0.1.0 in model-file format version 1 (test resources golden/, see the
- * README.md there) must still load and give the same numbers: the exact bounds of fixed records
+ * A model saved in each model-file format version, 1 to 3 (test resources golden/, see the
+ * README.md there), must still load and give the same numbers: the exact bounds of fixed records
  * for a fixed seed, and samples for a fixed seed. {@link #regenerateGoldenFiles()} made the files;
  * it runs only with {@code -Dbackstep.regenerateGolden=true}.
  */
@@ -93,17 +94,17 @@ class GoldenModelTest {
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
     @ParameterizedTest(name = "format version {0}")
-    @ValueSource(ints = {1, 2})
+    @ValueSource(ints = {1, 2, 3})
     void goldenModelStillLoadsAndGivesTheSameNumbers(int version) throws Exception {
         String MODEL = model(version);
         String TRAINING = training(version);
         JsonNode expected = JSON.readTree(resource(expected(version)));
         Path file = Path.of(resource(MODEL).toURI());
 
-        // the container: the three entries of format version 1 (ModelFile's Javadoc)
+        // the container: the three entries of every format version (ModelFile's Javadoc)
         assertEquals(new TreeSet<>(List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS, ModelFile.SUMS)), zipEntries(file),
                 "entries of the golden file");
-        assertEquals(2, ModelFile.VERSION, "this test pins format versions 1 and 2; add a golden file for a new version");
+        assertEquals(3, ModelFile.VERSION, "this test pins format versions 1 to 3; add a golden file for a new version");
         assertTrue(ModelFile.OLDEST_VERSION <= version, "version " + version + " must still load");
         assertEquals(version, expected.path("formatVersion").asInt());
 
@@ -157,6 +158,18 @@ class GoldenModelTest {
         assertClose(doubles(expected.path("boundNatsOriginalUnits")), bound.natsOriginalUnits(), "bound, nats, original units");
         assertClose(doubles(expected.path("perStepMean")), bound.perStepMean(), "per-step mean bound terms");
 
+        // the range sampled rows are checked against: measured on the training rows from version 3
+        // on, Samuelson's bound +-sqrt(n - 1) of the n training rows before (Samuelson 1968)
+        ModelRange range = model.parts().range();
+        if (version >= 3) {
+            assertEquals(ModelRange.TRAINING_ROWS, range.basis());
+            assertArrayEquals(doubles(expected.path("trainingRange").path("min")), range.min(), "training range, min");
+            assertArrayEquals(doubles(expected.path("trainingRange").path("max")), range.max(), "training range, max");
+        } else {
+            assertEquals(-Math.sqrt(p.trainingRows() - 1.0), range.min()[0], "Samuelson bound");
+            assertEquals(Math.sqrt(p.trainingRows() - 1.0), range.max()[1], "Samuelson bound");
+        }
+
         Table samples = model.sample(expected.path("sampleCount").asInt(), expected.path("sampleSeed").asLong());
         JsonNode es = expected.path("samples");
         assertEquals(es.size(), samples.rows());
@@ -166,7 +179,7 @@ class GoldenModelTest {
     }
 
     @ParameterizedTest(name = "format version {0}")
-    @ValueSource(ints = {1, 2})
+    @ValueSource(ints = {1, 2, 3})
     void goldenFiguresHoldForADoublePrecisionNetwork(int version) throws Exception {
         String EXPECTED = expected(version);
         String MODEL = model(version);
@@ -269,6 +282,9 @@ class GoldenModelTest {
         putArray(root, "boundNats", bound.nats());
         putArray(root, "boundNatsOriginalUnits", bound.natsOriginalUnits());
         putArray(root, "perStepMean", bound.perStepMean());
+        ObjectNode trainingRange = root.putObject("trainingRange");
+        putArray(trainingRange, "min", model.parts().range().min());
+        putArray(trainingRange, "max", model.parts().range().max());
         root.put("sampleSeed", SAMPLE_SEED);
         root.put("sampleCount", SAMPLE_COUNT);
         ArrayNode s = root.putArray("samples");

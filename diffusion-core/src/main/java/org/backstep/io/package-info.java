@@ -1,5 +1,5 @@
 /**
  * File support shared by the rest of the library: atomic writes that leave an existing file
- * untouched on failure.
+ * untouched on failure, the model file's exception, and typed reads of untrusted JSON.
  */
 package org.backstep.io;

@@ -18,7 +18,7 @@ import org.backstep.schedule.Require;
  *
  * @param sampled false for the exact bound, true for the Monte Carlo estimate
  * @param steps exact only: steps of the strided chain, 1..T; 0 means all T steps
- * @param draws Monte Carlo only: K, at least 1 (0 for the exact bound)
+ * @param draws Monte Carlo only: K, from 1 to {@link Limits#MAX_DRAWS} (0 for the exact bound)
  */
 public record BoundOptions(boolean sampled, int steps, int draws) {
 
@@ -26,7 +26,7 @@ public record BoundOptions(boolean sampled, int steps, int draws) {
     public BoundOptions {
         Require.atLeast("steps", steps, 0);
         if (sampled) {
-            Require.atLeast("draws", draws, 1);
+            Limits.checkDraws("draws", draws);
             if (steps != 0) {
                 throw new IllegalArgumentException("steps is " + steps
                         + "; the Monte Carlo bound runs on the full chain (steps 0)");
@@ -51,11 +51,11 @@ public record BoundOptions(boolean sampled, int steps, int draws) {
     }
 
     /**
-     * @param draws K, the steps drawn per record, at least 1
+     * @param draws K, the steps drawn per record, from 1 to {@link Limits#MAX_DRAWS}
      * @return the Monte Carlo estimate with K draws
      */
     public static BoundOptions sampled(int draws) {
-        Require.atLeast("draws", draws, 1);
+        Limits.checkDraws("draws", draws);
         return new BoundOptions(true, 0, draws);
     }
 }

@@ -15,7 +15,7 @@ import java.util.Arrays;
  * @param noiseSd the noise standard deviation of each column in original units, in the table's
  *     column order: above 0 and finite for every diffused continuous column (checked by the model,
  *     which knows the columns), other entries ignored; copied in and out
- * @param draws k, at least 1
+ * @param draws k, from 1 to {@link Limits#MAX_DRAWS}
  * @param steps the most steps of the chain, at least 1
  */
 public record DenoisingOptions(double[] noiseSd, int draws, int steps) {
@@ -25,7 +25,7 @@ public record DenoisingOptions(double[] noiseSd, int draws, int steps) {
         Require.notNull("noiseSd", noiseSd);
         Require.atLeast("number of noiseSd entries", noiseSd.length, 1);
         noiseSd = noiseSd.clone();
-        Require.atLeast("draws", draws, 1);
+        Limits.checkDraws("draws", draws);
         Require.atLeast("steps", steps, 1);
     }
 
@@ -35,7 +35,7 @@ public record DenoisingOptions(double[] noiseSd, int draws, int steps) {
         return noiseSd.clone();
     }
 
-    /** @param value k, at least 1 @return a copy with this many draws */
+    /** @param value k, from 1 to {@link Limits#MAX_DRAWS} @return a copy with this many draws */
     public DenoisingOptions withDraws(int value) {
         return new DenoisingOptions(noiseSd, value, steps);
     }

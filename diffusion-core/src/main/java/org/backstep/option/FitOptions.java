@@ -2,13 +2,16 @@ package org.backstep.option;
 
 
 import org.backstep.schedule.NoiseSchedule;
+import org.backstep.schedule.Require;
 
 import java.util.Arrays;
 import java.util.Set;
 
 /**
- * Every option of a fit, immutable, as {@code org.backstep.Backstep.Builder} validated it; kept in the fitted
- * model's provenance. See {@code org.backstep.Defaults} for each default.
+ * Every option of a fit, immutable and valid: the constructor is the one validation of the
+ * options, through which both {@code org.backstep.Backstep.Builder} and the model file's loader
+ * pass, so that a file can hold only options the builder accepts (each within {@link Limits}).
+ * Kept in the fitted model's provenance. See {@code org.backstep.Defaults} for each default.
  *
  * @param continuousSchedule the schedule of the continuous columns (T steps)
  * @param binarySchedule the schedule of the binary columns (the same T)
@@ -46,10 +49,101 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                          double checkpointFraction, int evaluateEvery, int evaluations, int checkpointDraws, int patience,
                          Set<String> logColumns, long seed, int threads) {
 
-    /** Copies the arrays and sets. */
+    /**
+     * Validates every option and copies the arrays and sets.
+     *
+     * @throws IllegalArgumentException naming the first bad option, its value and what was expected
+     */
     public FitOptions {
+        Require.notNull("continuousSchedule", continuousSchedule);
+        Require.notNull("binarySchedule", binarySchedule);
+        checkSchedule("continuousSchedule", continuousSchedule);
+        checkSchedule("binarySchedule", binarySchedule);
+        if (binarySchedule.steps() != continuousSchedule.steps()) {
+            throw new IllegalArgumentException("binarySchedule has " + binarySchedule.steps() + " steps and continuousSchedule "
+                    + continuousSchedule.steps() + "; both kinds are diffused at the same t, so T must agree");
+        }
+        if (continuousSchedule.beta(continuousSchedule.steps()) >= 1.0) {
+            throw new IllegalArgumentException("continuousSchedule's last beta is 1; a Gaussian chain needs every beta "
+                    + "below 1 (a beta of 1 is for the binomial schedule of binary columns)");
+        }
+        Require.notNull("hidden", hidden);
         hidden = hidden.clone();
+        Require.inRange("number of hidden layers", hidden.length, 1, Limits.MAX_HIDDEN_LAYERS);
+        for (int i = 0; i < hidden.length; i++) {
+            Require.inRange("hidden[" + i + "]", hidden[i], 1, Limits.MAX_HIDDEN_WIDTH);
+        }
+        Require.inRange("embeddingSize", embeddingSize, 2, Limits.MAX_EMBEDDING_SIZE);
+        if (embeddingSize % 2 != 0) {
+            throw new IllegalArgumentException("embeddingSize is " + embeddingSize + "; expected an even number");
+        }
+        long table = (long) continuousSchedule.steps() * embeddingSize;
+        if (table > Limits.MAX_PARAMETERS) {
+            throw new IllegalArgumentException("steps x embeddingSize is " + continuousSchedule.steps() + " x " + embeddingSize
+                    + " = " + table + " values of the step embedding table; the limit is " + Limits.MAX_PARAMETERS
+                    + " (Limits.MAX_PARAMETERS)");
+        }
+        Require.notNull("stepInput", stepInput);
+        Require.notNull("variance", variance);
+        Require.notNull("loss", loss);
+        if (loss == TrainingLoss.HYBRID && variance != ReverseVariance.LEARNED) {
+            throw new IllegalArgumentException("loss is HYBRID but variance is " + variance
+                    + "; the hybrid loss trains learned variances (choose variance LEARNED or loss SIMPLE)");
+        }
+        if (loss == TrainingLoss.SIMPLE && variance == ReverseVariance.LEARNED) {
+            throw new IllegalArgumentException("loss is SIMPLE but variance is LEARNED; the simple loss does not train "
+                    + "variances (choose loss HYBRID or BOUND, or a fixed variance)");
+        }
+        Require.positive("hybridWeight", hybridWeight);
+        Require.notNull("stepSampling", stepSampling);
+        Require.positive("learningRate", learningRate);
+        Require.notNull("learningRateSchedule", learningRateSchedule);
+        checkMoment("adam beta1", adamBeta1);
+        checkMoment("adam beta2", adamBeta2);
+        Require.positive("adam epsilon", adamEpsilon);
+        Require.nonNegative("weightDecay", weightDecay);
+        checkMoment("emaDecay", emaDecay);
+        Require.atLeast("batchSize", batchSize, 1);
+        Require.atLeast("trainingSteps", trainingSteps, 1);
+        Require.atLeast("evaluations", evaluations, 1);
+        if (epochs != 0) {
+            Require.atLeast("epochs", epochs, 1);
+        }
+        Require.inClosed("checkpointFraction", checkpointFraction, 0.0, 0.9);
+        if (evaluateEvery != 0) {
+            Require.atLeast("evaluateEvery", evaluateEvery, 1);
+        }
+        Limits.checkDraws("checkpointDraws", checkpointDraws);
+        Require.atLeast("patience", patience, 0);
+        Require.notNull("logColumns", logColumns);
+        for (String name : logColumns) {
+            if (name == null || name.isBlank()) {
+                throw new IllegalArgumentException("logColumns holds " + (name == null ? "null" : "a blank name")
+                        + "; expected column names");
+            }
+        }
         logColumns = Set.copyOf(logColumns);
+        Require.inRange("threads", threads, 1, Limits.MAX_THREADS);
+    }
+
+    /** A training schedule: full (not strided), T within the limit, every beta at least {@link Limits#MIN_BETA}. */
+    private static void checkSchedule(String name, NoiseSchedule s) {
+        if (s.isStrided()) {
+            throw new IllegalArgumentException(name + " is strided; train on a full schedule and stride it for sampling");
+        }
+        Require.inRange("steps of " + name, s.steps(), 1, Limits.MAX_STEPS);
+        for (int t = 1; t <= s.steps(); t++) {
+            if (!(s.beta(t) >= Limits.MIN_BETA)) {
+                throw new IllegalArgumentException(name + " beta at step " + t + " is " + s.beta(t)
+                        + "; expected at least " + Limits.MIN_BETA + " (Limits.MIN_BETA)");
+            }
+        }
+    }
+
+    private static void checkMoment(String name, double value) {
+        if (!(value >= 0.0 && value < 1.0)) {
+            throw new IllegalArgumentException(name + " is " + value + "; expected a number in [0, 1)");
+        }
     }
 
     /** @return a copy of the hidden widths */

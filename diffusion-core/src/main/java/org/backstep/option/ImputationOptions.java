@@ -15,7 +15,7 @@ import org.backstep.schedule.Require;
  * <p>An interval from k draws covers about level (k - 1)/(k + 1) of the truth even when the
  * draws are exact (see {@code org.backstep.report.Imputation#expectedCoverage()}).
  *
- * @param draws k, at least 1
+ * @param draws k, from 1 to {@link Limits#MAX_DRAWS}
  * @param level the central interval's coverage, in (0, 1)
  * @param steps the most steps of the chain, at least 1 (the model's T if smaller)
  * @param rounds resampling rounds per step, at least 1 (1 is no resampling)
@@ -25,14 +25,14 @@ public record ImputationOptions(int draws, double level, int steps, int rounds, 
 
     /** Validates every field; the message names the field. */
     public ImputationOptions {
-        Require.atLeast("draws", draws, 1);
+        Limits.checkDraws("draws", draws);
         Require.inOpen("level", level, 0.0, 1.0);
         Require.atLeast("steps", steps, 1);
         Require.atLeast("rounds", rounds, 1);
         Require.notNull("method", method);
     }
 
-    /** @param value k, at least 1 @return a copy with this many draws */
+    /** @param value k, from 1 to {@link Limits#MAX_DRAWS} @return a copy with this many draws */
     public ImputationOptions withDraws(int value) {
         return new ImputationOptions(value, level, steps, rounds, method);
     }

@@ -47,12 +47,13 @@ public final class TrainingBudget {
     /**
      * A wall-clock time of minibatch updates per model: not deterministic (see the class comment).
      *
-     * @param time above zero
+     * @param wallClock the time, above zero
      * @return the budget
-     * @throws IllegalArgumentException if {@code time} is null, zero or negative
+     * @throws IllegalArgumentException if {@code wallClock} is null, zero or negative
      */
-    public static TrainingBudget wallClock(Duration time) {
-        Require.notNull("wallClock", time);
+    public static TrainingBudget wallClock(Duration wallClock) {
+        Require.notNull("wallClock", wallClock);
+        Duration time = wallClock;
         if (time.isZero() || time.isNegative()) {
             throw new IllegalArgumentException("wallClock is " + time + "; expected a duration above zero");
         }

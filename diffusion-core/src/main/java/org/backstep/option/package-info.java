@@ -1,5 +1,6 @@
 /**
- * The builder's choices as values: {@code FitOptions} (every option of a fit), {@code TrainingBudget},
+ * The builder's choices as values: {@code FitOptions} (every option of a fit, validated once for
+ * builder and model file alike), {@code Limits} (the one set of limits), {@code TrainingBudget},
  * and the enums and records that name a variance, loss, step sampling, schedule family,
  * learning-rate schedule or sampler.
  */

@@ -132,6 +132,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart boundBreakdown(BoundReport report) {
+        Require.notNull("report", report);
         double[] per = report.perStepMean();
         if (per.length == 0) {
             throw new IllegalArgumentException("report is a Monte Carlo estimate; the breakdown needs the exact bound");
@@ -200,6 +201,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart trainingHistory(List<EpochRecord> history) {
+        Require.notNull("history", history);
         Require.atLeast("epochs in history", history.size(), 1);
         XYChart c = chart("Training history", "epoch", "training loss (per cell)");
         c.setYAxisGroupTitle(1, "checkpoint rows' bound, nats per record");
@@ -260,6 +262,7 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart scoreHistogram(double[] scores, double threshold, int bins) {
+        Require.notNull("scores", scores);
         Require.atLeast("scores", scores.length, 1);
         Require.atLeast("bins", bins, 2);
         double lo = Math.min(threshold, java.util.Arrays.stream(scores).min().orElseThrow());
@@ -299,6 +302,10 @@ public final class Charts {
      * @return the chart
      */
     public static XYChart pairPlot(Table samples, Table heldOut, String xColumn, String yColumn) {
+        Require.notNull("samples", samples);
+        Require.notNull("heldOut", heldOut);
+        Require.notNull("xColumn", xColumn);
+        Require.notNull("yColumn", yColumn);
         XYChart c = chart("Samples against held-out rows", xColumn, yColumn);
         c.getStyler().setDefaultSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
         c.getStyler().setMarkerSize(4);
@@ -333,18 +340,25 @@ public final class Charts {
      *
      * @param plan the planner's findings
      * @return the chart
+     * @throws IllegalArgumentException if no step count has a cost
      */
     public static XYChart stepPlan(StepPlan plan) {
+        Require.notNull("plan", plan);
+        // step counts whose chain left the float range have no cost and are left out
+        List<StepPlan.Row> rows = plan.rows().stream().filter(r -> Double.isFinite(r.millisPer1000())).toList();
+        if (rows.isEmpty()) {
+            throw new IllegalArgumentException("no step count of the plan has a cost: every chain left the float range");
+        }
         XYChart c = chart("Sampling step count K: quality against cost", "milliseconds per 1,000 samples",
                 "held-out bound, nats per dimension");
-        double[] x = plan.rows().stream().mapToDouble(StepPlan.Row::millisPer1000).toArray();
-        double[] y = plan.rows().stream().mapToDouble(StepPlan.Row::boundNatsPerDimension).toArray();
+        double[] x = rows.stream().mapToDouble(StepPlan.Row::millisPer1000).toArray();
+        double[] y = rows.stream().mapToDouble(StepPlan.Row::boundNatsPerDimension).toArray();
         c.getStyler().setXAxisLogarithmic(logarithmicKeepsLabels(x));
         c.getStyler().setMarkerSize(9);
-        StepPlan.Row pick = plan.rows().stream().filter(r -> r.steps() == plan.recommended()).findFirst().orElseThrow();
+        StepPlan.Row pick = rows.stream().filter(r -> r.steps() == plan.recommended()).findFirst().orElse(rows.get(0));
         List<Double> ox = new ArrayList<>();
         List<Double> oy = new ArrayList<>();
-        for (StepPlan.Row r : plan.rows()) {
+        for (StepPlan.Row r : rows) {
             if (r != pick) {
                 ox.add(r.millisPer1000());
                 oy.add(r.boundNatsPerDimension());
@@ -359,7 +373,7 @@ public final class Charts {
                 new double[] {pick.boundNatsPerDimension()});
         mark.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Scatter);
         mark.setMarker(SeriesMarkers.DIAMOND);
-        label(c, plan.rows().stream().map(r -> r.steps() + " steps").toList(), x, y, new double[x.length]);
+        label(c, rows.stream().map(r -> r.steps() + " steps").toList(), x, y, new double[x.length]);
         return c;
     }
 

@@ -20,6 +20,8 @@ public final class SampleQuality {
      * @return D per column
      */
     public static double[] kolmogorovSmirnov(double[][] a, double[][] b) {
+        Require.notNull("a", a);
+        Require.notNull("b", b);
         Require.atLeast("rows of a", a.length, 1);
         Require.atLeast("rows of b", b.length, 1);
         int d = a[0].length;
@@ -45,6 +47,8 @@ public final class SampleQuality {
      * @return the nearest distance of each row of {@code from}
      */
     public static double[] nearestDistances(double[][] from, double[][] to) {
+        Require.notNull("from", from);
+        Require.notNull("to", to);
         Require.atLeast("rows of to", to.length, 1);
         double[] out = new double[from.length];
         for (int i = 0; i < from.length; i++) {

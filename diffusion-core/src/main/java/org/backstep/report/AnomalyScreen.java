@@ -1,5 +1,7 @@
 package org.backstep.report;
 
+import org.backstep.schedule.Require;
+
 import org.backstep.table.Table;
 
 import java.util.List;
@@ -23,6 +25,8 @@ public record AnomalyScreen(double quantile, double threshold, double[] scores, 
 
     /** Copies the arrays. */
     public AnomalyScreen {
+        Require.notNull("scores", scores);
+        Require.notNull("flagged", flagged);
         scores = scores.clone();
         flagged = flagged.clone();
     }
@@ -44,6 +48,7 @@ public record AnomalyScreen(double quantile, double threshold, double[] scores, 
      * @return the flagged rows of that table
      */
     public Table flaggedRows(Table records) {
+        Require.notNull("records", records);
         return records.selectRows(flagged);
     }
 

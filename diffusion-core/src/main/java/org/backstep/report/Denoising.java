@@ -1,5 +1,7 @@
 package org.backstep.report;
 
+import org.backstep.schedule.Require;
+
 import org.backstep.table.Table;
 
 /**
@@ -14,4 +16,10 @@ import org.backstep.table.Table;
  * @param step the step of the training chain whose noise level the readings were placed at
  */
 public record Denoising(Table mean, Table standardDeviation, int draws, int step) {
+
+    /** Checks that both tables are present. */
+    public Denoising {
+        Require.notNull("mean", mean);
+        Require.notNull("standardDeviation", standardDeviation);
+    }
 }

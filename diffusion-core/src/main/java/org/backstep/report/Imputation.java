@@ -1,5 +1,7 @@
 package org.backstep.report;
 
+import org.backstep.schedule.Require;
+
 import org.backstep.table.Table;
 
 import java.util.List;
@@ -33,6 +35,10 @@ public record Imputation(List<Table> draws, Table mean, Table lower, Table upper
 
     /** Copies the list. */
     public Imputation {
+        Require.notNull("draws", draws);
+        Require.notNull("mean", mean);
+        Require.notNull("lower", lower);
+        Require.notNull("upper", upper);
         draws = List.copyOf(draws);
     }
 

@@ -75,11 +75,30 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
      * @param energyPValue its permutation p-value (NaN if the samples diverged)
      * @param maxKs the largest per-column Kolmogorov-Smirnov statistic (NaN if the samples diverged)
      * @param millisPer1000 milliseconds to draw 1,000 samples through all T steps (NaN if the samples diverged)
-     * @param samplesDiverged whether the sampling chain left the float range; such a model is not recommended
+     * @param samplesDiverged whether the sampling chain left the float range (then the sample figures are NaN)
+     * @param shareBeyond the share of its samples beyond the bound of {@link SampleCheck} (NaN if the chain
+     *     left the float range); a model with such samples, or whose chain left the float range, is not
+     *     recommended while another model is free of both
      */
     public record Row(int steps, long updates, double epochs, double trainingSeconds, double boundNatsPerDimension,
                       double boundStandardError, double energyDistance, double energyPValue, double maxKs,
-                      double millisPer1000, boolean samplesDiverged) {
+                      double millisPer1000, boolean samplesDiverged, double shareBeyond) {
+
+        /**
+         * A row whose samples were not checked against the training range: none beyond it, or NaN
+         * where the chain left the float range.
+         */
+        public Row(int steps, long updates, double epochs, double trainingSeconds, double boundNatsPerDimension,
+                   double boundStandardError, double energyDistance, double energyPValue, double maxKs,
+                   double millisPer1000, boolean samplesDiverged) {
+            this(steps, updates, epochs, trainingSeconds, boundNatsPerDimension, boundStandardError, energyDistance,
+                    energyPValue, maxKs, millisPer1000, samplesDiverged, samplesDiverged ? Double.NaN : 0.0);
+        }
+
+        /** @return whether some of its samples lay beyond the bound of {@link SampleCheck}: they diverge */
+        public boolean samplesBeyondBound() {
+            return shareBeyond > 0;
+        }
 
         /** Validates: a NaN stands only in the sample figures of a diverged model. */
         public Row {
@@ -94,6 +113,7 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
             }
             Require.nonNegative("boundStandardError", boundStandardError);
             if (!samplesDiverged) {
+                Require.inClosed("shareBeyond", shareBeyond, 0.0, 1.0);
                 Require.finite("energyDistance", energyDistance);
                 Require.inClosed("energyPValue", energyPValue, 0.0, 1.0);
                 Require.inClosed("maxKs", maxKs, 0.0, 1.0);
@@ -139,10 +159,13 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
             if (largest != pick) {
                 sb.append(String.format(Locale.ROOT, " against %.0f ms at T = %d", largest.millisPer1000(), largest.steps()));
             }
-            List<Row> diverged = rows.stream().filter(Row::samplesDiverged).toList();
+            List<Row> diverged = rows.stream().filter(r -> !eligible.contains(r)).toList();
             if (!diverged.isEmpty()) {
                 sb.append("; passed over T = ").append(diverged.stream().map(r -> Integer.toString(r.steps()))
                         .collect(Collectors.joining(", "))).append(", whose sampling chains diverged");
+            }
+            if (eligible.stream().allMatch(Row::samplesBeyondBound)) {
+                sb.append("; the samples of every model lay beyond the training range, so this rests on the bound alone");
             }
         } else {
             sb.append("; every model's sampling chain diverged, so this rests on the bound alone");
@@ -150,14 +173,23 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
         return sb.append('.').toString();
     }
 
+    /**
+     * The models a recommendation may pick: those whose samples neither left the float range nor
+     * lay beyond the training range; if there are none, those whose samples stayed finite; if
+     * there are none either, all.
+     */
     private List<Row> eligible() {
         List<Row> finite = new ArrayList<>();
+        List<Row> sound = new ArrayList<>();
         for (Row r : rows) {
             if (!r.samplesDiverged()) {
                 finite.add(r);
+                if (!r.samplesBeyondBound()) {
+                    sound.add(r);
+                }
             }
         }
-        return finite.isEmpty() ? rows : finite;
+        return !sound.isEmpty() ? sound : !finite.isEmpty() ? finite : rows;
     }
 
     private static Row best(List<Row> rows) {
@@ -174,12 +206,14 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
     public String toCsv() {
         int pick = recommended();
         StringBuilder sb = new StringBuilder("steps,updates,epochs,training_seconds,bound_nats_per_dim,"
-                + "bound_standard_error,energy_distance,energy_p_value,max_ks,ms_per_1000_samples,samples_diverged,recommended\n");
+                + "bound_standard_error,energy_distance,energy_p_value,max_ks,ms_per_1000_samples,samples_diverged,"
+                + "share_beyond_bound,recommended\n");
         for (Row r : rows) {
-            sb.append(String.format(Locale.ROOT, "%d,%d,%.2f,%.2f,%.6f,%.6f,%s,%s,%s,%s,%b,%b%n", r.steps(), r.updates(),
+            sb.append(String.format(Locale.ROOT, "%d,%d,%.2f,%.2f,%.6f,%.6f,%s,%s,%s,%s,%b,%s,%b%n", r.steps(), r.updates(),
                     r.epochs(), r.trainingSeconds(), r.boundNatsPerDimension(), r.boundStandardError(),
                     cell("%.6f", r.energyDistance()), cell("%.4f", r.energyPValue()), cell("%.4f", r.maxKs()),
-                    cell("%.1f", r.millisPer1000()), r.samplesDiverged(), r.steps() == pick));
+                    cell("%.1f", r.millisPer1000()), r.samplesDiverged(), cell("%.4f", r.shareBeyond()),
+                    r.steps() == pick));
         }
         return sb.toString();
     }
@@ -201,8 +235,10 @@ public record TrainingPlan(TrainingBudget budget, double tolerance, List<Row> ro
                     ? String.format(Locale.ROOT, "%9s %6s %7s %9s", "diverged", "-", "-", "-")
                     : String.format(Locale.ROOT, "%9.4f %6.3f %7.3f %9.1f", r.energyDistance(), r.energyPValue(),
                             r.maxKs(), r.millisPer1000());
-            sb.append(String.format(Locale.ROOT, "%6d %8d %8.1f %8.1f %14.4f %8.4f %s%s%n", r.steps(), r.updates(),
+            sb.append(String.format(Locale.ROOT, "%6d %8d %8.1f %8.1f %14.4f %8.4f %s%s%s%n", r.steps(), r.updates(),
                     r.epochs(), r.trainingSeconds(), r.boundNatsPerDimension(), r.boundStandardError(), quality,
+                    r.samplesBeyondBound() ? String.format(Locale.ROOT, "  %.1f%% of samples beyond the training range",
+                            100 * r.shareBeyond()) : "",
                     r.steps() == pick ? "  <- recommended" : ""));
         }
         sb.append(reason()).append('\n');

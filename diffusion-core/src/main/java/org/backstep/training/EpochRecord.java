@@ -1,5 +1,7 @@
 package org.backstep.training;
 
+import org.backstep.schedule.Require;
+
 import java.util.OptionalDouble;
 
 /**
@@ -12,4 +14,9 @@ import java.util.OptionalDouble;
  * @param seconds wall time since training started, at the end of this epoch
  */
 public record EpochRecord(int epoch, double loss, OptionalDouble checkpointBound, double seconds) {
+
+    /** Checks that the bound is present (empty where it was not evaluated). */
+    public EpochRecord {
+        Require.notNull("checkpointBound", checkpointBound);
+    }
 }

@@ -1,5 +1,7 @@
 package org.backstep.training;
 
+import org.backstep.schedule.Require;
+
 import org.backstep.option.FitOptions;
 
 import org.backstep.table.Table;
@@ -30,8 +32,16 @@ public record Provenance(String libraryVersion, String javaVersion, String os, S
                          double trainingSeconds, int tableRows, int trainingRows, int checkpointRows,
                          String tableSha256, List<EpochRecord> history, List<String> notes) {
 
-    /** Copies the lists. */
+    /** Checks that every part is present and copies the lists. */
     public Provenance {
+        Require.notNull("libraryVersion", libraryVersion);
+        Require.notNull("javaVersion", javaVersion);
+        Require.notNull("os", os);
+        Require.notNull("arch", arch);
+        Require.notNull("fittedAt", fittedAt);
+        Require.notNull("tableSha256", tableSha256);
+        Require.notNull("history", history);
+        Require.notNull("notes", notes);
         history = List.copyOf(history);
         notes = List.copyOf(notes);
     }

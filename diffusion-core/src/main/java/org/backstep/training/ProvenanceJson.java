@@ -4,7 +4,9 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.JsonNodeFactory;
 import com.fasterxml.jackson.databind.node.ObjectNode;
+import org.backstep.io.JsonFields;
 import org.backstep.io.ModelFileException;
+import org.backstep.schedule.Require;
 
 import java.util.ArrayList;
 import java.util.List;
@@ -22,6 +24,9 @@ import java.util.OptionalDouble;
  */
 public final class ProvenanceJson {
 
+    /** The most epochs of history, and notes, a provenance read from a file may hold. */
+    public static final int MAX_ENTRIES = 10_000_000;
+
     private ProvenanceJson() {
     }
 
@@ -30,6 +35,7 @@ public final class ProvenanceJson {
      * @return a new JSON object holding it
      */
     public static ObjectNode write(Provenance p) {
+        Require.notNull("p", p);
         ObjectNode prov = JsonNodeFactory.instance.objectNode();
         prov.put("libraryVersion", p.libraryVersion());
         prov.put("javaVersion", p.javaVersion());
@@ -57,32 +63,70 @@ public final class ProvenanceJson {
     }
 
     /**
-     * @param p a JSON object written by {@link #write} (or by format version 1)
+     * Reads strictly: every field must have its JSON type (a string where a string belongs, a
+     * whole number of 32 bits where a count belongs), counts must be at least 0, and lists may
+     * hold at most {@link #MAX_ENTRIES} entries.
+     *
+     * @param json a JSON object written by {@link #write} (or by format version 1)
      * @return the provenance
-     * @throws ModelFileException naming the missing field
+     * @throws ModelFileException naming the missing or mistyped field
+     * @throws IllegalArgumentException if {@code json} is null
      */
-    public static Provenance read(JsonNode p) throws ModelFileException {
+    public static Provenance read(JsonNode json) throws ModelFileException {
+        Require.notNull("json", json);
+        String where = "model.json provenance";
+        JsonNode p = JsonFields.object(json, where);
         List<EpochRecord> history = new ArrayList<>();
-        for (JsonNode h : field(p, "history")) {
+        JsonNode hist = JsonFields.array(JsonFields.field(p, "history", where), where + ".history", 0, MAX_ENTRIES);
+        for (int i = 0; i < hist.size(); i++) {
+            String at = where + ".history[" + i + "]";
+            JsonNode h = JsonFields.object(hist.get(i), at);
             JsonNode b = h.has("checkpointBound") ? h.get("checkpointBound") : h.get("heldOutBound");
-            OptionalDouble bound = b != null ? OptionalDouble.of(b.asDouble()) : OptionalDouble.empty();
-            history.add(new EpochRecord(h.path("epoch").asInt(), h.path("loss").asDouble(), bound,
-                    h.path("seconds").asDouble()));
+            OptionalDouble bound = b != null && !b.isNull() ? OptionalDouble.of(anyDouble(b, at + ".checkpointBound"))
+                    : OptionalDouble.empty();
+            history.add(new EpochRecord(JsonFields.int32(JsonFields.field(h, "epoch", at), at + ".epoch", 0, Integer.MAX_VALUE),
+                    anyDouble(JsonFields.field(h, "loss", at), at + ".loss"), bound,
+                    anyDouble(JsonFields.field(h, "seconds", at), at + ".seconds")));
         }
         List<String> notes = new ArrayList<>();
-        field(p, "notes").forEach(n -> notes.add(n.asText()));
-        JsonNode checkpoint = p.has("checkpointRows") ? p.get("checkpointRows") : field(p, "validationRows");
-        return new Provenance(field(p, "libraryVersion").asText(), field(p, "javaVersion").asText(),
-                field(p, "os").asText(), field(p, "arch").asText(), field(p, "fittedAt").asText(),
-                field(p, "trainingSeconds").asDouble(), field(p, "tableRows").asInt(), field(p, "trainingRows").asInt(),
-                checkpoint.asInt(), field(p, "tableSha256").asText(), history, notes);
+        JsonNode n = JsonFields.array(JsonFields.field(p, "notes", where), where + ".notes", 0, MAX_ENTRIES);
+        for (int i = 0; i < n.size(); i++) {
+            notes.add(JsonFields.text(n.get(i), where + ".notes[" + i + "]"));
+        }
+        String checkpointKey = p.has("checkpointRows") ? "checkpointRows" : "validationRows";
+        return new Provenance(text(p, "libraryVersion"), text(p, "javaVersion"), text(p, "os"), text(p, "arch"),
+                text(p, "fittedAt"), JsonFields.number(JsonFields.field(p, "trainingSeconds", where), where + ".trainingSeconds",
+                        0.0, Double.MAX_VALUE),
+                count(p, "tableRows"), count(p, "trainingRows"), count(p, checkpointKey), text(p, "tableSha256"), history,
+                notes);
     }
 
-    private static JsonNode field(JsonNode node, String name) throws ModelFileException {
-        JsonNode v = node.get(name);
-        if (v == null || v.isNull()) {
-            throw new ModelFileException("model.json provenance." + name, "missing");
+    private static String text(JsonNode p, String key) throws ModelFileException {
+        return JsonFields.text(JsonFields.field(p, key, "model.json provenance"), "model.json provenance." + key);
+    }
+
+    private static int count(JsonNode p, String key) throws ModelFileException {
+        return JsonFields.int32(JsonFields.field(p, key, "model.json provenance"), "model.json provenance." + key,
+                0, Integer.MAX_VALUE);
+    }
+
+    /**
+     * A number, or one of the strings Jackson writes for a double that is not finite ("NaN",
+     * "Infinity", "-Infinity"): a loss or a bound of a diverged run is recorded as it was.
+     */
+    private static double anyDouble(JsonNode v, String where) throws ModelFileException {
+        if (v != null && v.isTextual()) {
+            switch (v.textValue()) {
+                case "NaN": return Double.NaN;
+                case "Infinity": return Double.POSITIVE_INFINITY;
+                case "-Infinity": return Double.NEGATIVE_INFINITY;
+                default: break;
+            }
         }
-        return v;
+        if (v == null || !v.isNumber()) {
+            throw new ModelFileException(where, "expected a JSON number (or \"NaN\", \"Infinity\"), found "
+                    + (v == null ? "nothing" : v.getNodeType().toString().toLowerCase(java.util.Locale.ROOT)));
+        }
+        return v.doubleValue();
     }
 }

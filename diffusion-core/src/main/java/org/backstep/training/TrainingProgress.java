@@ -1,5 +1,7 @@
 package org.backstep.training;
 
+import org.backstep.schedule.Require;
+
 import java.util.OptionalDouble;
 
 /**
@@ -16,4 +18,9 @@ import java.util.OptionalDouble;
  */
 public record TrainingProgress(int epoch, int epochs, long step, long totalSteps, double loss,
                                OptionalDouble checkpointBound, double rowsPerSecond, double secondsLeft) {
+
+    /** Checks that the bound is present (empty before the first evaluation). */
+    public TrainingProgress {
+        Require.notNull("checkpointBound", checkpointBound);
+    }
 }

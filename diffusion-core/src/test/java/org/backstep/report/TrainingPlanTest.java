@@ -79,11 +79,11 @@ class TrainingPlanTest {
         assertEquals(text, plan.toString());
         String csv = String.join("\n",
                 "steps,updates,epochs,training_seconds,bound_nats_per_dim,bound_standard_error,energy_distance,"
-                        + "energy_p_value,max_ks,ms_per_1000_samples,samples_diverged,recommended",
-                "10,2000,57.10,12.30,1.500000,0.010000,0.012000,0.3500,0.0450,40.0,false,false",
-                "25,2000,57.10,12.30,1.310000,0.010000,0.012000,0.3500,0.0450,100.0,false,true",
-                "50,2000,57.10,12.30,1.300000,0.010000,,,,,true,false",
-                "100,2000,57.10,12.30,1.295000,0.010000,0.012000,0.3500,0.0450,400.0,false,false",
+                        + "energy_p_value,max_ks,ms_per_1000_samples,samples_diverged,share_beyond_bound,recommended",
+                "10,2000,57.10,12.30,1.500000,0.010000,0.012000,0.3500,0.0450,40.0,false,0.0000,false",
+                "25,2000,57.10,12.30,1.310000,0.010000,0.012000,0.3500,0.0450,100.0,false,0.0000,true",
+                "50,2000,57.10,12.30,1.300000,0.010000,,,,,true,,false",
+                "100,2000,57.10,12.30,1.295000,0.010000,0.012000,0.3500,0.0450,400.0,false,0.0000,false",
                 "");
         assertEquals(csv, plan.toCsv().replace(System.lineSeparator(), "\n"));
     }
@@ -117,5 +117,19 @@ class TrainingPlanTest {
     private static void assertMessage(String part, org.junit.jupiter.api.function.Executable e) {
         IllegalArgumentException x = assertThrows(IllegalArgumentException.class, e);
         assertTrue(x.getMessage().contains(part), "message '" + x.getMessage() + "' does not name " + part);
+    }
+
+    @Test
+    void modelsWhoseSamplesLieBeyondTheTrainingRangeArePassedOver() {
+        // common practice, no source: a model whose samples diverge is not recommended while another is sound
+        TrainingPlan.Row beyond = new TrainingPlan.Row(10, 2000, 57.1, 12.3, 1.2, 0.01, 0.5, 0.0, 0.9, 40, false, 0.3);
+        TrainingPlan plan = new TrainingPlan(BUDGET, 0.02, List.of(beyond, row(20, 1.3, 80)));
+        assertTrue(beyond.samplesBeyondBound());
+        assertEquals(20, plan.recommended());
+        assertTrue(plan.reason().contains("passed over T = 10"), plan.reason());
+        assertTrue(plan.toString().contains("30.0% of samples beyond the training range"), plan.toString());
+        TrainingPlan all = new TrainingPlan(BUDGET, 0.02, List.of(beyond));
+        assertEquals(10, all.recommended());
+        assertTrue(all.reason().contains("the samples of every model lay beyond the training range"), all.reason());
     }
 }

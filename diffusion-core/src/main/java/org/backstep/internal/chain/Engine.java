@@ -3,6 +3,8 @@ package org.backstep.internal.chain;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.SamplingPlan;
 import org.backstep.report.BoundReport;
+import org.backstep.report.CheckedSample;
+import org.backstep.report.SampleCheck;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
 
@@ -15,6 +17,8 @@ import org.backstep.table.TableTransform;
  * <p>Immutable and safe to share between threads.
  */
 public final class Engine {
+
+    private static final org.slf4j.Logger LOG = org.slf4j.LoggerFactory.getLogger(Engine.class);
 
     private final ModelParts parts;
     private final Chain chain;
@@ -67,7 +71,25 @@ public final class Engine {
      * @return rows x D
      */
     public float[] modelSpace(Table records) {
-        return toFloat(parts.transform().toModelSpace(records));
+        float[] x = toFloat(parts.transform().toModelSpace(records));
+        int d = chain.d;
+        for (int i = 0; i < x.length; i++) {
+            if (Float.isInfinite(x[i])) {
+                int row = i / d;
+                int col = modelColumn(i % d);
+                throw new IllegalArgumentException("row " + row + ", column '" + records.name(col) + "' is "
+                        + records.get(row, col) + ", which its transform " + parts.transform().transform(col)
+                        + " maps to " + parts.transform().toModelSpace(records.selectRows(new int[] {row}))[0][i % d]
+                        + " in model space, beyond the float32 range (about 3.4e38) the network computes in");
+            }
+        }
+        return x;
+    }
+
+    /** @return the table column of model-space column j (continuous columns first, then binary) */
+    private int modelColumn(int j) {
+        int[] cont = parts.transform().modelledContinuous();
+        return j < cont.length ? cont[j] : parts.transform().modelledBinary()[j - cont.length];
     }
 
     /**
@@ -94,21 +116,38 @@ public final class Engine {
     }
 
     /**
-     * Synthetic records drawn by the plan, chunk by chunk ({@link Parallel#fillChunks}).
+     * Synthetic records drawn by the plan, chunk by chunk ({@link Parallel#fillChunks}), checked
+     * against the training range in model space ({@link ModelRange#check}); if any row lies beyond
+     * the bound, a warning says how many.
      *
      * @param count how many, at least 1
      * @param plan the sampler, steps and eta
      * @param seed the seed
-     * @return the records in original units
+     * @return the records in original units and the check
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
-    public Table sample(int count, SamplingPlan plan, long seed) {
+    public CheckedSample sampleChecked(int count, SamplingPlan plan, long seed) {
         Chain c = chainOf(plan.steps());
         float[] all = Parallel.fillChunks(count, c.d, threads, seed, (from, n, rng, x) -> {
             c.drawPrior(x, n, rng);
             ReverseRun.run(c, x, n, c.steps, null, 1, plan.kind(), plan.eta(), rng);
         });
-        return parts.transform().fromModelSpace(toRows(all, count, c.d));
+        SampleCheck check = parts.range().check(all, count);
+        if (check.diverged()) {
+            LOG.warn("sampling with {} steps: {}", c.steps, check);
+        }
+        return new CheckedSample(parts.transform().fromModelSpace(toRows(all, count, c.d)), check);
+    }
+
+    /**
+     * @param count how many, at least 1
+     * @param plan the sampler, steps and eta
+     * @param seed the seed
+     * @return the records of {@link #sampleChecked} in original units
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Table sample(int count, SamplingPlan plan, long seed) {
+        return sampleChecked(count, plan, seed).table();
     }
 
     /**

@@ -2,6 +2,7 @@ package org.backstep.internal.chain;
 
 import org.backstep.internal.net.ReverseNetwork;
 import org.backstep.option.FitOptions;
+import org.backstep.option.Limits;
 import org.backstep.schedule.Require;
 import org.backstep.table.TableTransform;
 import org.backstep.training.Provenance;
@@ -16,26 +17,60 @@ import org.backstep.training.Provenance;
  * @param network the trained network; null where the estimator is a supplied closed form (tests)
  * @param estimator what the chain asks for predictions: the network, or a closed form
  * @param provenance how the model was made
+ * @param range the training rows' range in model space, which sampled rows are checked against
  */
 public record ModelParts(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
-                         Provenance provenance) {
+                         Provenance provenance, ModelRange range) {
 
-    /** Checks that every part but the network is present. */
+    /**
+     * Checks that every part but the network is present, that each column transform lies within
+     * {@link Limits} (the trainer and the model file's loader both build parts, so a model that
+     * trains also loads), and that the range has one entry per diffused column.
+     */
     public ModelParts {
         Require.notNull("options", options);
         Require.notNull("transform", transform);
         Require.notNull("estimator", estimator);
         Require.notNull("provenance", provenance);
+        Require.notNull("range", range);
+        for (int c = 0; c < transform.names().size(); c++) {
+            Limits.checkTransform(transform.names().get(c), transform.transform(c).shift(), transform.transform(c).scale());
+        }
+        int dc = transform.modelledContinuous().length;
+        int d = dc + transform.modelledBinary().length;
+        if (range.width() != d || range.continuous() != dc) {
+            throw new IllegalArgumentException("range covers " + range.width() + " model columns (" + range.continuous()
+                    + " continuous); the transform diffuses " + d + " (" + dc + " continuous)");
+        }
+    }
+
+    /**
+     * Parts whose range is not known: Samuelson's bound of the provenance's training rows (model
+     * files of format versions 1 and 2), or none where there were fewer than 2 (a supplied estimator).
+     */
+    public ModelParts(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
+                      Provenance provenance) {
+        this(options, transform, network, estimator, provenance, defaultRange(transform, provenance));
+    }
+
+    private static ModelRange defaultRange(TableTransform transform, Provenance provenance) {
+        Require.notNull("transform", transform);
+        Require.notNull("provenance", provenance);
+        int dc = transform.modelledContinuous().length;
+        int db = transform.modelledBinary().length;
+        return provenance.trainingRows() >= 2 ? ModelRange.samuelson(dc, db, provenance.trainingRows())
+                : ModelRange.none(dc, db);
     }
 
     /**
      * @param network a trained network
+     * @param range the training rows' range in model space
      * @return the parts of a model over that network
      */
     public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
-                                       Provenance provenance) {
+                                       Provenance provenance, ModelRange range) {
         Require.notNull("network", network);
-        return new ModelParts(options, transform, network, new NetworkEstimator(network), provenance);
+        return new ModelParts(options, transform, network, new NetworkEstimator(network), provenance, range);
     }
 
     /** @return the full reverse chain of these parts */

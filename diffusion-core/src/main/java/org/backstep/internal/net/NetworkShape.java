@@ -1,5 +1,6 @@
 package org.backstep.internal.net;
 
+import org.backstep.option.Limits;
 import org.backstep.option.StepInput;
 import java.util.Arrays;
 
@@ -38,6 +39,12 @@ public record NetworkShape(int inputs, int[] hidden, int outputs, int embeddingS
                     "embeddingSize is " + embeddingSize + "; expected an even number of at least 2");
         }
         Require.notNull("stepInput", stepInput);
+        long count = parameterCount(inputs, hidden, outputs, embeddingSize, stepInput);
+        if (count > Limits.MAX_PARAMETERS) {
+            throw new IllegalArgumentException("the network " + Arrays.toString(hidden) + " over " + inputs + " inputs and "
+                    + outputs + " outputs has " + count + " parameters; the limit is " + Limits.MAX_PARAMETERS
+                    + " (Limits.MAX_PARAMETERS)");
+        }
     }
 
     /** @return a copy of the hidden widths h_1..h_L */
@@ -85,9 +92,17 @@ public record NetworkShape(int inputs, int[] hidden, int outputs, int embeddingS
      * @return the parameter count
      */
     public long parameterCount() {
+        return parameterCount(inputs, hidden, outputs, embeddingSize, stepInput);
+    }
+
+    /** The count in long arithmetic, before the record exists (each term is below 2^63: ints times ints). */
+    private static long parameterCount(int inputs, int[] hidden, int outputs, int embeddingSize, StepInput stepInput) {
         long total = 0;
-        for (int j = 0; j < layerCount(); j++) {
-            total += (long) weightRows(j) * unitsOut(j);
+        for (int j = 0; j <= hidden.length; j++) {
+            long in = j == 0 ? inputs : hidden[j - 1];
+            long embedding = j == 0 || (stepInput == StepInput.EVERY_BLOCK && j < hidden.length) ? embeddingSize : 0;
+            long out = j == hidden.length ? outputs : hidden[j];
+            total += (in + embedding + 1) * out;
         }
         return total;
     }

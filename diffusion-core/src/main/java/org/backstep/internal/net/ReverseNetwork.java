@@ -1,5 +1,7 @@
 package org.backstep.internal.net;
 
+import org.backstep.option.Limits;
+
 import org.backstep.option.StepInput;
 import java.lang.ref.Reference;
 import java.nio.FloatBuffer;
@@ -150,6 +152,11 @@ public final class ReverseNetwork {
      * {@code w_k = exp(-ln(10000) k / (size/2))}; computed in double, stored in float.
      */
     static float[] embeddingTable(int steps, int size) {
+        Require.inRange("steps", steps, 1, Limits.MAX_STEPS);
+        if ((long) steps * size > Limits.MAX_PARAMETERS) {
+            throw new IllegalArgumentException("steps x embeddingSize is " + steps + " x " + size
+                    + " values of the step embedding table; the limit is " + Limits.MAX_PARAMETERS + " (Limits.MAX_PARAMETERS)");
+        }
         int half = size / 2;
         float[] table = new float[steps * size];
         for (int t = 1; t <= steps; t++) {

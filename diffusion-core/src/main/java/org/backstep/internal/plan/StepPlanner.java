@@ -12,6 +12,8 @@ import org.backstep.report.TrainingPlan;
 import org.backstep.training.TrainingListener;
 import org.backstep.training.TrainingProgress;
 import org.backstep.report.BoundReport;
+import org.backstep.report.CheckedSample;
+import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
 
 import org.backstep.quality.EnergyTest;
@@ -61,13 +63,23 @@ public final class StepPlanner {
         warmUp(model, held.rows(), SamplingPlan.ancestral(ks[0]), seed);
         for (int k : ks) {
             BoundReport bound = model.bound(held, BoundOptions.exactStrided(k), seed);
-            Quality q = Quality.measure(model, held.rows(), heldModel, SamplingPlan.ancestral(k), seed + k, seed);
-            rows.add(new StepPlan.Row(k, bound.meanNats() / bound.dimensions(), q.energyDistance(),
-                    q.pValue(), q.maxKs(), q.millisPer1000()));
+            double perDimension = bound.meanNats() / bound.dimensions();
+            Quality q;
+            try {
+                q = Quality.measure(model, held.rows(), heldModel, SamplingPlan.ancestral(k), seed + k, seed);
+            } catch (IllegalStateException e) {     // the chain left the float range (ReverseRun)
+                LOG.info("step plan: the sampling chain of {} steps diverged: {}", k, e.getMessage());
+                rows.add(new StepPlan.Row(k, perDimension, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true, Double.NaN));
+                continue;
+            }
+            rows.add(new StepPlan.Row(k, perDimension, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(),
+                    q.check().diverged(), q.check().shareBeyond()));
         }
-        StepPlan.Row best = rows.stream().min((a, b) -> Double.compare(a.boundNatsPerDimension(), b.boundNatsPerDimension()))
+        List<StepPlan.Row> usable = rows.stream().filter(r -> !r.samplesDiverged()).toList();
+        List<StepPlan.Row> candidates = usable.isEmpty() ? rows : usable;
+        StepPlan.Row best = candidates.stream().min((a, b) -> Double.compare(a.boundNatsPerDimension(), b.boundNatsPerDimension()))
                 .orElseThrow();
-        StepPlan.Row pick = rows.stream().filter(r -> r.boundNatsPerDimension() <= best.boundNatsPerDimension() + tolerance)
+        StepPlan.Row pick = candidates.stream().filter(r -> r.boundNatsPerDimension() <= best.boundNatsPerDimension() + tolerance)
                 .findFirst().orElse(best);
         StepPlan.Row largest = rows.get(rows.size() - 1);
         String reason = String.format(Locale.ROOT,
@@ -75,6 +87,13 @@ public final class StepPlanner {
                         + "and it draws 1,000 samples in %.0f ms against %.0f ms at %d steps.",
                 pick.steps(), pick.boundNatsPerDimension(), tolerance, best.boundNatsPerDimension(), best.steps(),
                 pick.millisPer1000(), largest.millisPer1000(), largest.steps());
+        if (usable.isEmpty()) {
+            reason += " The samples of every step count diverged, so this rests on the bound alone.";
+        } else if (usable.size() < rows.size()) {
+            reason += " Passed over " + rows.stream().filter(StepPlan.Row::samplesDiverged)
+                    .map(r -> Integer.toString(r.steps())).collect(java.util.stream.Collectors.joining(", "))
+                    + " steps, whose samples diverged.";
+        }
         return new StepPlan(rows, tolerance, pick.steps(), reason);
     }
 
@@ -163,7 +182,7 @@ public final class StepPlanner {
                     standardError, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true);
         }
         return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
-                standardError, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(), false);
+                standardError, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(), false, q.check().shareBeyond());
     }
 
     /** At most {@link #QUALITY_ROWS} rows of {@code table}, spread evenly over it. */
@@ -188,18 +207,22 @@ public final class StepPlanner {
      * held-out rows with its permutation p-value (Szekely &amp; Rizzo 2004), the largest per-column
      * two-sample Kolmogorov-Smirnov statistic, and the wall time per 1,000 samples.
      */
-    private record Quality(double energyDistance, double pValue, double maxKs, double millisPer1000) {
+    private record Quality(double energyDistance, double pValue, double maxKs, double millisPer1000, SampleCheck check) {
 
-        /** Draws and scores the samples; throws IllegalStateException if the chain diverges. */
+        /**
+         * Draws and scores the samples, with their check against the training range; throws
+         * IllegalStateException if the chain leaves the float range.
+         */
         static Quality measure(Engine model, int rows, double[][] heldModel, SamplingPlan plan,
                                long sampleSeed, long testSeed) {
             long start = System.nanoTime();
-            Table samples = model.sample(rows, plan, sampleSeed);
+            CheckedSample drawn = model.sampleChecked(rows, plan, sampleSeed);
             double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / rows;
+            Table samples = drawn.table();
             double[][] sampleModel = model.transform().toModelSpace(samples);
             EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, testSeed);
             double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
-            return new Quality(energy.energyDistance(), energy.pValue(), maxKs, millis);
+            return new Quality(energy.energyDistance(), energy.pValue(), maxKs, millis, drawn.check());
         }
     }
 

@@ -1,6 +1,12 @@
 package org.backstep.internal.store;
 
 import org.backstep.internal.chain.ModelParts;
+import org.backstep.internal.chain.ModelRange;
+import org.backstep.internal.chain.NetworkEstimator;
+import org.backstep.io.AtomicFiles;
+import org.backstep.io.JsonFields;
+import org.backstep.option.Limits;
+import org.backstep.schedule.Require;
 import org.backstep.io.ModelFileException;
 import org.backstep.training.ProvenanceJson;
 import org.backstep.option.FitOptions;
@@ -25,6 +31,7 @@ import org.backstep.table.ColumnTransform;
 import org.backstep.table.TableTransform;
 
 import java.io.ByteArrayOutputStream;
+import java.io.EOFException;
 import java.io.IOException;
 import java.io.InputStream;
 import java.nio.ByteBuffer;
@@ -47,21 +54,40 @@ import java.util.zip.ZipFile;
 import java.util.zip.ZipOutputStream;
 
 /**
- * The Backstep model file, format version 2 (version 1 still loads): a zip container of three entries.
+ * The Backstep model file, format version 3 (versions 1 and 2 still load): a zip container of
+ * exactly three entries.
  * <pre>
  *   model.json        the manifest: format name and version, every fit option, both schedules'
  *                     betas, the columns and their transforms, the network shape, the shape of
- *                     each array entry, and the provenance with the training history
+ *                     each array entry, the training rows' range in model space, and the
+ *                     provenance with the training history
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
- * Version 2 renamed the trainer's own split ("validation" became "checkpoint": checkpointFraction,
- * checkpointDraws, provenance checkpointRows and history checkpointBound), renamed where the step's
- * embedding enters the network ("conditioning" became "stepInput"), and added trainingSteps and
- * evaluations; a version 1 file is read with its old keys, and 4,000 and 20 for the two new
- * options, the values every version 1 release used.
- * No Java serialization. Saving writes a temporary file in the target's folder, syncs it, then
- * moves it over the target, so a failure leaves an existing file untouched.
+ * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
+ * the training rows in model space, continuous columns first), against which sampled rows are
+ * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
+ * its training rows instead (see {@code ModelRange}). Version 2 renamed the trainer's own split
+ * ("validation" became "checkpoint": checkpointFraction, checkpointDraws, provenance
+ * checkpointRows and history checkpointBound), renamed where the step's embedding enters the
+ * network ("conditioning" became "stepInput"), and added trainingSteps and evaluations; a version
+ * 1 file is read with its old keys, and 4,000 and 20 for the two new options, the values every
+ * version 1 release used.
+ *
+ * <p>A model file is untrusted input. Loading refuses, with a {@link ModelFileException} naming
+ * the part, before anything large is allocated: a zip entry the format does not name (refused
+ * unread), an entry that appears twice, an entry longer than its limit (read through a bounded
+ * stream, never on the word of its header), a manifest field of the wrong JSON type (never
+ * coerced; see {@link JsonFields}) or out of range, options the builder would refuse (they pass
+ * through the same validation, {@link FitOptions}'s constructor, within {@link Limits}), betas,
+ * shifts and scales that are not finite or lie outside {@link Limits}, and a network shape whose
+ * parameter count (long arithmetic) disagrees with the declared array shape or the weights' byte
+ * size. The network is built only after all of these agree. SHA256SUMS protects against damage,
+ * not against a crafted file: these checks are what protect against the latter.
+ *
+ * <p>No Java serialization. Saving writes a temporary file in the target's folder, syncs it, then
+ * moves it over the target, so a failure leaves an existing file untouched ({@link AtomicFiles},
+ * which also removes stale temporary files of the same target).
  *
  * <p>One file: saving and loading must agree on every key, and they are checked against each
  * other line by line.
@@ -69,16 +95,25 @@ import java.util.zip.ZipOutputStream;
 public final class ModelFile {
 
     public static final String FORMAT = "backstep-model";
-    public static final int VERSION = 2;
+    public static final int VERSION = 3;
     /** The oldest version this release reads. */
     public static final int OLDEST_VERSION = 1;
     public static final String MANIFEST = "model.json";
     public static final String WEIGHTS = "weights.f32";
     public static final String SUMS = "SHA256SUMS";
-    /** Largest entry accepted on load, checked before anything is allocated. */
-    static final long MAX_ENTRY_BYTES = 1L << 30;
-    /** Largest step count accepted on load. */
-    static final int MAX_STEPS = 1_000_000;
+    /** The entries of the format, the only ones a file may hold. */
+    public static final List<String> ENTRIES = List.of(MANIFEST, WEIGHTS, SUMS);
+    /**
+     * Largest manifest accepted on load: two schedules of {@link Limits#MAX_STEPS} betas at about
+     * 30 bytes each, indented, and a long training history fit well within it.
+     */
+    static final long MAX_MANIFEST_BYTES = 1L << 27;
+    /** Largest SHA256SUMS entry accepted on load (two lines are about 150 bytes). */
+    static final long MAX_SUMS_BYTES = 1L << 12;
+    /** Most entries the central directory may list before the file is refused unread. */
+    static final int MAX_ZIP_ENTRIES = 16;
+    /** The most columns a manifest may list (each is a network input or a carried constant). */
+    static final int MAX_COLUMNS = 1_000_000;
 
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
@@ -112,7 +147,7 @@ public final class ModelFile {
                 zip.closeEntry();
             }
         }
-        org.backstep.io.AtomicFiles.write(target, bytes.toByteArray());
+        AtomicFiles.write(target, bytes.toByteArray());
     }
 
     private static ObjectNode manifest(ModelParts model, int weightCount) {
@@ -176,6 +211,17 @@ public final class ModelFile {
         w.put("dtype", "float32-le");
         w.putArray("shape").add(weightCount);
 
+        if (model.range().basis().equals(ModelRange.TRAINING_ROWS)) {
+            ObjectNode range = root.putObject("trainingRange");
+            ArrayNode lo = range.putArray("min");
+            ArrayNode hi = range.putArray("max");
+            for (double v : model.range().min()) {
+                lo.add(v);
+            }
+            for (double v : model.range().max()) {
+                hi.add(v);
+            }
+        }
         root.set("provenance", ProvenanceJson.write(model.provenance()));
         return root;
     }
@@ -193,136 +239,16 @@ public final class ModelFile {
 
     // ------------------------------------------------------------------ load
 
+    /**
+     * Loads a model file, refusing it (see the class comment) before anything large is allocated.
+     *
+     * @param file the file
+     * @return the model's parts
+     * @throws ModelFileException naming the part that is wrong
+     * @throws IOException if the file cannot be read
+     */
     public static ModelParts load(Path file) throws IOException {
-        Map<String, byte[]> entries = readEntries(file);
-        for (String name : List.of(MANIFEST, WEIGHTS, SUMS)) {
-            if (!entries.containsKey(name)) {
-                throw new ModelFileException(name, "entry missing from " + file + " (entries present: " + entries.keySet() + ")");
-            }
-        }
-        checkSums(entries);
-        JsonNode root;
-        try {
-            root = JSON.readTree(entries.get(MANIFEST));
-        } catch (JsonProcessingException e) {
-            throw new ModelFileException(MANIFEST, "not valid JSON: " + e.getOriginalMessage(), e);
-        }
-        if (root == null || !FORMAT.equals(root.path("format").asText())) {
-            throw new ModelFileException(MANIFEST + " format", "expected \"" + FORMAT + "\", found " + root.path("format"));
-        }
-        int version = root.path("formatVersion").asInt(-1);
-        if (version < OLDEST_VERSION || version > VERSION) {
-            throw new ModelFileException(MANIFEST + " formatVersion", "version " + root.path("formatVersion")
-                    + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + VERSION);
-        }
-        try {
-            return fromManifest(root, entries.get(WEIGHTS), version);
-        } catch (IllegalArgumentException | NullPointerException e) {
-            throw new ModelFileException(MANIFEST, "inconsistent content: " + e.getMessage(), e);
-        }
-    }
-
-    private static ModelParts fromManifest(JsonNode root, byte[] weightBytes, int version) throws ModelFileException {
-        boolean v1 = version == 1;
-        JsonNode o = field(root, "options");
-        NoiseSchedule cont = readSchedule(field(o, "continuousSchedule"), "options.continuousSchedule");
-        NoiseSchedule bin = readSchedule(field(o, "binarySchedule"), "options.binarySchedule");
-        JsonNode hiddenNode = field(o, "hidden");
-        int[] hidden = new int[hiddenNode.size()];
-        for (int i = 0; i < hidden.length; i++) {
-            hidden[i] = hiddenNode.get(i).asInt();
-        }
-        Set<String> logs = new TreeSet<>();
-        field(o, "logColumns").forEach(n -> logs.add(n.asText()));
-        FitOptions options = new FitOptions(cont, bin, hidden, field(o, "embeddingSize").asInt(),
-                StepInput.valueOf(field(o, v1 ? "conditioning" : "stepInput").asText()),
-                ReverseVariance.valueOf(field(o, "variance").asText()),
-                TrainingLoss.valueOf(field(o, "loss").asText()), field(o, "hybridWeight").asDouble(),
-                StepSampling.valueOf(field(o, "stepSampling").asText()), field(o, "learningRate").asDouble(),
-                LearningRateSchedule.valueOf(field(o, "learningRateSchedule").asText()),
-                field(o, "adamBeta1").asDouble(), field(o, "adamBeta2").asDouble(), field(o, "adamEpsilon").asDouble(),
-                field(o, "weightDecay").asDouble(), field(o, "emaDecay").asDouble(), field(o, "batchSize").asInt(),
-                field(o, "epochs").asInt(), v1 ? 4000 : field(o, "trainingSteps").asInt(),
-                field(o, v1 ? "validationFraction" : "checkpointFraction").asDouble(),
-                field(o, "evaluateEvery").asInt(), v1 ? 20 : field(o, "evaluations").asInt(),
-                field(o, v1 ? "validationDraws" : "checkpointDraws").asInt(), field(o, "patience").asInt(),
-                logs, field(o, "seed").asLong(), field(o, "threads").asInt());
-
-        List<String> names = new ArrayList<>();
-        List<ColumnKind> kinds = new ArrayList<>();
-        List<ColumnTransform> transforms = new ArrayList<>();
-        for (JsonNode c : field(root, "columns")) {
-            names.add(field(c, "name").asText());
-            kinds.add(ColumnKind.valueOf(field(c, "kind").asText()));
-            transforms.add(new ColumnTransform(ColumnTransform.Kind.valueOf(field(c, "transform").asText()),
-                    field(c, "shift").asDouble(), field(c, "scale").asDouble()));
-        }
-        TableTransform transform = TableTransform.of(names, kinds, transforms);
-        int dc = transform.modelledContinuous().length;
-        int db = transform.modelledBinary().length;
-        int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
-        NetworkShape shape = new NetworkShape(dc + db, options.hidden(), outputs, options.embeddingSize(),
-                options.stepInput());
-        JsonNode net = field(root, "network");
-        if (net.path("inputs").asInt() != shape.inputs() || net.path("outputs").asInt() != shape.outputs()) {
-            throw new ModelFileException("network", "inputs/outputs " + net.path("inputs") + "/" + net.path("outputs")
-                    + " disagree with the columns and options, which give " + shape.inputs() + "/" + shape.outputs());
-        }
-        int steps = field(net, "steps").asInt();
-        if (steps != cont.steps()) {
-            throw new ModelFileException("network.steps", steps + " disagrees with the schedule's " + cont.steps());
-        }
-        long declared = field(net, "parameters").asLong();
-        long expected = ReverseNetwork.create(shape, steps, 0L).parameterCount();
-        JsonNode arr = field(root, "arrays").path(0);
-        long shapeCount = arr.path("shape").path(0).asLong(-1);
-        if (declared != expected || shapeCount != expected || !WEIGHTS.equals(arr.path("entry").asText())
-                || !"float32-le".equals(arr.path("dtype").asText())) {
-            throw new ModelFileException(WEIGHTS, "manifest declares " + declared + " parameters with shape ["
-                    + shapeCount + "]; the network shape needs " + expected);
-        }
-        if (weightBytes.length != expected * 4) {
-            throw new ModelFileException(WEIGHTS, "holds " + weightBytes.length + " bytes; the manifest's shape ["
-                    + expected + "] of float32 needs " + expected * 4);
-        }
-        float[] weights = bytesToFloats(weightBytes);
-        for (int i = 0; i < weights.length; i++) {
-            if (!Float.isFinite(weights[i])) {
-                throw new ModelFileException(WEIGHTS, "parameter " + i + " is " + weights[i] + "; expected a finite number");
-            }
-        }
-        ReverseNetwork network = ReverseNetwork.fromParameters(shape, steps, weights);
-
-        Provenance provenance = ProvenanceJson.read(field(root, "provenance"));
-        return ModelParts.ofNetwork(options, transform, network, provenance);
-    }
-
-    private static NoiseSchedule readSchedule(JsonNode node, String where) throws ModelFileException {
-        int steps = field(node, "steps").asInt();
-        if (steps < 1 || steps > MAX_STEPS) {
-            throw new ModelFileException(where + ".steps", steps + " is outside 1.." + MAX_STEPS);
-        }
-        JsonNode b = field(node, "betas");
-        if (b.size() != steps) {
-            throw new ModelFileException(where + ".betas", "has " + b.size() + " values; steps says " + steps);
-        }
-        double[] betas = new double[steps];
-        for (int i = 0; i < steps; i++) {
-            betas[i] = b.get(i).asDouble(Double.NaN);
-        }
-        return NoiseSchedule.of(NoiseSchedule.Kind.valueOf(field(node, "kind").asText()), betas, null);
-    }
-
-    private static JsonNode field(JsonNode node, String name) throws ModelFileException {
-        JsonNode v = node.get(name);
-        if (v == null || v.isNull()) {
-            throw new ModelFileException(MANIFEST + " " + name, "field missing");
-        }
-        return v;
-    }
-
-    private static Map<String, byte[]> readEntries(Path file) throws IOException {
-        Map<String, byte[]> entries = new LinkedHashMap<>();
+        Require.notNull("file", file);
         try (InputStream in = Files.newInputStream(file)) {
             byte[] magic = in.readNBytes(4);
             if (magic.length < 4 || magic[0] != 'P' || magic[1] != 'K' || magic[2] != 3 || magic[3] != 4) {
@@ -330,57 +256,307 @@ public final class ModelFile {
             }
         }
         try (ZipFile zip = new ZipFile(file.toFile())) {
-            java.util.Enumeration<? extends ZipEntry> all = zip.entries();
-            while (all.hasMoreElements()) {
-                ZipEntry e = all.nextElement();
-                String name = e.getName();
-                if (entries.containsKey(name)) {
-                    throw new ModelFileException(name, "entry appears twice");
-                }
-                if (e.getSize() < 0 || e.getSize() > MAX_ENTRY_BYTES) {
-                    throw new ModelFileException(name, "declares " + e.getSize() + " bytes; expected 0 to " + MAX_ENTRY_BYTES);
-                }
-                try (InputStream in = zip.getInputStream(e)) {
-                    byte[] data = in.readNBytes((int) e.getSize());
-                    if (data.length != e.getSize() || in.read() != -1) {
-                        throw new ModelFileException(name, "holds a different number of bytes than its declared " + e.getSize());
-                    }
-                    entries.put(name, data);
-                } catch (ZipException ex) {
-                    throw new ModelFileException(name, "entry is corrupt: " + ex.getMessage(), ex);
+            Map<String, ZipEntry> named = entries(zip, file);
+            Map<String, String> declared = readSums(read(zip, named.get(SUMS), MAX_SUMS_BYTES));
+            byte[] manifest = read(zip, named.get(MANIFEST), MAX_MANIFEST_BYTES);
+            checkSum(MANIFEST, manifest, declared);
+            JsonNode root;
+            try {
+                root = JSON.readTree(manifest);
+            } catch (JsonProcessingException e) {
+                throw new ModelFileException(MANIFEST, "not valid JSON: " + JsonFields.shorten(e.getOriginalMessage()), e);
+            }
+            JsonFields.object(root, MANIFEST);
+            if (!FORMAT.equals(JsonFields.text(JsonFields.field(root, "format", MANIFEST), MANIFEST + " format"))) {
+                throw new ModelFileException(MANIFEST + " format", "expected \"" + FORMAT + "\", found " + root.get("format"));
+            }
+            int version = JsonFields.int32(JsonFields.field(root, "formatVersion", MANIFEST), MANIFEST + " formatVersion",
+                    Integer.MIN_VALUE, Integer.MAX_VALUE);
+            if (version < OLDEST_VERSION || version > VERSION) {
+                throw new ModelFileException(MANIFEST + " formatVersion", "version " + version
+                        + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + VERSION);
+            }
+            Manifest m = readManifest(root, version);
+            long bytes = 4 * m.shape.parameterCount();
+            byte[] weightBytes = read(zip, named.get(WEIGHTS), bytes);
+            if (weightBytes.length != bytes) {
+                throw new ModelFileException(WEIGHTS, "holds " + weightBytes.length + " bytes; the manifest's shape ["
+                        + m.shape.parameterCount() + "] of float32 needs " + bytes);
+            }
+            checkSum(WEIGHTS, weightBytes, declared);
+            float[] weights = bytesToFloats(weightBytes);
+            for (int i = 0; i < weights.length; i++) {
+                if (!Float.isFinite(weights[i])) {
+                    throw new ModelFileException(WEIGHTS, "parameter " + i + " is " + weights[i] + "; expected a finite number");
                 }
             }
-        } catch (ZipException | java.io.EOFException e) {
+            try {
+                ReverseNetwork network = ReverseNetwork.fromParameters(m.shape, m.options.steps(), weights);
+                return m.range == null ? new ModelParts(m.options, m.transform, network, new NetworkEstimator(network),
+                        m.provenance) : ModelParts.ofNetwork(m.options, m.transform, network, m.provenance, m.range);
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(MANIFEST, "inconsistent content: " + e.getMessage(), e);
+            }
+        } catch (ZipException | EOFException e) {
             throw new ModelFileException("container", file + " is truncated or corrupt: " + e.getMessage(), e);
+        } catch (IllegalArgumentException | IllegalStateException | IndexOutOfBoundsException e) {
+            // what java.util.zip throws on some malformed headers (names that are not valid in their
+            // declared charset, offsets past the end)
+            throw new ModelFileException("container", file + " is corrupt: " + e, e);
         }
-        if (entries.isEmpty()) {
-            throw new ModelFileException("container", file + " holds no entries (truncated or foreign)");
-        }
-        return entries;
     }
 
-    private static void checkSums(Map<String, byte[]> entries) throws ModelFileException {
-        String sums = new String(entries.get(SUMS), StandardCharsets.UTF_8);
+    /** The manifest's content, every field checked; the network is not built yet. */
+    private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
+                            Provenance provenance) {
+    }
+
+    private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
+        boolean v1 = version == 1;
+        String opt = MANIFEST + " options";
+        JsonNode o = JsonFields.object(JsonFields.field(root, "options", MANIFEST), opt);
+        NoiseSchedule cont = readSchedule(JsonFields.field(o, "continuousSchedule", opt), opt + ".continuousSchedule");
+        NoiseSchedule bin = readSchedule(JsonFields.field(o, "binarySchedule", opt), opt + ".binarySchedule");
+        JsonNode hiddenNode = JsonFields.array(JsonFields.field(o, "hidden", opt), opt + ".hidden", 1, Limits.MAX_HIDDEN_LAYERS);
+        int[] hidden = new int[hiddenNode.size()];
+        for (int i = 0; i < hidden.length; i++) {
+            hidden[i] = JsonFields.int32(hiddenNode.get(i), opt + ".hidden[" + i + "]", 1, Limits.MAX_HIDDEN_WIDTH);
+        }
+        JsonNode logNode = JsonFields.array(JsonFields.field(o, "logColumns", opt), opt + ".logColumns", 0, MAX_COLUMNS);
+        Set<String> logs = new TreeSet<>();
+        for (int i = 0; i < logNode.size(); i++) {
+            logs.add(JsonFields.text(logNode.get(i), opt + ".logColumns[" + i + "]"));
+        }
+        FitOptions options;
+        try {
+            options = new FitOptions(cont, bin, hidden,
+                    int32(o, opt, "embeddingSize", 2, Limits.MAX_EMBEDDING_SIZE),
+                    JsonFields.constant(JsonFields.field(o, v1 ? "conditioning" : "stepInput", opt),
+                            opt + (v1 ? ".conditioning" : ".stepInput"), StepInput.class),
+                    constant(o, opt, "variance", ReverseVariance.class), constant(o, opt, "loss", TrainingLoss.class),
+                    number(o, opt, "hybridWeight"), constant(o, opt, "stepSampling", StepSampling.class),
+                    number(o, opt, "learningRate"), constant(o, opt, "learningRateSchedule", LearningRateSchedule.class),
+                    number(o, opt, "adamBeta1"), number(o, opt, "adamBeta2"), number(o, opt, "adamEpsilon"),
+                    number(o, opt, "weightDecay"), number(o, opt, "emaDecay"),
+                    int32(o, opt, "batchSize", 1, Integer.MAX_VALUE), int32(o, opt, "epochs", 0, Integer.MAX_VALUE),
+                    v1 ? 4000 : int32(o, opt, "trainingSteps", 1, Integer.MAX_VALUE),
+                    number(o, opt, v1 ? "validationFraction" : "checkpointFraction"),
+                    int32(o, opt, "evaluateEvery", 0, Integer.MAX_VALUE),
+                    v1 ? 20 : int32(o, opt, "evaluations", 1, Integer.MAX_VALUE),
+                    int32(o, opt, v1 ? "validationDraws" : "checkpointDraws", 1, Limits.MAX_DRAWS),
+                    int32(o, opt, "patience", 0, Integer.MAX_VALUE), logs,
+                    JsonFields.whole(JsonFields.field(o, "seed", opt), opt + ".seed", Long.MIN_VALUE, Long.MAX_VALUE),
+                    int32(o, opt, "threads", 1, Limits.MAX_THREADS));
+        } catch (IllegalArgumentException e) {
+            // the builder's own validation refused them
+            throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);
+        }
+
+        String cw = MANIFEST + " columns";
+        JsonNode columns = JsonFields.array(JsonFields.field(root, "columns", MANIFEST), cw, 1, MAX_COLUMNS);
+        List<String> names = new ArrayList<>();
+        List<ColumnKind> kinds = new ArrayList<>();
+        List<ColumnTransform> transforms = new ArrayList<>();
+        for (int c = 0; c < columns.size(); c++) {
+            String at = cw + "[" + c + "]";
+            JsonNode col = JsonFields.object(columns.get(c), at);
+            String name = JsonFields.text(JsonFields.field(col, "name", at), at + ".name");
+            names.add(name);
+            kinds.add(constant(col, at, "kind", ColumnKind.class));
+            ColumnTransform.Kind kind = constant(col, at, "transform", ColumnTransform.Kind.class);
+            double shift = JsonFields.number(JsonFields.field(col, "shift", at), at + ".shift", -Limits.MAX_SHIFT, Limits.MAX_SHIFT);
+            double scale = JsonFields.number(JsonFields.field(col, "scale", at), at + ".scale", Limits.MIN_SCALE, Limits.MAX_SCALE);
+            try {
+                transforms.add(new ColumnTransform(kind, shift, scale));
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(at, e.getMessage(), e);
+            }
+        }
+        TableTransform transform;
+        try {
+            transform = TableTransform.of(names, kinds, transforms);
+        } catch (IllegalArgumentException e) {
+            throw new ModelFileException(cw, e.getMessage(), e);
+        }
+        for (String log : options.logColumns()) {
+            if (!names.contains(log)) {
+                throw new ModelFileException(opt + ".logColumns", "names '" + JsonFields.shorten(log)
+                        + "', which is not one of the columns");
+            }
+        }
+        int dc = transform.modelledContinuous().length;
+        int db = transform.modelledBinary().length;
+        if (dc + db == 0) {
+            throw new ModelFileException(cw, "no column is diffused; a fitted model has at least one");
+        }
+        int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
+        NetworkShape shape;
+        try {
+            shape = new NetworkShape(dc + db, options.hidden(), outputs, options.embeddingSize(), options.stepInput());
+        } catch (IllegalArgumentException e) {
+            throw new ModelFileException("network", e.getMessage(), e);
+        }
+
+        String nw = MANIFEST + " network";
+        JsonNode net = JsonFields.object(JsonFields.field(root, "network", MANIFEST), nw);
+        long inputs = JsonFields.whole(JsonFields.field(net, "inputs", nw), nw + ".inputs", 1, Integer.MAX_VALUE);
+        long outs = JsonFields.whole(JsonFields.field(net, "outputs", nw), nw + ".outputs", 1, Integer.MAX_VALUE);
+        if (inputs != shape.inputs() || outs != shape.outputs()) {
+            throw new ModelFileException("network", "inputs/outputs " + inputs + "/" + outs
+                    + " disagree with the columns and options, which give " + shape.inputs() + "/" + shape.outputs());
+        }
+        int steps = JsonFields.int32(JsonFields.field(net, "steps", nw), nw + ".steps", 1, Limits.MAX_STEPS);
+        if (steps != cont.steps()) {
+            throw new ModelFileException(nw + ".steps", steps + " disagrees with the schedule's " + cont.steps());
+        }
+        long declared = JsonFields.whole(JsonFields.field(net, "parameters", nw), nw + ".parameters", 1, Limits.MAX_PARAMETERS);
+        String aw = MANIFEST + " arrays";
+        JsonNode arrays = JsonFields.array(JsonFields.field(root, "arrays", MANIFEST), aw, 1, 1);
+        JsonNode arr = JsonFields.object(arrays.get(0), aw + "[0]");
+        String entry = JsonFields.text(JsonFields.field(arr, "entry", aw + "[0]"), aw + "[0].entry");
+        String dtype = JsonFields.text(JsonFields.field(arr, "dtype", aw + "[0]"), aw + "[0].dtype");
+        JsonNode arrShape = JsonFields.array(JsonFields.field(arr, "shape", aw + "[0]"), aw + "[0].shape", 1, 1);
+        long shapeCount = JsonFields.whole(arrShape.get(0), aw + "[0].shape[0]", 1, Limits.MAX_PARAMETERS);
+        long expected = shape.parameterCount();
+        if (declared != expected || shapeCount != expected || !WEIGHTS.equals(entry) || !"float32-le".equals(dtype)) {
+            throw new ModelFileException(WEIGHTS, "manifest declares " + declared + " parameters with shape ["
+                    + shapeCount + "] of " + JsonFields.shorten(dtype) + " in " + JsonFields.shorten(entry)
+                    + "; the network shape needs " + expected + " float32-le in " + WEIGHTS);
+        }
+
+        ModelRange range = null;
+        if (version >= 3 && root.has("trainingRange")) {
+            range = readRange(root.get("trainingRange"), dc, db);
+        }
+        Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
+        return new Manifest(options, transform, shape, range, provenance);
+    }
+
+    private static ModelRange readRange(JsonNode node, int dc, int db) throws ModelFileException {
+        String where = MANIFEST + " trainingRange";
+        JsonFields.object(node, where);
+        JsonNode lo = JsonFields.array(JsonFields.field(node, "min", where), where + ".min", dc + db, dc + db);
+        JsonNode hi = JsonFields.array(JsonFields.field(node, "max", where), where + ".max", dc + db, dc + db);
+        double[] min = new double[dc + db];
+        double[] max = new double[dc + db];
+        for (int j = 0; j < min.length; j++) {
+            // binary model columns hold 0 and 1; continuous ones are standardized values
+            double bound = j < dc ? Float.MAX_VALUE : 1.0;
+            double floor = j < dc ? -Float.MAX_VALUE : 0.0;
+            min[j] = JsonFields.number(lo.get(j), where + ".min[" + j + "]", floor, bound);
+            max[j] = JsonFields.number(hi.get(j), where + ".max[" + j + "]", min[j], bound);
+        }
+        return new ModelRange(min, max, dc, ModelRange.TRAINING_ROWS);
+    }
+
+    private static NoiseSchedule readSchedule(JsonNode node, String where) throws ModelFileException {
+        JsonFields.object(node, where);
+        NoiseSchedule.Kind kind = constant(node, where, "kind", NoiseSchedule.Kind.class);
+        int steps = int32(node, where, "steps", 1, Limits.MAX_STEPS);
+        JsonNode b = JsonFields.array(JsonFields.field(node, "betas", where), where + ".betas", steps, steps);
+        double[] betas = new double[steps];
+        for (int i = 0; i < steps; i++) {
+            betas[i] = JsonFields.number(b.get(i), where + ".betas[" + i + "]", Limits.MIN_BETA, 1.0);
+        }
+        try {
+            return NoiseSchedule.of(kind, betas, null);
+        } catch (IllegalArgumentException e) {
+            throw new ModelFileException(where + ".betas", e.getMessage(), e);
+        }
+    }
+
+    private static int int32(JsonNode parent, String where, String key, int lo, int hi) throws ModelFileException {
+        return JsonFields.int32(JsonFields.field(parent, key, where), JsonFields.child(where, key), lo, hi);
+    }
+
+    private static double number(JsonNode parent, String where, String key) throws ModelFileException {
+        return JsonFields.finite(JsonFields.field(parent, key, where), JsonFields.child(where, key));
+    }
+
+    private static <E extends Enum<E>> E constant(JsonNode parent, String where, String key, Class<E> type)
+            throws ModelFileException {
+        return JsonFields.constant(JsonFields.field(parent, key, where), JsonFields.child(where, key), type);
+    }
+
+    /**
+     * The central directory's entries by name, read without reading any entry: each must be one
+     * the format names, none may appear twice, and all three must be present.
+     */
+    private static Map<String, ZipEntry> entries(ZipFile zip, Path file) throws ModelFileException {
+        Map<String, ZipEntry> named = new LinkedHashMap<>();
+        if (zip.size() > MAX_ZIP_ENTRIES) {
+            throw new ModelFileException("container", file + " lists " + zip.size() + " entries; the format has "
+                    + ENTRIES.size());
+        }
+        java.util.Enumeration<? extends ZipEntry> all = zip.entries();
+        while (all.hasMoreElements()) {
+            ZipEntry e = all.nextElement();
+            String name = e.getName();
+            if (!ENTRIES.contains(name)) {
+                throw new ModelFileException(JsonFields.shorten(name), "entry is not part of the format, which holds only "
+                        + ENTRIES + "; refused unread");
+            }
+            if (named.put(name, e) != null) {
+                throw new ModelFileException(name, "entry appears twice");
+            }
+        }
+        for (String name : ENTRIES) {
+            if (!named.containsKey(name)) {
+                throw new ModelFileException(name, "entry missing from " + file + " (entries present: " + named.keySet() + ")");
+            }
+        }
+        return named;
+    }
+
+    /**
+     * An entry's bytes through a bounded stream: at most {@code limit} bytes are read, whatever its
+     * header declares, and an entry holding more is refused.
+     */
+    private static byte[] read(ZipFile zip, ZipEntry e, long limit) throws IOException {
+        String name = e.getName();
+        if (e.getSize() > limit) {
+            throw new ModelFileException(name, "declares " + e.getSize() + " bytes; expected at most " + limit);
+        }
+        try (InputStream in = zip.getInputStream(e)) {
+            byte[] data = in.readNBytes((int) limit);
+            if (in.read() != -1) {
+                throw new ModelFileException(name, "holds more than " + limit + " bytes");
+            }
+            if (e.getSize() >= 0 && data.length != e.getSize()) {
+                throw new ModelFileException(name, "holds " + data.length + " bytes; its header declares " + e.getSize());
+            }
+            return data;
+        } catch (ZipException | EOFException ex) {
+            throw new ModelFileException(name, "entry is corrupt: " + ex.getMessage(), ex);
+        }
+    }
+
+    private static Map<String, String> readSums(byte[] bytes) throws ModelFileException {
+        String sums = new String(bytes, StandardCharsets.UTF_8);
         Map<String, String> declared = new LinkedHashMap<>();
         for (String line : sums.split("\n")) {
             if (line.isBlank()) {
                 continue;
             }
             int sep = line.indexOf("  ");
-            if (sep != 64) {
-                throw new ModelFileException(SUMS, "line is not \"<64 hex digits>  <entry>\": " + line);
+            if (sep != 64 || !line.substring(0, 64).matches("[0-9a-f]{64}")) {
+                throw new ModelFileException(SUMS, "line is not \"<64 hex digits>  <entry>\": " + JsonFields.shorten(line));
             }
-            declared.put(line.substring(sep + 2), line.substring(0, sep));
+            if (declared.put(line.substring(sep + 2), line.substring(0, sep)) != null) {
+                throw new ModelFileException(SUMS, "names " + JsonFields.shorten(line.substring(sep + 2)) + " twice");
+            }
         }
-        for (String name : List.of(MANIFEST, WEIGHTS)) {
-            String want = declared.get(name);
-            if (want == null) {
-                throw new ModelFileException(SUMS, "no checksum for " + name);
-            }
-            String got = sha256(entries.get(name));
-            if (!got.equals(want)) {
-                throw new ModelFileException(name, "SHA-256 is " + got + "; " + SUMS + " says " + want);
-            }
+        return declared;
+    }
+
+    private static void checkSum(String name, byte[] data, Map<String, String> declared) throws ModelFileException {
+        String want = declared.get(name);
+        if (want == null) {
+            throw new ModelFileException(SUMS, "no checksum for " + name);
+        }
+        String got = sha256(data);
+        if (!got.equals(want)) {
+            throw new ModelFileException(name, "SHA-256 is " + got + "; " + SUMS + " says " + want);
         }
     }
 

@@ -3,6 +3,7 @@ package org.backstep.internal.train;
 import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
 import org.backstep.internal.chain.ModelParts;
+import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.internal.net.AdamOptimizer;
 import org.backstep.internal.net.NetworkShape;
@@ -319,7 +320,8 @@ public final class TrainingRun implements AutoCloseable {
         ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
         Provenance provenance = Provenance.ofFit(table.rows(), table.sha256(), n, nv, Trainer.seconds(started),
                 history, notes);
-        return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, provenance), step,
+        return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, provenance,
+                ModelRange.of(x0, n, d, dc)), step,
                 step / (double) batchesPerEpoch, updateNanos / 1e9);
     }
 
