@@ -1,5 +1,6 @@
 package org.backstep.internal.chain;
 
+import org.backstep.option.Conditioning;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.SamplerKind;
 import org.backstep.report.Imputation;
@@ -39,12 +40,7 @@ public final class Imputer {
         List<Table> tables = new ArrayList<>();
         for (int k = 0; k < how.draws(); k++) {
             long drawSeed = seed + 1_000_003L * k;
-            float[] all = Parallel.fillChunks(n, c.d, engine.threads(), drawSeed, (from, m, rng, x) -> {
-                float[] kn = BoundEvaluator.slice(known, from, m, c.d);
-                c.drawPrior(x, m, rng);
-                ReverseRun.replaceKnown(c, x, kn, m, c.steps, rng);
-                ReverseRun.run(c, x, m, c.steps, kn, how.rounds(), SamplerKind.ANCESTRAL, 0.0, how.method(), rng);
-            });
+            float[] all = drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), drawSeed);
             double[][] completed = records.toArray();
             if (n > 0) {
                 Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, n, c.d));
@@ -84,6 +80,35 @@ public final class Imputer {
         }
         return new Imputation(tables, withValues(records, mean), withValues(records, lo), withValues(records, hi),
                 level);
+    }
+
+    /**
+     * One draw of every row's missing cells from the chain's conditional distribution given its
+     * observed cells, in model space: each row starts from the prior, its observed cells are set
+     * to a draw of q(x_K | x_0 = observed), and the chain runs down to x_0 with the observed cells
+     * held by {@code method} ({@link ReverseRun#run}, ancestral sampler), in chunks of
+     * {@link Parallel#CHUNK_ROWS} rows ({@link Parallel#fillChunks}), so the result does not depend on
+     * the thread count. Observed cells come back exactly as given. The one loop of imputation: the
+     * jobs' {@link #impute} and the trainer's filling of training rows with gaps both call it.
+     *
+     * @param chain the chain to run (the full chain or a strided one)
+     * @param known rows x D model-space rows, NaN where a cell is missing; not modified
+     * @param rows rows in {@code known}
+     * @param rounds resampling rounds per step, at least 1
+     * @param method how the observed cells are held
+     * @param threads threads to use, at least 1
+     * @param seed the seed of the draw
+     * @return rows x D, the observed cells as given and the missing cells drawn
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public static float[] drawGiven(Chain chain, float[] known, int rows, int rounds, Conditioning method,
+                                    int threads, long seed) {
+        return Parallel.fillChunks(rows, chain.d, threads, seed, (from, m, rng, x) -> {
+            float[] kn = BoundEvaluator.slice(known, from, m, chain.d);
+            chain.drawPrior(x, m, rng);
+            ReverseRun.replaceKnown(chain, x, kn, m, chain.steps, rng);
+            ReverseRun.run(chain, x, m, chain.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, method, rng);
+        });
     }
 
     /** The empirical quantile with linear interpolation between order statistics (Hyndman &amp; Fan 1996, type 7). */
