@@ -162,7 +162,8 @@ final class TrainingRows {
                 + " from each column's distribution fitted on its observed cells, then " + GapFilling.REFILLS
                 + " times over the run drawn again from the model's conditional distribution given the row's"
                 + " observed cells (averaged weights, a chain of " + GapFilling.CHAIN_STEPS + " steps, replacement with "
-                + GapFilling.ROUNDS + " resampling rounds)";
+                + GapFilling.ROUNDS + " resampling rounds; from the prior the first time, then from the previous"
+                + " draw diffused to step " + GapFilling.JUMP + ")";
     }
 
     /** @return D, the width of a model-space row */

@@ -91,6 +91,8 @@ public final class TrainingRun implements AutoCloseable {
     private final int[] perm;
     private final ParallelStep parallel;
     private final GapFilling gaps;           // null when every training row is complete
+    private final boolean[] filled;          // n x d: true where a training cell is filled, null without gaps
+    private final boolean[] filledBatch;     // batch x d, the minibatch's rows of filled
     private final long refillInterval;       // updates, or update nanoseconds when timed, between refills
 
 
@@ -193,6 +195,8 @@ public final class TrainingRun implements AutoCloseable {
         src = new int[batch];
         weight = new double[batch];
         perm = TrainingRows.identity(n);
+        filled = gaps == null ? null : gaps.filledCells(n);
+        filledBatch = filled == null ? null : new boolean[batch * d];
         parallel = ParallelStep.create(net, batch, options.threads());
     }
 
@@ -223,13 +227,16 @@ public final class TrainingRun implements AutoCloseable {
             }
             for (int r = 0; r < batch; r++) {
                 System.arraycopy(x0, perm[b * batch + r] * d, xb, r * d, d);
+                if (filled != null) {
+                    System.arraycopy(filled, perm[b * batch + r] * d, filledBatch, r * d, d);
+                }
                 k[r] = sampler.draw(rng);
                 src[r] = chain.source(k[r]);
                 weight[r] = sampler.weight(k[r]);
             }
             chain.diffuse(xb, batch, k, xt, eps, rng);
             xtArray.data().setData(xt);
-            terms.prepare(xb, xt, eps, k, weight);
+            terms.prepare(xb, xt, eps, k, weight, filledBatch);
             double rate = timed
                     ? options.learningRateSchedule().rate(options.learningRate(), updateNanos, budgetNanos)
                     : options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
