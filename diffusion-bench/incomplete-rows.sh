@@ -5,7 +5,7 @@
 # (b) every row by the trainer's stochastic EM, (c) the rows without gaps; held-out exact bound and
 # imputation RMSE of each. See IncompleteRowsMeasurement.
 #
-#   diffusion-bench/incomplete-rows.sh [UPDATES] [SEEDS]     defaults 2000 updates per fit, 3 seeds
+#   diffusion-bench/incomplete-rows.sh [UPDATES] [SEEDS]     defaults 2000 updates per fit, 5 seeds (about 15 minutes)
 #
 # About 9 x SEEDS fits of the library's default network (roughly 10 to 30 s each on 2 shared
 # cores). OPENBLAS_VERBOSE=2 makes the bundled OpenBLAS name its kernel, recorded at the end of
@@ -14,7 +14,7 @@ set -euo pipefail
 here=$(cd "$(dirname "$0")" && pwd)
 root=$(cd "${here}/.." && pwd)
 updates="${1:-2000}"
-seeds="${2:-3}"
+seeds="${2:-5}"
 if ! build=$(cd "${root}" && mvn -B -q -o -pl diffusion-bench -am package -DskipTests 2>&1); then
   echo "${build}"
   exit 1

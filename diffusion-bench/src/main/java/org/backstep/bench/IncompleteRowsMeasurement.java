@@ -61,14 +61,14 @@ public final class IncompleteRowsMeasurement {
 
     /**
      * @param args [data folder] [output file] [updates] [seeds]; defaults
-     *     diffusion-core/src/test/resources/data, diffusion-bench/results/incomplete-rows.txt, 2000, 3
+     *     diffusion-core/src/test/resources/data, diffusion-bench/results/incomplete-rows.txt, 2000, 5
      * @throws Exception on a read or write failure
      */
     public static void main(String[] args) throws Exception {
         Path data = Path.of(args.length > 0 ? args[0] : "diffusion-core/src/test/resources/data");
         Path out = Path.of(args.length > 1 ? args[1] : "diffusion-bench/results/incomplete-rows.txt");
         int updates = args.length > 2 ? Integer.parseInt(args[2]) : 2000;
-        int seeds = args.length > 3 ? Integer.parseInt(args[3]) : 3;
+        int seeds = args.length > 3 ? Integer.parseInt(args[3]) : 5;
         List<Case> cases = List.of(
                 prepare("iris", read(data.resolve("iris.csv"))),
                 prepare("breast_cancer", read(data.resolve("breast_cancer.csv"))),
