@@ -22,7 +22,8 @@ import java.util.Properties;
  * @param fittedAt when training finished (UTC)
  * @param trainingSeconds wall time of training
  * @param tableRows rows of the table given to fit
- * @param trainingRows rows trained on (complete rows of the training part)
+ * @param trainingRows rows trained on: the training part's rows with an observed cell (those with a
+ *     missing cell trained on with the cell filled, as the notes say)
  * @param checkpointRows complete checkpoint rows (the trainer's own split, on which the kept weights were chosen)
  * @param tableSha256 SHA-256 of the table given to fit ({@link Table#sha256()})
  * @param history one record per epoch

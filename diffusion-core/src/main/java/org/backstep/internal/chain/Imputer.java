@@ -1,5 +1,6 @@
 package org.backstep.internal.chain;
 
+import org.backstep.option.Conditioning;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.SamplerKind;
 import org.backstep.report.Imputation;
@@ -39,12 +40,7 @@ public final class Imputer {
         List<Table> tables = new ArrayList<>();
         for (int k = 0; k < how.draws(); k++) {
             long drawSeed = seed + 1_000_003L * k;
-            float[] all = Parallel.fillChunks(n, c.d, engine.threads(), drawSeed, (from, m, rng, x) -> {
-                float[] kn = BoundEvaluator.slice(known, from, m, c.d);
-                c.drawPrior(x, m, rng);
-                ReverseRun.replaceKnown(c, x, kn, m, c.steps, rng);
-                ReverseRun.run(c, x, m, c.steps, kn, how.rounds(), SamplerKind.ANCESTRAL, 0.0, how.method(), rng);
-            });
+            float[] all = drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), drawSeed);
             double[][] completed = records.toArray();
             if (n > 0) {
                 Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, n, c.d));
@@ -84,6 +80,76 @@ public final class Imputer {
         }
         return new Imputation(tables, withValues(records, mean), withValues(records, lo), withValues(records, hi),
                 level);
+    }
+
+    /**
+     * One draw of every row's missing cells from the chain's conditional distribution given its
+     * observed cells, in model space: each row starts from the prior, its observed cells are set
+     * to a draw of q(x_K | x_0 = observed), and the chain runs down to x_0 with the observed cells
+     * held by {@code method} ({@link ReverseRun#run}, ancestral sampler), in chunks of
+     * {@link Parallel#CHUNK_ROWS} rows ({@link Parallel#fillChunks}), so the result does not depend on
+     * the thread count. Observed cells come back exactly as given. The one loop of imputation: the
+     * jobs' {@link #impute} and the trainer's filling of training rows with gaps both call it.
+     *
+     * @param chain the chain to run (the full chain or a strided one)
+     * @param known rows x D model-space rows, NaN where a cell is missing; not modified
+     * @param rows rows in {@code known}
+     * @param rounds resampling rounds per step, at least 1
+     * @param method how the observed cells are held
+     * @param threads threads to use, at least 1
+     * @param seed the seed of the draw
+     * @return rows x D, the observed cells as given and the missing cells drawn
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public static float[] drawGiven(Chain chain, float[] known, int rows, int rounds, Conditioning method,
+                                    int threads, long seed) {
+        return Parallel.fillChunks(rows, chain.d, threads, seed, (from, m, rng, x) -> {
+            float[] kn = BoundEvaluator.slice(known, from, m, chain.d);
+            chain.drawPrior(x, m, rng);
+            ReverseRun.replaceKnown(chain, x, kn, m, chain.steps, rng);
+            ReverseRun.run(chain, x, m, chain.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, method, rng);
+        });
+    }
+
+    /**
+     * A new draw of every row's missing cells that starts from a previous one: the whole row
+     * (observed cells and the previous draw of the missing ones) is diffused to chain step
+     * {@code from} by q(x_from | x_0) ({@link Chain#diffuse}), then the chain runs down to x_0 with
+     * the observed cells held by {@code method}, as in {@link #drawGiven}. A transition of a Markov
+     * chain over the missing cells, as in the MCMC form of stochastic-approximation EM (Kuhn &amp;
+     * Lavielle 2004, "Coupling a stochastic approximation version of EM with an MCMC procedure",
+     * section 3: one transition of a kernel that leaves the current conditional distribution
+     * invariant, started at the previous draw). With {@code from} = K the previous draw is all but
+     * forgotten (alpha-bar_K is near 0) and this is nearly {@link #drawGiven}; a short jump keeps what the
+     * previous draw already agrees on with the observed cells. The kernel of replacement leaves the
+     * conditional distribution invariant only approximately (see {@link Conditioning}).
+     *
+     * @param chain the chain to run
+     * @param previous rows x D model-space rows, the observed cells and a previous draw of the
+     *     missing ones (no NaN); not modified
+     * @param known rows x D model-space rows, NaN where a cell is missing; not modified
+     * @param rows rows
+     * @param from the chain step to diffuse to and start from, 1..K
+     * @param rounds resampling rounds per step, at least 1
+     * @param method how the observed cells are held
+     * @param threads threads to use, at least 1
+     * @param seed the seed of the draw
+     * @return rows x D, the observed cells as given and the missing cells drawn again
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public static float[] redrawGiven(Chain chain, float[] previous, float[] known, int rows, int from, int rounds,
+                                      Conditioning method, int threads, long seed) {
+        if (from < 1 || from > chain.steps) {
+            throw new IllegalArgumentException("from is " + from + "; expected a step of the chain, 1.." + chain.steps);
+        }
+        return Parallel.fillChunks(rows, chain.d, threads, seed, (first, m, rng, x) -> {
+            float[] kn = BoundEvaluator.slice(known, first, m, chain.d);
+            float[] start = BoundEvaluator.slice(previous, first, m, chain.d);
+            int[] k = new int[m];
+            Arrays.fill(k, from);
+            chain.diffuse(start, m, k, x, null, rng);
+            ReverseRun.run(chain, x, m, from, kn, rounds, SamplerKind.ANCESTRAL, 0.0, method, rng);
+        });
     }
 
     /** The empirical quantile with linear interpolation between order statistics (Hyndman &amp; Fan 1996, type 7). */

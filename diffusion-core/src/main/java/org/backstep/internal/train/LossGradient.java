@@ -20,7 +20,9 @@ import org.nd4j.linalg.factory.Nd4j;
  *                             reaching only v                               (Nichol &amp; Dhariwal 2021, sec. 3.1)
  *   binary cell:              T L_{t-1}  (Bernoulli KL, or cross-entropy at t = 1)
  * </pre>
- * times 1/(T p_t) under importance sampling, averaged over the minibatch. Every bound term and its
+ * times 1/(T p_t) under importance sampling, averaged over the minibatch. A cell filled in for a
+ * missing one ({@link GapFilling}) has no term: it is an input of the network, not a target (the
+ * mean stays over D cells, so a row with gaps weighs its observed cells as a complete row does). Every bound term and its
  * partial derivatives come from {@link BoundTerms}; this class only applies the chain rule through
  * the parameterization (d mu / d eps-hat, d log sigma^2 / d v) and the loss's weights.
  */
@@ -43,6 +45,7 @@ final class LossGradient implements ParallelStep.LossGradient {
     private float[] eps;
     private int[] k;
     private double[] weight;
+    private boolean[] filled;
 
     LossGradient(Chain chain, FitOptions options, int batch) {
         this.chain = chain;
@@ -58,8 +61,14 @@ final class LossGradient implements ParallelStep.LossGradient {
         this.batch = batch;
     }
 
-    /** Points at the minibatch of the next step (the arrays are read, not copied or modified). */
-    void prepare(float[] x0, float[] xt, float[] eps, int[] k, double[] weight) {
+    /**
+     * Points at the minibatch of the next step (the arrays are read, not copied or modified).
+     *
+     * @param filled batch x D, true where a cell was filled in for a missing one (no loss term);
+     *     null when every cell is observed
+     */
+    void prepare(float[] x0, float[] xt, float[] eps, int[] k, double[] weight, boolean[] filled) {
+        this.filled = filled;
         this.x0 = x0;
         this.xt = xt;
         this.eps = eps;
@@ -85,6 +94,9 @@ final class LossGradient implements ParallelStep.LossGradient {
             double bound = 0.0;
             double dMeanDEps = BoundTerms.meanPerEpsilon(chain, s);
             for (int j = 0; j < dc; j++) {
+                if (filled != null && filled[o + j]) {
+                    continue;
+                }
                 double eh = out[oo + j];
                 double v = learned ? out[oo + dc + j] : 0.0;
                 double term = BoundTerms.continuous(chain, s, x0[o + j], xt[o + j], eh, v, partials);
@@ -118,6 +130,9 @@ final class LossGradient implements ParallelStep.LossGradient {
                 }
             }
             for (int j = 0; j < db; j++) {
+                if (filled != null && filled[o + dc + j]) {
+                    continue;
+                }
                 double term = BoundTerms.binary(chain, s, x0[o + dc + j] > 0.5f ? 1 : 0,
                         xt[o + dc + j] > 0.5f ? 1 : 0, out[oo + logitOffset + j], partials);
                 bound += term;

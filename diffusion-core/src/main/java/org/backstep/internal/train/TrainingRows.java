@@ -13,9 +13,17 @@ import java.util.SplittableRandom;
 
 /**
  * The rows a fit trains on, prepared: the log columns checked, the checkpoint rows split off
- * (drawn at random, seeded, unless the caller gives them), rows with a missing cell set aside,
- * the column transforms fitted on the training rows (Trainer's standardization), and both sets in
+ * (drawn at random, seeded, unless the caller gives them), the column transforms fitted on the
+ * training rows (Trainer's standardization; each column on its observed cells), and both sets in
  * model space as float32 rows. What was done is kept as notes for the provenance.
+ *
+ * <p>Training rows with a missing cell are trained on: their missing cells are filled by
+ * {@link GapFilling} (stochastic EM), first here from each column's distribution, then by the run
+ * from the model. A table without missing training cells is prepared exactly as before gaps were
+ * trained on (same transforms, same rows, same bits). Rows with no observed cell at all are left
+ * out. The checkpoint bound needs every cell of a row, so it is taken on the complete checkpoint
+ * rows only; when the seeded split leaves no complete checkpoint row (for instance when every row
+ * has a gap), those rows are trained on as well and the last averaged weights are kept.
  */
 final class TrainingRows {
 
@@ -28,13 +36,16 @@ final class TrainingRows {
     final float[] checkpoint;
     final int checkpointCount;
     final List<String> notes = new ArrayList<>();
+    /** The training rows with a gap and how they are filled, or null when every training row is complete. */
+    final GapFilling gaps;
 
     /**
      * @param options the fit's options
      * @param table the table given to the fit
      * @param checkpointRows rows to choose the kept weights on, or null to split them off the table
-     * @throws IllegalArgumentException naming a bad log column, or if fewer than 2 complete rows
-     *     remain, or if every column is constant
+     * @throws IllegalArgumentException naming a bad log column or a column without an observed
+     *     training cell, or if fewer than 2 training rows (with an observed cell) remain, or if every
+     *     column is constant
      */
     TrainingRows(FitOptions options, Table table, Table checkpointRows) {
         for (String name : options.logColumns()) {
@@ -48,7 +59,8 @@ final class TrainingRows {
         }
         Table train = table;
         Table held = checkpointRows;
-        if (held == null && options.checkpointFraction() > 0.0 && table.rows() >= 2) {
+        boolean randomSplit = held == null && options.checkpointFraction() > 0.0 && table.rows() >= 2;
+        if (randomSplit) {
             int[][] split = split(table.rows(), options.checkpointFraction(), options.seed());
             train = table.selectRows(split[0]);
             held = table.selectRows(split[1]);
@@ -59,22 +71,49 @@ final class TrainingRows {
             notes.add("checkpoint rows: " + held.rows() + " rows given by the caller");
         }
         Table complete = train.completeRows();
-        if (complete.rows() < train.rows()) {
-            notes.add((train.rows() - complete.rows()) + " training rows with a missing cell were left out");
+        if (complete.rows() == train.rows()) {
+            // no gaps: exactly the preparation of tables without missing cells
+            if (complete.rows() < 2) {
+                throw new IllegalArgumentException("training has " + complete.rows() + " rows; expected at least 2");
+            }
+            transform = fitTransform(complete, options);
+            dc = transform.modelledContinuous().length;
+            db = transform.modelledBinary().length;
+            x0 = Engine.toFloat(transform.toModelSpace(complete));
+            n = complete.rows();
+            gaps = null;
+        } else {
+            if (randomSplit && held.completeRows().rows() == 0) {
+                notes.add("none of the " + held.rows() + " checkpoint rows is complete, so no bound could choose the"
+                        + " kept weights: they were trained on instead, and the last averaged weights kept");
+                train = table;
+                held = null;
+            }
+            int[] observedRows = rowsWithObservedCell(train);
+            if (observedRows.length < train.rows()) {
+                notes.add((train.rows() - observedRows.length) + " training rows with no observed cell were left out");
+                train = train.selectRows(observedRows);
+            }
+            if (train.rows() < 2) {
+                throw new IllegalArgumentException("training has " + train.rows()
+                        + " rows with an observed cell; expected at least 2");
+            }
+            // the transforms of each column from its observed training cells (TableTransform.fit skips missing cells)
+            transform = fitTransform(train, options);
+            dc = transform.modelledContinuous().length;
+            db = transform.modelledBinary().length;
+            n = train.rows();
+            x0 = Engine.toFloat(transform.toModelSpace(train));
+            GapFilling found = GapFilling.of(x0, n, dc + db, dc);
+            gaps = found.rowCount() == 0 ? null : found;
+            if (gaps == null) {
+                notes.add("the missing cells of the training rows all lie in constant columns, which are not"
+                        + " diffused; every training row was used as it is");
+            } else {
+                gaps.initialFillInPlace(x0, n, options.seed());
+                notes.add(gapNote(gaps, n));
+            }
         }
-        if (complete.rows() < 2) {
-            throw new IllegalArgumentException("training has " + complete.rows()
-                    + " complete rows; expected at least 2 rows without a missing cell");
-        }
-        transform = TableTransform.fit(complete, options.logColumns());
-        notes.addAll(transform.notes());
-        dc = transform.modelledContinuous().length;
-        db = transform.modelledBinary().length;
-        if (dc + db == 0) {
-            throw new IllegalArgumentException("the table has no column to diffuse: every column is constant");
-        }
-        x0 = Engine.toFloat(transform.toModelSpace(complete));
-        n = complete.rows();
         float[] heldRows = null;
         int heldCount = 0;
         if (held != null) {
@@ -83,9 +122,48 @@ final class TrainingRows {
             if (heldCount > 0) {
                 heldRows = Engine.toFloat(transform.toModelSpace(heldComplete));
             }
+            if (heldCount < held.rows()) {
+                notes.add("the checkpoint bound is taken on the " + heldCount + " complete checkpoint rows of "
+                        + held.rows() + " (a bound needs every cell of a row)");
+            }
         }
         checkpoint = heldRows;
         checkpointCount = heldCount;
+    }
+
+    private TableTransform fitTransform(Table rows, FitOptions options) {
+        TableTransform t = TableTransform.fit(rows, options.logColumns());
+        notes.addAll(t.notes());
+        if (t.modelColumns() == 0) {
+            throw new IllegalArgumentException("the table has no column to diffuse: every column is constant");
+        }
+        return t;
+    }
+
+    /** @return the indices of the rows of {@code t} with at least one observed cell, ascending */
+    private static int[] rowsWithObservedCell(Table t) {
+        int[] keep = new int[t.rows()];
+        int count = 0;
+        for (int r = 0; r < t.rows(); r++) {
+            for (int c = 0; c < t.columns(); c++) {
+                if (!Double.isNaN(t.get(r, c))) {
+                    keep[count++] = r;
+                    break;
+                }
+            }
+        }
+        return Arrays.copyOf(keep, count);
+    }
+
+    /** The provenance's account of the rows with gaps and of how they were used. */
+    static String gapNote(GapFilling gaps, int rows) {
+        return gaps.rowCount() + " of " + rows + " training rows had a missing cell (" + gaps.cellCount()
+                + " cells); they were trained on with their missing cells filled by stochastic EM: first drawn"
+                + " from each column's distribution fitted on its observed cells, then " + GapFilling.REFILLS
+                + " times over the run drawn again from the model's conditional distribution given the row's"
+                + " observed cells (averaged weights, a chain of " + GapFilling.CHAIN_STEPS + " steps, replacement with "
+                + GapFilling.ROUNDS + " resampling rounds; from the prior the first time, then from the previous"
+                + " draw diffused to step " + GapFilling.JUMP + ")";
     }
 
     /** @return D, the width of a model-space row */

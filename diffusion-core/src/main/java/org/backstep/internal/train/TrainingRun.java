@@ -37,7 +37,10 @@ import java.util.function.BooleanSupplier;
  * {@link LossGradient}'s, t is drawn by {@link StepSampler}, the rows come from
  * {@link TrainingRows}. However it ends (the last epoch, a budget, a stop request, early stopping),
  * the averaged weights are evaluated on the checkpoint rows once more, and the weights with the
- * best checkpoint bound so far are kept.
+ * best checkpoint bound so far are kept. Training rows with a gap are trained on with their missing
+ * cells filled, and {@link GapFilling#REFILLS} times over the run (at epoch ends) the missing cells
+ * are drawn again from the averaged weights (stochastic EM, see {@link GapFilling}); without gaps
+ * nothing of this runs, and the updates are those of a run that never heard of gaps.
  *
  * <p>A run can pause between updates and resume, so that several fits can share a machine in
  * turns (the training planner interleaves its models this way, so that a busy spell or the JIT
@@ -88,6 +91,11 @@ public final class TrainingRun implements AutoCloseable {
     private final double[] weight;
     private final int[] perm;
     private final ParallelStep parallel;
+    private final GapFilling gaps;           // null when every training row is complete
+    private final boolean[] filled;          // n x d: true where a training cell is filled, null without gaps
+    private final boolean[] filledBatch;     // batch x d, the minibatch's rows of filled
+    private final long refillInterval;       // updates, or update nanoseconds when timed, between refills
+
 
     private final List<EpochRecord> history = new ArrayList<>();
     private float[] bestWeights;
@@ -102,6 +110,8 @@ public final class TrainingRun implements AutoCloseable {
     private int b;                     // the next minibatch of the epoch
     private double lossSum;
     private boolean finished;
+    private long nextRefill;
+    private int refills;
     private boolean closed;
 
     /**
@@ -130,6 +140,7 @@ public final class TrainingRun implements AutoCloseable {
         n = prepared.n;
         xv = prepared.checkpoint;
         nv = prepared.checkpointCount;
+        gaps = prepared.gaps;
         d = dc + db;
         steps = options.steps();
         int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
@@ -156,12 +167,19 @@ public final class TrainingRun implements AutoCloseable {
                 : timed ? 0 : Math.max(1, epochs / options.evaluations());
         totalSteps = budgetUpdates > 0 ? budgetUpdates : timed ? 0 : (long) epochs * batchesPerEpoch;
         nextEvaluation = timed ? budgetNanos / options.evaluations() : 0;
+        refillInterval = Math.max(1, (timed ? budgetNanos : totalSteps) / (GapFilling.REFILLS + 1));
+        nextRefill = refillInterval;
         if (timed) {
             LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, for {} in minibatches of {}",
                     n, dc, db, steps, budget, batch);
         } else {
             LOG.info("training on {} rows ({} continuous, {} binary columns), T = {}, {} epochs of {} minibatches of {}"
                     + " ({} updates)", n, dc, db, steps, epochs, batchesPerEpoch, batch, totalSteps);
+        }
+
+        if (gaps != null) {
+            LOG.info("{} of the {} training rows have a missing cell ({} cells), filled by stochastic EM",
+                    gaps.rowCount(), n, gaps.cellCount());
         }
 
         adam = AdamOptimizer.create(net.parameterCount(), options.learningRate(), options.adamBeta1(),
@@ -178,6 +196,8 @@ public final class TrainingRun implements AutoCloseable {
         src = new int[batch];
         weight = new double[batch];
         perm = TrainingRows.identity(n);
+        filled = gaps == null ? null : gaps.filledCells(n);
+        filledBatch = filled == null ? null : new boolean[batch * d];
         parallel = ParallelStep.create(net, batch, options.threads());
     }
 
@@ -208,13 +228,16 @@ public final class TrainingRun implements AutoCloseable {
             }
             for (int r = 0; r < batch; r++) {
                 System.arraycopy(x0, perm[b * batch + r] * d, xb, r * d, d);
+                if (filled != null) {
+                    System.arraycopy(filled, perm[b * batch + r] * d, filledBatch, r * d, d);
+                }
                 k[r] = sampler.draw(rng);
                 src[r] = chain.source(k[r]);
                 weight[r] = sampler.weight(k[r]);
             }
             chain.diffuse(xb, batch, k, xt, eps, rng);
             xtArray.data().setData(xt);
-            terms.prepare(xb, xt, eps, k, weight);
+            terms.prepare(xb, xt, eps, k, weight, filledBatch);
             double rate = timed
                     ? options.learningRateSchedule().rate(options.learningRate(), updateNanos, budgetNanos)
                     : options.learningRateSchedule().rate(options.learningRate(), step, totalSteps);
@@ -280,9 +303,27 @@ public final class TrainingRun implements AutoCloseable {
                     + options.patience() + " evaluations";
             last = true;
         }
+        if (gaps != null && !last && (timed ? updateNanos : step) >= nextRefill) {
+            refillGaps();
+            while (nextRefill <= (timed ? updateNanos : step)) {
+                nextRefill += refillInterval;
+            }
+        }
         finished = last;
         epoch++;
         b = 0;
+    }
+
+    /**
+     * The stochastic E step of {@link GapFilling}: the missing cells of the training rows drawn
+     * again from the averaged weights' conditional distribution given each row's observed cells.
+     */
+    private void refillGaps() {
+        ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, ema.average());
+        Chain averagedChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
+                options.variance(), new NetworkEstimator(averaged));
+        gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills);
+        refills++;
     }
 
     private TrainingProgress progress(double loss) {
@@ -312,6 +353,10 @@ public final class TrainingRun implements AutoCloseable {
         float[] finalWeights = bestWeights != null ? bestWeights : ema.average();
         if (bestWeights != null) {
             notes.add("kept the averaged weights with the best held-out bound, " + bestBound + " nats per record");
+        }
+        if (gaps != null) {
+            notes.add("the missing cells of the " + gaps.rowCount() + " training rows with a gap were drawn from the"
+                    + " model " + refills + " times");
         }
         if (stopReason != null) {
             notes.add(stopReason);
