@@ -1,7 +1,9 @@
 package org.backstep.internal.train;
 
 import org.backstep.internal.chain.Engine;
+import org.backstep.internal.chain.ModelRange;
 import org.backstep.option.FitOptions;
+import org.backstep.report.CellNote;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
@@ -46,6 +48,10 @@ final class TrainingRows {
                 throw new IllegalArgumentException("logColumns names '" + name + "', which is binary; only continuous columns take a log scale");
             }
         }
+        table = leaveOutUnscorable(options, table, "", notes);
+        if (checkpointRows != null) {
+            checkpointRows = leaveOutUnscorable(options, checkpointRows, "checkpoint ", notes);
+        }
         Table train = table;
         Table held = checkpointRows;
         if (held == null && options.checkpointFraction() > 0.0 && table.rows() >= 2) {
@@ -86,6 +92,29 @@ final class TrainingRows {
         }
         checkpoint = heldRows;
         checkpointCount = heldCount;
+    }
+
+    /**
+     * Leaves out the rows holding a cell beyond the model space's range or outside a log column's
+     * support, judged on the rows' robust statistics ({@link ModelRange#unscorableTraining}), with a
+     * note per cell naming row and column; the fit goes on with the other rows.
+     *
+     * @param rows the rows given (not modified)
+     * @param prefix put before "row r" in the notes ("" or "checkpoint ")
+     * @param notes where the notes go (modified)
+     * @return the rows kept
+     */
+    static Table leaveOutUnscorable(FitOptions options, Table rows, String prefix, List<String> notes) {
+        List<CellNote> bad = ModelRange.unscorableTraining(rows, options.logColumns(),
+                ModelRange.limit(options.continuousSchedule()));
+        if (bad.isEmpty()) {
+            return rows;
+        }
+        for (CellNote n : bad) {
+            notes.add(prefix + n.text() + "; the row was left out of training");
+        }
+        int[] drop = ModelRange.rows(bad);
+        return rows.filterRows(r -> Arrays.binarySearch(drop, r) < 0);
     }
 
     /** @return D, the width of a model-space row */
