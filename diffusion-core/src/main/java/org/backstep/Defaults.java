@@ -171,18 +171,23 @@ public final class Defaults {
      */
     public static final int SCREENING_DRAWS = 128;
     /**
-     * Draws per cell of the per-column surprisal: 128, enough for a kernel density estimate whose
-     * log has a noise of about 0.1 nats near the centre of a conditional (measured on the Gaussian
-     * oracle, {@code SurprisalOracleTest}).
+     * Draws per cell of the per-column surprisal: 128. Measured on exact normal draws: the figure's
+     * rms noise is 0.14, 0.11 and 0.08 nats at the centre with 64, 128 and 256 draws, 0.43, 0.30 and
+     * 0.23 at 2 sd ({@code SurprisalEstimatorTest} for 128).
      */
     public static final int SURPRISAL_DRAWS = 128;
-    /** Steps of the surprisal's imputation chain, at most: 50. */
+    /**
+     * Steps of the surprisal's imputation chain, at most: 50. Measured on the 3-D Gaussian oracle
+     * (128 draws, 3 rounds, 90 cells): rms error 0.27 nats with 50 steps, 0.31 with 100, at
+     * half the cost.
+     */
     public static final int SURPRISAL_STEPS = 50;
     /**
-     * Resampling rounds per step of the surprisal's imputation: 3, with which replacement meets the
-     * imputation targets record by record on the Gaussian oracle (see {@link #IMPUTATION_ROUNDS}'s
-     * measurements); without resampling the draws follow the other cells too weakly, which would
-     * bias a conditional density.
+     * Resampling rounds per step of the surprisal's imputation: 3. Measured on the 3-D Gaussian
+     * oracle (128 draws, 50 steps): rms error 0.27 nats and mean error 0.07 with 3 rounds, 0.47 and
+     * 0.19 with 1, where the draws follow the other cells too weakly. Not measured on a trained
+     * model, where rounds narrowed imputed intervals (see {@link #IMPUTATION_ROUNDS}): there a
+     * figure may come out too high.
      */
     public static final int SURPRISAL_ROUNDS = 3;
     /**

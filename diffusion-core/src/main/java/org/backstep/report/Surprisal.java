@@ -16,13 +16,18 @@ import java.util.List;
  * conditional distribution by imputation (replacement with resampling rounds; Lugmayr et al. 2022,
  * algorithm 1; see {@code org.backstep.option.SurprisalOptions}). Then
  * <ul>
- *   <li>continuous column: a Gaussian kernel density estimate of the K draws u_i at the observed
- *       value z_j (model space), with Silverman's bandwidth h = 0.9 min(sd, IQR/1.34) K^(-1/5)
- *       (Silverman 1986, "Density Estimation for Statistics and Data Analysis", eq. 3.31) made
- *       variance-preserving: the draws are shrunk toward their mean m by c = (1 + h^2/sd^2)^(-1/2) and
- *       the kernel's width is c h, so that the estimate has the draws' variance (the shrunk smoothed
- *       bootstrap of Silverman 1986, section 6.4.1; value from memory):
- *       s_j = -log [(1/K) sum_i N(z_j; m + c (u_i - m), c^2 h^2)], summed in log space;</li>
+ *   <li>continuous column: within the draws' 5% and 95% quantiles (type 7), a Gaussian kernel
+ *       density estimate of the K draws u_i at the observed value z_j (model space), with
+ *       Silverman's bandwidth h = 0.9 min(sd, IQR/1.34) K^(-1/5) (Silverman 1986, "Density
+ *       Estimation for Statistics and Data Analysis", eq. 3.31) made variance-preserving: the draws
+ *       are shrunk toward their mean m by c = (1 + h^2/sd^2)^(-1/2) and the kernel's width is c h, so
+ *       that the estimate has the draws' variance (the shrunk smoothed bootstrap of Silverman 1986,
+ *       section 6.4.1; value from memory): s_j = -log [(1/K) sum_i N(z_j; m + c (u_i - m), c^2 h^2)],
+ *       summed in log space. Beyond those quantiles the draws say little, and a kernel estimate
+ *       falls off like its kernel, far too fast (measured on exact normal draws, K = 128: +1.2 nats
+ *       at 3 sd, +9 at 4 sd, +52 at 6 sd); there the figure is the estimate at the nearer quantile e
+ *       continued by the tail of the Gaussian of the draws' mean and sd,
+ *       s_j = s(e) + ((z_j - m)^2 - (e - m)^2)/(2 sd^2);</li>
  *   <li>binary column: the share of draws equal to the observed value with half a draw added to
  *       each outcome, P = (#{u_i = x_j} + 1/2)/(K + 1) (Krichevsky &amp; Trofimov 1981), s_j = -log P,
  *       so at most log(2K + 2);</li>
@@ -35,14 +40,17 @@ import java.util.List;
  *
  * <p><b>Bias.</b> (1) The draws carry the imputation's own error (the conditioning by replacement
  * is approximate; on the Gaussian oracle with 3 rounds its means are off by about 0.05 conditional
- * sd and its variance by about 2%). (2) Smoothing: for a Gaussian conditional N(m, s^2) the
- * estimate's expectation is N(m, s^2) itself (to the draws' sample mean and sd); for others it is
- * the conditional density smoothed by a kernel of width c h, which flattens peaks and fills
- * valleys. (3) The log of a noisy estimate is biased upward by about half its relative variance,
- * which grows in the tails. (4) Beyond the draws the estimate falls off like the kernel, about
- * (z_j - nearest draw)^2 / (2 c^2 h^2), so a cell far outside every draw gets a figure well above
- * the true -log p: read it as "far outside what the model draws"; the ranking of such cells by
- * their distance in units of c h is kept. Measured on the Gaussian oracle: see the tests
+ * sd and its variance by about 2%; a continuous cell given a binary one is drawn too widely).
+ * (2) Smoothing: for a Gaussian conditional N(m, s^2) the kernel estimate's expectation is N(m, s^2)
+ * itself (to the draws' sample mean and sd); for others it is the conditional density smoothed by a
+ * kernel of width c h, which flattens peaks and fills valleys. (3) The tail beyond the 5% and 95%
+ * quantiles is Gaussian by assumption: right for a Gaussian conditional, too low a figure for a
+ * heavier tail and too high for a lighter one; its noise grows with the distance (the draws' sd
+ * enters squared). (4) The log of a noisy estimate is biased upward by about half its relative
+ * variance. Measured on exact normal draws, K = 128: mean errors within 0.03 nats up to 3 sd,
+ * 0.1 at 4 sd and 0.2 at 6 sd, rms 0.1 at the centre, 0.6 at 3 sd, 2.4 at 6 sd
+ * ({@code SurprisalEstimatorTest}); on the Gaussian oracle with the default settings, mean error
+ * 0.05 and rms 0.27 nats over ordinary cells, -9% (rms 17%) on cells 4 conditional sd off
  * ({@code SurprisalOracleTest}).
  *
  * <p><b>Units.</b> Model space: continuous figures are densities per standard deviation of the

@@ -30,6 +30,13 @@ public final class SurprisalEstimator {
     static final double SILVERMAN_FACTOR = 0.9;
     /** The interquartile range of a normal distribution in standard deviations (Silverman 1986, eq. 3.30). */
     static final double NORMAL_IQR = 1.34;
+    /**
+     * Beyond the draws' TAIL and 1 - TAIL quantiles the kernel estimate is replaced by a Gaussian
+     * tail: 0.05. Measured on exact normal draws (K = 128): the plain kernel estimate overstates
+     * -log p by 1.2 nats at 3 sd, 9 at 4 sd and 52 at 6 sd (its tail is the kernel's, of width
+     * about 0.3 sd); with the Gaussian tail from the 5% quantiles see {@code SurprisalOracleTest}.
+     */
+    static final double TAIL = 0.05;
 
     private SurprisalEstimator() {
     }
@@ -120,8 +127,11 @@ public final class SurprisalEstimator {
     }
 
     /**
-     * -log of the variance-preserving Gaussian kernel density estimate of the draws at z (see
-     * {@link org.backstep.report.Surprisal}), summed in log space.
+     * -log of the density estimate of the draws at z (see {@link org.backstep.report.Surprisal}):
+     * within the draws' {@link #TAIL} and 1 - {@link #TAIL} quantiles, the variance-preserving
+     * Gaussian kernel density estimate; beyond them, its value at the nearer quantile e continued
+     * by the tail of the Gaussian of the draws' mean m and sd,
+     * s(z) = s(e) + ((z - m)^2 - (e - m)^2) / (2 sd^2).
      *
      * @param u the draws, at least 2 (not modified)
      * @param z the observed value
@@ -139,6 +149,22 @@ public final class SurprisalEstimator {
             ss += (v - m) * (v - m);
         }
         double sd = Math.sqrt(ss / (k - 1));
+        double lo = Imputer.quantile(u, TAIL);
+        double hi = Imputer.quantile(u, 1.0 - TAIL);
+        if (sd > 0 && (z < lo || z > hi)) {
+            double e = z < lo ? lo : hi;
+            return kernelSurprisal(u, m, sd, e) + ((z - m) * (z - m) - (e - m) * (e - m)) / (2.0 * sd * sd);
+        }
+        return kernelSurprisal(u, m, sd, z);
+    }
+
+    /**
+     * -log of the variance-preserving Gaussian kernel density estimate at z: Silverman's bandwidth
+     * h = 0.9 min(sd, IQR/1.34) K^(-1/5), the draws shrunk toward m by c = (1 + h^2/sd^2)^(-1/2),
+     * kernel width c h; summed in log space.
+     */
+    static double kernelSurprisal(double[] u, double m, double sd, double z) {
+        int k = u.length;
         double iqr = Imputer.quantile(u, 0.75) - Imputer.quantile(u, 0.25);
         double spread = iqr > 0 ? Math.min(sd, iqr / NORMAL_IQR) : sd;
         double h = Math.max(MIN_BANDWIDTH, SILVERMAN_FACTOR * spread * Math.pow(k, -0.2));
@@ -155,8 +181,7 @@ public final class SurprisalEstimator {
         for (double v : e) {
             sum += Math.exp(v - max);
         }
-        double logDensity = max + Math.log(sum) - Math.log(k) - 0.5 * Math.log(2.0 * Math.PI * width * width);
-        return -logDensity;
+        return -(max + Math.log(sum) - Math.log(k) - 0.5 * Math.log(2.0 * Math.PI * width * width));
     }
 
     /**
