@@ -63,7 +63,8 @@ import java.util.stream.IntStream;
  *       by running the chain from the matching step.</li>
  * </ul>
  * Each job takes one options value ({@link BoundOptions}, {@link ScreeningOptions},
- * {@link ImputationOptions}, {@link DenoisingOptions}, {@link SamplingPlan}); {@link Defaults} makes
+ * {@link SurprisalOptions}, {@link DriftOptions}, {@link ImputationOptions}, {@link DenoisingOptions},
+ * {@link SamplingPlan}); {@link Defaults} makes
  * each with its defaults, and the short forms use them. The work itself runs in the engine
  * ({@code org.backstep.internal.chain}); this class checks every argument first.
  *

@@ -203,5 +203,8 @@ class SurprisalOracleTest {
         assertEquals(Double.POSITIVE_INFINITY, s.surprisal().rankedForRow(30).get(0).nats());
         assertEquals("x0", s.surprisal().rankedForRow(31).get(0).column());
         assertTrue(SurprisalOptions.none().draws() == 0);
+        // same seed, same screen, figures included (determinism, common practice)
+        assertEquals(s, GAUSS.screen(held, records, Defaults.screening().withBound(BoundOptions.sampled(50))
+                .withSurprisal(Defaults.surprisal().withDraws(64)), 17));
     }
 }
