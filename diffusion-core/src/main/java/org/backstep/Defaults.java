@@ -5,7 +5,11 @@ import org.backstep.option.Conditioning;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.DriftOptions;
+import org.backstep.option.MissingCells;
 import org.backstep.option.ScreeningOptions;
+import org.backstep.option.SurprisalOptions;
+import org.backstep.option.ThresholdRule;
 import org.backstep.table.Table;
 
 import java.util.List;
@@ -167,6 +171,26 @@ public final class Defaults {
      */
     public static final int SCREENING_DRAWS = 128;
     /**
+     * Draws per cell of the per-column surprisal: 128. Measured on exact normal draws: the figure's
+     * rms noise is 0.14, 0.11 and 0.08 nats at the centre with 64, 128 and 256 draws, 0.43, 0.30 and
+     * 0.23 at 2 sd ({@code SurprisalEstimatorTest} for 128).
+     */
+    public static final int SURPRISAL_DRAWS = 128;
+    /**
+     * Steps of the surprisal's imputation chain, at most: 50. Measured on the 3-D Gaussian oracle
+     * (128 draws, 3 rounds, 90 cells): rms error 0.27 nats with 50 steps, 0.31 with 100, at
+     * half the cost.
+     */
+    public static final int SURPRISAL_STEPS = 50;
+    /**
+     * Resampling rounds per step of the surprisal's imputation: 3. Measured on the 3-D Gaussian
+     * oracle (128 draws, 50 steps): rms error 0.27 nats and mean error 0.07 with 3 rounds, 0.47 and
+     * 0.19 with 1, where the draws follow the other cells too weakly. Not measured on a trained
+     * model, where rounds narrowed imputed intervals (see {@link #IMPUTATION_ROUNDS}): there a
+     * figure may come out too high.
+     */
+    public static final int SURPRISAL_ROUNDS = 3;
+    /**
      * The step counts {@link DiffusionModel#planSteps} tries by default, besides T itself: 10, 25,
      * 50, 100 and 250 (those below T), a spread of a decade and a half.
      */
@@ -202,9 +226,24 @@ public final class Defaults {
         return new DenoisingOptions(noiseSd, DENOISING_DRAWS, DENOISING_STEPS);
     }
 
-    /** @return flags past the {@link #SCREENING_QUANTILE} by a Monte Carlo bound of {@link #SCREENING_DRAWS} draws */
+    /**
+     * @return flags past the {@link #SCREENING_QUANTILE} of the held-out scores by a Monte Carlo
+     *     bound of {@link #SCREENING_DRAWS} draws, refuses missing cells, and gives the flagged
+     *     records the per-column figures of {@link #surprisal()}
+     */
     public static ScreeningOptions screening() {
-        return new ScreeningOptions(SCREENING_QUANTILE, BoundOptions.sampled(SCREENING_DRAWS));
+        return new ScreeningOptions(ThresholdRule.quantile(SCREENING_QUANTILE), BoundOptions.sampled(SCREENING_DRAWS),
+                MissingCells.refuse(), surprisal());
+    }
+
+    /** @return {@link #SURPRISAL_DRAWS} draws per cell on at most {@link #SURPRISAL_STEPS} steps, {@link #SURPRISAL_ROUNDS} rounds */
+    public static SurprisalOptions surprisal() {
+        return new SurprisalOptions(SURPRISAL_DRAWS, SURPRISAL_STEPS, SURPRISAL_ROUNDS);
+    }
+
+    /** @return scores by the Monte Carlo bound of {@link #SCREENING_DRAWS} draws, as a screen's; refuses missing cells */
+    public static DriftOptions drift() {
+        return new DriftOptions(BoundOptions.sampled(SCREENING_DRAWS), MissingCells.refuse());
     }
 
     /** @return min(2, available processors): two cores is the machine Backstep is tuned for */

@@ -7,22 +7,31 @@ import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.plan.StepPlanner;
+import org.backstep.internal.screen.DriftTests;
+import org.backstep.internal.screen.Screener;
+import org.backstep.internal.screen.SurprisalEstimator;
 import org.backstep.internal.store.ModelFile;
 import org.backstep.io.ModelFileException;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
+import org.backstep.option.DriftOptions;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.Limits;
 import org.backstep.option.SamplingPlan;
+import org.backstep.option.MissingCells;
 import org.backstep.option.ScreeningOptions;
+import org.backstep.option.SurprisalOptions;
+import org.backstep.option.ThresholdRule;
 import org.backstep.report.AnomalyScreen;
 import org.backstep.report.BoundReport;
 import org.backstep.report.CheckedSample;
 import org.backstep.report.Denoising;
+import org.backstep.report.DriftReport;
 import org.backstep.report.Imputation;
 import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
+import org.backstep.report.Surprisal;
 import org.backstep.schedule.Require;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
@@ -44,7 +53,11 @@ import java.util.stream.IntStream;
  * <ul>
  *   <li>{@link #bound(Table, BoundOptions, long)}: the negative variational bound per record,
  *       exactly over all T steps or a strided chain, or by Monte Carlo (Ho et al. 2020, eq. 5);</li>
- *   <li>{@link #screen(Table, Table, ScreeningOptions, long)}: anomaly flags past a held-out quantile;</li>
+ *   <li>{@link #screen(Table, Table, ScreeningOptions, long)}: anomaly flags past a threshold set on
+ *       held-out records, with the evidence, and the columns to blame
+ *       ({@link #surprisal(Table, SurprisalOptions, long)});</li>
+ *   <li>{@link #drift(Table, Table, DriftOptions, long)}: whether a new batch differs from a
+ *       reference batch, in its scores or in a column;</li>
  *   <li>{@link #sample(int, SamplingPlan, long)}: synthetic records, ancestral or implicit, through
  *       all T or a strided subset of steps;</li>
  *   <li>{@link #impute(Table, ImputationOptions, long)}: draws of missing cells given observed
@@ -53,7 +66,8 @@ import java.util.stream.IntStream;
  *       by running the chain from the matching step.</li>
  * </ul>
  * Each job takes one options value ({@link BoundOptions}, {@link ScreeningOptions},
- * {@link ImputationOptions}, {@link DenoisingOptions}, {@link SamplingPlan}); {@link Defaults} makes
+ * {@link SurprisalOptions}, {@link DriftOptions}, {@link ImputationOptions}, {@link DenoisingOptions},
+ * {@link SamplingPlan}); {@link Defaults} makes
  * each with its defaults, and the short forms use them. The work itself runs in the engine
  * ({@code org.backstep.internal.chain}); this class checks every argument first.
  *
@@ -198,44 +212,127 @@ public final class DiffusionModel {
     }
 
     /**
-     * Scores records against a threshold at a quantile of held-out records' scores, both by the
-     * bound of {@link Defaults#screening()} (a sampled bound uses at most T draws).
+     * Screens records by {@link Defaults#screening()}: each record's score is its bound (a Monte
+     * Carlo bound of at most T steps, with common random numbers: every record shares the bound's
+     * draws, so its score is a fixed function of the record and the seed); a record is flagged when
+     * its score is above the 0.99 quantile of the held-out records' scores; a record with a cell
+     * beyond the model space's range or outside its column's support scores +infinity, is flagged
+     * and noted; a missing cell is refused; the flagged records get the per-column surprisal
+     * -log p(x_j | x_-j) of {@link Defaults#surprisal()}. See {@link AnomalyScreen} for the score,
+     * the false-positive interval and the ROC curve, {@link Surprisal} for the per-column figures.
      *
      * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
      *
-     * @param heldOut complete records not trained on, to set the threshold
-     * @param records complete records to screen
+     * @param heldOut records not trained on, to set the threshold; each must be scorable
+     * @param records records to screen
      * @param seed the seed
-     * @return the threshold, every score and the flagged rows
+     * @return the held-out scores, the threshold, every score, the flagged rows, notes and surprisal
+     * @throws IllegalArgumentException naming a column mismatch, an empty table, a missing cell, or
+     *     a held-out cell the model cannot score
      */
     public AnomalyScreen screen(Table heldOut, Table records, long seed) {
         return screen(heldOut, records, Defaults.screening(), seed);
     }
 
     /**
-     * {@link #screen(Table, Table, long)} with the quantile and the bound chosen.
+     * {@link #screen(Table, Table, long)} with every setting chosen: the threshold rule (a quantile
+     * of the held-out scores, an expected false-positive rate, or a score; see
+     * {@link ThresholdRule}), the bound, missing cells refused or imputed ({@link MissingCells}),
+     * and the surprisal of the flagged records ({@link SurprisalOptions}, none with 0 draws).
+     * Held-out and screened records are scored with the same seed, so with the same draws.
      *
      * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
      *
-     * @param heldOut complete records not trained on, to set the threshold
-     * @param records complete records to screen
-     * @param how the quantile and the bound
-     * @param seed the seed: the held-out scores use it, the screened records seed + 1
-     * @return the threshold, every score and the flagged rows
+     * @param heldOut records not trained on, to set the threshold; each must be scorable
+     * @param records records to screen
+     * @param how the threshold rule, the bound, missing cells and surprisal
+     * @param seed the seed of every draw
+     * @return the held-out scores, the threshold, every score, the flagged rows, notes and surprisal
+     * @throws IllegalArgumentException naming a column mismatch, an empty table, a missing cell
+     *     (when refused), a held-out cell the model cannot score, or a false-positive rate below
+     *     what the held-out rows can resolve (with the number of rows it needs)
      */
     public AnomalyScreen screen(Table heldOut, Table records, ScreeningOptions how, long seed) {
         Require.notNull("heldOut", heldOut);
         Require.notNull("records", records);
         Require.notNull("how", how);
-        BoundOptions b = how.bound();
-        if (b.sampled() && b.draws() > steps()) {
-            b = BoundOptions.sampled(steps());
-        }
-        double[] ref = bound(heldOut, b, seed).nats();
-        double[] scores = bound(records, b, seed + 1).nats();
-        double threshold = Imputer.quantile(ref, how.quantile());
-        int[] flagged = IntStream.range(0, scores.length).filter(i -> scores[i] > threshold).toArray();
-        return new AnomalyScreen(how.quantile(), threshold, scores, flagged);
+        Require.inRange("steps", how.bound().steps(), 0, steps());
+        checkColumns(heldOut, "heldOut");
+        checkColumns(records, "records");
+        return Screener.screen(engine, heldOut, records, how, seed);
+    }
+
+    /**
+     * Which columns make each record unusual, by {@link Defaults#surprisal()}: for every column j the
+     * conditional surprisal -log p(x_j | x_-j) in nats, model space, estimated from draws of the cell
+     * given the others (see {@link Surprisal} for the estimator, its bias and its units).
+     *
+     * <p>Caution: a surprisal says which cells the model finds improbable given the others, not
+     * which sensor is at fault.
+     *
+     * @param records the records; missing cells get no figure, the others are conditioned on the
+     *     observed ones
+     * @param seed the seed
+     * @return per record and column, the surprisal
+     */
+    public Surprisal surprisal(Table records, long seed) {
+        return surprisal(records, Defaults.surprisal(), seed);
+    }
+
+    /**
+     * {@link #surprisal(Table, long)} with the draws, steps and rounds chosen.
+     *
+     * @param records the records
+     * @param how draws per cell (at least {@link SurprisalOptions#FEWEST_DRAWS}), steps, rounds
+     * @param seed the seed
+     * @return per record and column, the surprisal
+     * @throws IllegalArgumentException naming a column mismatch, an empty table, or 0 draws
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Surprisal surprisal(Table records, SurprisalOptions how, long seed) {
+        Require.notNull("how", how);
+        Require.atLeast("draws", how.draws(), SurprisalOptions.FEWEST_DRAWS);
+        checkColumns(records, "records");
+        Require.atLeast("records rows", records.rows(), 1);
+        return SurprisalEstimator.estimate(engine, records, IntStream.range(0, records.rows()).toArray(), how, seed);
+    }
+
+    /**
+     * Whether a new batch differs from a reference batch, by {@link Defaults#drift()}: a two-sample
+     * Kolmogorov-Smirnov test on the two batches' scores (scored as in a screen, with common random
+     * numbers), a Kolmogorov-Smirnov test per continuous column and a chi-squared test per binary
+     * column, the p-values adjusted together for their number (Holm 1979); see {@link DriftReport}.
+     *
+     * <p>Caution: a drift alarm says the batches differ; it does not say the new batch is faulty.
+     *
+     * @param reference records the model is known to fit, e.g. held-out rows; at least 2
+     * @param batch the new records; at least 2
+     * @param seed the seed of the scores
+     * @return the tests, the columns ranked by adjusted p-value
+     */
+    public DriftReport drift(Table reference, Table batch, long seed) {
+        return drift(reference, batch, Defaults.drift(), seed);
+    }
+
+    /**
+     * {@link #drift(Table, Table, long)} with the bound and the treatment of missing cells chosen.
+     *
+     * @param reference records the model is known to fit; at least 2
+     * @param batch the new records; at least 2
+     * @param how the bound and missing cells of the scores
+     * @param seed the seed of the scores
+     * @return the tests
+     * @throws IllegalArgumentException naming a column mismatch, a batch of fewer than 2 rows, or a
+     *     missing cell (when refused)
+     */
+    public DriftReport drift(Table reference, Table batch, DriftOptions how, long seed) {
+        Require.notNull("how", how);
+        Require.inRange("steps", how.bound().steps(), 0, steps());
+        checkColumns(reference, "reference");
+        checkColumns(batch, "batch");
+        Require.atLeast("reference rows", reference.rows(), 2);
+        Require.atLeast("batch rows", batch.rows(), 2);
+        return DriftTests.drift(engine, reference, batch, how, seed);
     }
 
     // ------------------------------------------------------------------ sampling
@@ -429,11 +526,15 @@ public final class DiffusionModel {
 
     // ------------------------------------------------------------------ helpers
 
+    private void checkColumns(Table records) {
+        checkColumns(records, "records");
+    }
+
     private void checkColumns(Table records, String name) {
         Require.notNull(name, records);
         TableTransform t = transform();
         if (!records.names().equals(t.names()) || !records.kinds().equals(t.kinds())) {
-            throw new IllegalArgumentException(name + " have columns " + records.names() + " " + records.kinds()
+            throw new IllegalArgumentException(name + " has columns " + records.names() + " " + records.kinds()
                     + "; expected the training columns " + t.names() + " " + t.kinds());
         }
     }

@@ -173,7 +173,7 @@ class BadArgumentsTest {
                 "level is 1.5; expected a number in (0.0, 1.0)"));
         cases.add(new Case("Defaults.denoising((double[]) null)", () -> Defaults.denoising((double[]) null),
                 "noiseSd is null; expected a value"));
-        cases.add(new Case("new ScreeningOptions(0.95, null)", () -> new ScreeningOptions(0.95, null), "bound is null; expected a value"));
+        cases.add(new Case("Defaults.screening().withBound(null)", () -> Defaults.screening().withBound(null), "bound is null; expected a value"));
         cases.add(new Case("SamplingPlan.implicit(10, 2.0)", () -> SamplingPlan.implicit(10, 2.0),
                 "eta is 2.0; expected a number in [0.0, 1.0]"));
         cases.add(new Case("TrainingBudget.wallClock(null)", () -> TrainingBudget.wallClock(null), "wallClock is null; expected a value"));

@@ -139,7 +139,9 @@ class NullArgumentsTest {
         samples.put(StepPlan.class, () -> new StepPlan(List.of(stepRow), 0.0, 10, "why"));
         samples.put(TrainingPlan.Row.class, () -> trainingRow);
         samples.put(TrainingPlan.class, () -> new TrainingPlan(TrainingBudget.updates(10), 0.0, List.of(trainingRow)));
-        samples.put(AnomalyScreen.class, () -> new AnomalyScreen(0.9, 1.0, new double[] {0.5, 2.0, 0.1}, new int[] {1}));
+        samples.put(AnomalyScreen.class, () -> new AnomalyScreen(org.backstep.option.ThresholdRule.quantile(0.9), 1.0,
+                new double[] {0.5, 2.0, 0.1}, new double[] {0.5, 2.0, 0.1}, new int[] {1}, List.of(),
+                org.backstep.report.Surprisal.none(List.of("x"))));
         samples.put(Imputation.class, () -> new Imputation(List.of(table), table, table, table, 0.9));
         samples.put(Denoising.class, () -> new Denoising(table, table, 1, 1));
         samples.put(AtomicFiles.Content.class, () -> (AtomicFiles.Content) out -> out.write(1));

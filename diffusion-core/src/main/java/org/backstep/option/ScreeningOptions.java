@@ -3,30 +3,58 @@ package org.backstep.option;
 import org.backstep.schedule.Require;
 
 /**
- * How to screen records: each record's score is its bound in nats (by {@code bound}), and a record
- * is flagged when its score exceeds the {@code quantile} of the held-out records' scores (the
- * empirical quantile, Hyndman &amp; Fan 1996, type 7). A sampled bound uses at most T draws.
+ * How to screen records: each record's score is its bound in nats, model space (by {@code bound},
+ * with common random numbers: every record is diffused with the same noise, see
+ * {@code org.backstep.report.AnomalyScreen}); a record is flagged when its score is above the
+ * threshold that {@code threshold} sets from the held-out records' scores. A sampled bound uses at
+ * most T draws. Missing cells are refused or imputed by {@code missing}; the flagged records get
+ * per-column surprisal figures by {@code surprisal} (none when its draws are 0).
  *
  * <p>Start from {@code org.backstep.Defaults#screening()}.
  *
- * @param quantile in (0, 1), e.g. 0.99
+ * @param threshold where the threshold goes
  * @param bound how each score is computed
+ * @param missing what to do with a missing cell
+ * @param surprisal the per-column figures of the flagged records
  */
-public record ScreeningOptions(double quantile, BoundOptions bound) {
+public record ScreeningOptions(ThresholdRule threshold, BoundOptions bound, MissingCells missing,
+                               SurprisalOptions surprisal) {
 
     /** Validates. */
     public ScreeningOptions {
-        Require.inOpen("quantile", quantile, 0.0, 1.0);
+        Require.notNull("threshold", threshold);
         Require.notNull("bound", bound);
+        Require.notNull("missing", missing);
+        Require.notNull("surprisal", surprisal);
     }
 
-    /** @param value in (0, 1) @return a copy with this quantile */
+    /** @param value not null @return a copy with this threshold rule */
+    public ScreeningOptions withThreshold(ThresholdRule value) {
+        return new ScreeningOptions(value, bound, missing, surprisal);
+    }
+
+    /** @param value in (0, 1) @return a copy with the threshold at this quantile of the held-out scores */
     public ScreeningOptions withQuantile(double value) {
-        return new ScreeningOptions(value, bound);
+        return withThreshold(ThresholdRule.quantile(value));
+    }
+
+    /** @param value in (0, 1) @return a copy with the threshold set for this expected false-positive rate */
+    public ScreeningOptions withFalsePositiveRate(double value) {
+        return withThreshold(ThresholdRule.falsePositiveRate(value));
     }
 
     /** @param value not null @return a copy scoring by this bound */
     public ScreeningOptions withBound(BoundOptions value) {
-        return new ScreeningOptions(quantile, value);
+        return new ScreeningOptions(threshold, value, missing, surprisal);
+    }
+
+    /** @param value not null @return a copy with this treatment of missing cells */
+    public ScreeningOptions withMissing(MissingCells value) {
+        return new ScreeningOptions(threshold, bound, value, surprisal);
+    }
+
+    /** @param value not null @return a copy with these surprisal settings */
+    public ScreeningOptions withSurprisal(SurprisalOptions value) {
+        return new ScreeningOptions(threshold, bound, missing, value);
     }
 }

@@ -1,7 +1,9 @@
 package org.backstep.internal.train;
 
 import org.backstep.internal.chain.Engine;
+import org.backstep.internal.chain.ScoringRange;
 import org.backstep.option.FitOptions;
+import org.backstep.report.CellNote;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
@@ -56,6 +58,10 @@ final class TrainingRows {
             if (table.kind(table.indexOf(name)) != ColumnKind.CONTINUOUS) {
                 throw new IllegalArgumentException("logColumns names '" + name + "', which is binary; only continuous columns take a log scale");
             }
+        }
+        table = leaveOutUnscorable(options, table, "", notes);
+        if (checkpointRows != null) {
+            checkpointRows = leaveOutUnscorable(options, checkpointRows, "checkpoint ", notes);
         }
         Table train = table;
         Table held = checkpointRows;
@@ -164,6 +170,29 @@ final class TrainingRows {
                 + " observed cells (averaged weights, a chain of " + GapFilling.CHAIN_STEPS + " steps, replacement with "
                 + GapFilling.ROUNDS + " resampling rounds; from the prior the first time, then from the previous"
                 + " draw diffused to step " + GapFilling.JUMP + ")";
+    }
+
+    /**
+     * Leaves out the rows holding a cell beyond the model space's range or outside a log column's
+     * support, judged on the rows' robust statistics ({@link ScoringRange#unscorableTraining}), with a
+     * note per cell naming row and column; the fit goes on with the other rows.
+     *
+     * @param rows the rows given (not modified)
+     * @param prefix put before "row r" in the notes ("" or "checkpoint ")
+     * @param notes where the notes go (modified)
+     * @return the rows kept
+     */
+    static Table leaveOutUnscorable(FitOptions options, Table rows, String prefix, List<String> notes) {
+        List<CellNote> bad = ScoringRange.unscorableTraining(rows, options.logColumns(),
+                ScoringRange.limit(options.continuousSchedule()));
+        if (bad.isEmpty()) {
+            return rows;
+        }
+        for (CellNote n : bad) {
+            notes.add(prefix + n.text() + "; the row was left out of training");
+        }
+        int[] drop = ScoringRange.rows(bad);
+        return rows.filterRows(r -> Arrays.binarySearch(drop, r) < 0);
     }
 
     /** @return D, the width of a model-space row */
