@@ -114,7 +114,9 @@ final class NormalScores {
         double sumF = 0.0;
         for (double k : knots) {
             double u = (x - k) / h;
-            double small = 0.5 * Erf.erfc(Math.abs(u) / SQRT2);
+            double a = Math.abs(u) / SQRT2;
+            double g = Math.exp(-a * a);                 // exp(-u^2 / 2), the kernel
+            double small = 0.5 * erfc(a, g);             // Phi(-|u|)
             if (u < 0) {
                 sumLo += small;
                 sumHi += 1.0 - small;
@@ -122,12 +124,52 @@ final class NormalScores {
                 sumHi += small;
                 sumLo += 1.0 - small;
             }
-            sumF += Math.exp(-0.5 * u * u);
+            sumF += g;
         }
         if (sumLo > LINEAR_FLOOR && sumHi > LINEAR_FLOOR && sumF > LINEAR_FLOOR) {
             return finish(Math.log(sumLo), Math.log(sumHi), Math.log(sumF), knots.length, h);
         }
         return evaluateInLogs(knots, h, x);
+    }
+
+    /** Below this argument erfc comes from the series of erf, above it from the continued fraction. */
+    private static final double SERIES_TO = 2.0;
+    /** Terms of the continued fraction: 60 give a relative error below 5e-16 from x = 2 on. */
+    private static final int FRACTION_TERMS = 60;
+    private static final double SQRT_PI = Math.sqrt(Math.PI);
+    private static final double TWO_OVER_SQRT_PI = 2.0 / SQRT_PI;
+
+    /**
+     * erfc(a) for a &gt;= 0, given g = exp(-a^2). Below {@link #SERIES_TO}: 1 - erf(a) with
+     * erf(a) = (2 / sqrt pi) g sum_n 2^n a^(2n+1) / (1 3 5 ... (2n+1)), a series of positive terms
+     * (Abramowitz &amp; Stegun 1964, eq. 7.1.6), summed until a term is below 1e-17 of the sum
+     * (at most 31 terms); absolute error about 3e-16. From there on: the continued fraction
+     * erfc(a) = (g / sqrt pi) / (a + (1/2) / (a + 1 / (a + (3/2) / (a + 2 / (a + ...)))))
+     * (eq. 7.1.14), {@link #FRACTION_TERMS} terms evaluated from the tail; relative error below
+     * 5e-16. Written here because commons-math3's erfc (a regularized incomplete gamma function)
+     * costs about 0.85 microseconds, and the map needs one per knot per value; the two agree to
+     * 2e-13 relative (NormalScoresTest).
+     *
+     * @param a the argument, at least 0
+     * @param g exp(-a^2)
+     * @return erfc(a)
+     */
+    static double erfc(double a, double g) {
+        if (a < SERIES_TO) {
+            double t = a;
+            double sum = t;
+            double a2 = 2.0 * a * a;
+            for (int n = 1; t > 1e-17 * sum; n++) {
+                t *= a2 / (2 * n + 1);
+                sum += t;
+            }
+            return 1.0 - TWO_OVER_SQRT_PI * g * sum;
+        }
+        double f = a;
+        for (int k = FRACTION_TERMS; k >= 1; k--) {
+            f = a + 0.5 * k / f;
+        }
+        return g / (SQRT_PI * f);
     }
 
     /**

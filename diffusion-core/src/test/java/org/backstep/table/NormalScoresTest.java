@@ -25,6 +25,8 @@ class NormalScoresTest {
     private static final double DERIVATIVE_TOL = 1e-7;
     /** Round trips x -&gt; z -&gt; x, relative to |x| + h. */
     private static final double ROUND_TRIP_TOL = 1e-10;
+    /** erfc by series and continued fraction against commons-math3 (see NormalScores.erfc). */
+    private static final double ERFC_TOL = 2e-13;
     /** Gauss-Legendre integration of a smooth density to a relative accuracy of 1e-10. */
     private static final double INTEGRAL_TOL = 1e-9;
 
@@ -189,6 +191,16 @@ class NormalScoresTest {
         // (Abramowitz & Stegun 1964, eq. 26.2.12), the rest of the series below 1e-6 at u = -1000
         double u = -1000;
         assertEquals(-u * u / 2 - Math.log(-u) - 0.5 * Math.log(2 * Math.PI), NormalScores.logCdf(u), 2e-6);
+    }
+
+    @Test
+    void erfcMatchesCommonsMath() {
+        for (double a = 0; a <= 26; a += 1.0 / 64) {
+            // commons-math3's erfc (regularized incomplete gamma function): relative agreement; below
+            // a = 2 erfc is 1 - erf, whose absolute error of about 3e-16 is 7e-14 of erfc(2)
+            double expected = Erf.erfc(a);
+            assertEquals(expected, NormalScores.erfc(a, Math.exp(-a * a)), ERFC_TOL * expected, "a = " + a);
+        }
     }
 
     @Test
