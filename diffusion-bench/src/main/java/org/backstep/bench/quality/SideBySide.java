@@ -13,7 +13,7 @@ final class SideBySide {
     }
 
     private static final String HEADER = String.format(Locale.ROOT,
-            "%-34s %8s %6s %6s %6s | %6s %5s %5s | %6s %5s %5s %8s | %7s%n",
+            "%-38s %8s %6s %6s %6s | %6s %5s %5s | %6s %5s %5s %8s | %7s%n",
             "table / model", "nats", "+-fits", "rec sd", "mn sd", "RMSE", "cov", "exp", "AUROC", "R@99", "R@95", "AUROC(b)",
             "fit s");
 
@@ -34,7 +34,7 @@ final class SideBySide {
                     continue;
                 }
                 double[] nats = rs.stream().mapToDouble(QualityBenchmark.Run::nats).toArray();
-                out.append(String.format(Locale.ROOT, "  %-32s %8.3f %6s %6.3f %6.3f | %6s %5s %5s | %6s %5s %5s %8s | %7.1f%n",
+                out.append(String.format(Locale.ROOT, "  %-36s %8.3f %6s %6.3f %6.3f | %6s %5s %5s | %6s %5s %5s %8s | %7.1f%n",
                         "Backstep " + lever + " (" + rs.size() + (rs.size() == 1 ? " fit)" : " fits)"),
                         Measures.mean(nats), rs.size() > 1 ? String.format(Locale.ROOT, "%.3f", Measures.sd(nats)) : "",
                         avg(rs, QualityBenchmark.Run::recordSd),
@@ -49,17 +49,18 @@ final class SideBySide {
             JsonNode dens = t.path("density");
             JsonNode imp = t.path("imputation").path("models");
             JsonNode det = t.path("anomaly").path("detectors");
-            classical(out, "one Gaussian", dens.path("gaussian"), imp.path("gaussian"), det.path("mahalanobis"));
-            classical(out, "Gaussian mixture" + k(dens.path("mixture")), dens.path("mixture"), imp.path("mixture"),
-                    det.path("mixture"));
-            classical(out, "copula Gaussian" + h(dens.path("copula_gaussian")), dens.path("copula_gaussian"),
-                    imp.path("copula_gaussian"), det.path("copula_gaussian"));
-            classical(out, "copula mixture" + k(dens.path("copula_mixture")) + h(dens.path("copula_mixture")),
-                    dens.path("copula_mixture"), imp.path("copula_mixture"), det.path("copula_mixture"));
-            classical(out, "independent Bernoulli", dens.path("bernoulli"), imp.path("bernoulli"), null);
-            classical(out, "Bernoulli mixture" + k(dens.path("bernoulli_mixture")), dens.path("bernoulli_mixture"),
-                    imp.path("bernoulli_mixture"), det.path("mixture"));
-            if (dens.path("gaussian").isMissingNode()) {
+            if (dens.has("gaussian")) {
+                classical(out, "one Gaussian", dens.path("gaussian"), imp.path("gaussian"), det.path("mahalanobis"));
+                classical(out, "Gaussian mixture" + k(dens.path("mixture")), dens.path("mixture"), imp.path("mixture"),
+                        det.path("mixture"));
+                classical(out, "copula Gaussian" + h(dens.path("copula_gaussian")), dens.path("copula_gaussian"),
+                        imp.path("copula_gaussian"), det.path("copula_gaussian"));
+                classical(out, "copula mixture" + k(dens.path("copula_mixture")) + h(dens.path("copula_mixture")),
+                        dens.path("copula_mixture"), imp.path("copula_mixture"), det.path("copula_mixture"));
+            } else {
+                classical(out, "independent Bernoulli", dens.path("bernoulli"), imp.path("bernoulli"), null);
+                classical(out, "Bernoulli mixture" + k(dens.path("bernoulli_mixture")), dens.path("bernoulli_mixture"),
+                        imp.path("bernoulli_mixture"), det.path("mixture"));
                 classical(out, "Mahalanobis distance", null, null, det.path("mahalanobis"));
             }
             classical(out, "isolation forest", null, null, det.path("isolation_forest"));
@@ -76,10 +77,16 @@ final class SideBySide {
                 + "AUROC: normal test rows against every anomalous row (breast_cancer: benign normal; digits: 0-8 normal);%n"
                 + "  Backstep's from screen(), AUROC(b) from one exact bound; R@99, R@95: recall of anomalies above the 99th%n"
                 + "  and 95th percentile of the normal test rows' scores. Classical rows: the model's own detector.%n"
-                + "fit s: wall-clock seconds of fit() (Backstep, 2 threads) or of model selection and fit (classical).%n"
-                + "Levers: %s are fitted on the table after a transform of org.backstep.table fitted on the training%n"
-                + "  rows; nats are taken back to the caller's units by the transform's exact log-Jacobian.%n",
-                boundSeeds, levers.size() > 1 ? "rows other than defaults" : "(none run)"));
+                + "fit s: wall-clock seconds of fit() (Backstep, 2 threads) or of model selection and fit (classical),%n"
+                + "  on a shared machine: compare within one run.%n"
+                + "%s",
+                boundSeeds, levers.size() > 1
+                        ? String.format(Locale.ROOT, "Levers: the rows other than defaults fit Backstep, at its defaults, on the table%n"
+                                + "  after a transform of org.backstep.table fitted on the training rows (normal scores: NORMAL_SCORES%n"
+                                + "  with Silverman's bandwidth; whitened: standardized, then Whitening by the training covariance);%n"
+                                + "  nats are taken back to the caller's units by the transform's exact log-Jacobian. A whitened%n"
+                                + "  table mixes columns, so those rows have no imputation.%n")
+                        : ""));
         return out.toString();
     }
 
@@ -90,7 +97,7 @@ final class SideBySide {
         if (!hasDensity && !hasDet) {
             return;
         }
-        out.append(String.format(Locale.ROOT, "  %-32s %8s %6s %6s %6s | %6s %5s %5s | %6s %5s %5s %8s | %7s%n",
+        out.append(String.format(Locale.ROOT, "  %-36s %8s %6s %6s %6s | %6s %5s %5s | %6s %5s %5s %8s | %7s%n",
                 label, hasDensity ? f(dens.path("nats").asDouble(), 3, 8) : "", "", "", "",
                 hasImp ? f(imp.path("rmse").asDouble(), 3, 6) : "",
                 hasImp && imp.has("coverage") ? f(imp.path("coverage").asDouble(), 3, 5) : "",
