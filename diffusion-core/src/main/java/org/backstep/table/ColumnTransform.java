@@ -1,5 +1,7 @@
 package org.backstep.table;
 
+import java.util.Arrays;
+
 /**
  * One column's invertible map z = f(x) from original units x to the model's space z, with its
  * log-Jacobian log |dz/dx|:
@@ -7,13 +9,24 @@ package org.backstep.table;
  *   kind             forward z = f(x)              inverse x = f^-1(z)          log |dz/dx|
  *   STANDARDIZE      (x - shift) / scale           shift + scale z              -log(scale)
  *   LOG_STANDARDIZE  (log x - shift) / scale       exp(shift + scale z)         -log(scale) - log(x)
+ *   NORMAL_SCORES    Phi^-1(F(x))                  F^-1(Phi(z)), solved         log f(x) - log phi(z)
  *   CONSTANT         x - shift                     shift (for every z)          0
  *   IDENTITY         x                             z                            0
  * </pre>
  * STANDARDIZE and LOG_STANDARDIZE take shift = mean and scale = population standard deviation (of x,
- * or of log x) over the training rows. A CONSTANT column had one value in the training rows; that
- * value is {@code shift} and is carried exactly rather than diffused. IDENTITY is the map of every
- * binary column. Densities convert by the change of variables formula
+ * or of log x) over the training rows. NORMAL_SCORES maps a column to the normal scores of a
+ * kernel-smoothed empirical distribution function of its training values, the {@code knots} k_1..k_n:
+ * F(x) = (1/n) sum_i Phi((x - k_i) / h), with Gaussian kernels of bandwidth h = {@code scale}, and
+ * f = F' the kernel density estimate (1/(n h)) sum_i phi((x - k_i) / h); Phi and phi are the standard
+ * normal distribution and density. If the training values were a sample of any continuous
+ * distribution, z is close to standard normal, so a Gaussian model of several such columns is a
+ * Gaussian copula (Liu, Lafferty &amp; Wasserman 2009, "The Nonparanormal: Semiparametric Estimation of
+ * High Dimensional Undirected Graphs", JMLR 10:2295-2328, section 3, which winsorizes an unsmoothed
+ * distribution function instead). Values are computed in log space, so z and the log-Jacobian are
+ * finite for every finite x, however far outside the knots; the inverse is solved by Newton's method
+ * inside a bracket. A CONSTANT column had one value in the training rows; that value is
+ * {@code shift} and is carried exactly rather than diffused. IDENTITY is the map of every binary
+ * column. Densities convert by the change of variables formula
  * log p_x(x) = log p_z(f(x)) + log |dz/dx| (Dinh, Sohl-Dickstein &amp; Bengio 2017, "Density
  * estimation using Real NVP", section 3.1).
  *
@@ -21,10 +34,16 @@ package org.backstep.table;
  * value.
  *
  * @param kind the kind of map
- * @param shift the mean (of x, or of log x), the carried value of a CONSTANT column, or 0 for IDENTITY
- * @param scale the population standard deviation (of x, or of log x), above 0; 1 for CONSTANT and IDENTITY
+ * @param shift the mean (of x, or of log x), the carried value of a CONSTANT column, or 0 for
+ *     IDENTITY and NORMAL_SCORES
+ * @param scale the population standard deviation (of x, or of log x), or the kernel bandwidth h of
+ *     NORMAL_SCORES, above 0; 1 for CONSTANT and IDENTITY
+ * @param knots the sorted training values of NORMAL_SCORES (at least two distinct, all finite); empty
+ *     for the other kinds. The accessor returns a copy.
  */
-public record ColumnTransform(Kind kind, double shift, double scale) {
+public record ColumnTransform(Kind kind, double shift, double scale, double[] knots) {
+
+    private static final double[] NO_KNOTS = new double[0];
 
     /** The kinds of column map. */
     public enum Kind {
@@ -32,6 +51,8 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
         STANDARDIZE,
         /** z = (log x - mean of log x) / sd of log x; for strictly positive columns. */
         LOG_STANDARDIZE,
+        /** z = Phi^-1(F(x)), F a kernel-smoothed empirical distribution function of the training values. */
+        NORMAL_SCORES,
         /** A column with one value in the training rows, carried exactly and not diffused. */
         CONSTANT,
         /** z = x, for binary columns. */
@@ -39,16 +60,23 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
     }
 
     /**
-     * Validates the parameters.
+     * Validates the parameters and copies {@code knots}.
      *
      * @throws IllegalArgumentException if {@code kind} is null; for STANDARDIZE and LOG_STANDARDIZE
-     *     if {@code shift} is not finite or {@code scale} is not finite and above 0; for CONSTANT if
-     *     {@code shift} is not finite or {@code scale != 1}; for IDENTITY unless shift = 0 and scale = 1
+     *     if {@code shift} is not finite or {@code scale} is not finite and above 0; for NORMAL_SCORES
+     *     unless shift = 0, the bandwidth {@code scale} is finite and above 0 and the knots are finite,
+     *     sorted ascending and hold two distinct values; for CONSTANT if {@code shift} is not finite or
+     *     {@code scale != 1}; for IDENTITY unless shift = 0 and scale = 1; for every kind but
+     *     NORMAL_SCORES if {@code knots} is not empty (null counts as empty)
      */
     public ColumnTransform {
         if (kind == null) {
             throw new IllegalArgumentException("kind is null; expected one of STANDARDIZE, LOG_STANDARDIZE, "
-                    + "CONSTANT, IDENTITY");
+                    + "NORMAL_SCORES, CONSTANT, IDENTITY");
+        }
+        knots = knots == null ? NO_KNOTS : knots.clone();
+        if (kind != Kind.NORMAL_SCORES && knots.length > 0) {
+            throw new IllegalArgumentException("knots has " + knots.length + " values; expected none for " + kind);
         }
         switch (kind) {
             case STANDARDIZE, LOG_STANDARDIZE -> {
@@ -59,6 +87,16 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
                     throw new IllegalArgumentException("scale is " + scale
                             + "; expected a finite standard deviation above 0 for " + kind);
                 }
+            }
+            case NORMAL_SCORES -> {
+                if (shift != 0.0) {
+                    throw new IllegalArgumentException("shift is " + shift + "; expected 0 for NORMAL_SCORES");
+                }
+                if (!(scale > 0) || !Double.isFinite(scale)) {
+                    throw new IllegalArgumentException("scale is " + scale
+                            + "; expected a finite kernel bandwidth above 0 for NORMAL_SCORES");
+                }
+                checkKnots(knots);
             }
             case CONSTANT -> {
                 if (!Double.isFinite(shift)) {
@@ -76,6 +114,38 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
                 }
             }
             default -> throw new AssertionError(kind);
+        }
+    }
+
+    /**
+     * The transform of a kind without knots, as before NORMAL_SCORES existed.
+     *
+     * @param kind STANDARDIZE, LOG_STANDARDIZE, CONSTANT or IDENTITY
+     * @param shift see the record
+     * @param scale see the record
+     * @throws IllegalArgumentException as the canonical constructor
+     */
+    public ColumnTransform(Kind kind, double shift, double scale) {
+        this(kind, shift, scale, NO_KNOTS);
+    }
+
+    private static void checkKnots(double[] knots) {
+        if (knots.length < 2) {
+            throw new IllegalArgumentException("knots has " + knots.length
+                    + " values; expected at least two distinct training values for NORMAL_SCORES");
+        }
+        for (int i = 0; i < knots.length; i++) {
+            if (!Double.isFinite(knots[i])) {
+                throw new IllegalArgumentException("knots[" + i + "] is " + knots[i] + "; expected a finite value");
+            }
+            if (i > 0 && knots[i] < knots[i - 1]) {
+                throw new IllegalArgumentException("knots[" + i + "] is " + knots[i] + ", below knots[" + (i - 1)
+                        + "] = " + knots[i - 1] + "; expected the knots sorted ascending");
+            }
+        }
+        if (knots[0] == knots[knots.length - 1]) {
+            throw new IllegalArgumentException("knots are all " + knots[0]
+                    + "; expected at least two distinct values (a one-valued column is CONSTANT)");
         }
     }
 
@@ -111,6 +181,51 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
         return new ColumnTransform(Kind.CONSTANT, value, 1.0);
     }
 
+    /**
+     * z = Phi^-1(F(x)) with F(x) = (1/n) sum_i Phi((x - v_i) / h) over the training values v_i (see
+     * {@link ColumnTransform}).
+     *
+     * @param trainingValues the column's training values, finite, at least two distinct, in any order
+     *     (not modified)
+     * @param bandwidth h, finite and above 0 (see {@link #silvermanBandwidth(double[])})
+     * @return the transform, with the values sorted as its knots
+     * @throws IllegalArgumentException naming the bad value
+     */
+    public static ColumnTransform normalScores(double[] trainingValues, double bandwidth) {
+        if (trainingValues == null) {
+            throw new IllegalArgumentException("trainingValues is null; expected the column's training values");
+        }
+        double[] knots = trainingValues.clone();
+        Arrays.sort(knots);
+        return new ColumnTransform(Kind.NORMAL_SCORES, 0.0, bandwidth, knots);
+    }
+
+    /**
+     * Silverman's rule of thumb for a Gaussian kernel density estimate,
+     * h = 0.9 min(sd, IQR / 1.34) n^(-1/5) (Silverman 1986, "Density Estimation for Statistics and
+     * Data Analysis", eq. 3.31), with the population standard deviation and the interquartile range
+     * (quartiles by linear interpolation, Hyndman &amp; Fan 1996 type 7); the sd alone when the IQR is 0.
+     *
+     * @param values finite, at least two distinct (not modified)
+     * @return h, above 0
+     * @throws IllegalArgumentException if there are fewer than two distinct or a non-finite value
+     */
+    public static double silvermanBandwidth(double[] values) {
+        if (values == null) {
+            throw new IllegalArgumentException("values is null; expected at least two distinct finite values");
+        }
+        double[] sorted = values.clone();
+        Arrays.sort(sorted);
+        checkKnots(sorted);
+        return NormalScores.silverman(sorted);
+    }
+
+    /** @return a copy of the knots (empty unless NORMAL_SCORES) */
+    @Override
+    public double[] knots() {
+        return knots.clone();
+    }
+
     /** @return z = x, the transform of binary columns */
     public static ColumnTransform identity() {
         return new ColumnTransform(Kind.IDENTITY, 0.0, 1.0);
@@ -121,7 +236,8 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
      *
      * @param x a value in original units
      * @return z in model space
-     * @throws IllegalArgumentException naming {@code x} if LOG_STANDARDIZE and {@code x <= 0}
+     * @throws IllegalArgumentException naming {@code x} if LOG_STANDARDIZE and {@code x <= 0}, or if
+     *     NORMAL_SCORES and {@code x} is infinite
      */
     public double forward(double x) {
         if (Double.isNaN(x)) {
@@ -130,6 +246,7 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
         return switch (kind) {
             case STANDARDIZE -> (x - shift) / scale;
             case LOG_STANDARDIZE -> (Math.log(checkPositive(x)) - shift) / scale;
+            case NORMAL_SCORES -> NormalScores.evaluate(knots, scale, checkFinite(x))[0];
             case CONSTANT -> x - shift;
             case IDENTITY -> x;
         };
@@ -141,11 +258,13 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
      *
      * @param z a value in model space
      * @return x in original units
+     * @throws IllegalArgumentException if NORMAL_SCORES and {@code z} is infinite
      */
     public double inverse(double z) {
         return switch (kind) {
             case STANDARDIZE -> shift + scale * z;
             case LOG_STANDARDIZE -> Math.exp(shift + scale * z);
+            case NORMAL_SCORES -> Double.isNaN(z) ? Double.NaN : NormalScores.inverse(knots, scale, checkFinite(z));
             case CONSTANT -> shift;
             case IDENTITY -> z;
         };
@@ -153,13 +272,14 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
 
     /**
      * log |dz/dx| at x, in nats: -log(scale) for STANDARDIZE, -log(scale) - log(x) for
-     * LOG_STANDARDIZE, 0 for CONSTANT and IDENTITY. Add it to a log density in model space to get the
-     * log density in original units: log p_x(x) = log p_z(z) + log |dz/dx|.
+     * LOG_STANDARDIZE, log f(x) - log phi(z) for NORMAL_SCORES, 0 for CONSTANT and IDENTITY. Add it
+     * to a log density in model space to get the log density in original units:
+     * log p_x(x) = log p_z(z) + log |dz/dx|.
      *
      * @param x an observed value in original units
      * @return the log-Jacobian
-     * @throws IllegalArgumentException if {@code x} is NaN (a missing cell has no Jacobian), or if
-     *     LOG_STANDARDIZE and {@code x <= 0}
+     * @throws IllegalArgumentException if {@code x} is NaN (a missing cell has no Jacobian), if
+     *     LOG_STANDARDIZE and {@code x <= 0}, or if NORMAL_SCORES and {@code x} is infinite
      */
     public double logJacobian(double x) {
         if (Double.isNaN(x)) {
@@ -168,8 +288,67 @@ public record ColumnTransform(Kind kind, double shift, double scale) {
         return switch (kind) {
             case STANDARDIZE -> -Math.log(scale);
             case LOG_STANDARDIZE -> -Math.log(scale) - Math.log(checkPositive(x));
+            case NORMAL_SCORES -> NormalScores.evaluate(knots, scale, checkFinite(x))[1];
             case CONSTANT, IDENTITY -> 0.0;
         };
+    }
+
+    /**
+     * z and log |dz/dx| at once (one pass over the knots for NORMAL_SCORES).
+     *
+     * @param x an observed value in original units
+     * @return {forward(x), logJacobian(x)}
+     * @throws IllegalArgumentException as {@link #logJacobian(double)}
+     */
+    public double[] forwardWithLogJacobian(double x) {
+        if (kind == Kind.NORMAL_SCORES) {
+            if (Double.isNaN(x)) {
+                throw new IllegalArgumentException("x is NaN; expected an observed value (a missing cell has no Jacobian)");
+            }
+            return NormalScores.evaluate(knots, scale, checkFinite(x));
+        }
+        double lj = logJacobian(x);
+        return new double[] {forward(x), lj};
+    }
+
+    private static double checkFinite(double v) {
+        if (Double.isInfinite(v)) {
+            throw new IllegalArgumentException("value is " + v + "; a NORMAL_SCORES column maps finite values only");
+        }
+        return v;
+    }
+
+    /**
+     * Equal when kind, shift, scale (compared as by {@link Double#compare}) and knots are equal.
+     *
+     * @param o another object
+     * @return true if equal
+     */
+    @Override
+    public boolean equals(Object o) {
+        if (this == o) {
+            return true;
+        }
+        if (!(o instanceof ColumnTransform t)) {
+            return false;
+        }
+        return kind == t.kind && Double.compare(shift, t.shift) == 0 && Double.compare(scale, t.scale) == 0
+                && Arrays.equals(knots, t.knots);
+    }
+
+    /** @return a hash consistent with {@link #equals(Object)} */
+    @Override
+    public int hashCode() {
+        return 31 * (31 * (31 * kind.hashCode() + Double.hashCode(shift)) + Double.hashCode(scale)) + Arrays.hashCode(knots);
+    }
+
+    /** @return kind, shift, scale and, for NORMAL_SCORES, the number and range of the knots */
+    @Override
+    public String toString() {
+        String base = "ColumnTransform[kind=" + kind + ", shift=" + shift + ", scale=" + scale;
+        return kind == Kind.NORMAL_SCORES
+                ? base + ", knots=" + knots.length + " values in [" + knots[0] + ", " + knots[knots.length - 1] + "]]"
+                : base + "]";
     }
 
     private static double checkPositive(double x) {

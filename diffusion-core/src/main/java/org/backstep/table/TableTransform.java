@@ -20,7 +20,8 @@ import org.backstep.schedule.Require;
  *       s = sqrt((1/n) sum (x_i - m)^2), computed in two passes with the correction of Chan, Golub &amp;
  *       LeVeque 1983 ("Algorithms for computing the sample variance", eq. 1.7); or LOG_STANDARDIZE
  *       with the same statistics of log x for the columns asked for, which must then be strictly
- *       positive.</li>
+ *       positive; or, by {@link #fitNormalScores(Table, double)}, NORMAL_SCORES (the normal scores of
+ *       a kernel-smoothed empirical distribution function of the column's training values).</li>
  * </ul>
  * The population (divide by n) standard deviation matches the project's fixed data split
  * (test resources {@code data/SOURCES.md}).
@@ -33,7 +34,8 @@ import org.backstep.schedule.Require;
  * log p_x(x) = log p_z(z) + sum_j log |dz_j/dx_j| (Dinh, Sohl-Dickstein &amp; Bengio 2017, "Density
  * estimation using Real NVP", section 3.1), the sum over the modelled continuous, non-missing cells
  * ({@link #logJacobian(double[])}). For STANDARDIZE log |dz/dx| = -log s, so a negative
- * log-likelihood in model space becomes one in original units by adding sum_j log s_j. Densities are
+ * log-likelihood in model space becomes one in original units by adding sum_j log s_j; for
+ * LOG_STANDARDIZE and NORMAL_SCORES it depends on x (see {@link ColumnTransform}). Densities are
  * in nats; constant columns contribute nothing (they are a point mass, left out of both sides).
  */
 public final class TableTransform {
@@ -65,6 +67,9 @@ public final class TableTransform {
             } else if (t.kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
                 all.add("column '" + names.get(c) + "' is modelled on the log scale: z = (log x - " + t.shift()
                         + ") / " + t.scale());
+            } else if (t.kind() == ColumnTransform.Kind.NORMAL_SCORES) {
+                all.add("column '" + names.get(c) + "' is modelled by its normal scores: z = Phi^-1(F(x)), F smoothed from "
+                        + t.knots().length + " training values with bandwidth " + t.scale());
             }
         }
         all.addAll(fitNotes);
@@ -85,6 +90,38 @@ public final class TableTransform {
     public static TableTransform fit(Table training, Set<String> logColumns) {
         Require.notNull("training", training);
         Require.notNull("logColumns", logColumns);
+        return fit(training, logColumns, Double.NaN);
+    }
+
+    /**
+     * Fits the NORMAL_SCORES map of {@link ColumnTransform} to every continuous column with two or
+     * more distinct training values: z = Phi^-1(F(x)) with F the kernel-smoothed empirical
+     * distribution function of the column's observed training values and the bandwidth
+     * h = {@code bandwidthMultiple} x Silverman's rule ({@link ColumnTransform#silvermanBandwidth}).
+     * Binary columns stay IDENTITY, one-valued continuous columns CONSTANT, as in
+     * {@link #fit(Table, Set)}. Each modelled continuous column is then close to standard normal on
+     * the training rows whatever its shape (skewed, heavy-tailed, bounded), and
+     * {@link #logJacobian(Table)} is exact, so densities convert to original units as for the other
+     * kinds (a Gaussian copula; Liu, Lafferty &amp; Wasserman 2009, "The Nonparanormal").
+     *
+     * @param training the training rows (not modified)
+     * @param bandwidthMultiple the multiple of Silverman's rule, finite and above 0 (1 is the rule itself)
+     * @return the fitted transforms
+     * @throws IllegalArgumentException naming the column if a continuous column has no observed
+     *     training cell, or naming {@code bandwidthMultiple}
+     */
+    public static TableTransform fitNormalScores(Table training, double bandwidthMultiple) {
+        Require.notNull("training", training);
+        if (!(bandwidthMultiple > 0) || !Double.isFinite(bandwidthMultiple)) {
+            throw new IllegalArgumentException("bandwidthMultiple is " + bandwidthMultiple
+                    + "; expected a finite multiple of Silverman's rule above 0");
+        }
+        return fit(training, Set.of(), bandwidthMultiple);
+    }
+
+    /** bandwidthMultiple NaN: STANDARDIZE and LOG_STANDARDIZE; else NORMAL_SCORES with that multiple. */
+    private static TableTransform fit(Table training, Set<String> logColumns, double bandwidthMultiple) {
+        boolean scores = !Double.isNaN(bandwidthMultiple);
         for (String name : logColumns) {
             int c = training.indexOf(name);
             if (training.kind(c) != ColumnKind.CONTINUOUS) {
@@ -128,6 +165,11 @@ public final class TableTransform {
                 transforms.add(ColumnTransform.constant(observed[0]));
                 continue;
             }
+            if (scores) {
+                double h = bandwidthMultiple * ColumnTransform.silvermanBandwidth(observed);
+                transforms.add(ColumnTransform.normalScores(observed, h));
+                continue;
+            }
             if (log) {
                 for (int i = 0; i < n; i++) {
                     observed[i] = Math.log(observed[i]);
@@ -150,7 +192,7 @@ public final class TableTransform {
      * @param names the column names (not modified)
      * @param kinds one kind per column (not modified)
      * @param transforms one transform per column: IDENTITY for each binary column, and STANDARDIZE,
-     *     LOG_STANDARDIZE or CONSTANT for each continuous one (not modified)
+     *     LOG_STANDARDIZE, NORMAL_SCORES or CONSTANT for each continuous one (not modified)
      * @return the transforms
      * @throws IllegalArgumentException naming the column if a size or a pairing of kind and transform is wrong
      */
@@ -172,7 +214,8 @@ public final class TableTransform {
             if (binary != identity) {
                 throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c) + "', "
                         + layout.kinds.get(c) + ") is " + t.kind() + "; expected "
-                        + (binary ? "IDENTITY for a binary column" : "STANDARDIZE, LOG_STANDARDIZE or CONSTANT for a continuous column"));
+                        + (binary ? "IDENTITY for a binary column"
+                                : "STANDARDIZE, LOG_STANDARDIZE, NORMAL_SCORES or CONSTANT for a continuous column"));
             }
         }
         return new TableTransform(layout, transforms, List.of());
@@ -462,6 +505,8 @@ public final class TableTransform {
             sb.append("  ").append(names.get(c)).append(": ").append(kinds.get(c)).append(' ').append(t.kind());
             if (t.kind() == ColumnTransform.Kind.STANDARDIZE || t.kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
                 sb.append(" shift=").append(t.shift()).append(" scale=").append(t.scale());
+            } else if (t.kind() == ColumnTransform.Kind.NORMAL_SCORES) {
+                sb.append(" knots=").append(t.knots().length).append(" bandwidth=").append(t.scale());
             } else if (t.kind() == ColumnTransform.Kind.CONSTANT) {
                 sb.append(" value=").append(t.shift());
             }

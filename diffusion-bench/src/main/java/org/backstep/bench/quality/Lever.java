@@ -1,0 +1,163 @@
+package org.backstep.bench.quality;
+
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Set;
+
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+import org.backstep.table.TableTransform;
+import org.backstep.table.Whitening;
+
+/**
+ * What the benchmark fits Backstep on: the table itself (the library's defaults), or the table after
+ * one of the transforms of {@code org.backstep.table} fitted on the training rows. A lever builds the
+ * transformed table itself and fits Backstep, at its defaults, on that; every density is taken back
+ * to the caller's units by the transform's exact log-Jacobian, added by hand:
+ * -log p_x(x) = -log p_e(e(x)) - log |de/dx|.
+ */
+enum Lever {
+    /** The table as it is; Backstep standardizes it itself. */
+    DEFAULTS("defaults"),
+    /** Each continuous column mapped to its normal scores (NORMAL_SCORES, Silverman's bandwidth). */
+    NORMAL_SCORES("normal scores"),
+    /** The continuous columns standardized, then whitened by the training covariance. */
+    WHITENED("whitened"),
+    /** Normal scores, then whitened by the scores' training covariance (a Gaussian copula's space). */
+    NORMAL_SCORES_WHITENED("scores+whitened");
+
+    /** The bandwidth of NORMAL_SCORES: Silverman's rule itself (no choice made on the test tables). */
+    static final double BANDWIDTH_MULTIPLE = 1.0;
+
+    final String label;
+
+    Lever(String label) {
+        this.label = label;
+    }
+
+    /**
+     * Fits the lever's transform on the training rows.
+     *
+     * @param train the training rows (complete)
+     * @return the fitted encoding
+     */
+    Encoding fit(Table train) {
+        return switch (this) {
+            case DEFAULTS -> new Encoding(this, null, null, train);
+            case NORMAL_SCORES -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
+            case WHITENED, NORMAL_SCORES_WHITENED -> {
+                TableTransform columns = this == WHITENED ? TableTransform.fit(train, Set.of())
+                        : TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE);
+                int nc = columns.modelledContinuous().length;
+                double[][] y = columns.toModelSpace(train);
+                double[][] block = new double[y.length][];
+                for (int r = 0; r < y.length; r++) {
+                    block[r] = Arrays.copyOf(y[r], nc);
+                }
+                yield new Encoding(this, columns, Whitening.fit(block), train);
+            }
+        };
+    }
+
+    /** @return the label */
+    @Override
+    public String toString() {
+        return label;
+    }
+
+    /**
+     * A fitted lever: e(x) = W (f(x) - m) with per-column maps f and an optional whitening W (or the
+     * identity for DEFAULTS).
+     */
+    static final class Encoding {
+        final Lever lever;
+        private final TableTransform columns;
+        private final Whitening whitening;
+        private final List<String> names;
+        private final List<ColumnKind> kinds;
+
+        Encoding(Lever lever, TableTransform columns, Whitening whitening, Table train) {
+            this.lever = lever;
+            this.columns = columns;
+            this.whitening = whitening;
+            if (columns == null) {
+                names = train.names();
+                kinds = train.kinds();
+            } else {
+                int nc = columns.modelledContinuous().length;
+                List<String> n = new ArrayList<>(columns.modelColumnNames());
+                List<ColumnKind> k = new ArrayList<>();
+                for (int j = 0; j < n.size(); j++) {
+                    k.add(j < nc ? ColumnKind.CONTINUOUS : ColumnKind.BINARY);
+                    if (whitening != null && j < nc) {
+                        n.set(j, "w" + (j + 1));
+                    }
+                }
+                names = List.copyOf(n);
+                kinds = List.copyOf(k);
+            }
+        }
+
+        /** @return whether imputation can run on the encoded table (not when columns are mixed) */
+        boolean imputes() {
+            return whitening == null;
+        }
+
+        /**
+         * e(x) row by row; missing cells stay missing unless the encoding whitens (then rows must be complete).
+         *
+         * @param t rows in the caller's units
+         * @return the encoded rows, as a table with continuous columns first
+         */
+        Table encode(Table t) {
+            if (columns == null) {
+                return t;
+            }
+            double[][] y = columns.toModelSpace(t);
+            if (whitening != null) {
+                int nc = whitening.dimensions();
+                for (double[] row : y) {
+                    double[] z = whitening.whiten(Arrays.copyOf(row, nc));
+                    System.arraycopy(z, 0, row, 0, nc);
+                }
+            }
+            return Table.of(names, kinds, y);
+        }
+
+        /**
+         * The inverse of {@link #encode(Table)} (per-column encodings only).
+         *
+         * @param encoded encoded rows
+         * @return the rows in the caller's units
+         */
+        Table decode(Table encoded) {
+            if (columns == null) {
+                return encoded;
+            }
+            if (whitening != null) {
+                throw new IllegalStateException("a whitened encoding is not decoded cell by cell");
+            }
+            return columns.fromModelSpace(encoded.toArray());
+        }
+
+        /**
+         * log |de/dx| per row: the per-column maps' log-Jacobians plus log |det W|.
+         *
+         * @param t complete rows in the caller's units
+         * @return one value per row, nats
+         */
+        double[] logJacobian(Table t) {
+            if (columns == null) {
+                return new double[t.rows()];
+            }
+            double[] lj = columns.logJacobian(t);
+            if (whitening != null) {
+                for (int r = 0; r < lj.length; r++) {
+                    lj[r] += whitening.logDeterminant();
+                }
+            }
+            return lj;
+        }
+    }
+}

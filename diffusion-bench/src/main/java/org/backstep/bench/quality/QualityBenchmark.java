@@ -1,0 +1,358 @@
+package org.backstep.bench.quality;
+
+import org.backstep.Defaults;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+
+import org.backstep.Backstep;
+import org.backstep.DiffusionModel;
+import org.backstep.report.AnomalyScreen;
+import org.backstep.report.BoundReport;
+import org.backstep.report.Imputation;
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+
+/**
+ * Fits Backstep at its defaults on the fixed split of four open tables and prints one table beside
+ * the classical models of {@code quality-baselines.sh} (read from its JSON file): held-out density in
+ * nats per record in SOURCES.md's standardized space, imputation RMSE and interval coverage, anomaly
+ * ranks (AUROC, recall) and fit seconds. With {@code --levers}, also fits Backstep on the table after
+ * each transform of {@link Lever}, so that their effect shows on the same rows.
+ *
+ * <p>Per table, lever and fit seed:
+ * <ul>
+ *   <li><b>Density.</b> The exact bound ({@code DiffusionModel.bound}, all T terms) of the test rows
+ *       with bound seeds 1..B; each record's {@code natsOriginalUnits()} (the density in the units of
+ *       the table the model was fitted on), minus the lever's log-Jacobian log |de/dx| (the density in
+ *       the caller's units), plus SOURCES.md's standardization log-Jacobian -sum_j log s_j (its space).
+ *       The model standardizes by the rows it trained on, a 90% share of the training rows, so its
+ *       own model space differs from SOURCES.md's; this conversion is exact. The figure is the mean
+ *       over records and bound seeds; "rec sd" is the per-record standard deviation over the B bound
+ *       seeds (root mean square over records), "mean sd" that of the table mean.</li>
+ *   <li><b>Imputation.</b> The hidden cells of the baselines file (20% of the test rows' cells)
+ *       are set missing; {@code DiffusionModel.impute} draws k = 20 completions at level 0.9; RMSE of
+ *       the draws' mean in standardized units (for binary cells, of the share of 1s), and the share of
+ *       hidden continuous cells inside their interval, beside {@code Imputation.expectedCoverage()}.
+ *       For a lever the draws are decoded to the caller's units cell by cell and the mean and type-7
+ *       interval taken there; a whitening lever mixes columns, so it does not impute.</li>
+ *   <li><b>Anomaly ranks</b> (breast_cancer, digits_binary; SOURCES.md's protocol): a second model
+ *       fitted on the normal training rows; {@code DiffusionModel.screen(held-out normal rows, *       held-out normal rows + every anomalous row, Defaults.screening().withQuantile(0.99), seed)}; its scores (model-space nats, minus
+ *       the lever's log-Jacobian) give the AUROC and the recall of anomalies above the 99th and 95th
+ *       percentiles of the normal rows' scores; "AUROC(b)" ranks by the exact bound (seed 1) instead.</li>
+ * </ul>
+ *
+ * <p>Usage: {@code QualityBenchmark --baselines FILE --data DIR --labels DIR [--out FILE]
+ * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--bound-seeds 5]}.
+ * Progress goes to standard error; the table to standard output and, with {@code --out}, to a file.
+ */
+public final class QualityBenchmark {
+
+    /** Draws per imputed record, and the interval level. */
+    static final int DRAWS = 20;
+    static final double LEVEL = 0.9;
+    /** The quantile of {@code screen}'s threshold. */
+    static final double SCREEN_QUANTILE = 0.99;
+
+    private QualityBenchmark() {
+    }
+
+    /**
+     * The figures of one fit.
+     *
+     * @param table the table key
+     * @param lever the lever
+     * @param seed the fit seed
+     * @param fitSeconds wall-clock seconds of {@code fit}
+     * @param boundMeans per bound seed, the mean held-out nats per record in SOURCES.md's space
+     * @param recordSd the per-record sd over bound seeds, root mean square over records
+     * @param rmse imputation RMSE, standardized units (NaN if not run)
+     * @param coverage share of hidden continuous cells inside the interval (NaN if none)
+     * @param expectedCoverage {@code Imputation.expectedCoverage()} (NaN if not run)
+     * @param imputeSeconds wall-clock seconds of {@code impute}
+     * @param auroc AUROC of {@code screen}'s scores (NaN without labels)
+     * @param recall99 recall at the normal rows' 99th percentile
+     * @param recall95 recall at the 95th
+     * @param aurocBound AUROC of the exact bound
+     * @param anomalyFitSeconds seconds of the anomaly model's fit
+     */
+    record Run(String table, Lever lever, long seed, double fitSeconds, double[] boundMeans, double recordSd,
+               double rmse, double coverage, double expectedCoverage, double imputeSeconds, double auroc,
+               double recall99, double recall95, double aurocBound, double anomalyFitSeconds) {
+
+        double nats() {
+            return Measures.mean(boundMeans);
+        }
+    }
+
+    /**
+     * Runs the benchmark.
+     *
+     * @param args see the class comment
+     * @throws IOException if a file cannot be read or written
+     */
+    public static void main(String[] args) throws IOException {
+        Map<String, String> opt = parse(args);
+        Path baselinesFile = Path.of(required(opt, "--baselines"));
+        Path data = Path.of(required(opt, "--data"));
+        Path labels = Path.of(required(opt, "--labels"));
+        int boundSeeds = Integer.parseInt(opt.getOrDefault("--bound-seeds", "5"));
+        List<Long> seeds = seeds(opt.getOrDefault("--seeds", "1"));
+        List<Lever> levers = opt.containsKey("--levers") ? List.of(Lever.values()) : List.of(Lever.DEFAULTS);
+        List<String> tableKeys = opt.containsKey("--tables") ? List.of(opt.get("--tables").split(","))
+                : OpenTable.ALL.stream().map(OpenTable::key).toList();
+        JsonNode baselines = new ObjectMapper().readTree(Files.readString(baselinesFile, StandardCharsets.UTF_8));
+
+        String started = java.time.Instant.now().toString();
+        double loadBefore = loadAverage();
+        List<Run> runs = new ArrayList<>();
+        List<OpenTable.Split> splits = new ArrayList<>();
+        for (OpenTable t : OpenTable.ALL) {
+            if (tableKeys.contains(t.key())) {
+                splits.add(t.read(data, labels));
+            }
+        }
+        StringBuilder runLines = new StringBuilder(RUNS_HEADER).append('\n');
+        // seeds outermost, so that a busy spell of the shared machine falls on every table and lever alike
+        int maxSeeds = splits.stream().mapToInt(s -> seedsFor(opt, s.table().key(), seeds).size()).max().orElse(0);
+        for (int si = 0; si < maxSeeds; si++) {
+            for (OpenTable.Split split : splits) {
+                List<Long> own = seedsFor(opt, split.table().key(), seeds);
+                if (si >= own.size()) {
+                    continue;
+                }
+                for (Lever lever : levers) {
+                    if (lever != Lever.DEFAULTS && split.train().continuousColumns().length == 0) {
+                        continue; // every lever maps continuous columns; the table has none
+                    }
+                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines);
+                    runs.add(run);
+                    runLines.append(runLine(run)).append('\n');
+                    System.err.printf(Locale.ROOT, "%s, %s, seed %d: %.3f nats (rec sd %.3f), rmse %.3f, auroc %.4f, fit %.1f s%n",
+                            run.table(), lever, run.seed(), run.nats(), run.recordSd(), run.rmse(), run.auroc(), run.fitSeconds());
+                }
+            }
+        }
+        String settings = settings(started, loadBefore, opt.get("--git"));
+        String text = SideBySide.render(settings, splits, levers, runs, baselines, boundSeeds);
+        System.out.print(text);
+        if (opt.containsKey("--out")) {
+            writeAtomically(Path.of(opt.get("--out")), text);
+        }
+        if (opt.containsKey("--runs")) {
+            writeAtomically(Path.of(opt.get("--runs")), runLines.toString());
+        }
+    }
+
+    static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines) {
+        Table train = split.train();
+        Table test = split.test();
+        Lever.Encoding enc = lever.fit(train);
+        long t0 = System.nanoTime();
+        DiffusionModel model = Backstep.builder().seed(seed).fit(enc.encode(train));
+        double fitSeconds = (System.nanoTime() - t0) / 1e9;
+
+        // density, in SOURCES.md's space
+        Table encTest = enc.encode(test);
+        double[] leverJacobian = enc.logJacobian(test);
+        double[] sourcesJacobian = split.standardized().logJacobian(test);
+        double[][] perRecord = new double[boundSeeds][];
+        double[] boundMeans = new double[boundSeeds];
+        for (int b = 0; b < boundSeeds; b++) {
+            BoundReport r = model.bound(encTest, b + 1);
+            double[] nats = r.natsOriginalUnits();
+            for (int i = 0; i < nats.length; i++) {
+                nats[i] += -leverJacobian[i] + sourcesJacobian[i];
+            }
+            perRecord[b] = nats;
+            boundMeans[b] = Measures.mean(nats);
+        }
+        double squares = 0;
+        for (int i = 0; i < test.rows(); i++) {
+            double[] across = new double[boundSeeds];
+            for (int b = 0; b < boundSeeds; b++) {
+                across[b] = perRecord[b][i];
+            }
+            double sd = Measures.sd(across);
+            squares += sd * sd;
+        }
+        double recordSd = Math.sqrt(squares / test.rows());
+
+        // imputation
+        double rmse = Double.NaN;
+        double coverage = Double.NaN;
+        double expected = Double.NaN;
+        double imputeSeconds = Double.NaN;
+        if (enc.imputes()) {
+            List<int[]> hidden = new ArrayList<>();
+            for (JsonNode cell : baselines.path("tables").path(split.table().key()).path("imputation").path("hidden")) {
+                hidden.add(new int[] {cell.get(0).asInt(), cell.get(1).asInt()});
+            }
+            if (hidden.isEmpty()) {
+                throw new IllegalStateException("the baselines file lists no hidden cells for " + split.table().key());
+            }
+            double[][] rows = test.toArray();
+            for (int[] rc : hidden) {
+                rows[rc[0]][rc[1]] = Double.NaN;
+            }
+            Table masked = Table.of(test.names(), test.kinds(), rows);
+            long i0 = System.nanoTime();
+            Imputation imp = model.impute(enc.encode(masked), Defaults.imputation().withDraws(DRAWS).withLevel(LEVEL), seed);
+            imputeSeconds = (System.nanoTime() - i0) / 1e9;
+            expected = imp.expectedCoverage();
+            double[][] mean;
+            double[][] lower;
+            double[][] upper;
+            if (lever == Lever.DEFAULTS) {
+                mean = imp.mean().toArray();
+                lower = imp.lower().toArray();
+                upper = imp.upper().toArray();
+            } else {
+                List<double[][]> draws = imp.draws().stream().map(d -> enc.decode(d).toArray()).toList();
+                mean = new double[test.rows()][test.columns()];
+                lower = new double[test.rows()][test.columns()];
+                upper = new double[test.rows()][test.columns()];
+                for (int[] rc : hidden) {
+                    double[] v = draws.stream().mapToDouble(d -> d[rc[0]][rc[1]]).toArray();
+                    mean[rc[0]][rc[1]] = Measures.mean(v);
+                    lower[rc[0]][rc[1]] = Measures.quantile(v, (1 - LEVEL) / 2);
+                    upper[rc[0]][rc[1]] = Measures.quantile(v, (1 + LEVEL) / 2);
+                }
+            }
+            double sq = 0;
+            int inside = 0;
+            int continuous = 0;
+            for (int[] rc : hidden) {
+                double truth = test.get(rc[0], rc[1]);
+                double scale = split.standardized().transform(rc[1]).scale();
+                double e = (mean[rc[0]][rc[1]] - truth) / scale;
+                sq += e * e;
+                if (test.kind(rc[1]) == ColumnKind.CONTINUOUS) {
+                    continuous++;
+                    if (lower[rc[0]][rc[1]] <= truth && truth <= upper[rc[0]][rc[1]]) {
+                        inside++;
+                    }
+                }
+            }
+            rmse = Math.sqrt(sq / hidden.size());
+            coverage = continuous == 0 ? Double.NaN : inside / (double) continuous;
+            if (continuous == 0) {
+                expected = Double.NaN;
+            }
+        }
+
+        // anomaly ranks
+        double auroc = Double.NaN;
+        double r99 = Double.NaN;
+        double r95 = Double.NaN;
+        double aurocBound = Double.NaN;
+        double anomalyFit = Double.NaN;
+        if (split.labels() != null) {
+            Table normalTrain = split.normalTrain();
+            Lever.Encoding encA = lever.fit(normalTrain);
+            long a0 = System.nanoTime();
+            DiffusionModel ma = Backstep.builder().seed(seed).fit(encA.encode(normalTrain));
+            anomalyFit = (System.nanoTime() - a0) / 1e9;
+            Table screened = split.screened();
+            int nn = split.screenedNormal();
+            Table encScreened = encA.encode(screened);
+            double[] lj = encA.logJacobian(screened);
+            AnomalyScreen s = ma.screen(encA.encode(split.normalTest()), encScreened, Defaults.screening().withQuantile(SCREEN_QUANTILE), seed);
+            double[] scores = s.scores();
+            double[] bound = ma.bound(encScreened, 1).natsOriginalUnits();
+            for (int i = 0; i < scores.length; i++) {
+                scores[i] -= lj[i];
+                bound[i] -= lj[i];
+            }
+            double[] normal = Arrays.copyOf(scores, nn);
+            double[] anomalous = Arrays.copyOfRange(scores, nn, scores.length);
+            auroc = Measures.auroc(normal, anomalous);
+            r99 = Measures.recallAt(normal, anomalous, 0.99);
+            r95 = Measures.recallAt(normal, anomalous, 0.95);
+            aurocBound = Measures.auroc(Arrays.copyOf(bound, nn), Arrays.copyOfRange(bound, nn, bound.length));
+        }
+        return new Run(split.table().key(), lever, seed, fitSeconds, boundMeans, recordSd, rmse, coverage, expected,
+                imputeSeconds, auroc, r99, r95, aurocBound, anomalyFit);
+    }
+
+    static final String RUNS_HEADER = "table,lever,seed,fit_s,nats_mean,nats_per_bound_seed,record_sd,rmse,coverage,"
+            + "expected_coverage,impute_s,auroc_screen,recall_99,recall_95,auroc_bound,anomaly_fit_s";
+
+    static String runLine(Run r) {
+        String perSeed = String.join(" ", Arrays.stream(r.boundMeans()).mapToObj(v -> String.format(Locale.ROOT, "%.4f", v)).toList());
+        return String.format(Locale.ROOT, "%s,%s,%d,%.2f,%.4f,%s,%.4f,%.4f,%.4f,%.4f,%.2f,%.4f,%.4f,%.4f,%.4f,%.2f",
+                r.table(), r.lever().name(), r.seed(), r.fitSeconds(), r.nats(), perSeed, r.recordSd(), r.rmse(),
+                r.coverage(), r.expectedCoverage(), r.imputeSeconds(), r.auroc(), r.recall99(), r.recall95(),
+                r.aurocBound(), r.anomalyFitSeconds());
+    }
+
+    private static String settings(String started, double loadBefore, String git) {
+        return String.format(Locale.ROOT,
+                "Backstep quality benchmark, started %s, finished %s%s%n"
+                        + "machine: %s %s %s, %d CPUs (shared); load average (1 min) %.2f at start, %.2f at end%n"
+                        + "java %s (%s); Backstep threads %d (library default); OPENBLAS_CORETYPE %s%n",
+                started, java.time.Instant.now(), git == null ? "" : ", git " + git,
+                System.getProperty("os.name"), System.getProperty("os.version"), System.getProperty("os.arch"),
+                Runtime.getRuntime().availableProcessors(), loadBefore, loadAverage(),
+                System.getProperty("java.version"), System.getProperty("java.vm.name"), org.backstep.Defaults.threads(),
+                System.getenv().getOrDefault("OPENBLAS_CORETYPE", "not set"));
+    }
+
+    private static double loadAverage() {
+        return java.lang.management.ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage();
+    }
+
+    private static void writeAtomically(Path file, String text) throws IOException {
+        Path dir = file.toAbsolutePath().getParent();
+        Files.createDirectories(dir);
+        Path tmp = Files.createTempFile(dir, file.getFileName().toString(), ".tmp");
+        Files.writeString(tmp, text, StandardCharsets.UTF_8);
+        Files.move(tmp, file, java.nio.file.StandardCopyOption.REPLACE_EXISTING, java.nio.file.StandardCopyOption.ATOMIC_MOVE);
+    }
+
+    private static Map<String, String> parse(String[] args) {
+        Map<String, String> out = new LinkedHashMap<>();
+        for (int i = 0; i < args.length; i++) {
+            String a = args[i];
+            if (!a.startsWith("--")) {
+                throw new IllegalArgumentException("argument " + (i + 1) + " is '" + a + "'; expected an option --NAME");
+            }
+            if (a.equals("--levers")) {
+                out.put(a, "");
+            } else {
+                if (i + 1 >= args.length) {
+                    throw new IllegalArgumentException("option " + a + " has no value");
+                }
+                out.put(a, args[++i]);
+            }
+        }
+        return out;
+    }
+
+    private static String required(Map<String, String> opt, String name) {
+        String v = opt.get(name);
+        if (v == null) {
+            throw new IllegalArgumentException("option " + name + " is missing");
+        }
+        return v;
+    }
+
+    private static List<Long> seeds(String list) {
+        return Arrays.stream(list.split(",")).map(String::strip).map(Long::parseLong).toList();
+    }
+
+    private static List<Long> seedsFor(Map<String, String> opt, String table, List<Long> fallback) {
+        String own = opt.get("--seeds:" + table);
+        return own == null ? fallback : seeds(own);
+    }
+}

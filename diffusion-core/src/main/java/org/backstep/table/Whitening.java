@@ -1,0 +1,218 @@
+package org.backstep.table;
+
+import java.util.Arrays;
+import org.apache.commons.math3.linear.Array2DRowRealMatrix;
+import org.apache.commons.math3.linear.EigenDecomposition;
+import org.apache.commons.math3.linear.RealMatrix;
+import org.backstep.schedule.Require;
+
+/**
+ * Whitening by the training covariance, an exact linear change of variables of the continuous part
+ * of a model-space row: z = W (y - m), with m the training rows' mean, S their population covariance
+ * (1/n) sum_i (y_i - m)(y_i - m)^T, and W = S^(-1/2) = V diag(lambda)^(-1/2) V^T from the eigenvalues
+ * lambda and eigenvectors V of S (commons-math3's EigenDecomposition). The training rows then have
+ * mean 0 and identity covariance in z. Of the whitening matrices with W^T W = S^-1 this symmetric one
+ * ("ZCA") keeps each z_j closest to its own y_j (Kessy, Lewis &amp; Strimmer 2018, "Optimal Whitening and
+ * Decorrelation", The American Statistician 72:309-314, section 3).
+ *
+ * <p>Densities: log p_y(y) = log p_z(W (y - m)) + log |det W|, with
+ * log |det W| = -(1/2) sum_j log lambda_j ({@link #logDeterminant()}), the same for every row
+ * (Dinh, Sohl-Dickstein &amp; Bengio 2017, "Density estimation using Real NVP", section 3.1). So a
+ * standard normal density in z is exactly the maximum-likelihood Gaussian N(m, S) of the training
+ * rows in y: a model of z that adds nothing to N(0, I) reproduces the fitted Gaussian.
+ *
+ * <p>Whitening mixes columns: a row with a missing cell has no whitened value (a cell of z depends on
+ * every cell of y). Immutable; arrays in and out are copies.
+ */
+public final class Whitening {
+
+    /**
+     * Eigenvalues below this times the largest make the covariance singular: a column that is (to
+     * rounding) a linear function of the others has no density, and whitening it would divide by
+     * rounding noise. Common practice, no source.
+     */
+    public static final double SINGULAR_RATIO = 1e-12;
+
+    private final double[] mean;
+    private final double[][] matrix;
+    private final double[][] inverse;
+    private final double logDeterminant;
+
+    private Whitening(double[] mean, double[][] matrix, double[][] inverse, double logDeterminant) {
+        this.mean = mean;
+        this.matrix = matrix;
+        this.inverse = inverse;
+        this.logDeterminant = logDeterminant;
+    }
+
+    /**
+     * Fits m and W = S^(-1/2) on complete rows.
+     *
+     * @param rows n rows of d values each, n &gt; d, no NaN or infinite value (not modified)
+     * @return the whitening
+     * @throws IllegalArgumentException naming the row and column of a bad cell, a ragged row, too few
+     *     rows, or a singular covariance (with its eigenvalues' ratio)
+     */
+    public static Whitening fit(double[][] rows) {
+        Require.notNull("rows", rows);
+        Require.atLeast("rows", rows.length, 1);
+        int d = rows[0] == null ? 0 : rows[0].length;
+        Require.atLeast("columns", d, 1);
+        if (rows.length <= d) {
+            throw new IllegalArgumentException("rows has " + rows.length + " rows of " + d
+                    + " columns; expected more rows than columns for a nonsingular covariance");
+        }
+        double[][] columns = new double[d][rows.length];
+        for (int r = 0; r < rows.length; r++) {
+            if (rows[r] == null || rows[r].length != d) {
+                throw new IllegalArgumentException("rows[" + r + "] has " + (rows[r] == null ? "no array (null)"
+                        : rows[r].length + " values") + "; expected " + d);
+            }
+            for (int c = 0; c < d; c++) {
+                double v = rows[r][c];
+                if (!Double.isFinite(v)) {
+                    throw new IllegalArgumentException("rows[" + r + "][" + c + "] is " + v
+                            + "; expected a finite value (whitening needs complete rows)");
+                }
+                columns[c][r] = v;
+            }
+        }
+        double[] m = new double[d];
+        for (int c = 0; c < d; c++) {
+            m[c] = TableTransform.mean(columns[c]);
+        }
+        double[][] s = new double[d][d];
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b <= a; b++) {
+                double sum = 0.0;
+                for (int r = 0; r < rows.length; r++) {
+                    sum += (columns[a][r] - m[a]) * (columns[b][r] - m[b]);
+                }
+                s[a][b] = sum / rows.length;
+                s[b][a] = s[a][b];
+            }
+        }
+        EigenDecomposition eigen = new EigenDecomposition(new Array2DRowRealMatrix(s, false));
+        double[] lambda = eigen.getRealEigenvalues();
+        double largest = Arrays.stream(lambda).max().orElseThrow();
+        double smallest = Arrays.stream(lambda).min().orElseThrow();
+        if (!(smallest > SINGULAR_RATIO * largest)) {
+            throw new IllegalArgumentException("the training covariance is singular: smallest eigenvalue " + smallest
+                    + ", largest " + largest + " (ratio below " + SINGULAR_RATIO
+                    + "); leave out a column that is a linear function of the others");
+        }
+        RealMatrix v = eigen.getV();
+        double[][] w = new double[d][d];
+        double[][] wInv = new double[d][d];
+        double logDet = 0.0;
+        for (int k = 0; k < d; k++) {
+            logDet -= 0.5 * Math.log(lambda[k]);
+        }
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b < d; b++) {
+                double sw = 0.0;
+                double si = 0.0;
+                for (int k = 0; k < d; k++) {
+                    double vv = v.getEntry(a, k) * v.getEntry(b, k);
+                    sw += vv / Math.sqrt(lambda[k]);
+                    si += vv * Math.sqrt(lambda[k]);
+                }
+                w[a][b] = sw;
+                wInv[a][b] = si;
+            }
+        }
+        return new Whitening(m, w, wInv, logDet);
+    }
+
+    /** @return d, the number of columns whitened */
+    public int dimensions() {
+        return mean.length;
+    }
+
+    /** @return m, the training rows' mean (a copy) */
+    public double[] mean() {
+        return mean.clone();
+    }
+
+    /** @return W = S^(-1/2), symmetric (a copy) */
+    public double[][] matrix() {
+        return copy(matrix);
+    }
+
+    /**
+     * log |det W| = -(1/2) log det S, in nats: add it to a log density of z to get the log density
+     * of y.
+     *
+     * @return the log-determinant
+     */
+    public double logDeterminant() {
+        return logDeterminant;
+    }
+
+    /**
+     * z = W (y - m).
+     *
+     * @param y d values (not modified)
+     * @return a new array of d values
+     * @throws IllegalArgumentException if the length differs from d or a value is NaN (a missing cell)
+     */
+    public double[] whiten(double[] y) {
+        checkRow("y", y);
+        double[] z = new double[y.length];
+        for (int a = 0; a < y.length; a++) {
+            double sum = 0.0;
+            for (int b = 0; b < y.length; b++) {
+                sum += matrix[a][b] * (y[b] - mean[b]);
+            }
+            z[a] = sum;
+        }
+        return z;
+    }
+
+    /**
+     * y = W^-1 z + m, the inverse of {@link #whiten(double[])}, with W^-1 = V diag(lambda)^(1/2) V^T.
+     *
+     * @param z d values (not modified)
+     * @return a new array of d values
+     * @throws IllegalArgumentException if the length differs from d or a value is NaN
+     */
+    public double[] unwhiten(double[] z) {
+        checkRow("z", z);
+        double[] y = new double[z.length];
+        for (int a = 0; a < z.length; a++) {
+            double sum = mean[a];
+            for (int b = 0; b < z.length; b++) {
+                sum += inverse[a][b] * z[b];
+            }
+            y[a] = sum;
+        }
+        return y;
+    }
+
+    private void checkRow(String name, double[] row) {
+        Require.notNull(name, row);
+        if (row.length != mean.length) {
+            throw new IllegalArgumentException(name + " has " + row.length + " values; expected " + mean.length);
+        }
+        for (int c = 0; c < row.length; c++) {
+            if (Double.isNaN(row[c])) {
+                throw new IllegalArgumentException(name + "[" + c + "] is NaN; whitening mixes columns, so a row "
+                        + "with a missing cell has no whitened value");
+            }
+        }
+    }
+
+    private static double[][] copy(double[][] a) {
+        double[][] out = new double[a.length][];
+        for (int i = 0; i < a.length; i++) {
+            out[i] = a[i].clone();
+        }
+        return out;
+    }
+
+    /** @return the dimension and log |det W| */
+    @Override
+    public String toString() {
+        return "Whitening[d=" + mean.length + ", log|det W|=" + logDeterminant + "]";
+    }
+}

@@ -1,0 +1,307 @@
+package org.backstep.table;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.util.Arrays;
+import java.util.SplittableRandom;
+import org.apache.commons.math3.analysis.integration.IterativeLegendreGaussIntegrator;
+import org.apache.commons.math3.distribution.NormalDistribution;
+import org.apache.commons.math3.special.Erf;
+import org.junit.jupiter.api.Test;
+
+/** The NORMAL_SCORES column transform: z = Phi^-1(F(x)) of a kernel-smoothed distribution function. */
+class NormalScoresTest {
+
+    /** Relative agreement of two exact computations that round differently (sums of n terms, logs). */
+    private static final double EXACT_TOL = 1e-11;
+    /**
+     * A central difference with step d = 1e-4 h: truncation error (d^2 / 6) z''' is about 1e-9
+     * relative for these smooth maps, rounding eps |z| / d about 1e-11.
+     */
+    private static final double DERIVATIVE_TOL = 1e-7;
+    /** Round trips x -&gt; z -&gt; x, relative to |x| + h. */
+    private static final double ROUND_TRIP_TOL = 1e-10;
+    /** erfc by series and continued fraction against commons-math3 (see NormalScores.erfc). */
+    private static final double ERFC_TOL = 2e-13;
+    /** Gauss-Legendre integration of a smooth density to a relative accuracy of 1e-10. */
+    private static final double INTEGRAL_TOL = 1e-9;
+
+    private static final double SQRT2 = Math.sqrt(2.0);
+
+    /** A skewed sample (exponential, with a lump of ties), the kind of column the map is for. */
+    private static double[] skewedSample() {
+        SplittableRandom rng = new SplittableRandom(20090101);
+        double[] v = new double[60];
+        for (int i = 0; i < v.length; i++) {
+            v[i] = i < 10 ? 0.5 : -Math.log(1 - rng.nextDouble()) * 3.0;
+        }
+        return v;
+    }
+
+    private static ColumnTransform skewed() {
+        double[] v = skewedSample();
+        return ColumnTransform.normalScores(v, ColumnTransform.silvermanBandwidth(v));
+    }
+
+    /** (1/n) sum_i of commons-math3's N(k_i, h^2) distribution function at x. */
+    private static double referenceCdf(ColumnTransform t, double x) {
+        double sum = 0;
+        for (double k : t.knots()) {
+            sum += new NormalDistribution(k, t.scale()).cumulativeProbability(x);
+        }
+        return sum / t.knots().length;
+    }
+
+    /** (1/n) sum_i of commons-math3's N(k_i, h^2) density at x: the kernel density estimate. */
+    private static double referenceDensity(ColumnTransform t, double x) {
+        double sum = 0;
+        for (double k : t.knots()) {
+            sum += new NormalDistribution(k, t.scale()).density(x);
+        }
+        return sum / t.knots().length;
+    }
+
+    private static double[] probePoints(ColumnTransform t) {
+        double[] k = t.knots();
+        double lo = k[0] - 6 * t.scale();
+        double hi = k[k.length - 1] + 6 * t.scale();
+        double[] x = new double[101];
+        for (int i = 0; i < x.length; i++) {
+            x[i] = lo + (hi - lo) * i / (x.length - 1);
+        }
+        return x;
+    }
+
+    @Test
+    void scoresAreNormalQuantilesOfTheSmoothedDistributionFunction() {
+        ColumnTransform t = skewed();
+        NormalDistribution std = new NormalDistribution();
+        for (double x : probePoints(t)) {
+            double z = t.forward(x);
+            double f = referenceCdf(t, x);
+            // the definition z = Phi^-1(F(x)), F from commons-math3's normal distribution functions
+            double phiZ = std.cumulativeProbability(z);
+            double tail = Math.min(f, 1 - f);
+            assertEquals(f, phiZ, EXACT_TOL * Math.max(tail, 1e-14) + 1e-15, "Phi(z) at x = " + x);
+        }
+    }
+
+    @Test
+    void pulledBackStandardNormalIsTheKernelDensity() {
+        // change of variables (Dinh et al. 2017, section 3.1): phi(z(x)) dz/dx = F'(x) = f(x), the
+        // kernel density estimate, here from commons-math3's normal densities
+        ColumnTransform t = skewed();
+        for (double x : probePoints(t)) {
+            double[] zl = t.forwardWithLogJacobian(x);
+            double logDensity = NormalScores.logDensity(zl[0]) + zl[1];
+            assertEquals(Math.log(referenceDensity(t, x)), logDensity, EXACT_TOL * 50, "log f at x = " + x);
+            assertEquals(t.logJacobian(x), zl[1], 0.0);
+            assertEquals(t.forward(x), zl[0], 0.0);
+        }
+    }
+
+    @Test
+    void logJacobianMatchesACentralDifference() {
+        ColumnTransform t = skewed();
+        double d = 1e-4 * t.scale();
+        for (double x : probePoints(t)) {
+            // central difference (z(x + d) - z(x - d)) / 2d, common practice, no source
+            double slope = (t.forward(x + d) - t.forward(x - d)) / (2 * d);
+            assertEquals(Math.log(slope), t.logJacobian(x), DERIVATIVE_TOL * Math.max(1, Math.abs(Math.log(slope))),
+                    "at x = " + x);
+        }
+    }
+
+    @Test
+    void transformedDensityIntegratesToOne() {
+        // integral of phi(z(x)) |dz/dx| dx over the real line = integral of phi(z) dz = 1 (change of
+        // variables); commons-math3's Gauss-Legendre integrator over the knots +- 12 bandwidths
+        // (the mass left outside is below 1e-30)
+        ColumnTransform t = skewed();
+        double[] k = t.knots();
+        double lo = k[0] - 12 * t.scale();
+        double hi = k[k.length - 1] + 12 * t.scale();
+        double integral = 0;
+        int pieces = 40;
+        int[] calls = {0};
+        for (int i = 0; i < pieces; i++) {
+            double a = lo + (hi - lo) * i / pieces;
+            double b = lo + (hi - lo) * (i + 1) / pieces;
+            IterativeLegendreGaussIntegrator integrator = new IterativeLegendreGaussIntegrator(16, 1e-11, 1e-13);
+            integral += integrator.integrate(100_000, x -> {
+                calls[0]++;
+                double[] zl = t.forwardWithLogJacobian(x);
+                return Math.exp(NormalScores.logDensity(zl[0]) + zl[1]);
+            }, a, b);
+        }
+        assertEquals(1.0, integral, INTEGRAL_TOL, calls[0] + " evaluations");
+    }
+
+    @Test
+    void inverseUndoesForwardInsideAndFarOutsideTheKnots() {
+        ColumnTransform t = skewed();
+        double h = t.scale();
+        double[] k = t.knots();
+        double[] xs = {k[0] - 500 * h, k[0] - 30 * h, k[0] - 3 * h, k[0], 0.5, 2.0, k[k.length - 1],
+                k[k.length - 1] + 40 * h, k[k.length - 1] + 2000 * h};
+        for (double x : xs) {
+            double z = t.forward(x);
+            assertTrue(Double.isFinite(z) && Double.isFinite(t.logJacobian(x)), "finite at x = " + x);
+            // common practice, no source: f^-1(f(x)) = x
+            assertEquals(x, t.inverse(z), ROUND_TRIP_TOL * (Math.abs(x) + h), "round trip at x = " + x + ", z = " + z);
+        }
+        for (double z = -9; z <= 9; z += 0.25) {
+            assertEquals(z, t.forward(t.inverse(z)), ROUND_TRIP_TOL * Math.max(1, Math.abs(z)), "round trip at z = " + z);
+        }
+        assertTrue(Double.isNaN(t.inverse(Double.NaN)));
+        assertTrue(Double.isNaN(t.forward(Double.NaN)));
+    }
+
+    @Test
+    void scoresIncreaseStrictlyFarIntoBothTails() {
+        ColumnTransform t = skewed();
+        double h = t.scale();
+        double[] k = t.knots();
+        double previous = Double.NEGATIVE_INFINITY;
+        for (double x = k[0] - 1e4 * h; x < k[k.length - 1] + 1e4 * h; x += 97.3 * h) {
+            double z = t.forward(x);
+            assertTrue(z > previous, "z(" + x + ") = " + z + " after " + previous);
+            previous = z;
+        }
+    }
+
+    @Test
+    void logCdfMatchesCommonsMathAndTheTailSeries() {
+        NormalDistribution std = new NormalDistribution();
+        for (double u = -37; u <= 8; u += 0.125) {
+            // commons-math3's distribution function (erf-based), relative agreement
+            double expected = Math.log(std.cumulativeProbability(u));
+            assertEquals(expected, NormalScores.logCdf(u), EXACT_TOL * Math.max(1, Math.abs(expected)), "u = " + u);
+        }
+        for (double u : new double[] {-30.5, -33, -36}) {
+            // the series branch against commons-math3's erfc where both are valid (Phi(u) = erfc(-u/sqrt 2) / 2)
+            double expected = Math.log(0.5 * Erf.erfc(-u / SQRT2));
+            assertEquals(expected, NormalScores.logCdf(u), EXACT_TOL * Math.abs(expected), "u = " + u);
+        }
+        // Mills' ratio to leading order far out: log Phi(u) ~ -u^2/2 - log(-u) - log(2 pi)/2
+        // (Abramowitz & Stegun 1964, eq. 26.2.12), the rest of the series below 1e-6 at u = -1000
+        double u = -1000;
+        assertEquals(-u * u / 2 - Math.log(-u) - 0.5 * Math.log(2 * Math.PI), NormalScores.logCdf(u), 2e-6);
+    }
+
+    @Test
+    void erfcMatchesCommonsMath() {
+        for (double a = 0; a <= 26; a += 1.0 / 64) {
+            // commons-math3's erfc (regularized incomplete gamma function): relative agreement; below
+            // a = 2 erfc is 1 - erf, whose absolute error of about 3e-16 is 7e-14 of erfc(2)
+            double expected = Erf.erfc(a);
+            assertEquals(expected, NormalScores.erfc(a, Math.exp(-a * a)), ERFC_TOL * expected, "a = " + a);
+        }
+    }
+
+    @Test
+    void quantileOfLogInvertsLogCdf() {
+        NormalDistribution std = new NormalDistribution();
+        for (double p : new double[] {0.5, 0.3, 0.05, 1e-3, 1e-7}) {
+            // commons-math3's inverse distribution function (its 2p - 1 loses digits as p shrinks: at
+            // p = 1e-12 it is 3e-6 off, so the identity below checks the far tail)
+            assertEquals(std.inverseCumulativeProbability(p), NormalScores.quantileOfLog(Math.log(p)), 1e-6, "p = " + p);
+        }
+        for (double logP = -0.7; logP > -1e5; logP *= 1.7) {
+            double z = NormalScores.quantileOfLog(logP);
+            // the defining identity log Phi(z) = log p
+            assertEquals(logP, NormalScores.logCdf(z), EXACT_TOL * Math.abs(logP), "log p = " + logP);
+        }
+        assertEquals(0.0, NormalScores.quantileOfLog(Math.log(0.5)), 1e-15);
+    }
+
+    @Test
+    void silvermanWorkedValue() {
+        // by hand: values 1..5, population sd sqrt(2), type-7 quartiles 2 and 4, IQR / 1.34 = 1.4925,
+        // h = 0.9 sqrt(2) 5^(-1/5) = 0.922486...
+        assertEquals(0.9 * Math.sqrt(2) * Math.pow(5, -0.2), ColumnTransform.silvermanBandwidth(new double[] {5, 1, 4, 2, 3}),
+                1e-15);
+        // IQR of 0 (more than half the values tied): the sd alone
+        double[] tied = {1, 1, 1, 1, 1, 1, 9};
+        double mean = 15.0 / 7;
+        double sd = Math.sqrt((6 * (1 - mean) * (1 - mean) + (9 - mean) * (9 - mean)) / 7);
+        assertEquals(0.9 * sd * Math.pow(7, -0.2), ColumnTransform.silvermanBandwidth(tied), 1e-14);
+    }
+
+    @Test
+    void knotsAreSortedCopiedAndCompared() {
+        double[] v = {3, 1, 2};
+        ColumnTransform t = ColumnTransform.normalScores(v, 0.5);
+        v[0] = 100;
+        assertArrayEquals(new double[] {1, 2, 3}, t.knots());
+        t.knots()[0] = -7;
+        assertArrayEquals(new double[] {1, 2, 3}, t.knots());
+        // records compare arrays by reference; this one compares the knots' values
+        assertEquals(t, ColumnTransform.normalScores(new double[] {2, 3, 1}, 0.5));
+        assertEquals(t.hashCode(), ColumnTransform.normalScores(new double[] {2, 3, 1}, 0.5).hashCode());
+        assertNotEquals(t, ColumnTransform.normalScores(new double[] {2, 3, 1.5}, 0.5));
+        assertNotEquals(t, ColumnTransform.normalScores(new double[] {2, 3, 1}, 0.25));
+        assertEquals(0, ColumnTransform.standardize(0, 1).knots().length);
+        assertEquals(ColumnTransform.standardize(2, 3), new ColumnTransform(ColumnTransform.Kind.STANDARDIZE, 2, 3));
+    }
+
+    @Test
+    void invalidParametersAreRefused() {
+        // common practice, no source: the compact constructor checks the NORMAL_SCORES parameters
+        assertThrows(IllegalArgumentException.class, () -> ColumnTransform.normalScores(new double[] {1, 2}, 0));
+        assertThrows(IllegalArgumentException.class, () -> ColumnTransform.normalScores(new double[] {1, 2}, Double.NaN));
+        assertThrows(IllegalArgumentException.class, () -> ColumnTransform.normalScores(new double[] {1, 1, 1}, 1));
+        assertThrows(IllegalArgumentException.class, () -> ColumnTransform.normalScores(new double[] {1}, 1));
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> ColumnTransform.normalScores(new double[] {1, Double.NaN, 3}, 1));
+        assertTrue(e.getMessage().contains("NaN"), e.getMessage());
+        assertThrows(IllegalArgumentException.class, () -> ColumnTransform.normalScores(null, 1));
+        assertThrows(IllegalArgumentException.class,
+                () -> new ColumnTransform(ColumnTransform.Kind.NORMAL_SCORES, 0, 1, new double[] {2, 1}));
+        assertThrows(IllegalArgumentException.class,
+                () -> new ColumnTransform(ColumnTransform.Kind.NORMAL_SCORES, 1, 1, new double[] {1, 2}));
+        assertThrows(IllegalArgumentException.class,
+                () -> new ColumnTransform(ColumnTransform.Kind.STANDARDIZE, 0, 1, new double[] {1, 2}));
+        ColumnTransform t = ColumnTransform.normalScores(new double[] {1, 2, 3}, 1);
+        assertThrows(IllegalArgumentException.class, () -> t.forward(Double.POSITIVE_INFINITY));
+        assertThrows(IllegalArgumentException.class, () -> t.logJacobian(Double.NaN));
+        assertThrows(IllegalArgumentException.class, () -> t.inverse(Double.NEGATIVE_INFINITY));
+        assertThrows(IllegalArgumentException.class, () -> ColumnTransform.silvermanBandwidth(new double[] {4, 4}));
+    }
+
+    @Test
+    void tableFitMapsEachContinuousColumnAndRoundTrips() {
+        // data/SOURCES.md, "A fixed split": training rows of iris (BSD-3-Clause, scikit-learn)
+        Table all = OpenData.read("iris.csv");
+        Table train = all.filterRows(i -> i % 5 != 0);
+        Table test = all.filterRows(i -> i % 5 == 0);
+        TableTransform tt = TableTransform.fitNormalScores(train, 1.0);
+        for (int c = 0; c < train.columns(); c++) {
+            ColumnTransform t = tt.transform(c);
+            assertEquals(ColumnTransform.Kind.NORMAL_SCORES, t.kind());
+            double[] sorted = train.column(c).clone();
+            Arrays.sort(sorted);
+            assertArrayEquals(sorted, t.knots());
+            assertEquals(ColumnTransform.silvermanBandwidth(sorted), t.scale(), 0.0);
+        }
+        double[][] z = tt.toModelSpace(test);
+        Table back = tt.fromModelSpace(z);
+        double[] lj = tt.logJacobian(test);
+        for (int r = 0; r < test.rows(); r++) {
+            double sum = 0;
+            for (int c = 0; c < test.columns(); c++) {
+                double x = test.get(r, c);
+                assertEquals(x, back.get(r, c), ROUND_TRIP_TOL * (Math.abs(x) + tt.transform(c).scale()));
+                sum += tt.transform(c).logJacobian(x);
+            }
+            assertEquals(sum, lj[r], EXACT_TOL * Math.max(1, Math.abs(sum)));
+        }
+        // rebuilt from its parts (as a model file would), the transform is equal
+        assertEquals(tt, TableTransform.of(tt.names(), tt.kinds(), tt.transforms()));
+        assertThrows(IllegalArgumentException.class, () -> TableTransform.fitNormalScores(train, 0));
+    }
+}
