@@ -131,7 +131,7 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
 
     /** @return the model, loaded in this JVM (once; shared with the transforms run here) */
     public DiffusionModel model() {
-        return ExecutorModels.get(sha256, () -> modelBytes, 1);
+        return ExecutorModels.get(sha256, () -> modelBytes, 0);
     }
 
     /** @return a copy of the model file's bytes */

@@ -13,9 +13,9 @@ import org.nd4j.linalg.factory.Nd4j;
  * of their file's bytes: a model is loaded once per JVM, whatever the number of tasks, partitions
  * or transforms that use it. The last {@value #KEPT} models used are kept.
  *
- * <p>Native set-up, once per JVM, before the first model loads: ND4J's own thread count (its
- * OpenMP pool, {@code Nd4j.getEnvironment().setMaxThreads}) is set to the cores a Spark task is
- * given ({@code spark.task.cpus}), so that the tasks running side by side on an executor do not
+ * <p>Threads: ND4J's natives load once per JVM (the first call into ND4J); at each task's first
+ * use, ND4J's own thread count (its OpenMP pool, {@code Nd4j.getEnvironment().setMaxThreads}) is
+ * set to the cores a Spark task is given ({@code spark.task.cpus}) if it differs, so that the tasks running side by side on an executor do not
  * ask for more threads than the executor has cores. The network's matrix products run in OpenBLAS
  * on the calling thread with one BLAS thread (the core sets that per thread), and a task runs its
  * rows on {@code spark.task.cpus} threads ({@link TaskThreads}).
@@ -34,7 +34,6 @@ final class ExecutorModels {
         }
     };
     private static final AtomicInteger LOADS = new AtomicInteger();
-    private static boolean nativesReady;
 
     private ExecutorModels() {
     }
@@ -44,16 +43,15 @@ final class ExecutorModels {
      *
      * @param sha256 the hex SHA-256 of the model file's bytes
      * @param bytes supplies the bytes (a broadcast variable's value), called only to load
-     * @param taskCpus the cores of one task, for the native set-up
+     * @param taskCpus the cores of the calling task, or 0 outside a task (ND4J's threads left as they are)
      * @return the model
      */
     static synchronized DiffusionModel get(String sha256, Supplier<byte[]> bytes, int taskCpus) {
+        if (taskCpus > 0 && Nd4j.getEnvironment().maxThreads() != taskCpus) {
+            Nd4j.getEnvironment().setMaxThreads(taskCpus);
+        }
         DiffusionModel m = LOADED.get(sha256);
         if (m == null) {
-            if (!nativesReady) {
-                Nd4j.getEnvironment().setMaxThreads(Math.max(1, taskCpus));
-                nativesReady = true;
-            }
             m = CoreCalls.fromBytes(bytes.get());
             LOADED.put(sha256, m);
             LOADS.incrementAndGet();
