@@ -32,7 +32,6 @@ import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructField;
 import org.apache.spark.sql.types.StructType;
 import org.backstep.DiffusionModel;
-import org.backstep.table.ColumnKind;
 
 /**
  * A fitted Backstep model as a Spark ML Transformer: {@link #transform(Dataset)} appends the
@@ -127,6 +126,38 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
     public BackstepModel setThreshold(double nats) {
         set(threshold, (Object) nats);
         return this;
+    }
+
+    /**
+     * Screening: a copy of this model whose threshold is the {@code quantile}-quantile of the scores
+     * of held-out rows (rows not trained on), scored through Spark as {@link #transform(Dataset)}
+     * scores rows (same seed, row keys and {@code scoreDraws}); the quantile is the empirical one
+     * of Hyndman &amp; Fan (1996), type 7 (commons-math3). The scores are collected to the driver.
+     *
+     * <p>Caution: the flag ranks records against held-out ones; it is not a calibrated probability
+     * of a fault.
+     *
+     * @param heldOut complete rows not trained on, at least {@link BackstepEstimator#MIN_HELD_OUT}
+     * @param quantile in (0, 1), e.g. 0.99
+     * @return a copy with the threshold set and the job set to score
+     * @throws IllegalArgumentException naming the quantile or the held-out row count
+     */
+    public BackstepModel screenAgainst(Dataset<?> heldOut, double quantile) {
+        if (!(quantile > 0 && quantile < 1)) {
+            throw new IllegalArgumentException("quantile is " + quantile + "; expected a number in (0, 1)");
+        }
+        BackstepModel scorer = copy(ParamMap.empty()).setJob(SCORE).setThreshold(Double.NaN);
+        String col = scorer.getOrDefault(outputCol());
+        double[] scores = scorer.transform(heldOut).select(col).collectAsList().stream()
+                .mapToDouble(r -> r.getDouble(0)).toArray();
+        if (scores.length < BackstepEstimator.MIN_HELD_OUT) {
+            throw new IllegalArgumentException("heldOut has " + scores.length + " rows; expected at least "
+                    + BackstepEstimator.MIN_HELD_OUT);
+        }
+        double t = new org.apache.commons.math3.stat.descriptive.rank.Percentile()
+                .withEstimationType(org.apache.commons.math3.stat.descriptive.rank.Percentile.EstimationType.R_7)
+                .evaluate(scores, 100.0 * quantile);
+        return copy(ParamMap.empty()).setJob(SCORE).setThreshold(t);
     }
 
     /** @return the model, loaded in this JVM (once; shared with the transforms run here) */
@@ -227,11 +258,6 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
     /** @return the reader of saved models, for {@code BackstepModel.read().load(path)} and Pipelines */
     public static MLReader<BackstepModel> read() {
         return new Reader();
-    }
-
-    /** Whether a column of the model is binary (for callers that build DataFrames). */
-    boolean isBinary(int column) {
-        return CoreCalls.kinds(model()).get(column) == ColumnKind.BINARY;
     }
 
     static String sha256(byte[] bytes) {

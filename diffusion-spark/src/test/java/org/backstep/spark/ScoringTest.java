@@ -24,6 +24,8 @@ import org.junit.jupiter.api.Test;
 class ScoringTest {
 
     private static final long SEED = 42L;
+    /** Relative tolerance of a quantile computed by hand against commons-math3's: the same formula, other rounding. */
+    private static final double QUANTILE_TOLERANCE = 1e-12;
 
     private static Map<Long, Double> scores(Dataset<Row> scored, String col) {
         Map<Long, Double> m = new HashMap<>();
@@ -86,6 +88,27 @@ class ScoringTest {
             count += r.getBoolean(1) ? 1 : 0;
         }
         assertEquals(s.length - 1 - s.length / 2, count);
+    }
+
+    @Test
+    void screeningSetsTheThresholdAtTheHeldOutQuantile() {
+        DiffusionModel model = TestModels.model();
+        Table held = TestModels.readings(30, 12);
+        BackstepModel screened = BackstepModel.of(model).setRowKeyCol(TestModels.KEY).setSeed(SEED).setScoreDraws(3)
+                .screenAgainst(TestModels.frame(held, 3), 0.9);
+        double[] ref = new double[held.rows()];
+        for (int i = 0; i < held.rows(); i++) {
+            ref[i] = reference(model, held, i, 3, RowSeeds.ofKey(SEED, 1000L + i));
+        }
+        java.util.Arrays.sort(ref);
+        // type-7 quantile by hand (Hyndman & Fan 1996): h = (n - 1) q, x[floor h] + (h - floor h)(x[floor h + 1] - x[floor h])
+        double h = (ref.length - 1) * 0.9;
+        int lo = (int) Math.floor(h);
+        double want = ref[lo] + (h - lo) * (ref[lo + 1] - ref[lo]);
+        assertEquals(want, (Double) screened.getOrDefault(screened.threshold()), QUANTILE_TOLERANCE * Math.abs(want));
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> BackstepModel.of(model).screenAgainst(TestModels.frame(held, 1), 1.5));
+        assertTrue(e.getMessage().contains("quantile is 1.5"), e.getMessage());
     }
 
     @Test
