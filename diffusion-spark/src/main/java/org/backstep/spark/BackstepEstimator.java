@@ -242,7 +242,7 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         }
         double fraction = Math.min(1.0, 1.2 * cap / total);
         FilterFunction<Row> taken = row -> {
-            ColumnMatch.RowName where = new ColumnMatch.RowName(-1, -1);
+            ColumnMatch.RowName where = new ColumnMatch.RowName(org.apache.spark.TaskContext.getPartitionId(), -1);
             double[] cells = match.cells(row, where);
             return takes(sampleKey(match.rowSeed(seed, row, cells, where)), fraction);
         };

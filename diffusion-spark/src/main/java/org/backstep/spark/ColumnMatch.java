@@ -179,11 +179,17 @@ final class ColumnMatch implements Serializable {
         return keyIndex < 0 ? null : keyCol + " = " + row.get(keyIndex);
     }
 
-    /** How a row is named in an error message: by its key, else by partition and position. */
+    /** How a row is named in an error message: by its key, else by partition and position (-1: unknown). */
     record RowName(int partition, long position) {
         String describe(ColumnMatch m, Row row) {
             String key = m.keyText(row);
-            return key != null ? "the row with " + key : "row " + position + " of partition " + partition;
+            if (key != null) {
+                return "the row with " + key;
+            }
+            if (position < 0) {
+                return "a row of partition " + partition;
+            }
+            return partition < 0 ? "sampled row " + position : "row " + position + " of partition " + partition;
         }
     }
 }

@@ -5,12 +5,12 @@ import org.apache.spark.sql.SparkSession;
 /**
  * One local SparkSession for every test class of this module (surefire runs them in one JVM):
  * Spark's start-up is paid once. local[2]: two executor threads in this JVM, as on the two-core
- * machines the project is built on. The session is stopped when the JVM exits.
+ * machines the project is built on. The session is stopped when the JVM exits. Its start-up is
+ * measured by {@code SparkScoringBenchmark} (diffusion-bench/results/spark-scoring.txt).
  */
 final class LocalSpark {
 
     private static SparkSession session;
-    private static long startupNanos;
 
     private LocalSpark() {
     }
@@ -18,7 +18,6 @@ final class LocalSpark {
     /** @return the shared session, started on first use */
     static synchronized SparkSession session() {
         if (session == null) {
-            long t0 = System.nanoTime();
             session = SparkSession.builder()
                     .appName("backstep-tests")
                     .master("local[2]")
@@ -27,14 +26,8 @@ final class LocalSpark {
                     .config("spark.driver.host", "127.0.0.1")
                     .config("spark.driver.bindAddress", "127.0.0.1")
                     .getOrCreate();
-            startupNanos = System.nanoTime() - t0;
             Runtime.getRuntime().addShutdownHook(new Thread(() -> session.stop()));
         }
         return session;
-    }
-
-    /** @return how long the first {@link #session()} call took to start Spark, in nanoseconds */
-    static synchronized long startupNanos() {
-        return startupNanos;
     }
 }

@@ -139,6 +139,16 @@ class ScoringTest {
     }
 
     @Test
+    void aBinaryCellOtherThanZeroOrOneIsRefusedByRowAndColumn() {
+        Dataset<Row> df = TestModels.frame(TestModels.readings(4, 13), 1)
+                .withColumn("door_open", functions.when(functions.col(TestModels.KEY).equalTo(1002L), 2.0).otherwise(0.0));
+        Exception e = assertThrows(Exception.class,
+                () -> BackstepModel.of(TestModels.model()).setRowKeyCol(TestModels.KEY).transform(df).collectAsList());
+        String text = e.toString() + " " + (e.getCause() == null ? "" : e.getCause().toString());
+        assertTrue(text.contains("reading_id = 1002, column 'door_open' is 2.0; the model's binary column needs 0 or 1"), text);
+    }
+
+    @Test
     void theModelLoadsOncePerJvmAcrossTransforms() {
         BackstepModel stage = BackstepModel.of(TestModels.model()).setScoreDraws(1);
         Table t = TestModels.readings(20, 10);
