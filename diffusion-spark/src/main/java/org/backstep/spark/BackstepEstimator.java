@@ -1,0 +1,322 @@
+package org.backstep.spark;
+
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+
+import org.apache.commons.math3.stat.descriptive.rank.Percentile;
+import org.apache.spark.api.java.function.FilterFunction;
+import org.apache.spark.ml.Estimator;
+import org.apache.spark.ml.param.DoubleParam;
+import org.apache.spark.ml.param.IntArrayParam;
+import org.apache.spark.ml.param.IntParam;
+import org.apache.spark.ml.param.ParamMap;
+import org.apache.spark.ml.param.StringArrayParam;
+import org.apache.spark.ml.util.DefaultParamsReader;
+import org.apache.spark.ml.util.DefaultParamsWritable;
+import org.apache.spark.ml.util.Identifiable;
+import org.apache.spark.ml.util.MLReader;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.types.BooleanType;
+import org.apache.spark.sql.types.StructField;
+import org.apache.spark.sql.types.StructType;
+import org.backstep.DiffusionModel;
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+
+/**
+ * Fits a Backstep model to a DataFrame, as a Spark ML Estimator whose {@link #fit(Dataset)} returns
+ * a {@link BackstepModel} (a Transformer), with the job Params of {@link BackstepParams} passed on.
+ *
+ * <p>How it fits: a uniform sample of at most {@link #sampleRows()} rows is collected to the
+ * driver, and the core fits there ({@code Backstep.builder()...fit(Table)}), so the column
+ * transforms (means and scales) and the network both come from the sample. Which rows: row i is
+ * taken when its sampling key (its seed from {@link RowSeeds}, from {@link #seed()} and the row key
+ * or cells, mixed once more by SplitMix64) falls below {@code 2^64 * min(1, 1.2 * sampleRows / rows)}
+ * as an unsigned number, and the taken rows are ordered by that key and cut at {@code sampleRows}. Every row is taken or not by its own key, so
+ * the sample and the fitted model do not depend on the partitioning. Why not fit over the whole
+ * DataFrame: the core fits a {@code Table} in one JVM; it takes no transforms computed elsewhere
+ * and no gradients from other machines, so whole-table aggregates or data-parallel training would
+ * need new core API (see the README's Spark section).
+ *
+ * <p>Column kinds: boolean columns and the columns named in {@link #binaryCols()} are binary, the
+ * other input columns continuous. Without {@link BackstepParams#inputCols()}, every numeric or
+ * boolean column but the row key is an input.
+ *
+ * <p>Screening: with {@link #screenQuantile()} q set, every fifth sampled row (0-based index
+ * i % 5 == 0) is held out of fitting and scored as the model will score rows; the model's
+ * threshold is the q-quantile of those scores (Hyndman &amp; Fan 1996, type 7, commons-math3).
+ *
+ * <p>Cautions: a likelihood score ranks records and is not a calibrated probability of a fault;
+ * for safety-, health- or compliance-critical decisions, defer to local regulations and qualified
+ * review.
+ */
+public final class BackstepEstimator extends Estimator<BackstepModel>
+        implements BackstepParams<BackstepEstimator>, DefaultParamsWritable {
+
+    private static final long serialVersionUID = 1L;
+
+    /** Fewest held-out rows for a screening threshold. */
+    public static final int MIN_HELD_OUT = 10;
+
+    private final String uid;
+    private final Defs defs;
+    private final IntParam sampleRows;
+    private final IntParam steps;
+    private final IntArrayParam hidden;
+    private final IntParam epochs;
+    private final StringArrayParam binaryCols;
+    private final DoubleParam screenQuantile;
+
+    /** An estimator with default Params. */
+    public BackstepEstimator() {
+        this(Identifiable.randomUID("backstepEstimator"));
+    }
+
+    /** @param uid the stage's unique id (Spark ML's reader calls this constructor) */
+    public BackstepEstimator(String uid) {
+        this.uid = uid;
+        this.defs = new Defs(this);
+        sampleRows = new IntParam(this, "sampleRows", "the most rows collected to the driver to fit on");
+        steps = new IntParam(this, "steps", "T, the diffusion steps; 0: the core's default");
+        hidden = new IntArrayParam(this, "hidden", "widths of the network's hidden layers; empty: the core's default");
+        epochs = new IntParam(this, "epochs", "passes over the sample; 0: the core's default");
+        binaryCols = new StringArrayParam(this, "binaryCols", "numeric input columns holding 0 and 1, modelled as binary");
+        screenQuantile = new DoubleParam(this, "screenQuantile",
+                "q in (0, 1): hold out every fifth sampled row and set the threshold at the q-quantile of their scores; NaN: no threshold");
+        setDefault(sampleRows, (Object) 100_000);
+        setDefault(steps, (Object) 0);
+        setDefault(hidden, new int[0]);
+        setDefault(epochs, (Object) 0);
+        setDefault(binaryCols, new String[0]);
+        setDefault(screenQuantile, (Object) Double.NaN);
+        setDefault(inputCols(), new String[0]);
+    }
+
+    @Override
+    public String uid() {
+        return uid;
+    }
+
+    @Override
+    public Defs paramDefs() {
+        return defs;
+    }
+
+    /** @return the Param: the most rows collected to the driver */
+    public IntParam sampleRows() {
+        return sampleRows;
+    }
+
+    /** @return the Param: T (0 for the core's default) */
+    public IntParam steps() {
+        return steps;
+    }
+
+    /** @return the Param: hidden layer widths (empty for the core's default) */
+    public IntArrayParam hidden() {
+        return hidden;
+    }
+
+    /** @return the Param: epochs (0 for the core's default) */
+    public IntParam epochs() {
+        return epochs;
+    }
+
+    /** @return the Param: numeric columns modelled as binary */
+    public StringArrayParam binaryCols() {
+        return binaryCols;
+    }
+
+    /** @return the Param: the screening quantile, NaN for none */
+    public DoubleParam screenQuantile() {
+        return screenQuantile;
+    }
+
+    /** @param rows the most rows collected to the driver, at least 2 @return this */
+    public BackstepEstimator setSampleRows(int rows) {
+        set(sampleRows, (Object) rows);
+        return this;
+    }
+
+    /** @param t the diffusion steps T; 0 for the core's default @return this */
+    public BackstepEstimator setSteps(int t) {
+        set(steps, (Object) t);
+        return this;
+    }
+
+    /** @param widths hidden layer widths; none for the core's default @return this */
+    public BackstepEstimator setHidden(int... widths) {
+        set(hidden, widths.clone());
+        return this;
+    }
+
+    /** @param n epochs; 0 for the core's default @return this */
+    public BackstepEstimator setEpochs(int n) {
+        set(epochs, (Object) n);
+        return this;
+    }
+
+    /** @param cols numeric columns holding 0 and 1 @return this */
+    public BackstepEstimator setBinaryCols(String... cols) {
+        set(binaryCols, cols.clone());
+        return this;
+    }
+
+    /** @param q the screening quantile in (0, 1), NaN for none @return this */
+    public BackstepEstimator setScreenQuantile(double q) {
+        set(screenQuantile, (Object) q);
+        return this;
+    }
+
+    /** The input columns: as set, else every numeric or boolean column but the row key. */
+    private String[] resolvedInputs(StructType schema) {
+        String[] set = getOrDefault(inputCols());
+        if (set.length > 0) {
+            return set;
+        }
+        String key = getOrDefault(rowKeyCol());
+        List<String> cols = new ArrayList<>();
+        for (StructField f : schema.fields()) {
+            boolean usable = f.dataType() instanceof BooleanType || f.dataType() instanceof org.apache.spark.sql.types.NumericType;
+            if (usable && !f.name().equals(key)) {
+                cols.add(f.name());
+            }
+        }
+        if (cols.isEmpty()) {
+            throw new IllegalArgumentException("the DataFrame has no numeric or boolean column to model; it has "
+                    + Arrays.toString(schema.fieldNames()));
+        }
+        return cols.toArray(String[]::new);
+    }
+
+    private List<ColumnKind> kinds(StructType schema, String[] cols) {
+        List<String> binary = Arrays.asList(getOrDefault(binaryCols));
+        for (String b : binary) {
+            if (!Arrays.asList(cols).contains(b)) {
+                throw new IllegalArgumentException("binaryCols names '" + b + "', which is not an input column "
+                        + Arrays.toString(cols));
+            }
+        }
+        List<ColumnKind> kinds = new ArrayList<>();
+        for (String c : cols) {
+            boolean bool = Arrays.asList(schema.fieldNames()).contains(c)
+                    && schema.apply(c).dataType() instanceof BooleanType;
+            kinds.add(bool || binary.contains(c) ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);
+        }
+        return kinds;
+    }
+
+    @Override
+    public StructType transformSchema(StructType schema) {
+        String[] cols = resolvedInputs(schema);
+        List<ColumnKind> kinds = kinds(schema, cols);
+        ColumnMatch m = ColumnMatch.of(schema, cols, Arrays.asList(cols), kinds, getOrDefault(rowKeyCol()));
+        RowJob.Kind kind = RowJob.check(this, cols.length);
+        return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()), getOrDefault(flagCol()),
+                (Double) getOrDefault(screenQuantile)));
+    }
+
+    @Override
+    public BackstepModel fit(Dataset<?> dataset) {
+        StructType schema = dataset.schema();
+        transformSchema(schema);
+        int cap = (Integer) getOrDefault(sampleRows);
+        if (cap < 2) {
+            throw new IllegalArgumentException("sampleRows is " + cap + "; expected at least 2");
+        }
+        double q = (Double) getOrDefault(screenQuantile);
+        if (!Double.isNaN(q) && !(q > 0 && q < 1)) {
+            throw new IllegalArgumentException("screenQuantile is " + q + "; expected a number in (0, 1) or NaN");
+        }
+        String[] cols = resolvedInputs(schema);
+        List<ColumnKind> kinds = kinds(schema, cols);
+        List<String> names = Arrays.asList(cols);
+        ColumnMatch match = ColumnMatch.of(schema, cols, names, kinds, getOrDefault(rowKeyCol()));
+        long seed = (Long) getOrDefault(seed());
+
+        long total = dataset.count();
+        if (total < 2) {
+            throw new IllegalArgumentException("the DataFrame has " + total + " rows; expected at least 2 to fit on");
+        }
+        double fraction = Math.min(1.0, 1.2 * cap / total);
+        FilterFunction<Row> taken = row -> {
+            ColumnMatch.RowName where = new ColumnMatch.RowName(org.apache.spark.TaskContext.getPartitionId(), -1);
+            double[] cells = match.cells(row, where);
+            return takes(sampleKey(match.rowSeed(seed, row, cells, where)), fraction);
+        };
+        List<Row> rows = new ArrayList<>(dataset.toDF().filter(taken).collectAsList());
+        List<long[]> order = new ArrayList<>();
+        List<double[]> cells = new ArrayList<>();
+        for (int i = 0; i < rows.size(); i++) {
+            ColumnMatch.RowName where = new ColumnMatch.RowName(-1, i);
+            double[] c = match.cells(rows.get(i), where);
+            cells.add(c);
+            long rowSeed = match.rowSeed(seed, rows.get(i), c, where);
+            order.add(new long[] {sampleKey(rowSeed), i, rowSeed});
+        }
+        order.sort((a, b) -> a[0] != b[0] ? Long.compareUnsigned(a[0], b[0]) : Long.compare(a[2], b[2]));
+        int n = Math.min(cap, order.size());
+        double[][] x = new double[n][];
+        long[] rowSeeds = new long[n];
+        for (int i = 0; i < n; i++) {
+            x[i] = cells.get((int) order.get(i)[1]);
+            rowSeeds[i] = order.get(i)[2];
+        }
+        Table sample = Table.of(names, kinds, x);
+
+        Table training = Double.isNaN(q) ? sample : sample.filterRows(i -> i % 5 != 0);
+        DiffusionModel model = CoreCalls.fit(training, (Integer) getOrDefault(steps), getOrDefault(hidden),
+                (Integer) getOrDefault(epochs), seed);
+        BackstepModel fitted = new BackstepModel(uid, CoreCalls.toBytes(model));
+        copyValues(fitted, ParamMap.empty());
+        fitted.setInputCols(cols);
+        if (!Double.isNaN(q)) {
+            fitted.setThreshold(threshold(model, sample, rowSeeds, q));
+        }
+        return fitted.setParent(this);
+    }
+
+    /** The q-quantile of the held-out rows' scores, scored as the fitted model will score rows. */
+    private double threshold(DiffusionModel model, Table sample, long[] rowSeeds, double q) {
+        int draws = (Integer) getOrDefault(scoreDraws());
+        List<Double> scores = new ArrayList<>();
+        for (int i = 0; i < sample.rows(); i += 5) {
+            Table one = sample.selectRows(new int[] {i});
+            if (!one.hasMissing()) {
+                scores.add(CoreCalls.score(model, one, draws, rowSeeds[i]));
+            }
+        }
+        if (scores.size() < MIN_HELD_OUT) {
+            throw new IllegalArgumentException("screenQuantile needs at least " + MIN_HELD_OUT
+                    + " complete held-out rows; the sample gave " + scores.size() + " (raise sampleRows or add rows)");
+        }
+        return new Percentile().withEstimationType(Percentile.EstimationType.R_7)
+                .evaluate(scores.stream().mapToDouble(Double::doubleValue).toArray(), 100.0 * q);
+    }
+
+    /** A row's sampling key, from its seed (mixed once more, so that sampling and the row's stream do not share bits). */
+    static long sampleKey(long rowSeed) {
+        return RowSeeds.mix(rowSeed ^ 0x5A17E5EED5A17E5EL);
+    }
+
+    /** Whether a row with this sampling key is in a sample of the given fraction: key / 2^64 (unsigned) below it. */
+    static boolean takes(long sampleKey, double fraction) {
+        if (fraction >= 1.0) {
+            return true;
+        }
+        double u = (sampleKey >>> 11) * 0x1.0p-53;   // the top 53 bits as a uniform number in [0, 1)
+        return u < fraction;
+    }
+
+    @Override
+    public BackstepEstimator copy(ParamMap extra) {
+        return defaultCopy(extra);
+    }
+
+    /** @return the reader of saved estimators, for {@code BackstepEstimator.read().load(path)} and Pipelines */
+    public static MLReader<BackstepEstimator> read() {
+        return new DefaultParamsReader<>();
+    }
+}

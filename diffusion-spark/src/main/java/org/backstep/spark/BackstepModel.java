@@ -1,0 +1,315 @@
+package org.backstep.spark;
+
+import java.io.IOException;
+import java.io.InputStream;
+import java.io.OutputStream;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.util.HexFormat;
+import java.util.List;
+
+import org.apache.hadoop.fs.FileSystem;
+import org.apache.spark.SparkContext;
+import org.apache.spark.api.java.JavaSparkContext;
+import org.apache.spark.broadcast.Broadcast;
+import org.apache.spark.ml.Model;
+import org.apache.spark.ml.param.DoubleParam;
+import org.apache.spark.ml.param.ParamMap;
+import org.apache.spark.ml.util.DefaultParamsReader;
+import org.apache.spark.ml.util.DefaultParamsWriter;
+import org.apache.spark.ml.util.Identifiable;
+import org.apache.spark.ml.util.MLReader;
+import org.apache.spark.ml.util.MLWritable;
+import org.apache.spark.ml.util.MLWriter;
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Encoders;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.SparkSession;
+import org.apache.spark.sql.types.DataTypes;
+import org.apache.spark.sql.types.StructField;
+import org.apache.spark.sql.types.StructType;
+import org.backstep.DiffusionModel;
+
+/**
+ * A fitted Backstep model as a Spark ML Transformer: {@link #transform(Dataset)} appends the
+ * columns of the chosen job (score and flag, imputation, or denoising; see {@link BackstepParams})
+ * to every row of a DataFrame; {@link #sample(SparkSession, long, int, long)} draws synthetic rows
+ * as a DataFrame spread over partitions. Made by {@link BackstepEstimator#fit(Dataset)}, or around
+ * a model fitted in one JVM by {@link #of(DiffusionModel)} or {@link #load(Path)}.
+ *
+ * <p>What is sent where: the model file's bytes are broadcast once per transform (Spark ships a
+ * broadcast to each executor once); each executor JVM loads the model once, keyed by the SHA-256 of
+ * the bytes ({@code ExecutorModels}), whatever the number of tasks. Rows stay in their partitions;
+ * each partition is read in batches of {@code batchRows} rows and each row goes through the core
+ * with its own random stream ({@link RowSeeds}), on {@code spark.task.cpus} threads.
+ *
+ * <p>Saved with Spark ML's writer: the folder holds Spark's {@code metadata} (every Param) and the
+ * Backstep model file, {@value #MODEL_FILE}, byte for byte.
+ *
+ * <p>Cautions: imputed, denoised and synthetic values are not measurements; synthetic rows can
+ * reproduce training rows; a likelihood score ranks records and is not a calibrated probability of
+ * a fault; for safety-, health- or compliance-critical decisions, defer to local regulations and
+ * qualified review.
+ */
+public final class BackstepModel extends Model<BackstepModel> implements BackstepParams<BackstepModel>, MLWritable {
+
+    private static final long serialVersionUID = 1L;
+
+    /** The name of the Backstep model file inside a saved model's folder. */
+    public static final String MODEL_FILE = "backstep-model.zip";
+
+    private final String uid;
+    private final byte[] modelBytes;
+    private final String sha256;
+    private final Defs defs;
+    private final DoubleParam threshold;
+    private transient Broadcast<byte[]> broadcast;
+    private transient SparkContext broadcastContext;
+
+    BackstepModel(String uid, byte[] modelBytes) {
+        this.uid = uid;
+        this.modelBytes = modelBytes.clone();
+        this.sha256 = sha256(this.modelBytes);
+        this.defs = new Defs(this);
+        this.threshold = new DoubleParam(this, "threshold",
+                "the score past which a row is flagged, in nats; NaN: no flag column");
+        setDefault(threshold, (Object) Double.NaN);
+        setDefault(inputCols(), CoreCalls.names(model()).toArray(String[]::new));
+    }
+
+    /**
+     * Wraps a model fitted in one JVM.
+     *
+     * @param model the model (not modified)
+     * @return the transformer, with default Params
+     */
+    public static BackstepModel of(DiffusionModel model) {
+        if (model == null) {
+            throw new IllegalArgumentException("model is null");
+        }
+        return new BackstepModel(Identifiable.randomUID("backstep"), CoreCalls.toBytes(model));
+    }
+
+    /**
+     * Wraps a Backstep model file ({@link DiffusionModel#save(Path)}).
+     *
+     * @param modelFile the file
+     * @return the transformer, with default Params
+     * @throws IOException if the file cannot be read
+     * @throws org.backstep.io.ModelFileException if it is not a valid model file
+     */
+    public static BackstepModel load(Path modelFile) throws IOException {
+        byte[] bytes = Files.readAllBytes(modelFile);
+        DiffusionModel.load(modelFile);      // refuses a bad file here, naming the part
+        return new BackstepModel(Identifiable.randomUID("backstep"), bytes);
+    }
+
+    @Override
+    public String uid() {
+        return uid;
+    }
+
+    @Override
+    public Defs paramDefs() {
+        return defs;
+    }
+
+    /** @return the Param: the flag threshold in nats, NaN for none */
+    public DoubleParam threshold() {
+        return threshold;
+    }
+
+    /** @param nats the score past which a row is flagged; NaN for no flag column @return this */
+    public BackstepModel setThreshold(double nats) {
+        set(threshold, (Object) nats);
+        return this;
+    }
+
+    /**
+     * Screening: a copy of this model whose threshold is the {@code quantile}-quantile of the scores
+     * of held-out rows (rows not trained on), scored through Spark as {@link #transform(Dataset)}
+     * scores rows (same seed, row keys and {@code scoreDraws}); the quantile is the empirical one
+     * of Hyndman &amp; Fan (1996), type 7 (commons-math3). The scores are collected to the driver.
+     *
+     * <p>Caution: the flag ranks records against held-out ones; it is not a calibrated probability
+     * of a fault.
+     *
+     * @param heldOut complete rows not trained on, at least {@link BackstepEstimator#MIN_HELD_OUT}
+     * @param quantile in (0, 1), e.g. 0.99
+     * @return a copy with the threshold set and the job set to score
+     * @throws IllegalArgumentException naming the quantile or the held-out row count
+     */
+    public BackstepModel screenAgainst(Dataset<?> heldOut, double quantile) {
+        if (!(quantile > 0 && quantile < 1)) {
+            throw new IllegalArgumentException("quantile is " + quantile + "; expected a number in (0, 1)");
+        }
+        BackstepModel scorer = copy(ParamMap.empty()).setJob(SCORE).setThreshold(Double.NaN);
+        String col = scorer.getOrDefault(outputCol());
+        double[] scores = scorer.transform(heldOut).select(col).collectAsList().stream()
+                .mapToDouble(r -> r.getDouble(0)).toArray();
+        if (scores.length < BackstepEstimator.MIN_HELD_OUT) {
+            throw new IllegalArgumentException("heldOut has " + scores.length + " rows; expected at least "
+                    + BackstepEstimator.MIN_HELD_OUT);
+        }
+        double t = new org.apache.commons.math3.stat.descriptive.rank.Percentile()
+                .withEstimationType(org.apache.commons.math3.stat.descriptive.rank.Percentile.EstimationType.R_7)
+                .evaluate(scores, 100.0 * quantile);
+        return copy(ParamMap.empty()).setJob(SCORE).setThreshold(t);
+    }
+
+    /** @return the model, loaded in this JVM (once; shared with the transforms run here) */
+    public DiffusionModel model() {
+        return ExecutorModels.get(sha256, () -> modelBytes, 0);
+    }
+
+    /** @return a copy of the model file's bytes */
+    public byte[] modelFileBytes() {
+        return modelBytes.clone();
+    }
+
+    /** @return the hex SHA-256 of the model file's bytes */
+    public String modelSha256() {
+        return sha256;
+    }
+
+    private ColumnMatch match(StructType schema) {
+        DiffusionModel m = model();
+        return ColumnMatch.of(schema, getOrDefault(inputCols()), CoreCalls.names(m), CoreCalls.kinds(m),
+                getOrDefault(rowKeyCol()));
+    }
+
+    @Override
+    public StructType transformSchema(StructType schema) {
+        RowJob.Kind kind = RowJob.check(this, CoreCalls.names(model()).size());
+        ColumnMatch m = match(schema);
+        return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()),
+                getOrDefault(flagCol()), (Double) getOrDefault(threshold)));
+    }
+
+    @Override
+    public Dataset<Row> transform(Dataset<?> dataset) {
+        StructType out = transformSchema(dataset.schema());
+        RowJob.Kind kind = RowJob.check(this, CoreCalls.names(model()).size());
+        RowJob job = new RowJob(broadcast(dataset.sparkSession()), sha256, match(dataset.schema()), kind,
+                (Long) getOrDefault(seed()), (Integer) getOrDefault(scoreDraws()), (Integer) getOrDefault(draws()),
+                (Double) getOrDefault(level()), getOrDefault(noiseSd()), (Double) getOrDefault(threshold),
+                (Integer) getOrDefault(batchRows()));
+        return dataset.toDF().mapPartitions(job, Encoders.row(out));
+    }
+
+    /**
+     * Synthetic rows by ancestral sampling through all T steps, spread over partitions: partition p
+     * draws its share in slices of {@code batchRows} rows, each seeded from {@code seed}, p and the
+     * slice (see {@code SampleJob}). The same seed, count and partition count give the same rows.
+     * Columns: the model's, as doubles (binary columns 0 or 1).
+     *
+     * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
+     *
+     * @param spark the session
+     * @param count rows in all, at least 1
+     * @param partitions partitions, at least 1
+     * @param seed the seed
+     * @return the rows
+     */
+    public Dataset<Row> sample(SparkSession spark, long count, int partitions, long seed) {
+        if (count < 1) {
+            throw new IllegalArgumentException("count is " + count + "; expected at least 1");
+        }
+        if (partitions < 1) {
+            throw new IllegalArgumentException("partitions is " + partitions + "; expected at least 1");
+        }
+        int slice = (Integer) getOrDefault(batchRows());
+        if (slice < 1) {
+            throw new IllegalArgumentException("batchRows is " + slice + "; expected at least 1");
+        }
+        List<String> names = CoreCalls.names(model());
+        StructType schema = new StructType(names.stream()
+                .map(n -> DataTypes.createStructField(n, DataTypes.DoubleType, false)).toArray(StructField[]::new));
+        return spark.range(0, partitions, 1, partitions).as(Encoders.LONG())
+                .mapPartitions(new SampleJob(broadcast(spark), sha256, count, partitions, seed, slice), Encoders.row(schema));
+    }
+
+    /** The model file's bytes as a broadcast variable of the session's context, made once per context. */
+    private synchronized Broadcast<byte[]> broadcast(SparkSession spark) {
+        SparkContext sc = spark.sparkContext();
+        if (broadcast == null || broadcastContext != sc || sc.isStopped()) {
+            broadcast = JavaSparkContext.fromSparkContext(sc).broadcast(modelBytes);
+            broadcastContext = sc;
+        }
+        return broadcast;
+    }
+
+    @Override
+    public BackstepModel copy(ParamMap extra) {
+        BackstepModel copy = new BackstepModel(uid, modelBytes);
+        copy.broadcast = broadcast;
+        copy.broadcastContext = broadcastContext;
+        return copyValues(copy, extra).setParent(parent());
+    }
+
+    @Override
+    public MLWriter write() {
+        return new Writer(this);
+    }
+
+    /** @return the reader of saved models, for {@code BackstepModel.read().load(path)} and Pipelines */
+    public static MLReader<BackstepModel> read() {
+        return new Reader();
+    }
+
+    static String sha256(byte[] bytes) {
+        try {
+            return HexFormat.of().formatHex(MessageDigest.getInstance("SHA-256").digest(bytes));
+        } catch (NoSuchAlgorithmException e) {
+            throw new IllegalStateException("SHA-256 is missing from this JVM", e);
+        }
+    }
+
+    /** Writes Spark's metadata and the model file. */
+    private static final class Writer extends MLWriter {
+        private final BackstepModel model;
+
+        Writer(BackstepModel model) {
+            this.model = model;
+        }
+
+        @Override
+        public void saveImpl(String path) {
+            DefaultParamsWriter.saveMetadata(model, path, sparkSession());
+            org.apache.hadoop.fs.Path file = new org.apache.hadoop.fs.Path(path, MODEL_FILE);
+            try {
+                FileSystem fs = file.getFileSystem(sc().hadoopConfiguration());
+                try (OutputStream out = fs.create(file, true)) {
+                    out.write(model.modelBytes);
+                }
+            } catch (IOException e) {
+                throw new UncheckedIOException("could not write " + file, e);
+            }
+        }
+    }
+
+    /** Reads Spark's metadata and the model file. */
+    private static final class Reader extends MLReader<BackstepModel> {
+        @Override
+        public BackstepModel load(String path) {
+            DefaultParamsReader.Metadata meta = DefaultParamsReader.loadMetadata(path, sparkSession(),
+                    BackstepModel.class.getName());
+            org.apache.hadoop.fs.Path file = new org.apache.hadoop.fs.Path(path, MODEL_FILE);
+            byte[] bytes;
+            try {
+                FileSystem fs = file.getFileSystem(sc().hadoopConfiguration());
+                try (InputStream in = fs.open(file)) {
+                    bytes = in.readAllBytes();
+                }
+            } catch (IOException e) {
+                throw new UncheckedIOException("could not read " + file, e);
+            }
+            BackstepModel model = new BackstepModel(meta.uid(), bytes);
+            meta.getAndSetParams(model, scala.Option.empty());
+            return model;
+        }
+    }
+}

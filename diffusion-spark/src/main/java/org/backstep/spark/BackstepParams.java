@@ -1,0 +1,217 @@
+package org.backstep.spark;
+
+import org.apache.spark.ml.param.DoubleArrayParam;
+import org.apache.spark.ml.param.DoubleParam;
+import org.apache.spark.ml.param.IntParam;
+import org.apache.spark.ml.param.LongParam;
+import org.apache.spark.ml.param.Param;
+import org.apache.spark.ml.param.Params;
+import org.apache.spark.ml.param.StringArrayParam;
+
+/**
+ * The Spark ML Params shared by {@link BackstepEstimator} and {@link BackstepModel}: which columns,
+ * which job, the seed and the job's settings. A fitted model takes the estimator's values.
+ *
+ * <p>The jobs ({@link #job()}): {@code "score"} appends the negative variational bound of each row
+ * in nats ({@link #outputCol()}; exact over all T steps when {@link #scoreDraws()} is 0, else a
+ * Monte Carlo estimate with that many steps; Ho et al. 2020, eq. 5) and, when the model has a
+ * threshold, a flag ({@link #flagCol()}: the bound is above the threshold, or NaN);
+ * {@code "impute"} appends, per model column {@code c}, {@code c_mean}, {@code c_lower} and
+ * {@code c_upper}: the mean and central interval at {@link #level()} of {@link #draws()} draws of
+ * each missing cell given the observed ones (observed cells repeat their value);
+ * {@code "denoise"} appends {@code c_denoised} and {@code c_sd}: the posterior mean and spread of
+ * each cell of readings with Gaussian noise of standard deviation {@link #noiseSd()} (original
+ * units, one per model column).
+ *
+ * <p>Every row's random stream derives from {@link #seed()} and the row's key
+ * ({@link #rowKeyCol()}, else the row's cells), so results do not depend on the partitioning
+ * ({@link RowSeeds}).
+ *
+ * <p>Cautions: imputed and denoised values are not measurements; a likelihood score ranks records
+ * and is not a calibrated probability of a fault; for safety-, health- or compliance-critical
+ * decisions, defer to local regulations and qualified review.
+ *
+ * @param <S> the implementing class, returned by the setters
+ */
+public interface BackstepParams<S extends BackstepParams<S>> extends Params {
+
+    /** The job names {@link #job()} accepts. */
+    String SCORE = "score";
+    /** @see #SCORE */
+    String IMPUTE = "impute";
+    /** @see #SCORE */
+    String DENOISE = "denoise";
+
+    /** The Param objects of one instance; internal, made by the implementing class's constructor. */
+    final class Defs {
+        final StringArrayParam inputCols;
+        final Param<String> rowKeyCol;
+        final Param<String> outputCol;
+        final Param<String> flagCol;
+        final LongParam seed;
+        final Param<String> job;
+        final IntParam scoreDraws;
+        final IntParam draws;
+        final DoubleParam level;
+        final DoubleArrayParam noiseSd;
+        final IntParam batchRows;
+
+        Defs(BackstepParams<?> owner) {
+            inputCols = new StringArrayParam(owner, "inputCols",
+                    "the DataFrame column of each model column, in the model's order (default: the model's column names)");
+            rowKeyCol = new Param<>(owner, "rowKeyCol",
+                    "an integer or string column whose value seeds each row's random stream; empty: the row's cells do");
+            outputCol = new Param<>(owner, "outputCol", "the score column: the bound in nats per row");
+            flagCol = new Param<>(owner, "flagCol", "the flag column: score above the threshold (or NaN)");
+            seed = new LongParam(owner, "seed", "the job's seed; each row's seed derives from it and the row's key");
+            job = new Param<>(owner, "job", "the job of transform: score, impute or denoise");
+            scoreDraws = new IntParam(owner, "scoreDraws",
+                    "0: the exact bound over all T steps; K > 0: a Monte Carlo estimate with K steps");
+            draws = new IntParam(owner, "draws", "draws per row for impute and denoise, at least 1");
+            level = new DoubleParam(owner, "level", "coverage of the imputation interval, in (0, 1)");
+            noiseSd = new DoubleArrayParam(owner, "noiseSd",
+                    "for denoise: the noise standard deviation of each model column, original units");
+            batchRows = new IntParam(owner, "batchRows", "rows read from a partition at a time, at least 1");
+            owner.setDefault(rowKeyCol, "");
+            owner.setDefault(outputCol, "backstep_nats");
+            owner.setDefault(flagCol, "backstep_flag");
+            owner.setDefault(seed, (Object) 1L);
+            owner.setDefault(job, SCORE);
+            owner.setDefault(scoreDraws, (Object) 0);
+            owner.setDefault(draws, (Object) 20);
+            owner.setDefault(level, (Object) 0.9);
+            owner.setDefault(noiseSd, new double[0]);
+            owner.setDefault(batchRows, (Object) 256);
+        }
+    }
+
+    /** @return this instance's Param objects (internal) */
+    Defs paramDefs();
+
+    /** @return this, typed */
+    @SuppressWarnings("unchecked")
+    private S self() {
+        return (S) this;
+    }
+
+    /** @return the Param: the DataFrame column of each model column */
+    default StringArrayParam inputCols() {
+        return paramDefs().inputCols;
+    }
+
+    /** @return the Param: the row key column ("" for the row's cells) */
+    default Param<String> rowKeyCol() {
+        return paramDefs().rowKeyCol;
+    }
+
+    /** @return the Param: the score column */
+    default Param<String> outputCol() {
+        return paramDefs().outputCol;
+    }
+
+    /** @return the Param: the flag column */
+    default Param<String> flagCol() {
+        return paramDefs().flagCol;
+    }
+
+    /** @return the Param: the job's seed */
+    default LongParam seed() {
+        return paramDefs().seed;
+    }
+
+    /** @return the Param: score, impute or denoise */
+    default Param<String> job() {
+        return paramDefs().job;
+    }
+
+    /** @return the Param: 0 for the exact bound, K for a Monte Carlo estimate */
+    default IntParam scoreDraws() {
+        return paramDefs().scoreDraws;
+    }
+
+    /** @return the Param: draws per row for impute and denoise */
+    default IntParam draws() {
+        return paramDefs().draws;
+    }
+
+    /** @return the Param: coverage of the imputation interval */
+    default DoubleParam level() {
+        return paramDefs().level;
+    }
+
+    /** @return the Param: noise standard deviation per model column for denoise */
+    default DoubleArrayParam noiseSd() {
+        return paramDefs().noiseSd;
+    }
+
+    /** @return the Param: rows read from a partition at a time */
+    default IntParam batchRows() {
+        return paramDefs().batchRows;
+    }
+
+    /** @param cols the DataFrame column of each model column @return this */
+    default S setInputCols(String... cols) {
+        set(inputCols(), cols.clone());
+        return self();
+    }
+
+    /** @param col the row key column, "" for the row's cells @return this */
+    default S setRowKeyCol(String col) {
+        set(rowKeyCol(), col);
+        return self();
+    }
+
+    /** @param col the score column @return this */
+    default S setOutputCol(String col) {
+        set(outputCol(), col);
+        return self();
+    }
+
+    /** @param col the flag column @return this */
+    default S setFlagCol(String col) {
+        set(flagCol(), col);
+        return self();
+    }
+
+    /** @param seed the job's seed @return this */
+    default S setSeed(long seed) {
+        set(seed(), (Object) seed);
+        return self();
+    }
+
+    /** @param job score, impute or denoise @return this */
+    default S setJob(String job) {
+        set(job(), job);
+        return self();
+    }
+
+    /** @param draws 0 for the exact bound, K at least 1 for a Monte Carlo estimate @return this */
+    default S setScoreDraws(int draws) {
+        set(scoreDraws(), (Object) draws);
+        return self();
+    }
+
+    /** @param draws draws per row for impute and denoise @return this */
+    default S setDraws(int draws) {
+        set(draws(), (Object) draws);
+        return self();
+    }
+
+    /** @param level coverage of the imputation interval, in (0, 1) @return this */
+    default S setLevel(double level) {
+        set(level(), (Object) level);
+        return self();
+    }
+
+    /** @param sd noise standard deviation per model column, original units @return this */
+    default S setNoiseSd(double... sd) {
+        set(noiseSd(), sd.clone());
+        return self();
+    }
+
+    /** @param rows rows read from a partition at a time @return this */
+    default S setBatchRows(int rows) {
+        set(batchRows(), (Object) rows);
+        return self();
+    }
+}

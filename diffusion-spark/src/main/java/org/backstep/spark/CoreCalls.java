@@ -1,0 +1,118 @@
+package org.backstep.spark;
+
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+
+import org.backstep.Backstep;
+import org.backstep.DiffusionModel;
+import org.backstep.report.Denoising;
+import org.backstep.report.Imputation;
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+
+/**
+ * Every call this module makes into diffusion-core, in one place, so that a change of the core's
+ * job signatures is met here only. Each job runs on one record per call (see {@link RowSeeds} for
+ * why), except sampling and fitting.
+ */
+final class CoreCalls {
+
+    private CoreCalls() {
+    }
+
+    /**
+     * The negative variational bound of one record in nats (model space): exact over all T steps
+     * when {@code draws} is 0 ({@link DiffusionModel#bound(Table, long)}), else the Monte Carlo
+     * estimate with {@code draws} steps ({@link DiffusionModel#boundMonteCarlo(Table, int, long)}).
+     */
+    static double score(DiffusionModel model, Table oneRow, int draws, long seed) {
+        return draws == 0 ? model.bound(oneRow, seed).nats()[0] : model.boundMonteCarlo(oneRow, draws, seed).nats()[0];
+    }
+
+    /** {@link DiffusionModel#impute(Table, int, double, long)} of one record. */
+    static Imputation impute(DiffusionModel model, Table oneRow, int draws, double level, long seed) {
+        return model.impute(oneRow, draws, level, seed);
+    }
+
+    /** {@link DiffusionModel#denoise(Table, double[], int, long)} of one record. */
+    static Denoising denoise(DiffusionModel model, Table oneRow, double[] noiseSd, int draws, long seed) {
+        return model.denoise(oneRow, noiseSd, draws, seed);
+    }
+
+    /** {@link DiffusionModel#sample(int, long)}: ancestral sampling through all T steps. */
+    static Table sample(DiffusionModel model, int count, long seed) {
+        return model.sample(count, seed);
+    }
+
+    /** Fits a model by the core's builder with the given settings (0 or an empty array: the core's default). */
+    static DiffusionModel fit(Table training, int steps, int[] hidden, int epochs, long seed) {
+        Backstep.Builder b = Backstep.builder().seed(seed);
+        if (steps > 0) {
+            b.steps(steps);
+        }
+        if (hidden.length > 0) {
+            b.hidden(hidden);
+        }
+        if (epochs > 0) {
+            b.epochs(epochs);
+        }
+        return b.fit(training);
+    }
+
+    /** @return the training table's column names, in order */
+    static List<String> names(DiffusionModel model) {
+        return model.transform().names();
+    }
+
+    /** @return the training table's column kinds, in order */
+    static List<ColumnKind> kinds(DiffusionModel model) {
+        return model.transform().kinds();
+    }
+
+    /** The bytes of the model file ({@link DiffusionModel#save(Path)}), by way of a temporary file. */
+    static byte[] toBytes(DiffusionModel model) {
+        Path dir = null;
+        try {
+            dir = Files.createTempDirectory("backstep-model");
+            Path file = dir.resolve("model.backstep");
+            model.save(file);
+            return Files.readAllBytes(file);
+        } catch (IOException e) {
+            throw new UncheckedIOException("could not write the model to a temporary file", e);
+        } finally {
+            deleteQuietly(dir);
+        }
+    }
+
+    /** A model from the bytes of its file ({@link DiffusionModel#load(Path)}), by way of a temporary file. */
+    static DiffusionModel fromBytes(byte[] bytes) {
+        Path dir = null;
+        try {
+            dir = Files.createTempDirectory("backstep-model");
+            Path file = dir.resolve("model.backstep");
+            Files.write(file, bytes);
+            return DiffusionModel.load(file);
+        } catch (IOException e) {
+            throw new UncheckedIOException("could not load the model from its bytes: " + e.getMessage(), e);
+        } finally {
+            deleteQuietly(dir);
+        }
+    }
+
+    private static void deleteQuietly(Path dir) {
+        if (dir == null) {
+            return;
+        }
+        try (var files = Files.list(dir)) {
+            for (Path p : (Iterable<Path>) files::iterator) {
+                Files.deleteIfExists(p);
+            }
+            Files.deleteIfExists(dir);
+        } catch (IOException e) {
+            dir.toFile().deleteOnExit();
+        }
+    }
+}

@@ -1,0 +1,278 @@
+package org.backstep.spark;
+
+import java.io.Serializable;
+import java.util.ArrayList;
+import java.util.Iterator;
+import java.util.List;
+import java.util.Locale;
+import java.util.NoSuchElementException;
+
+import org.apache.spark.TaskContext;
+import org.apache.spark.api.java.function.MapPartitionsFunction;
+import org.apache.spark.broadcast.Broadcast;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.RowFactory;
+import org.apache.spark.sql.types.DataTypes;
+import org.apache.spark.sql.types.StructField;
+import org.apache.spark.sql.types.StructType;
+import org.backstep.DiffusionModel;
+import org.backstep.report.Denoising;
+import org.backstep.report.Imputation;
+import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
+
+/**
+ * One job over the rows of a DataFrame, run per partition: the rows are read in batches of
+ * {@code batchRows}, each row's random stream is seeded from the job's seed and the row's key
+ * ({@link RowSeeds}), and each row goes through the core on its own (one record per call), on the
+ * task's cores. Output rows are the input rows with the job's columns appended.
+ */
+final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
+
+    private static final long serialVersionUID = 1L;
+
+    /** The jobs a {@link BackstepModel} runs on rows. */
+    enum Kind {
+        /** The bound in nats, and a flag past a threshold. */
+        SCORE,
+        /** Mean and central interval of draws of each missing cell. */
+        IMPUTE,
+        /** Posterior mean and spread of each cell of readings with known noise. */
+        DENOISE
+    }
+
+    /** Suffixes of the columns the impute and denoise jobs add, after the input column's name. */
+    static final String MEAN = "_mean";
+    static final String LOWER = "_lower";
+    static final String UPPER = "_upper";
+    static final String DENOISED = "_denoised";
+    static final String SD = "_sd";
+
+    private final Broadcast<byte[]> modelBytes;
+    private final String sha256;
+    private final ColumnMatch match;
+    private final Kind kind;
+    private final long seed;
+    private final int scoreDraws;
+    private final int draws;
+    private final double level;
+    private final double[] noiseSd;
+    private final double threshold;
+    private final int batchRows;
+
+    RowJob(Broadcast<byte[]> modelBytes, String sha256, ColumnMatch match, Kind kind, long seed, int scoreDraws,
+           int draws, double level, double[] noiseSd, double threshold, int batchRows) {
+        this.modelBytes = modelBytes;
+        this.sha256 = sha256;
+        this.match = match;
+        this.kind = kind;
+        this.seed = seed;
+        this.scoreDraws = scoreDraws;
+        this.draws = draws;
+        this.level = level;
+        this.noiseSd = noiseSd.clone();
+        this.threshold = threshold;
+        this.batchRows = batchRows;
+    }
+
+    /**
+     * The fields the job appends.
+     *
+     * @param kind the job
+     * @param match the model's columns in the DataFrame
+     * @param outputCol the score column
+     * @param flagCol the flag column
+     * @param threshold the flag's threshold, NaN for no flag column
+     * @return the new fields
+     */
+    static List<StructField> addedFields(Kind kind, ColumnMatch match, String outputCol, String flagCol, double threshold) {
+        List<StructField> f = new ArrayList<>();
+        switch (kind) {
+            case SCORE -> {
+                f.add(DataTypes.createStructField(outputCol, DataTypes.DoubleType, false));
+                if (!Double.isNaN(threshold)) {
+                    f.add(DataTypes.createStructField(flagCol, DataTypes.BooleanType, false));
+                }
+            }
+            case IMPUTE -> {
+                for (int j = 0; j < match.columns(); j++) {
+                    f.add(DataTypes.createStructField(match.inputCol(j) + MEAN, DataTypes.DoubleType, false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + LOWER, DataTypes.DoubleType, false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + UPPER, DataTypes.DoubleType, false));
+                }
+            }
+            case DENOISE -> {
+                for (int j = 0; j < match.columns(); j++) {
+                    f.add(DataTypes.createStructField(match.inputCol(j) + DENOISED, DataTypes.DoubleType, false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + SD, DataTypes.DoubleType, false));
+                }
+            }
+            default -> throw new IllegalStateException(kind.name());
+        }
+        return f;
+    }
+
+    /**
+     * The input schema with the job's fields appended.
+     *
+     * @throws IllegalArgumentException naming an added column that the input already has
+     */
+    static StructType outputSchema(StructType input, List<StructField> added) {
+        StructType out = input;
+        List<String> names = List.of(input.fieldNames());
+        for (StructField f : added) {
+            if (names.contains(f.name())) {
+                throw new IllegalArgumentException("the DataFrame already has a column '" + f.name()
+                        + "', which this job would add; rename it or choose another output column");
+            }
+            out = out.add(f);
+        }
+        return out;
+    }
+
+    /**
+     * Checks the settings of the chosen job.
+     *
+     * @param modelColumns the model's column count
+     * @param p the settings
+     * @return the job
+     * @throws IllegalArgumentException naming the Param, its value and what was expected
+     */
+    static Kind check(BackstepParams<?> p, int modelColumns) {
+        String name = p.getOrDefault(p.job());
+        Kind kind;
+        try {
+            kind = Kind.valueOf(name.toUpperCase(Locale.ROOT));
+        } catch (IllegalArgumentException e) {
+            throw new IllegalArgumentException("job is '" + name + "'; expected score, impute or denoise", e);
+        }
+        int sd = (Integer) p.getOrDefault(p.scoreDraws());
+        if (sd < 0) {
+            throw new IllegalArgumentException("scoreDraws is " + sd + "; expected 0 (exact bound) or a count of at least 1");
+        }
+        int d = (Integer) p.getOrDefault(p.draws());
+        if (d < 1) {
+            throw new IllegalArgumentException("draws is " + d + "; expected at least 1");
+        }
+        double lv = (Double) p.getOrDefault(p.level());
+        if (!(lv > 0 && lv < 1)) {
+            throw new IllegalArgumentException("level is " + lv + "; expected a number in (0, 1)");
+        }
+        int b = (Integer) p.getOrDefault(p.batchRows());
+        if (b < 1) {
+            throw new IllegalArgumentException("batchRows is " + b + "; expected at least 1");
+        }
+        if (kind == Kind.DENOISE && p.getOrDefault(p.noiseSd()).length != modelColumns) {
+            throw new IllegalArgumentException("noiseSd has " + p.getOrDefault(p.noiseSd()).length
+                    + " entries; the denoise job needs one per model column, " + modelColumns);
+        }
+        return kind;
+    }
+
+    @Override
+    public Iterator<Row> call(Iterator<Row> rows) {
+        int cpus = TaskThreads.taskCpus();
+        DiffusionModel model = ExecutorModels.get(sha256, modelBytes::value, cpus);
+        List<String> names = CoreCalls.names(model);
+        List<ColumnKind> kinds = CoreCalls.kinds(model);
+        int partition = TaskContext.get() == null ? 0 : TaskContext.getPartitionId();
+        return new Iterator<>() {
+            private final List<Row> out = new ArrayList<>();
+            private int next;
+            private long position;
+
+            @Override
+            public boolean hasNext() {
+                if (next < out.size()) {
+                    return true;
+                }
+                out.clear();
+                next = 0;
+                List<Row> batch = new ArrayList<>(batchRows);
+                while (batch.size() < batchRows && rows.hasNext()) {
+                    batch.add(rows.next());
+                }
+                if (batch.isEmpty()) {
+                    return false;
+                }
+                Row[] done = new Row[batch.size()];
+                long first = position;
+                position += batch.size();
+                TaskThreads.forEach(batch.size(), cpus, i -> {
+                    Row row = batch.get(i);
+                    ColumnMatch.RowName where = new ColumnMatch.RowName(partition, first + i);
+                    done[i] = append(row, run(model, names, kinds, row, where));
+                });
+                out.addAll(List.of(done));
+                return true;
+            }
+
+            @Override
+            public Row next() {
+                if (!hasNext()) {
+                    throw new NoSuchElementException();
+                }
+                return out.get(next++);
+            }
+        };
+    }
+
+    private static Row append(Row row, Object[] added) {
+        Object[] v = new Object[row.size() + added.length];
+        for (int i = 0; i < row.size(); i++) {
+            v[i] = row.get(i);
+        }
+        System.arraycopy(added, 0, v, row.size(), added.length);
+        return RowFactory.create(v);
+    }
+
+    /** The job's values for one row. */
+    private Object[] run(DiffusionModel model, List<String> names, List<ColumnKind> kinds, Row row,
+                         ColumnMatch.RowName where) {
+        double[] cells = match.cells(row, where);
+        long rowSeed = match.rowSeed(seed, row, cells, where);
+        int d = cells.length;
+        switch (kind) {
+            case SCORE -> {
+                requireComplete(cells, row, where, "scoring");
+                double nats = CoreCalls.score(model, Table.of(names, kinds, new double[][] {cells}), scoreDraws, rowSeed);
+                return Double.isNaN(threshold) ? new Object[] {nats} : new Object[] {nats, !(nats <= threshold)};
+            }
+            case IMPUTE -> {
+                Object[] v = new Object[3 * d];
+                boolean missing = false;
+                for (double c : cells) {
+                    missing |= Double.isNaN(c);
+                }
+                Imputation imp = missing
+                        ? CoreCalls.impute(model, Table.of(names, kinds, new double[][] {cells}), draws, level, rowSeed) : null;
+                for (int j = 0; j < d; j++) {
+                    v[3 * j] = imp == null ? cells[j] : imp.mean().get(0, j);
+                    v[3 * j + 1] = imp == null ? cells[j] : imp.lower().get(0, j);
+                    v[3 * j + 2] = imp == null ? cells[j] : imp.upper().get(0, j);
+                }
+                return v;
+            }
+            case DENOISE -> {
+                requireComplete(cells, row, where, "denoising");
+                Denoising den = CoreCalls.denoise(model, Table.of(names, kinds, new double[][] {cells}), noiseSd, draws, rowSeed);
+                Object[] v = new Object[2 * d];
+                for (int j = 0; j < d; j++) {
+                    v[2 * j] = den.mean().get(0, j);
+                    v[2 * j + 1] = den.standardDeviation().get(0, j);
+                }
+                return v;
+            }
+            default -> throw new IllegalStateException(kind.name());
+        }
+    }
+
+    private void requireComplete(double[] cells, Row row, ColumnMatch.RowName where, String job) {
+        for (int j = 0; j < cells.length; j++) {
+            if (Double.isNaN(cells[j])) {
+                throw new IllegalArgumentException(where.describe(match, row) + ", column '" + match.inputCol(j)
+                        + "' is missing; " + job + " needs complete rows (impute them first)");
+            }
+        }
+    }
+}

@@ -1,0 +1,161 @@
+package org.backstep.spark;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+
+import org.apache.spark.sql.Dataset;
+import org.apache.spark.sql.Row;
+import org.apache.spark.sql.functions;
+import org.backstep.DiffusionModel;
+import org.backstep.table.Table;
+import org.junit.jupiter.api.Test;
+
+/**
+ * Scores through Spark against the same rows scored by {@link DiffusionModel} in this JVM. The
+ * reference for each row is the core's own job on that one row with the seed {@link RowSeeds}
+ * derives for it, so the figures must agree to the last bit: the same float32 network on the same
+ * inputs, the same generator (Spark moves the row's doubles without changing them).
+ */
+class ScoringTest {
+
+    private static final long SEED = 42L;
+    /** Relative tolerance of a quantile computed by hand against commons-math3's: the same formula, other rounding. */
+    private static final double QUANTILE_TOLERANCE = 1e-12;
+
+    private static Map<Long, Double> scores(Dataset<Row> scored, String col) {
+        Map<Long, Double> m = new HashMap<>();
+        for (Row r : scored.select(TestModels.KEY, col).collectAsList()) {
+            m.put(r.getLong(0), r.getDouble(1));
+        }
+        return m;
+    }
+
+    private static double reference(DiffusionModel model, Table t, int i, int draws, long rowSeed) {
+        Table one = t.selectRows(new int[] {i});
+        return draws == 0 ? model.bound(one, rowSeed).nats()[0] : model.boundMonteCarlo(one, draws, rowSeed).nats()[0];
+    }
+
+    @Test
+    void exactBoundEqualsOneJvmForOneTwoAndSevenPartitions() {
+        DiffusionModel model = TestModels.model();
+        Table t = TestModels.readings(40, 5);
+        BackstepModel stage = BackstepModel.of(model).setRowKeyCol(TestModels.KEY).setSeed(SEED);
+        for (int partitions : new int[] {1, 2, 7}) {
+            Map<Long, Double> got = scores(stage.transform(TestModels.frame(t, partitions)), "backstep_nats");
+            assertEquals(t.rows(), got.size());
+            for (int i = 0; i < t.rows(); i++) {
+                // reference: the core's bound of the same row in one JVM, same row seed (bit-identical)
+                double want = reference(model, t, i, 0, RowSeeds.ofKey(SEED, 1000L + i));
+                assertEquals(want, got.get(1000L + i), 0.0, "row " + i + ", " + partitions + " partitions");
+            }
+        }
+    }
+
+    @Test
+    void monteCarloBoundKeyedByContentEqualsOneJvmAndIgnoresOrder() {
+        DiffusionModel model = TestModels.model();
+        Table t = TestModels.readings(30, 6);
+        BackstepModel stage = BackstepModel.of(model).setSeed(SEED).setScoreDraws(4).setBatchRows(7);
+        Map<Long, Double> two = scores(stage.transform(TestModels.frame(t, 2)), "backstep_nats");
+        Map<Long, Double> sevenReversed = scores(stage.transform(
+                TestModels.frame(t, 7).orderBy(functions.col(TestModels.KEY).desc())), "backstep_nats");
+        for (int i = 0; i < t.rows(); i++) {
+            // reference: the core's Monte Carlo bound of the same row, seeded from its cells (bit-identical)
+            double want = reference(model, t, i, 4, RowSeeds.ofContent(SEED, t.row(i)));
+            assertEquals(want, two.get(1000L + i), 0.0, "row " + i);
+            assertEquals(want, sevenReversed.get(1000L + i), 0.0, "row " + i + ", reversed");
+        }
+    }
+
+    @Test
+    void flagMarksScoresAboveTheThreshold() {
+        Table t = TestModels.readings(30, 7);
+        BackstepModel stage = BackstepModel.of(TestModels.model()).setRowKeyCol(TestModels.KEY).setScoreDraws(2);
+        List<Row> rows = stage.transform(TestModels.frame(t, 2)).select("backstep_nats").collectAsList();
+        double[] s = rows.stream().mapToDouble(r -> r.getDouble(0)).sorted().toArray();
+        double threshold = s[s.length / 2];
+        List<Row> flagged = stage.setThreshold(threshold).transform(TestModels.frame(t, 3))
+                .select("backstep_nats", "backstep_flag").collectAsList();
+        int count = 0;
+        for (Row r : flagged) {
+            // the flag is score > threshold (common practice, no source)
+            assertEquals(r.getDouble(0) > threshold, r.getBoolean(1));
+            count += r.getBoolean(1) ? 1 : 0;
+        }
+        assertEquals(s.length - 1 - s.length / 2, count);
+    }
+
+    @Test
+    void screeningSetsTheThresholdAtTheHeldOutQuantile() {
+        DiffusionModel model = TestModels.model();
+        Table held = TestModels.readings(30, 12);
+        BackstepModel screened = BackstepModel.of(model).setRowKeyCol(TestModels.KEY).setSeed(SEED).setScoreDraws(3)
+                .screenAgainst(TestModels.frame(held, 3), 0.9);
+        double[] ref = new double[held.rows()];
+        for (int i = 0; i < held.rows(); i++) {
+            ref[i] = reference(model, held, i, 3, RowSeeds.ofKey(SEED, 1000L + i));
+        }
+        java.util.Arrays.sort(ref);
+        // type-7 quantile by hand (Hyndman & Fan 1996): h = (n - 1) q, x[floor h] + (h - floor h)(x[floor h + 1] - x[floor h])
+        double h = (ref.length - 1) * 0.9;
+        int lo = (int) Math.floor(h);
+        double want = ref[lo] + (h - lo) * (ref[lo + 1] - ref[lo]);
+        assertEquals(want, (Double) screened.getOrDefault(screened.threshold()), QUANTILE_TOLERANCE * Math.abs(want));
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> BackstepModel.of(model).screenAgainst(TestModels.frame(held, 1), 1.5));
+        assertTrue(e.getMessage().contains("quantile is 1.5"), e.getMessage());
+    }
+
+    @Test
+    void aMissingOrMistypedColumnIsRefusedByName() {
+        BackstepModel stage = BackstepModel.of(TestModels.model());
+        Dataset<Row> df = TestModels.frame(TestModels.readings(5, 8), 1);
+        IllegalArgumentException missing = assertThrows(IllegalArgumentException.class,
+                () -> stage.transform(df.drop("ambient")));
+        assertTrue(missing.getMessage().contains("no column 'ambient'"), missing.getMessage());
+        IllegalArgumentException typed = assertThrows(IllegalArgumentException.class,
+                () -> stage.transform(df.withColumn("power_kw", functions.lit("high"))));
+        assertTrue(typed.getMessage().contains("column 'power_kw' has type string"), typed.getMessage());
+        IllegalArgumentException key = assertThrows(IllegalArgumentException.class,
+                () -> stage.setRowKeyCol("container").transform(df));
+        assertTrue(key.getMessage().contains("no row key column 'container'"), key.getMessage());
+    }
+
+    @Test
+    void aMissingCellIsRefusedWithItsRowKeyAndColumn() {
+        Table t = TestModels.readings(6, 9);
+        double[][] x = t.toArray();
+        x[4][2] = Double.NaN;
+        Dataset<Row> df = TestModels.frame(t.withRows(x), 2);
+        Exception e = assertThrows(Exception.class,
+                () -> BackstepModel.of(TestModels.model()).setRowKeyCol(TestModels.KEY).transform(df).collectAsList());
+        String text = e.toString() + " " + (e.getCause() == null ? "" : e.getCause().toString());
+        assertTrue(text.contains("reading_id = 1004, column 'ambient' is missing"), text);
+    }
+
+    @Test
+    void aBinaryCellOtherThanZeroOrOneIsRefusedByRowAndColumn() {
+        Dataset<Row> df = TestModels.frame(TestModels.readings(4, 13), 1)
+                .withColumn("door_open", functions.when(functions.col(TestModels.KEY).equalTo(1002L), 2.0).otherwise(0.0));
+        Exception e = assertThrows(Exception.class,
+                () -> BackstepModel.of(TestModels.model()).setRowKeyCol(TestModels.KEY).transform(df).collectAsList());
+        String text = e.toString() + " " + (e.getCause() == null ? "" : e.getCause().toString());
+        assertTrue(text.contains("reading_id = 1002, column 'door_open' is 2.0; the model's binary column needs 0 or 1"), text);
+    }
+
+    @Test
+    void theModelLoadsOncePerJvmAcrossTransforms() {
+        BackstepModel stage = BackstepModel.of(TestModels.model()).setScoreDraws(1);
+        Table t = TestModels.readings(20, 10);
+        stage.transform(TestModels.frame(t, 3)).count();
+        int loads = ExecutorModels.loads();
+        stage.transform(TestModels.frame(t, 7)).collectAsList();
+        stage.copy(new org.apache.spark.ml.param.ParamMap()).transform(TestModels.frame(t, 2)).collectAsList();
+        assertEquals(loads, ExecutorModels.loads());
+    }
+}
