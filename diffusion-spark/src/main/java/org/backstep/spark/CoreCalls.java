@@ -1,5 +1,9 @@
 package org.backstep.spark;
 
+import org.backstep.Defaults;
+import org.backstep.option.BoundOptions;
+import org.backstep.option.DenoisingOptions;
+import org.backstep.option.ImputationOptions;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Files;
@@ -26,20 +30,20 @@ final class CoreCalls {
     /**
      * The negative variational bound of one record in nats (model space): exact over all T steps
      * when {@code draws} is 0 ({@link DiffusionModel#bound(Table, long)}), else the Monte Carlo
-     * estimate with {@code draws} steps ({@link DiffusionModel#boundMonteCarlo(Table, int, long)}).
+     * estimate with {@code draws} steps ({@link BoundOptions#sampled(int)}).
      */
     static double score(DiffusionModel model, Table oneRow, int draws, long seed) {
-        return draws == 0 ? model.bound(oneRow, seed).nats()[0] : model.boundMonteCarlo(oneRow, draws, seed).nats()[0];
+        return draws == 0 ? model.bound(oneRow, seed).nats()[0] : model.bound(oneRow, BoundOptions.sampled(draws), seed).nats()[0];
     }
 
-    /** {@link DiffusionModel#impute(Table, int, double, long)} of one record. */
+    /** {@link DiffusionModel#impute(Table, ImputationOptions, long)} of one record, at the default steps, rounds and method. */
     static Imputation impute(DiffusionModel model, Table oneRow, int draws, double level, long seed) {
-        return model.impute(oneRow, draws, level, seed);
+        return model.impute(oneRow, Defaults.imputation().withDraws(draws).withLevel(level), seed);
     }
 
-    /** {@link DiffusionModel#denoise(Table, double[], int, long)} of one record. */
+    /** {@link DiffusionModel#denoise(Table, DenoisingOptions, long)} of one record. */
     static Denoising denoise(DiffusionModel model, Table oneRow, double[] noiseSd, int draws, long seed) {
-        return model.denoise(oneRow, noiseSd, draws, seed);
+        return model.denoise(oneRow, Defaults.denoising(noiseSd).withDraws(draws), seed);
     }
 
     /** {@link DiffusionModel#sample(int, long)}: ancestral sampling through all T steps. */

@@ -1,5 +1,6 @@
 package org.backstep.spark;
 
+import org.backstep.Defaults;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNotEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -50,7 +51,7 @@ class JobsTest {
                 Row r = rows.get(i);
                 Table one = t.selectRows(new int[] {i});
                 // reference: the core's imputation of the same row with the row's seed
-                Imputation want = one.hasMissing() ? model.impute(one, 5, 0.8, RowSeeds.ofKey(SEED, 1000L + i)) : null;
+                Imputation want = one.hasMissing() ? model.impute(one, Defaults.imputation().withDraws(5).withLevel(0.8), RowSeeds.ofKey(SEED, 1000L + i)) : null;
                 for (int j = 0; j < TestModels.NAMES.size(); j++) {
                     String c = TestModels.NAMES.get(j);
                     double mean = r.getDouble(r.fieldIndex(c + "_mean"));
@@ -82,7 +83,7 @@ class JobsTest {
         List<Row> rows = stage.transform(TestModels.frame(t, 2)).orderBy(TestModels.KEY).collectAsList();
         for (int i = 0; i < t.rows(); i++) {
             // reference: the core's denoising of the same row with the row's seed
-            Denoising want = model.denoise(t.selectRows(new int[] {i}), sd, 4, RowSeeds.ofKey(SEED, 1000L + i));
+            Denoising want = model.denoise(t.selectRows(new int[] {i}), Defaults.denoising(sd).withDraws(4), RowSeeds.ofKey(SEED, 1000L + i));
             Row r = rows.get(i);
             for (int j = 0; j < TestModels.NAMES.size(); j++) {
                 String c = TestModels.NAMES.get(j);

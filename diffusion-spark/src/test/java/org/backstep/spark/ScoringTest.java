@@ -1,5 +1,6 @@
 package org.backstep.spark;
 
+import org.backstep.option.BoundOptions;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
@@ -37,7 +38,7 @@ class ScoringTest {
 
     private static double reference(DiffusionModel model, Table t, int i, int draws, long rowSeed) {
         Table one = t.selectRows(new int[] {i});
-        return draws == 0 ? model.bound(one, rowSeed).nats()[0] : model.boundMonteCarlo(one, draws, rowSeed).nats()[0];
+        return draws == 0 ? model.bound(one, rowSeed).nats()[0] : model.bound(one, BoundOptions.sampled(draws), rowSeed).nats()[0];
     }
 
     @Test
