@@ -34,6 +34,8 @@ import java.util.Map;
  * The charts Backstep draws, each legible at the default 800 x 600 pixels with axis titles and
  * units, in a palette of our own (deep teal, amber, slate, brick, moss, plum). Charts are XChart
  * objects, so a caller may restyle them before {@link #save(Chart, Path)}.
+ *
+ * <p>One file of more than 400 lines: each chart is a short static method, and they share the styling and the atomic saving.
  */
 public final class Charts {
 

@@ -50,6 +50,8 @@ import org.backstep.schedule.Require;
  * categories is built from them and the logits without forming a probability that could
  * underflow. Memory and time are O(K) per call. Categories are indices 0..K-1. Arrays passed in
  * are never modified; arrays returned are new.
+ *
+ * <p>One file of more than 400 lines: the kernel, marginal, posterior and bound terms share the per-step logarithms computed once, and the enumeration tests check them as one.
  */
 public final class CategoricalDiffusion {
 

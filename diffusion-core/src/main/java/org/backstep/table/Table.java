@@ -36,6 +36,8 @@ import org.nd4j.linalg.factory.Nd4j;
  * <p>(This file stays one class of about 600 lines: every method reads the one private row-major
  * cell array, and splitting the selections or the digest out would hand that array to other
  * classes; the text layout lives in {@code TableText}, which needs only the public accessors.)
+ *
+ * <p>One file of more than 400 lines: the table value and its row and column operations are one immutable type whose invariants (kinds, 0/1 binary cells, copies in and out) are checked in one place.
  */
 public final class Table {
 

@@ -37,6 +37,8 @@ import org.backstep.schedule.Require;
  * log-likelihood in model space becomes one in original units by adding sum_j log s_j; for
  * LOG_STANDARDIZE and NORMAL_SCORES it depends on x (see {@link ColumnTransform}). Densities are
  * in nats; constant columns contribute nothing (they are a point mass, left out of both sides).
+ *
+ * <p>One file of more than 400 lines: fitting, applying and inverting the column transforms and their log-Jacobian must agree column by column.
  */
 public final class TableTransform {
 

@@ -87,6 +87,8 @@ import org.backstep.schedule.Require;
  * uses {@link StrictMath}, so the same options give bit-identical output on every JVM. Faults and
  * missing cells draw from their own streams and are applied after the readings, so changing
  * faultyShare or missingShare leaves every other cell bit for bit as it was.
+ *
+ * <p>One file of more than 400 lines: the invented fleet's physics, faults and options are one generator, read top to bottom.
  */
 public final class ReeferFleet {
 
