@@ -346,28 +346,6 @@ public final class Backstep {
         }
 
         /**
-         * Refuses a value of a continuous column, not modelled on a log scale, past
-         * {@link Limits#MAX_SHIFT} in magnitude: its column's mean or standard deviation would lie
-         * outside the transform limits that the model file's loader enforces, so the fit would be
-         * refused only after training.
-         */
-        private static void checkMagnitudes(Table t, Set<String> logColumns) {
-            for (int j = 0; j < t.columns(); j++) {
-                if (t.kind(j) != org.backstep.table.ColumnKind.CONTINUOUS || logColumns.contains(t.name(j))) {
-                    continue;
-                }
-                for (int i = 0; i < t.rows(); i++) {
-                    double v = t.get(i, j);
-                    if (Math.abs(v) > Limits.MAX_SHIFT) {
-                        throw new IllegalArgumentException("training: row " + i + ", column '" + t.name(j) + "' is " + v
-                                + "; expected a magnitude of at most " + Limits.MAX_SHIFT + " (Limits.MAX_SHIFT), or the "
-                                + "column among logColumns");
-                    }
-                }
-            }
-        }
-
-        /**
          * Validates every option, draws the checkpoint rows {@link #checkpointFraction(double)}
          * (seeded), and fits.
          *
@@ -378,7 +356,6 @@ public final class Backstep {
         public DiffusionModel fit(Table training) {
             FitOptions options = options();
             Require.notNull("training", training);
-            checkMagnitudes(training, logColumns);
             return DiffusionModel.of(Trainer.fit(options, training, null, listener, stopRequested, null).parts());
         }
 
@@ -393,7 +370,6 @@ public final class Backstep {
         public DiffusionModel fit(Table training, Table checkpointRows) {
             FitOptions options = options();
             Require.notNull("training", training);
-            checkMagnitudes(training, logColumns);
             Require.notNull("checkpointRows", checkpointRows);
             return DiffusionModel.of(Trainer.fit(options, training, checkpointRows, listener, stopRequested, null).parts());
         }
@@ -439,7 +415,6 @@ public final class Backstep {
         public TrainingPlan planTraining(Table training, Table heldOut, TrainingBudget budget, double tolerance,
                                          int... stepCounts) {
             Require.notNull("training", training);
-            checkMagnitudes(training, logColumns);
             Require.notNull("heldOut", heldOut);
             Require.notNull("budget", budget);
             Require.nonNegative("tolerance", tolerance);

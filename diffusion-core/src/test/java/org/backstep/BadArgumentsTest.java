@@ -119,9 +119,6 @@ class BadArgumentsTest {
         cases.add(new Case("listener(null)", () -> Backstep.builder().listener(null).options(),
                 "listener is null; expected a value"));
         cases.add(new Case("fit(null)", () -> Backstep.builder().fit(null), "training is null; expected a value"));
-        cases.add(new Case("fit(a table with a value of 1e35)", () -> Backstep.builder().fit(records(new double[] {1e35, 5, 0},
-                new double[] {3, 4, 1})), "training: row 0, column 'supply_c' is 1.0E35; expected a magnitude of at most "
-                + "1.0E30 (Limits.MAX_SHIFT), or the column among logColumns"));
         cases.add(new Case("planTraining(..., stepCounts 1)", () -> Backstep.builder().planTraining(good, good,
                 TrainingBudget.updates(10), 0.0, 1), "stepCounts[0] is 1; expected at least 2"));
         // the model's jobs
@@ -141,7 +138,7 @@ class BadArgumentsTest {
                 "records: row 0, column 'return_c' is missing; this needs complete records (impute them first)"));
         cases.add(new Case("bound(records of other columns, ...)", () -> m.bound(Table.of(List.of("x"),
                 List.of(ColumnKind.CONTINUOUS), new double[][] {{1}}), 1),
-                "records have columns [x] [CONTINUOUS]; expected the training columns [supply_c, return_c, door_open] "
+                "records has columns [x] [CONTINUOUS]; expected the training columns [supply_c, return_c, door_open] "
                         + "[CONTINUOUS, CONTINUOUS, BINARY]"));
         cases.add(new Case("bound(records with 0 rows, ...)", () -> m.bound(records(), 1), "records has 0 rows; expected at least 1"));
         cases.add(new Case("bound(records, exactStrided(21), ...)", () -> m.bound(good, BoundOptions.exactStrided(21), 1),

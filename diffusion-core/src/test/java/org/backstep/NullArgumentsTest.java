@@ -146,6 +146,18 @@ class NullArgumentsTest {
         samples.put(Denoising.class, () -> new Denoising(table, table, 1, 1));
         samples.put(AtomicFiles.Content.class, () -> (AtomicFiles.Content) out -> out.write(1));
         samples.put(XYChart.class, () -> new XYChart(10, 10));
+        samples.put(List.class, List::of);
+        samples.put(org.backstep.option.ThresholdRule.class, () -> org.backstep.option.ThresholdRule.quantile(0.9));
+        samples.put(org.backstep.option.MissingCells.class, org.backstep.option.MissingCells::refuse);
+        samples.put(org.backstep.option.SurprisalOptions.class, Defaults::surprisal);
+        samples.put(org.backstep.option.DriftOptions.class, Defaults::drift);
+        samples.put(org.backstep.report.Surprisal.class, () -> org.backstep.report.Surprisal.none(model.transform().names()));
+        samples.put(org.backstep.report.DriftReport.class, () -> model.drift(table, table, Defaults.drift(), 1));
+        samples.put(org.backstep.report.DriftTest.class, () -> model.drift(table, table, Defaults.drift(), 1).score());
+        samples.put(org.backstep.posterior.CategoricalDiffusion.class,
+                () -> org.backstep.posterior.CategoricalDiffusion.of(NoiseSchedule.binomial(20), 3));
+        samples.put(org.backstep.posterior.DiscretizedGaussian.class,
+                () -> org.backstep.posterior.DiscretizedGaussian.unbounded(0.0, 1.0));
         samples.put(org.backstep.posterior.GaussianDiffusion.class,
                 () -> org.backstep.posterior.GaussianDiffusion.of(NoiseSchedule.linear(20)));
         samples.put(org.backstep.posterior.BinomialDiffusion.class,
@@ -249,7 +261,10 @@ class NullArgumentsTest {
                     boolean kind = thrown instanceof IllegalArgumentException || thrown instanceof NullPointerException;
                     boolean missingNode = c == JsonFields.class && (name.equals("value") || name.equals("parent"))
                             && thrown instanceof ModelFileException;
-                    if (!(kind && named) && !missingNode) {
+                    // MissingCells(false, null) is the refusing mode: null imputation is its documented value
+                    boolean refusingMode = c == org.backstep.option.MissingCells.class && e instanceof Constructor<?>
+                            && name.equals("imputation");
+                    if (!(kind && named) && !missingNode && !refusingMode) {
                         offenders.add(c.getSimpleName() + "." + (e instanceof Method ? e.getName() : "<init>") + "("
                                 + name + " = null): " + (thrown == null ? "accepted" : thrown.toString()));
                     }

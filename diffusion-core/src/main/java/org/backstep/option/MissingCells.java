@@ -39,6 +39,7 @@ public record MissingCells(boolean impute, ImputationOptions imputation) {
      * @return impute each incomplete record and score the mean over its completions
      */
     public static MissingCells impute(ImputationOptions how) {
+        Require.notNull("how", how);
         return new MissingCells(true, how);
     }
 

@@ -551,6 +551,8 @@ public final class CategoricalDiffusion {
      * @throws IllegalArgumentException naming the array, entry and value that is bad, or both lengths
      */
     public static double categoricalKl(double[] logP, double[] logQ) {
+        Require.notNull("logP", logP);
+        Require.notNull("logQ", logQ);
         checkLogProbabilities("logP", logP);
         checkLogProbabilities("logQ", logQ);
         if (logP.length != logQ.length) {

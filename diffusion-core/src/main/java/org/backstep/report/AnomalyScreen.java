@@ -4,7 +4,6 @@ import org.backstep.schedule.Require;
 
 import org.apache.commons.math3.distribution.BetaDistribution;
 import org.backstep.option.ThresholdRule;
-import org.backstep.schedule.Require;
 import org.backstep.table.Table;
 
 import java.util.ArrayList;
@@ -261,6 +260,7 @@ public record AnomalyScreen(ThresholdRule rule, double threshold, double[] heldO
      * @return the rows whose score is above it, in row order
      */
     public static int[] flaggedAt(double[] scores, double threshold) {
+        Require.notNull("scores", scores);
         return IntStream.range(0, scores.length).filter(i -> scores[i] > threshold).toArray();
     }
 

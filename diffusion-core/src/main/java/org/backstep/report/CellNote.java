@@ -51,6 +51,9 @@ public record CellNote(int row, String column, double value, Kind kind, String t
      * @return the note with its sentence
      */
     public static CellNote of(int row, String column, double value, Kind kind, String why) {
+        java.util.Objects.requireNonNull(column, "column is null; expected a value");
+        java.util.Objects.requireNonNull(kind, "kind is null; expected a value");
+        java.util.Objects.requireNonNull(why, "why is null; expected a value");
         return new CellNote(row, column, value, kind, String.format(Locale.ROOT, "row %d, column '%s' is %s: %s",
                 row, column, Double.isNaN(value) ? "missing" : Double.toString(value), why));
     }

@@ -8,4 +8,9 @@ package org.backstep.report;
  *     model gives probability zero or cannot hold
  */
 public record ColumnSurprisal(String column, double nats) {
+
+    /** Refuses a null column name. */
+    public ColumnSurprisal {
+        java.util.Objects.requireNonNull(column, "column is null; expected a value");
+    }
 }

@@ -16,6 +16,12 @@ package org.backstep.report;
 public record DriftTest(String subject, String test, double statistic, double pValue, double adjustedPValue,
                         int referenceCount, int batchCount) {
 
+    /** Refuses null names. */
+    public DriftTest {
+        java.util.Objects.requireNonNull(subject, "subject is null; expected a value");
+        java.util.Objects.requireNonNull(test, "test is null; expected a value");
+    }
+
     /**
      * @param level the family-wise error rate, in (0, 1)
      * @return true if the adjusted p-value is at most the level
