@@ -65,7 +65,12 @@ final class TrainingRows {
         }
         Table train = table;
         Table held = checkpointRows;
-        boolean randomSplit = held == null && options.checkpointFraction() > 0.0 && table.rows() >= 2;
+        // the checkpoint rows are split off only when at least 2 rows stay for training
+        boolean randomSplit = held == null && options.checkpointFraction() > 0.0 && table.rows() >= 3;
+        if (held == null && options.checkpointFraction() > 0.0 && !randomSplit) {
+            notes.add("no checkpoint rows: the table has " + table.rows() + " rows, all trained on; the last"
+                    + " averaged weights are kept");
+        }
         if (randomSplit) {
             int[][] split = split(table.rows(), options.checkpointFraction(), options.seed());
             train = table.selectRows(split[0]);
@@ -80,7 +85,8 @@ final class TrainingRows {
         if (complete.rows() == train.rows()) {
             // no gaps: exactly the preparation of tables without missing cells
             if (complete.rows() < 2) {
-                throw new IllegalArgumentException("training has " + complete.rows() + " rows; expected at least 2");
+                throw new IllegalArgumentException("training has " + complete.rows() + " rows; expected at least 2 (the table"
+                        + " needs at least 2 rows besides its checkpoint rows)");
             }
             transform = fitTransform(complete, options);
             dc = transform.modelledContinuous().length;
