@@ -256,20 +256,31 @@ public final class Chain {
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             int s = k[r];
-            double a = sqrtAbar[s];
-            double sd = sqrtOneMinusAbar[s];
             for (int j = 0; j < dc; j++) {
                 double e = rng.nextGaussian();
                 if (eps != null) {
                     eps[r * dc + j] = (float) e;
                 }
-                xt[o + j] = (float) (a * x0[o + j] + sd * e);
+                xt[o + j] = diffusedContinuous(s, x0[o + j], e);
             }
             for (int j = dc; j < d; j++) {
-                double p1 = x0[o + j] > 0.5f ? binMarginalOne1[s] : binMarginalOne0[s];
-                xt[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+                xt[o + j] = diffusedBinary(s, x0[o + j], rng.nextDouble());
             }
         }
+    }
+
+    /**
+     * x_s of a continuous cell given its standard normal noise e: sqrt(alpha-bar_s) x_0 +
+     * sqrt(1 - alpha-bar_s) e (Ho et al. 2020, eq. 4).
+     */
+    float diffusedContinuous(int s, float x0, double e) {
+        return (float) (sqrtAbar[s] * x0 + sqrtOneMinusAbar[s] * e);
+    }
+
+    /** x_s of a binary cell given a uniform u: 1 when u &lt; q(x_s = 1 | x_0) (Sohl-Dickstein et al. 2015). */
+    float diffusedBinary(int s, float x0, double u) {
+        double p1 = x0 > 0.5f ? binMarginalOne1[s] : binMarginalOne0[s];
+        return u < p1 ? 1f : 0f;
     }
 
     /** @return the logistic function 1 / (1 + e^-l), computed without overflow */

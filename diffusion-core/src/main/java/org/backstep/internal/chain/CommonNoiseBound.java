@@ -101,16 +101,13 @@ public final class CommonNoiseBound {
     /** x_s ~ q(x_s | x_0) for every row with the one noise row {@code u}: Gaussians, then uniforms for binary cells. */
     static void diffuseShared(Chain chain, float[] x0, int rows, int s, float[] u, float[] xt) {
         int d = chain.d;
-        double a = chain.sqrtAbar[s];
-        double sd = chain.sqrtOneMinusAbar[s];
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             for (int j = 0; j < chain.dc; j++) {
-                xt[o + j] = (float) (a * x0[o + j] + sd * u[j]);
+                xt[o + j] = chain.diffusedContinuous(s, x0[o + j], u[j]);
             }
             for (int j = chain.dc; j < d; j++) {
-                double p1 = x0[o + j] > 0.5f ? chain.binMarginalOne1[s] : chain.binMarginalOne0[s];
-                xt[o + j] = u[j] < p1 ? 1f : 0f;
+                xt[o + j] = chain.diffusedBinary(s, x0[o + j], u[j]);
             }
         }
     }

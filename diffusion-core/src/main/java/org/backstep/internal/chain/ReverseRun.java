@@ -377,10 +377,9 @@ public final class ReverseRun {
                 if (s == 0) {
                     x[o + j] = v;
                 } else if (j < chain.dc) {
-                    x[o + j] = (float) (chain.sqrtAbar[s] * v + chain.sqrtOneMinusAbar[s] * rng.nextGaussian());
+                    x[o + j] = chain.diffusedContinuous(s, v, rng.nextGaussian());
                 } else {
-                    double p1 = v > 0.5f ? chain.binMarginalOne1[s] : chain.binMarginalOne0[s];
-                    x[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+                    x[o + j] = chain.diffusedBinary(s, v, rng.nextDouble());
                 }
             }
         }

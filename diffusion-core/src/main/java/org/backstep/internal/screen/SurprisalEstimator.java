@@ -1,7 +1,6 @@
 package org.backstep.internal.screen;
 
 import org.backstep.internal.chain.Chain;
-import org.backstep.internal.chain.ConditionalDraws;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.chain.ScoringRange;
@@ -15,7 +14,7 @@ import org.backstep.table.TableTransform;
 
 /**
  * The per-column conditional surprisal -log p(x_j | x_-j) of records, by draws of each cell given
- * the others ({@link ConditionalDraws}, replacement with resampling rounds) and a density estimate
+ * the others ({@link Imputer#drawGiven}, replacement with resampling rounds) and a density estimate
  * at the observed value: the estimator, its bias and its units are stated in
  * {@link org.backstep.report.Surprisal}.
  */
@@ -111,8 +110,8 @@ public final class SurprisalEstimator {
                 t++;
             }
         }
-        float[] drawn = targets == 0 ? new float[0] : ConditionalDraws.draw(chain, known, targets * k, how.rounds(),
-                Conditioning.REPLACEMENT, seed, engine.parts().options().threads());
+        float[] drawn = targets == 0 ? new float[0] : Imputer.drawGiven(chain, known, targets * k, how.rounds(),
+                Conditioning.REPLACEMENT, engine.parts().options().threads(), seed);
         double[] u = new double[k];
         for (t = 0; t < targets; t++) {
             int i = targetRow[t];
