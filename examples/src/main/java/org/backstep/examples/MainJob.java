@@ -39,7 +39,9 @@ import java.util.Map;
 /**
  * The main job, end to end, on one table: fit with a held-out split, report the bound beside two
  * classical baselines, screen records, impute, denoise, sample with a memorization check, plan the
- * step count, and write a report folder (HTML page, summary.json, the model file).
+ * step count, write every result row by row ({@link RowResults}: the table completed, the synthetic
+ * rows, the scores, and when asked the denoised readings and the drift tests), and write a report
+ * folder (HTML page, summary.json, the model file).
  *
  * <p>Steps that need injected truth (fault labels, the cells before blanking) use it when given
  * and otherwise report what they can.
