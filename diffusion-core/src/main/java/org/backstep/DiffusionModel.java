@@ -375,7 +375,9 @@ public final class DiffusionModel {
      * a fixed function of the record and the seed, whatever table it stands in), +infinity for a
      * record with a cell beyond the model space's range or outside its column's support. A table can
      * therefore be scored in parts, e.g. a DataFrame's partitions, and the parts' scores equal the
-     * whole table's bit for bit; pass them to {@link #drift(Table, double[], Table, double[])}.
+     * whole table's to the float32 network's rounding (OpenBLAS rounds a row's products differently
+     * with its place in the matrix; measured up to about 1e-7 relative, {@code DriftInPartsTest});
+     * pass them to {@link #drift(Table, double[], Table, double[])}.
      *
      * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
      *
