@@ -25,7 +25,8 @@ import org.backstep.table.Table;
  * job signatures is met here only. Scoring runs on batches of records, each record with its own
  * seed ({@link DiffusionModel#bound(Table, BoundOptions, long[])}), and so does the scoring for
  * drift (common random numbers, {@link DiffusionModel#screeningScores}); imputation, denoising
- * and the surprisal of a flagged row run on one record per call (see {@link RowSeeds} for why).
+ * and the surprisal of a flagged row run on one record per call (the core takes one seed per call
+ * for those; flagged rows are few).
  */
 final class CoreCalls {
 

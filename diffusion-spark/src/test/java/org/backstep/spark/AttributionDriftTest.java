@@ -76,6 +76,9 @@ class AttributionDriftTest {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
                 () -> BackstepModel.of(model).setJob(BackstepParams.ATTRIBUTE).transform(TestModels.frame(t, 1)));
         assertTrue(e.getMessage().contains("threshold is NaN"), e.getMessage());
+        IllegalArgumentException few = assertThrows(IllegalArgumentException.class,
+                () -> stage.copy(org.apache.spark.ml.param.ParamMap.empty()).setSurprisalDraws(8).transformSchema(TestModels.schema()));
+        assertEquals("surprisalDraws is 8; expected at least 16", few.getMessage());
     }
 
     @Test
