@@ -9,6 +9,7 @@ import org.backstep.option.DriftOptions;
 import org.backstep.option.FlowOptions;
 import org.backstep.option.MissingCells;
 import org.backstep.option.ScreeningOptions;
+import org.backstep.option.ScoreSource;
 import org.backstep.option.SurprisalOptions;
 import org.backstep.option.ThresholdRule;
 import org.backstep.table.Table;
@@ -222,6 +223,13 @@ public final class Defaults {
         return BoundOptions.exact();
     }
 
+    /**
+     * A screen scores by the bound ({@link #SCREENING_DRAWS} draws with common random numbers), not
+     * by the flow likelihood ({@link ScreeningOptions#withFlow}). Measured
+     * (diffusion-bench/results/flow-likelihood.txt): SCREENING_REASON
+     */
+    public static final ScoreSource SCREENING_SCORE = ScoreSource.BOUND;
+
     /** @return the integrator tolerances {@link #FLOW_RELATIVE_TOLERANCE} and {@link #FLOW_ABSOLUTE_TOLERANCE} */
     public static FlowOptions flow() {
         return FlowOptions.of(FLOW_RELATIVE_TOLERANCE, FLOW_ABSOLUTE_TOLERANCE);
@@ -252,7 +260,7 @@ public final class Defaults {
      */
     public static ScreeningOptions screening() {
         return new ScreeningOptions(ThresholdRule.quantile(SCREENING_QUANTILE), BoundOptions.sampled(SCREENING_DRAWS),
-                MissingCells.refuse(), surprisal());
+                MissingCells.refuse(), surprisal(), SCREENING_SCORE, flow());
     }
 
     /** @return {@link #SURPRISAL_DRAWS} draws per cell on at most {@link #SURPRISAL_STEPS} steps, {@link #SURPRISAL_ROUNDS} rounds */

@@ -6,6 +6,8 @@ import org.backstep.option.FlowOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.StepInput;
 import org.backstep.option.TrainingLoss;
+import org.backstep.option.SurprisalOptions;
+import org.backstep.report.AnomalyScreen;
 import org.backstep.report.FlowLikelihood;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.ColumnKind;
@@ -115,6 +117,21 @@ class FlowLikelihoodTest {
             assertEquals(Double.doubleToLongBits(all[r]), Double.doubleToLongBits(back[rows.length - 1 - r]),
                     "row " + r + " in reversed order on one thread");
         }
+    }
+
+    @Test
+    void aScreenByTheFlowScoresEachRecordByItsFlowLikelihood() {
+        // common practice, no source: the screen's scores are the figures of the method it names
+        List<ColumnKind> kinds = Collections.nCopies(3, ColumnKind.CONTINUOUS);
+        double[][] rows = records(6);
+        Table held = Table.of(NAMES, kinds, java.util.Arrays.copyOfRange(rows, 1, 6));
+        Table screened = Table.of(NAMES, kinds, java.util.Arrays.copyOf(rows, 2));
+        DiffusionModel m = model(2);
+        AnomalyScreen s = m.screen(held, screened, Defaults.screening().withQuantile(0.5).withFlow(Defaults.flow())
+                .withSurprisal(SurprisalOptions.none()), 3);
+        assertArrayEquals(m.flowLikelihood(screened).nats(), s.scores(), 0.0);
+        assertArrayEquals(m.flowLikelihood(held).nats(), s.heldOutScores(), 0.0);
+        assertArrayEquals(new int[] {0}, s.flagged(), "the tail record is flagged");
     }
 
     @Test

@@ -38,8 +38,11 @@ import java.nio.FloatBuffer;
  * (u_k + u_(k+1))/2 (u_1 and u_T at the ends). The drift is smooth on each segment, so each
  * segment is integrated on its own, by commons-math3's Dormand-Prince 5(4) integrator
  * (Dormand &amp; Prince 1980) with the given tolerances, the first try one step over the whole
- * segment. This is a choice of ours; interpolating the outputs of neighbouring steps costs two
- * predictions per evaluation.
+ * segment. This is a choice of ours, measured on Gaussian data with the exact eps-hat (T = 100,
+ * 12 records): the nearest step was within 2e-4 to 3.5e-3 nats of the exact density for records
+ * from the data and 0.033 for a tail record at 23 nats; eps-hat interpolated linearly in u between
+ * neighbouring steps halved these errors (0.017) at twice the cost (two predictions and two traces
+ * per evaluation); at T = 1000 both were within 0.004.
  *
  * <p><b>What the figure is.</b> {@code -log p_1(x_0)}: the exact negative log-density of the record
  * under the flow's density at the first step (noise sd sqrt(1 - alpha-bar_1), 0.03 of a standardized
@@ -66,8 +69,6 @@ public final class ProbabilityFlow {
     private final int outputs;
     private final int steps;
     private final double[] boundary;    // boundary[k-1], boundary[k]: segment of step k, k = 1..T
-    private final double[] u;           // u[k] = -log SNR_k
-    private final boolean interpolate;
     private final double relativeTolerance;
     private final double absoluteTolerance;
 
@@ -95,15 +96,6 @@ public final class ProbabilityFlow {
      *     not finite
      */
     public ProbabilityFlow(ModelParts parts, double relativeTolerance, double absoluteTolerance) {
-        this(parts, relativeTolerance, absoluteTolerance, false);
-    }
-
-    /**
-     * @param interpolate true: eps-hat between steps k and k+1 linear in u between the two steps'
-     *     predictions (two predictions and two traces per evaluation); false: the nearest step's
-     */
-    public ProbabilityFlow(ModelParts parts, double relativeTolerance, double absoluteTolerance, boolean interpolate) {
-        this.interpolate = interpolate;
         this.estimator = parts.estimator();
         this.dc = parts.transform().modelledContinuous().length;
         int db = parts.transform().modelledBinary().length;
@@ -115,7 +107,7 @@ public final class ProbabilityFlow {
         this.outputs = estimator.outputs();
         NoiseSchedule schedule = parts.options().continuousSchedule();
         this.steps = schedule.steps();
-        u = new double[steps + 1];
+        double[] u = new double[steps + 1];
         for (int k = 1; k <= steps; k++) {
             u[k] = -schedule.logSnr(k);
             if (!Double.isFinite(u[k])) {
@@ -155,17 +147,14 @@ public final class ProbabilityFlow {
             y[j] = x[r * dc + j];
         }
         int evaluations = 0;
-        for (int k = 1; k <= (interpolate ? steps - 1 : steps); k++) {
-            double from = interpolate ? u[k] : boundary[k - 1];
-            double to = interpolate ? u[k + 1] : boundary[k];
+        for (int k = 1; k <= steps; k++) {
+            double from = boundary[k - 1];
+            double to = boundary[k];
             double length = to - from;
             if (!(length > 0)) {
                 continue;
             }
             drift.step[0] = k;
-            drift.nextStep[0] = k + 1;
-            drift.from = from;
-            drift.length = length;
             DormandPrince54Integrator integrator = new DormandPrince54Integrator(MIN_STEP_SHARE * length, length,
                     absoluteTolerance, relativeTolerance);
             integrator.setInitialStepSize(length);
@@ -196,12 +185,7 @@ public final class ProbabilityFlow {
     private final class Drift implements FirstOrderDifferentialEquations {
         final int row;
         final int[] step = new int[1];
-        final int[] nextStep = new int[1];
-        final float[] eps2;
-        final double[] tr2 = new double[1];
         final double[] ed = new double[dc];
-        double from;
-        double length;
         final INDArray xt = Nd4j.create(DataType.FLOAT, 1, dc);
         final INDArray out = Nd4j.create(DataType.FLOAT, 1, outputs);
         final FloatBuffer xtView = xt.data().asNioFloat();
@@ -212,7 +196,6 @@ public final class ProbabilityFlow {
 
         Drift(int row) {
             this.row = row;
-            this.eps2 = new float[outputs];
         }
 
         @Override
@@ -231,16 +214,6 @@ public final class ProbabilityFlow {
             trace.traces(xf, 1, step[0], tr);
             for (int j = 0; j < dc; j++) {
                 ed[j] = eps[j];
-            }
-            if (interpolate) {
-                double w = (u - from) / length;
-                estimator.predict(xt, nextStep, out);
-                outView.get(0, eps2, 0, outputs);
-                trace.traces(xf, 1, nextStep[0], tr2);
-                for (int j = 0; j < dc; j++) {
-                    ed[j] = (1 - w) * eps[j] + w * eps2[j];
-                }
-                tr[0] = (1 - w) * tr[0] + w * tr2[0];
             }
             double s2 = 1.0 / (1.0 + Math.exp(-u));
             double s = Math.sqrt(s2);

@@ -1,10 +1,10 @@
 package org.backstep.internal.net;
 
 import org.backstep.schedule.Require;
-import org.nd4j.linalg.api.buffer.DataType;
+import org.bytedeco.javacpp.FloatPointer;
 import org.nd4j.linalg.api.ndarray.INDArray;
-import org.nd4j.linalg.factory.Nd4j;
 
+import java.lang.ref.Reference;
 import java.util.Arrays;
 
 /**
@@ -20,8 +20,8 @@ import java.util.Arrays;
  *   trace = sum_c (dA_L W_(L+1)[units rows])_(c, c) = sum_c sum_h dA_L[c, h] W_(L+1)[h, c]
  * </pre>
  * with {@code silu'(z) = s (1 + z (1 - s))}, s = sigmoid(z) (Elfwing et al. 2018, section 2).
- * The products are float32 matrix products on ND4J (records x Dc tangent rows at a time); the
- * trace is summed in double. Cost per record: about Dc forward passes.
+ * The products are float32 matrix products by ND4J's bundled BLAS, as in {@link ReverseNetwork}
+ * (records x Dc tangent rows at a time); the trace is summed in double. Cost per record: about Dc forward passes.
  *
  * <p>This is the one place that differentiates the network by hand for the trace; a change to how
  * the estimator forms epsilon-hat from the network (another term, another layer kind) changes it
@@ -69,8 +69,8 @@ public final class NetworkTangents {
             int k = shape.weightRows(j);
             int u = shape.unitsOut(j);
             raw[j] = Arrays.copyOfRange(p, offset, offset + k * u);
-            weights[j] = Nd4j.create(raw[j], new long[] {k, u}, 'c');
-            unitRows[j] = Nd4j.create(Arrays.copyOf(raw[j], shape.unitsIn(j) * u), new long[] {shape.unitsIn(j), u}, 'c');
+            weights[j] = dense(raw[j], k, u);
+            unitRows[j] = dense(Arrays.copyOf(raw[j], shape.unitsIn(j) * u), shape.unitsIn(j), u);
             offset += k * u;
         }
         firstRows = Arrays.copyOf(raw[0], tangents * shape.unitsOut(0));
@@ -82,6 +82,12 @@ public final class NetworkTangents {
                 outputDiagonal[c * h + i] = raw[last][i * outs + c];
             }
         }
+    }
+
+    private static INDArray dense(float[] values, int rows, int columns) {
+        INDArray a = NativeMath.zeros(rows, columns);
+        NativeMath.buffer(a).put(0, values, 0, values.length);
+        return a;
     }
 
     /** @return Dc, the number of tangents per record */
@@ -188,6 +194,8 @@ public final class NetworkTangents {
         float[][] tangent;          // dA_j, (rows Dc) x unitsOut(j)
         private INDArray[][] left;  // [forward 0 / tangent 1][j]
         private INDArray[][] product;
+        private FloatPointer[][] leftPointer;
+        private FloatPointer[][] productPointer;
         private float[][][] result;
 
         Scratch sized(int n) {
@@ -201,6 +209,8 @@ public final class NetworkTangents {
             tangent = new float[last][];
             left = new INDArray[2][last];
             product = new INDArray[2][last];
+            leftPointer = new FloatPointer[2][last];
+            productPointer = new FloatPointer[2][last];
             result = new float[2][last][];
             for (int j = 0; j <= last; j++) {
                 input[j] = new float[n * shape.weightRows(j)];
@@ -210,25 +220,44 @@ public final class NetworkTangents {
                 sigmoid[j] = new float[n * u];
                 activation[j] = new float[n * u];
                 tangent[j] = new float[n * tangents * u];
-                left[0][j] = Nd4j.create(DataType.FLOAT, n, shape.weightRows(j));
-                product[0][j] = Nd4j.create(DataType.FLOAT, n, u);
+                left[0][j] = NativeMath.zeros(n, shape.weightRows(j));
+                product[0][j] = NativeMath.zeros(n, u);
                 result[0][j] = new float[n * u];
                 if (j > 0) {
-                    left[1][j] = Nd4j.create(DataType.FLOAT, (long) n * tangents, shape.unitsIn(j));
-                    product[1][j] = Nd4j.create(DataType.FLOAT, (long) n * tangents, u);
+                    left[1][j] = NativeMath.zeros((long) n * tangents, shape.unitsIn(j));
+                    product[1][j] = NativeMath.zeros((long) n * tangents, u);
                     result[1][j] = new float[n * tangents * u];
+                }
+                for (int kind = 0; kind < 2; kind++) {
+                    if (left[kind][j] != null) {
+                        leftPointer[kind][j] = NativeMath.pointer(left[kind][j]);
+                        productPointer[kind][j] = NativeMath.pointer(product[kind][j]);
+                    }
                 }
             }
             return this;
         }
 
-        /** The float32 product of {@code a} (values of the left matrix, row-major) and w on ND4J, as a heap array. */
+        /**
+         * The float32 product of {@code a} (values of the left matrix, row-major) and w by one
+         * {@code sgemm} on ND4J's bundled BLAS ({@link NativeMath#gemm}), as a heap array.
+         */
         float[] multiply(int j, boolean ofTangents, float[] a, int size, INDArray w, int outSize) {
             int kind = ofTangents ? 1 : 0;
-            left[kind][j].data().asNioFloat().put(0, a, 0, size);
-            Nd4j.gemm(left[kind][j], w, product[kind][j], false, false, 1.0, 0.0);
+            INDArray l = left[kind][j];
+            INDArray p = product[kind][j];
+            NativeMath.buffer(l).put(0, a, 0, size);
+            int m = (int) l.rows();
+            int k = (int) l.columns();
+            int n = (int) w.columns();
+            NativeMath.oneBlasThreadHere();
+            NativeMath.gemm(false, false, m, n, k, leftPointer[kind][j], k, NativeMath.pointer(w), n, 0f,
+                    productPointer[kind][j], n);
             float[] out = result[kind][j];
-            product[kind][j].data().asNioFloat().get(0, out, 0, outSize);
+            NativeMath.buffer(p).get(0, out, 0, outSize);
+            Reference.reachabilityFence(l);
+            Reference.reachabilityFence(p);
+            Reference.reachabilityFence(w);
             return out;
         }
     }
