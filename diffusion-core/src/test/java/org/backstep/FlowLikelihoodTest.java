@@ -120,6 +120,33 @@ class FlowLikelihoodTest {
     }
 
     @Test
+    void aNetworkModelGivesEachRecordTheSameBitsAloneAndInABatch() {
+        // common practice, no source: the network's tangents, not only an exact estimator
+        List<ColumnKind> kinds = Collections.nCopies(3, ColumnKind.CONTINUOUS);
+        TableTransform transform = TableTransform.of(NAMES, kinds, Collections.nCopies(3, ColumnTransform.standardize(0, 1)));
+        double[][] rows = records(5);
+        double[] all = null;
+        for (int threads : new int[] {2, 1}) {
+            org.backstep.option.FitOptions options = Backstep.builder().steps(20).variance(ReverseVariance.LEARNED)
+                    .hidden(16, 16).threads(threads).options();
+            org.backstep.internal.net.ReverseNetwork network = org.backstep.internal.net.ReverseNetwork.create(
+                    new org.backstep.internal.net.NetworkShape(3, new int[] {16, 16}, 6, options.embeddingSize(),
+                            options.stepInput()), 20, 5);
+            DiffusionModel m = DiffusionModel.of(new org.backstep.internal.chain.ModelParts(options, transform, network,
+                    new org.backstep.internal.chain.NetworkEstimator(network), model(1).provenance()));
+            double[] batch = m.flowLikelihood(Table.of(NAMES, kinds, rows)).nats();
+            if (all == null) {
+                all = batch;
+            }
+            for (int r = 0; r < rows.length; r++) {
+                double alone = m.flowLikelihood(Table.of(NAMES, kinds, new double[][] {rows[r]})).nats()[0];
+                assertEquals(Double.doubleToLongBits(all[r]), Double.doubleToLongBits(alone), "row " + r + " alone");
+                assertEquals(Double.doubleToLongBits(all[r]), Double.doubleToLongBits(batch[r]), "row " + r + ", " + threads + " threads");
+            }
+        }
+    }
+
+    @Test
     void aScreenByTheFlowScoresEachRecordByItsFlowLikelihood() {
         // common practice, no source: the screen's scores are the figures of the method it names
         List<ColumnKind> kinds = Collections.nCopies(3, ColumnKind.CONTINUOUS);

@@ -142,6 +142,10 @@ public final class FlowMeasurement {
         sb.append(String.format(Locale.ROOT, "  flow NLL       mean %8.3f, per-record sd 0 (no draws; %d of %d records differ"
                         + " between two calls), %.0f evaluations per record%n",
                 Measures.mean(flow), differing, n, evaluations));
+        sb.append(String.format(Locale.ROOT, "  medians: bound (mean of seeds) %.3f, flow %.3f; flow quantiles 0.9 %.3f, 0.99 %.3f,"
+                        + " largest %.4g; records where flow > bound + 10 nats: %d%n",
+                Measures.quantile(boundMean, 0.5), Measures.quantile(flow, 0.5), Measures.quantile(flow, 0.9),
+                Measures.quantile(flow, 0.99), Arrays.stream(flow).max().orElse(Double.NaN), above(flow, plus(boundMean, 10))));
         sb.append(String.format(Locale.ROOT, "  flow minus bound (mean of seeds): mean %.3f, sd %.3f; records where flow > bound: %d of %d%n",
                 Measures.mean(minus(flow, boundMean)), Measures.sd(minus(flow, boundMean)), above(flow, boundMean), n));
         sb.append(String.format(Locale.ROOT, "  tolerances 1e-8: largest per-record change %.2e nats%n", maxAbs(minus(tight, flow))));
@@ -192,6 +196,14 @@ public final class FlowMeasurement {
         double[] d = new double[a.length];
         for (int i = 0; i < a.length; i++) {
             d[i] = a[i] - b[i];
+        }
+        return d;
+    }
+
+    private static double[] plus(double[] a, double margin) {
+        double[] d = a.clone();
+        for (int i = 0; i < d.length; i++) {
+            d[i] += margin;
         }
         return d;
     }
