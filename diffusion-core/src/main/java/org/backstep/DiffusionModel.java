@@ -299,7 +299,10 @@ public final class DiffusionModel {
      * of the held-out scores, an expected false-positive rate, or a score; see
      * {@link ThresholdRule}), the bound, missing cells refused or imputed ({@link MissingCells}),
      * and the surprisal of the flagged records ({@link SurprisalOptions}, none with 0 draws).
-     * Held-out and screened records are scored with the same seed, so with the same draws.
+     * Held-out and screened records are scored with the same seed, so with the same draws. With
+     * {@link ScreeningOptions#withFlow} each record is scored by its flow likelihood instead
+     * ({@link #flowLikelihood(Table, FlowOptions)}: no draws, continuous columns only, far costlier;
+     * {@link Defaults#SCREENING_SCORE} says why the bound is the default).
      *
      * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
      *
