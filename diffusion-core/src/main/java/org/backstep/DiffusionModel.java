@@ -5,6 +5,7 @@ import org.backstep.internal.chain.Denoiser;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.Imputer;
+import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.plan.StepPlanner;
 import org.backstep.internal.screen.DriftTests;
@@ -17,6 +18,7 @@ import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.DriftOptions;
 import org.backstep.option.FitOptions;
+import org.backstep.option.FlowOptions;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.Limits;
 import org.backstep.option.SamplingPlan;
@@ -29,6 +31,7 @@ import org.backstep.report.BoundReport;
 import org.backstep.report.CheckedSample;
 import org.backstep.report.Denoising;
 import org.backstep.report.DriftReport;
+import org.backstep.report.FlowLikelihood;
 import org.backstep.report.Imputation;
 import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
@@ -246,6 +249,63 @@ public final class DiffusionModel {
     }
 
     /**
+     * The exact likelihood of each record under the probability-flow ODE of the model's continuous
+     * columns ({@link Defaults#flow()}): -log p(x) = -log N(x(T); 0, I) - integral of the divergence
+     * of the ODE's drift along the path from the record to the prior (Song et al. 2021, "Score-Based
+     * Generative Modeling through Stochastic Differential Equations", section 4.3 and appendix D.2,
+     * eq. 39), with the exact trace of the estimator's Jacobian (forward-mode tangents, one per
+     * continuous column) and commons-math3's Dormand-Prince 5(4) integrator. See
+     * {@link FlowLikelihood} for what the figure is: an exact likelihood (up to the integrator's
+     * tolerance) of the flow that shares this model's estimator, not a bound on the ancestral
+     * chain's likelihood that {@link #bound(Table, long)} bounds.
+     *
+     * <p>No seed: it draws nothing. The same record and model give the same figure, bit for bit,
+     * whatever the other records and the thread count. Cost: each record is integrated on its own,
+     * a few hundred to a few thousand evaluations of the estimator and its Jacobian trace (about
+     * Dc forward passes each), so far more than one exact bound; the ratio for each open-data table
+     * is in diffusion-bench/results/flow-likelihood.txt.
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param records complete records with the training columns
+     * @return the per-record negative log-likelihood
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, or the
+     *     model's binary columns (the flow covers continuous columns only; use
+     *     {@link #bound(Table, long)} for a table with binary columns)
+     * @throws IllegalStateException naming the row, if its integration does not converge
+     */
+    public FlowLikelihood flowLikelihood(Table records) {
+        return flowLikelihood(records, Defaults.flow());
+    }
+
+    /**
+     * {@link #flowLikelihood(Table)} with the integrator's tolerances chosen.
+     *
+     * @param records complete records with the training columns
+     * @param how the tolerances
+     * @return the per-record negative log-likelihood
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, or the
+     *     model's binary columns
+     * @throws IllegalStateException naming the row, if its integration does not converge
+     */
+    public FlowLikelihood flowLikelihood(Table records, FlowOptions how) {
+        Require.notNull("how", how);
+        checkComplete(records, "records");
+        int[] binary = transform().modelledBinary();
+        if (binary.length > 0) {
+            List<String> names = IntStream.of(binary).mapToObj(j -> transform().names().get(j)).toList();
+            throw new IllegalArgumentException("records: the model diffuses " + binary.length + " binary column(s) "
+                    + names + "; the flow likelihood covers continuous columns only (the ODE needs a density):"
+                    + " use bound(records, seed) for this model");
+        }
+        ProbabilityFlow flow = new ProbabilityFlow(engine.parts(), how.relativeTolerance(), how.absoluteTolerance());
+        float[] x = engine.modelSpace(records);
+        ProbabilityFlow.Result r = flow.evaluate(x, records.rows(), options().threads());
+        return FlowLikelihood.of(engine.chain().continuousColumns(), how.relativeTolerance(), how.absoluteTolerance(),
+                r.nats, r.prior, transform().logJacobian(records), r.evaluations);
+    }
+
+    /**
      * Screens records by {@link Defaults#screening()}: each record's score is its bound (a Monte
      * Carlo bound of at most T steps, with common random numbers: every record shares the bound's
      * draws, so its score is a fixed function of the record and the seed); a record is flagged when
@@ -273,7 +333,10 @@ public final class DiffusionModel {
      * of the held-out scores, an expected false-positive rate, or a score; see
      * {@link ThresholdRule}), the bound, missing cells refused or imputed ({@link MissingCells}),
      * and the surprisal of the flagged records ({@link SurprisalOptions}, none with 0 draws).
-     * Held-out and screened records are scored with the same seed, so with the same draws.
+     * Held-out and screened records are scored with the same seed, so with the same draws. With
+     * {@link ScreeningOptions#withFlow} each record is scored by its flow likelihood instead
+     * ({@link #flowLikelihood(Table, FlowOptions)}: no draws, continuous columns only, far costlier;
+     * {@link Defaults#SCREENING_SCORE} says why the bound is the default).
      *
      * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
      *
