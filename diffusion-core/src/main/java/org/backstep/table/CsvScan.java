@@ -34,7 +34,9 @@ final class CsvScan {
         /** Declared continuous, or kinds not inferred: any finite number or missing. */
         CONTINUOUS,
         /** Any finite number or missing; BINARY if every value is 0 or 1, else CONTINUOUS. */
-        INFERRED
+        INFERRED,
+        /** Declared categorical: any text, a label kept in first-seen order, or missing. */
+        CATEGORICAL
     }
 
     /** Where the rows of a pass go. */
@@ -44,7 +46,8 @@ final class CsvScan {
     }
 
     /** The outcome of a pass without problems. */
-    record Scanned(List<String> names, List<ColumnKind> kinds, int rows) {
+    record Scanned(List<String> names, List<ColumnKind> kinds, int rows, Map<String, List<String>> categories,
+            List<String> textColumns) {
     }
 
     private final CsvReader options;
@@ -55,6 +58,9 @@ final class CsvScan {
     private Rule[] rules;
     private boolean[] present;   // a column has a cell that is not the missing token
     private boolean[] nonBinary; // a column has a value other than 0 and 1
+    private boolean[] textual;   // an inferred column has a cell that is not a number (inferCategories)
+    private Map<String, Integer>[] labelIndex; // per categorical column, label to index in first-seen order
+    private List<String>[] labelList;
     private long headerLine;
     private int rows;
     private boolean complete; // the source was read to its end
@@ -136,14 +142,28 @@ final class CsvScan {
             throw problems.exception();
         }
         List<ColumnKind> kinds = new ArrayList<>(names.size());
+        Map<String, List<String>> categories = new java.util.LinkedHashMap<>();
+        List<String> textColumns = new ArrayList<>();
         for (int c = 0; c < names.size(); c++) {
+            if (rules[c] == Rule.CATEGORICAL || textual[c]) {
+                kinds.add(ColumnKind.CATEGORICAL);
+                if (textual[c]) {
+                    textColumns.add(names.get(c));
+                } else if (labelList[c].isEmpty()) {
+                    problems.add(headerLine, labels.get(c), "the column is declared categorical but every cell is"
+                            + " missing; expected at least one label");
+                } else {
+                    categories.put(names.get(c), List.copyOf(labelList[c]));
+                }
+                continue;
+            }
             kinds.add(rules[c] == Rule.BINARY || (rules[c] == Rule.INFERRED && present[c] && !nonBinary[c])
                     ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);
         }
         if (problems.any()) {
             throw problems.exception();
         }
-        return new Scanned(List.copyOf(names), List.copyOf(kinds), rows);
+        return new Scanned(List.copyOf(names), List.copyOf(kinds), rows, categories, List.copyOf(textColumns));
     }
 
     /** Records why reading stopped early: a problem of the text, broken CSV syntax, or a failed read. */
@@ -175,13 +195,25 @@ final class CsvScan {
         rules = new Rule[columns];
         present = new boolean[columns];
         nonBinary = new boolean[columns];
+        textual = new boolean[columns];
+        @SuppressWarnings("unchecked")
+        Map<String, Integer>[] maps = new Map[columns];
+        @SuppressWarnings("unchecked")
+        List<String>[] lists = new List[columns];
+        labelIndex = maps;
+        labelList = lists;
         Set<String> binary = options.binaryColumns();
         Set<String> continuous = options.continuousColumns();
+        Set<String> categorical = options.categoricalColumns();
         for (int c = 0; c < columns; c++) {
             String name = header.get(c).strip();
             names.add(name);
-            rules[c] = binary.contains(name) ? Rule.BINARY
+            rules[c] = binary.contains(name) ? Rule.BINARY : categorical.contains(name) ? Rule.CATEGORICAL
                     : continuous.contains(name) || !options.inferKinds() ? Rule.CONTINUOUS : Rule.INFERRED;
+            if (rules[c] == Rule.CATEGORICAL) {
+                labelIndex[c] = new HashMap<>();
+                labelList[c] = new ArrayList<>();
+            }
             if (name.isEmpty()) {
                 labels.add("(column " + (c + 1) + ")");
                 problems.add(headerLine, labels.get(c), "blank column name in the header; expected a name"
@@ -202,6 +234,7 @@ final class CsvScan {
         }
         checkDeclared(binary, "binary");
         checkDeclared(continuous, "continuous");
+        checkDeclared(categorical, "categorical");
     }
 
     private void checkDeclared(Set<String> declared, String kind) {
@@ -232,6 +265,28 @@ final class CsvScan {
                 continue;
             }
             present[c] = true;
+            if (rules[c] == Rule.CATEGORICAL) {
+                Integer i = labelIndex[c].get(cell);
+                if (i == null) {
+                    if (labelList[c].size() >= Table.MAX_CATEGORIES) {
+                        problems.add(line, labels.get(c), "cell " + CsvTables.quote(cell) + " would be category "
+                                + (Table.MAX_CATEGORIES + 1) + " of the column; expected at most "
+                                + Table.MAX_CATEGORIES + " categories");
+                        good = false;
+                        continue;
+                    }
+                    i = labelList[c].size();
+                    labelIndex[c].put(cell, i);
+                    labelList[c].add(cell);
+                }
+                row[c] = i;
+                continue;
+            }
+            if (rules[c] == Rule.INFERRED && options.inferCategories() && !CsvTables.isDecimal(cell)) {
+                textual[c] = true;   // read again as a declared categorical column
+                row[c] = Double.NaN;
+                continue;
+            }
             double v = parse(cell, line, labels.get(c));
             if (Double.isNaN(v)) {
                 good = false;
