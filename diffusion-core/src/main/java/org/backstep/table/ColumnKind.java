@@ -18,5 +18,12 @@ public enum ColumnKind {
      * category's index 0..K-1 into the column's labels ({@link Table#categories(int)}), kept in
      * first-seen order by the CSV reader.
      */
-    CATEGORICAL
+    CATEGORICAL,
+    /**
+     * Whole numbers (counts, ordinal codes), every non-missing cell an integer within +-2^52: diffused
+     * as a continuous column after standardization, with the discretized Gaussian decoder of Ho et
+     * al. 2020 (eq. 13) over unit-wide bins, so that its part of a score is a probability mass and its
+     * samples and imputations are integers.
+     */
+    INTEGER
 }

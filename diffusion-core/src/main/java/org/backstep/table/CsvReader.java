@@ -46,7 +46,8 @@ import org.backstep.schedule.Require;
  */
 public final class CsvReader {
 
-    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false, Set.of(), false);
+    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false, Set.of(), false)
+            .withIntegers(Set.of(), false);
 
     /**
      * Cells per block of the growing store for streams: 256 KiB of doubles, under half of G1's
@@ -64,6 +65,51 @@ public final class CsvReader {
     private final boolean allowEmptyColumns;
     private final Set<String> categorical;
     private final boolean inferCategories;
+    private Set<String> integer = Set.of();
+    private boolean inferIntegers;
+
+    private CsvReader withIntegers(Set<String> columns, boolean infer) {
+        CsvReader r = new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns,
+                categorical, inferCategories);
+        r.integer = columns;
+        r.inferIntegers = infer;
+        return r;
+    }
+
+    /**
+     * Declares columns integer (counts, ordinal codes): every cell that is not missing must be a whole
+     * number within +-2^52. Replaces any earlier declaration of integer columns; default none.
+     *
+     * @param columns column names (not modified)
+     * @return new options
+     * @throws IllegalArgumentException if a name is null or also declared binary, continuous or categorical
+     */
+    public CsvReader integer(String... columns) {
+        Set<String> set = CsvTables.nameSet("integer columns", columns);
+        CsvTables.checkDisjoint(set, binary, "binary");
+        CsvTables.checkDisjoint(set, continuous, "continuous");
+        CsvTables.checkDisjoint(set, categorical, "categorical");
+        return withIntegers(set, inferIntegers);
+    }
+
+    /**
+     * @param infer whether an undeclared column of whole numbers that is not binary becomes INTEGER;
+     *     default false (it stays CONTINUOUS). Needs {@link #inferKinds} on
+     * @return new options
+     */
+    public CsvReader inferIntegers(boolean infer) {
+        return withIntegers(integer, infer);
+    }
+
+    /** @return the columns declared integer (unmodifiable) */
+    public Set<String> integerColumns() {
+        return integer;
+    }
+
+    /** @return whether columns of whole numbers become INTEGER */
+    public boolean inferIntegers() {
+        return inferIntegers;
+    }
 
     private CsvReader(String missingToken, Set<String> binary, Set<String> continuous, boolean inferKinds,
             char delimiter, boolean allowEmptyColumns, Set<String> categorical, boolean inferCategories) {
@@ -85,7 +131,7 @@ public final class CsvReader {
      */
     public CsvReader missingToken(String token) {
         return new CsvReader(CsvTables.checkToken(token), binary, continuous, inferKinds, delimiter,
-                allowEmptyColumns, categorical, inferCategories);
+                allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -100,7 +146,7 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("binary columns", columns);
         CsvTables.checkDisjoint(set, continuous, "continuous");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns, categorical, inferCategories);
+        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -115,7 +161,7 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("continuous columns", columns);
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns, categorical, inferCategories);
+        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -123,7 +169,7 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferKinds(boolean infer) {
-        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns, categorical, inferCategories);
+        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -134,7 +180,7 @@ public final class CsvReader {
      */
     public CsvReader delimiter(char separator) {
         return new CsvReader(missingToken, binary, continuous, inferKinds, CsvTables.checkDelimiter(separator),
-                allowEmptyColumns, categorical, inferCategories);
+                allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -146,7 +192,7 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader allowEmptyColumns(boolean allow) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow, categorical, inferCategories);
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow, categorical, inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -164,7 +210,7 @@ public final class CsvReader {
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, continuous, "continuous");
         return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, set,
-                inferCategories);
+                inferCategories).withIntegers(integer, inferIntegers);
     }
 
     /**
@@ -176,7 +222,7 @@ public final class CsvReader {
      */
     public CsvReader inferCategories(boolean infer) {
         return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
-                infer);
+                infer).withIntegers(integer, inferIntegers);
     }
 
     /** @return the columns declared categorical (unmodifiable) */
@@ -248,7 +294,7 @@ public final class CsvReader {
             Set<String> all = new java.util.LinkedHashSet<>(categorical);
             all.addAll(first.textColumns());
             CsvReader declared = new CsvReader(missingToken, binary, continuous, inferKinds, delimiter,
-                    allowEmptyColumns, java.util.Collections.unmodifiableSet(all), false);
+                    allowEmptyColumns, java.util.Collections.unmodifiableSet(all), false).withIntegers(integer, inferIntegers);
             return declared.read(file);
         }
         int columns = first.names().size();

@@ -36,7 +36,9 @@ final class CsvScan {
         /** Any finite number or missing; BINARY if every value is 0 or 1, else CONTINUOUS. */
         INFERRED,
         /** Declared categorical: any text, a label kept in first-seen order, or missing. */
-        CATEGORICAL
+        CATEGORICAL,
+        /** Declared integer: a whole number within +-2^52, or missing. */
+        INTEGER
     }
 
     /** Where the rows of a pass go. */
@@ -58,6 +60,7 @@ final class CsvScan {
     private Rule[] rules;
     private boolean[] present;   // a column has a cell that is not the missing token
     private boolean[] nonBinary; // a column has a value other than 0 and 1
+    private boolean[] nonWhole;  // a column has a value that is not a whole number within +-2^52
     private boolean[] textual;   // an inferred column has a cell that is not a number (inferCategories)
     private Map<String, Integer>[] labelIndex; // per categorical column, label to index in first-seen order
     private List<String>[] labelList;
@@ -157,6 +160,11 @@ final class CsvScan {
                 }
                 continue;
             }
+            if (rules[c] == Rule.INTEGER || (rules[c] == Rule.INFERRED && options.inferIntegers() && present[c]
+                    && nonBinary[c] && !nonWhole[c])) {
+                kinds.add(ColumnKind.INTEGER);
+                continue;
+            }
             kinds.add(rules[c] == Rule.BINARY || (rules[c] == Rule.INFERRED && present[c] && !nonBinary[c])
                     ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);
         }
@@ -196,6 +204,7 @@ final class CsvScan {
         present = new boolean[columns];
         nonBinary = new boolean[columns];
         textual = new boolean[columns];
+        nonWhole = new boolean[columns];
         @SuppressWarnings("unchecked")
         Map<String, Integer>[] maps = new Map[columns];
         @SuppressWarnings("unchecked")
@@ -209,7 +218,7 @@ final class CsvScan {
             String name = header.get(c).strip();
             names.add(name);
             rules[c] = binary.contains(name) ? Rule.BINARY : categorical.contains(name) ? Rule.CATEGORICAL
-                    : continuous.contains(name) || !options.inferKinds() ? Rule.CONTINUOUS : Rule.INFERRED;
+                    : options.integerColumns().contains(name) ? Rule.INTEGER : continuous.contains(name) || !options.inferKinds() ? Rule.CONTINUOUS : Rule.INFERRED;
             if (rules[c] == Rule.CATEGORICAL) {
                 labelIndex[c] = new HashMap<>();
                 labelList[c] = new ArrayList<>();
@@ -235,6 +244,7 @@ final class CsvScan {
         checkDeclared(binary, "binary");
         checkDeclared(continuous, "continuous");
         checkDeclared(categorical, "categorical");
+        checkDeclared(options.integerColumns(), "integer");
     }
 
     private void checkDeclared(Set<String> declared, String kind) {
@@ -288,6 +298,15 @@ final class CsvScan {
                 continue;
             }
             double v = parse(cell, line, labels.get(c));
+            if (!Double.isNaN(v) && (v != Math.rint(v) || Math.abs(v) > 0x1p52)) {
+                nonWhole[c] = true;
+                if (rules[c] == Rule.INTEGER) {
+                    problems.add(line, labels.get(c), "cell " + CsvTables.quote(cell) + " in a column declared integer;"
+                            + " expected a whole number within +-2^52 or the missing-value token "
+                            + CsvTables.quote(missing));
+                    good = false;
+                }
+            }
             if (Double.isNaN(v)) {
                 good = false;
             } else if (v != 0.0 && v != 1.0) {

@@ -114,7 +114,8 @@ public final class CsvWriter {
             for (int c = 0; c < columns; c++) {
                 double v = table.get(r, c);
                 cells[c] = Double.isNaN(v) ? missingToken : isBinary[c] ? (v == 1.0 ? "1" : "0")
-                        : table.kind(c) == ColumnKind.CATEGORICAL ? table.label(r, c) : Double.toString(v);
+                        : table.kind(c) == ColumnKind.CATEGORICAL ? table.label(r, c)
+                        : table.kind(c) == ColumnKind.INTEGER ? Long.toString((long) v) : Double.toString(v);
             }
             printer.printRecord((Object[]) cells);
         }

@@ -62,6 +62,7 @@ public final class Table {
     private final int[] continuous;
     private final int[] binary;
     private final int[] categorical;
+    private final int[] integer;
 
     private Table(Layout layout, int rows, double[] cells) {
         this.layout = layout;
@@ -81,6 +82,7 @@ public final class Table {
         this.continuous = indicesOf(kinds, ColumnKind.CONTINUOUS);
         this.binary = indicesOf(kinds, ColumnKind.BINARY);
         this.categorical = indicesOf(kinds, ColumnKind.CATEGORICAL);
+        this.integer = indicesOf(kinds, ColumnKind.INTEGER);
     }
 
     // ------------------------------------------------------------------ factories
@@ -243,6 +245,11 @@ public final class Table {
     /** @return the indices of the binary columns, in increasing order (a copy) */
     public int[] binaryColumns() {
         return binary.clone();
+    }
+
+    /** @return the indices of the integer columns, in increasing order (a copy) */
+    public int[] integerColumns() {
+        return integer.clone();
     }
 
     /** @return the indices of the categorical columns, in increasing order (a copy) */
@@ -518,7 +525,7 @@ public final class Table {
      * <pre>
      *   int32 column count, int32 row count,
      *   per column: int32 byte length of the UTF-8 name, the UTF-8 bytes, one byte 'C' (continuous) or 'B' (binary)
-     *       or 'K' (categorical, then int32 K and per label its int32 UTF-8 byte length and bytes),
+     *       or 'I' (integer) or 'K' (categorical, then int32 K and per label its int32 UTF-8 byte length and bytes),
      *   per cell, row by row: the int64 Double.doubleToLongBits of the value (every NaN as 0x7ff8000000000000)
      * </pre>
      * Equal tables have equal hashes; the hash depends on names, kinds, order and every bit of
@@ -541,7 +548,7 @@ public final class Table {
             ByteBuffer col = ByteBuffer.allocate(4 + utf8.length + 1).order(ByteOrder.LITTLE_ENDIAN);
             ColumnKind kind = kinds.get(c);
             col.putInt(utf8.length).put(utf8).put((byte) (kind == ColumnKind.CONTINUOUS ? 'C'
-                    : kind == ColumnKind.BINARY ? 'B' : 'K'));
+                    : kind == ColumnKind.BINARY ? 'B' : kind == ColumnKind.INTEGER ? 'I' : 'K'));
             md.update(col.array());
             if (kind == ColumnKind.CATEGORICAL) {
                 List<String> labels = layout.categories.get(c);
@@ -700,7 +707,7 @@ public final class Table {
             for (int c = 0; c < kinds.size(); c++) {
                 if (kinds.get(c) == null) {
                     throw new IllegalArgumentException("kinds[" + c + "] (column '" + names.get(c)
-                            + "') is null; expected CONTINUOUS, BINARY or CATEGORICAL");
+                            + "') is null; expected CONTINUOUS, BINARY, CATEGORICAL or INTEGER");
                 }
             }
             Map<String, Integer> index = new HashMap<>();
@@ -815,7 +822,9 @@ public final class Table {
             }
             boolean[] binary = new boolean[cols];
             int[] k = new int[cols];
+            boolean[] whole = new boolean[cols];
             for (int c = 0; c < cols; c++) {
+                whole[c] = kinds.get(c) == ColumnKind.INTEGER;
                 binary[c] = kinds.get(c) == ColumnKind.BINARY;
                 k[c] = categories.get(c).size();
             }
@@ -832,6 +841,15 @@ public final class Table {
                         } else if (v != 1.0 && !Double.isNaN(v)) {
                             throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
                                     + "' is " + v + "; the column is BINARY, expected 0, 1 or NaN for a missing cell");
+                        }
+                    } else if (whole[c] && !Double.isNaN(v)) {
+                        if (v != Math.rint(v) || Math.abs(v) > 0x1p52) {
+                            throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
+                                    + "' is " + v + "; the column is INTEGER, expected a whole number within +-2^52"
+                                    + " or NaN for a missing cell");
+                        }
+                        if (v == 0.0) {
+                            cells[i] = 0.0;
                         }
                     } else if (k[c] > 0 && !Double.isNaN(v)) {
                         if (v == 0.0) {

@@ -38,7 +38,10 @@ import org.backstep.schedule.Require;
  * estimation using Real NVP", section 3.1), the sum over the modelled continuous, non-missing cells
  * ({@link #logJacobian(double[])}). For STANDARDIZE log |dz/dx| = -log s, so a negative
  * log-likelihood in model space becomes one in original units by adding sum_j log s_j; for
- * LOG_STANDARDIZE and NORMAL_SCORES it depends on x (see {@link ColumnTransform}). Densities are
+ * LOG_STANDARDIZE and NORMAL_SCORES it depends on x (see {@link ColumnTransform}). INTEGER
+ * columns are standardized like continuous ones, but their decoder gives the probability of the
+ * integer's unit-wide bin, a mass that needs no change of variables: they are left out of the
+ * log-Jacobian, and their model values are rounded back to integers. Densities are
  * in nats; constant columns contribute nothing (they are a point mass, left out of both sides).
  *
  * <p>One file of more than 400 lines: fitting, applying and inverting the column transforms and their log-Jacobian must agree column by column.
@@ -52,16 +55,21 @@ public final class TableTransform {
     private final int[] modelledBinary;
     private final int[] modelledCategorical;
     private final Table.Layout layout;
+    /** The lowest integer of each INTEGER column that has one (counts: 0), by name. */
+    private final java.util.Map<String, Long> lowest;
     private final int[] constants;
     private final List<String> notes;
 
-    private TableTransform(Table.Layout layout, List<ColumnTransform> transforms, List<String> fitNotes) {
+    private TableTransform(Table.Layout layout, List<ColumnTransform> transforms, List<String> fitNotes,
+            java.util.Map<String, Long> lowest) {
+        this.lowest = java.util.Collections.unmodifiableMap(new java.util.LinkedHashMap<>(lowest));
         this.names = layout.names;
         this.kinds = layout.kinds;
         this.layout = layout;
         this.transforms = List.copyOf(transforms);
         int n = names.size();
-        this.modelledContinuous = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.CONTINUOUS
+        this.modelledContinuous = IntStream.range(0, n).filter(c -> (kinds.get(c) == ColumnKind.CONTINUOUS
+                || kinds.get(c) == ColumnKind.INTEGER)
                 && this.transforms.get(c).kind() != ColumnTransform.Kind.CONSTANT).toArray();
         this.modelledBinary = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.BINARY).toArray();
         this.modelledCategorical = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.CATEGORICAL
@@ -77,6 +85,11 @@ public final class TableTransform {
             } else if (t.kind() == ColumnTransform.Kind.CONSTANT) {
                 all.add("column '" + names.get(c) + "' is constant (" + t.shift()
                         + ") and is carried exactly, not diffused");
+            } else if (kinds.get(c) == ColumnKind.INTEGER) {
+                all.add("column '" + names.get(c) + "' holds integers: its decoder is a discretized Gaussian over"
+                        + " unit-wide bins (Ho et al. 2020, eq. 13), " + (this.lowest.containsKey(names.get(c))
+                        ? "counts from 0 (the bin of 0 reaches to -infinity)" : "with no lowest value")
+                        + ", so its part of a score is a probability mass");
             } else if (t.kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
                 all.add("column '" + names.get(c) + "' is modelled on the log scale: z = (log x - " + t.shift()
                         + ") / " + t.scale());
@@ -144,6 +157,7 @@ public final class TableTransform {
         }
         List<ColumnTransform> transforms = new ArrayList<>(training.columns());
         List<String> fitNotes = new ArrayList<>();
+        java.util.Map<String, Long> lowest = new java.util.LinkedHashMap<>();
         for (int c = 0; c < training.columns(); c++) {
             String name = training.name(c);
             if (training.kind(c) == ColumnKind.BINARY) {
@@ -154,6 +168,11 @@ public final class TableTransform {
                 transforms.add(training.categories(c).size() == 1 ? ColumnTransform.constant(0.0)
                         : ColumnTransform.identity());
                 continue;
+            }
+            boolean whole = training.kind(c) == ColumnKind.INTEGER;
+            if (whole && java.util.Arrays.stream(training.column(c)).filter(v -> !Double.isNaN(v)).min()
+                    .orElse(-1.0) >= 0.0) {
+                lowest.put(name, 0L);      // counts: the support starts at 0
             }
             boolean log = logColumns.contains(name);
             double[] col = training.column(c);
@@ -183,7 +202,7 @@ public final class TableTransform {
                 transforms.add(ColumnTransform.constant(observed[0]));
                 continue;
             }
-            if (scores) {
+            if (scores && !whole) {
                 double h = bandwidthMultiple * ColumnTransform.silvermanBandwidth(observed);
                 transforms.add(ColumnTransform.normalScores(observed, h));
                 continue;
@@ -202,7 +221,7 @@ public final class TableTransform {
             transforms.add(log ? ColumnTransform.logStandardize(mean, sd) : ColumnTransform.standardize(mean, sd));
         }
         return new TableTransform(Table.Layout.of(training.names(), training.kinds(), training.categories()), transforms,
-                fitNotes);
+                fitNotes, lowest);
     }
 
     /**
@@ -233,12 +252,39 @@ public final class TableTransform {
      */
     public static TableTransform of(List<String> names, List<ColumnKind> kinds,
             java.util.Map<String, List<String>> categories, List<ColumnTransform> transforms) {
+        return of(names, kinds, categories, java.util.Map.of(), transforms);
+    }
+
+    /**
+     * Rebuilds fitted transforms with categorical and integer columns, e.g. from a model file.
+     *
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param categories the labels of each categorical column, in index order (not modified)
+     * @param lowest the lowest integer of each INTEGER column whose support has one: 0 (counts); no
+     *     entry for integer columns without a lowest value (not modified)
+     * @param transforms one transform per column, as {@link #of(List, List, java.util.Map, List)};
+     *     STANDARDIZE or CONSTANT for an integer column (not modified)
+     * @return the transforms
+     * @throws IllegalArgumentException naming the column if a size, label, lowest value or pairing is wrong
+     */
+    public static TableTransform of(List<String> names, List<ColumnKind> kinds,
+            java.util.Map<String, List<String>> categories, java.util.Map<String, Long> lowest,
+            List<ColumnTransform> transforms) {
         Require.notNull("categories", categories);
+        Require.notNull("lowest", lowest);
         Table.Layout layout = Table.Layout.of(names, kinds, categories);
         Require.notNull("transforms", transforms);
         if (transforms.size() != layout.names.size()) {
             throw new IllegalArgumentException("transforms has " + transforms.size() + " entries; expected "
                     + layout.names.size() + " (one per column)");
+        }
+        for (java.util.Map.Entry<String, Long> e : lowest.entrySet()) {
+            Integer at = layout.index.get(e.getKey());
+            if (at == null || layout.kinds.get(at) != ColumnKind.INTEGER || e.getValue() == null || e.getValue() != 0L) {
+                throw new IllegalArgumentException("lowest names '" + e.getKey() + "' with " + e.getValue()
+                        + "; expected an INTEGER column with the lowest value 0 (counts)");
+            }
         }
         for (int c = 0; c < transforms.size(); c++) {
             ColumnTransform t = transforms.get(c);
@@ -257,6 +303,11 @@ public final class TableTransform {
                 }
                 continue;
             }
+            if (layout.kinds.get(c) == ColumnKind.INTEGER && t.kind() != ColumnTransform.Kind.STANDARDIZE
+                    && t.kind() != ColumnTransform.Kind.CONSTANT) {
+                throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c)
+                        + "', INTEGER) is " + t.kind() + "; expected STANDARDIZE or CONSTANT");
+            }
             boolean binary = layout.kinds.get(c) == ColumnKind.BINARY;
             boolean identity = t.kind() == ColumnTransform.Kind.IDENTITY;
             if (binary != identity) {
@@ -266,7 +317,7 @@ public final class TableTransform {
                                 : "STANDARDIZE, LOG_STANDARDIZE, NORMAL_SCORES or CONSTANT for a continuous column"));
             }
         }
-        return new TableTransform(layout, transforms, List.of());
+        return new TableTransform(layout, transforms, List.of(), lowest);
     }
 
     // ------------------------------------------------------------------ accessors
@@ -318,6 +369,11 @@ public final class TableTransform {
             k[j] = layout.categories.get(modelledCategorical[j]).size();
         }
         return k;
+    }
+
+    /** @return the lowest integer (0) of each INTEGER column that is a count, by name (unmodifiable) */
+    public java.util.Map<String, Long> lowest() {
+        return lowest;
     }
 
     /** @return the labels of every categorical column by name, in table order (unmodifiable) */
@@ -444,7 +500,13 @@ public final class TableTransform {
             }
             for (int j = 0; j < nc; j++) {
                 int c = modelledContinuous[j];
-                rows[r][c] = transforms.get(c).inverse(z[j]);
+                double x = transforms.get(c).inverse(z[j]);
+                if (kinds.get(c) == ColumnKind.INTEGER && !Double.isNaN(x)) {
+                    // the integer whose unit-wide bin holds x (Ho et al. 2020, eq. 13), within the support
+                    x = Math.max(Math.rint(x), lowest.containsKey(names.get(c)) ? 0.0 : -0x1p52);
+                    x = Math.min(x, 0x1p52);
+                }
+                rows[r][c] = x;
             }
             for (int j = 0; j < modelledBinary.length; j++) {
                 double v = z[nc + j];
@@ -500,6 +562,9 @@ public final class TableTransform {
     private double sumLogJacobian(double[] row, int r) {
         double sum = 0.0;
         for (int c : modelledContinuous) {
+            if (kinds.get(c) == ColumnKind.INTEGER) {
+                continue;      // a probability mass: no change of variables
+            }
             double x = row[c];
             if (Double.isNaN(x)) {
                 continue;
@@ -590,7 +655,7 @@ public final class TableTransform {
         }
         TableTransform t = (TableTransform) o;
         return names.equals(t.names) && kinds.equals(t.kinds) && transforms.equals(t.transforms)
-                && layout.categories.equals(t.layout.categories);
+                && layout.categories.equals(t.layout.categories) && lowest.equals(t.lowest);
     }
 
     /** @return a hash consistent with {@link #equals(Object)} */

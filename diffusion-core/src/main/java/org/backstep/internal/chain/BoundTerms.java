@@ -70,6 +70,32 @@ public final class BoundTerms {
         return 0.5 * (lv - lq + num * precision - 1.0);
     }
 
+    /**
+     * {@link #continuous} of continuous column j, except the decoder term (k = 1) of an integer
+     * column: -log of the mass that N(mu, sigma^2) puts on the observed integer's unit-wide bin
+     * (Ho et al. 2020, eq. 13; {@link org.backstep.posterior.DiscretizedGaussian}), a probability.
+     *
+     * @param j the continuous column, 0-based
+     * @return the term in nats; partials as {@link #continuous} writes them
+     */
+    public static double continuousCell(Chain c, int k, int j, double x0, double xt, double epsHat, double v,
+                                        double[] partials) {
+        org.backstep.posterior.DiscretizedGaussian dg = c.decoders[j];
+        if (k != 1 || dg == null) {
+            return continuous(c, k, x0, xt, epsHat, v, partials);
+        }
+        double lv = c.reverseLogVariance(k, v);
+        double mp = (xt - c.epsCoef[k] * epsHat) / c.sqrtAlpha[k];
+        long n = dg.integerAt(x0);
+        if (partials == null) {
+            return -dg.logProbability(n, mp, lv);
+        }
+        double logP = dg.logProbabilityGradientInPlace(n, mp, lv, partials);
+        partials[0] = -partials[0];
+        partials[1] = -partials[1];
+        return -logP;
+    }
+
     /** @return d mu / d eps-hat at chain step k: -beta_k / (sqrt(1 - alpha-bar_k) sqrt(alpha_k)) */
     public static double meanPerEpsilon(Chain c, int k) {
         return -c.epsCoef[k] / c.sqrtAlpha[k];
@@ -180,7 +206,7 @@ public final class BoundTerms {
             double cont = 0.0;
             for (int j = 0; j < dc; j++) {
                 double v = learned ? out[oo + dc + j] : 0.0;
-                cont += continuous(c, s, x0[o + j], xt[o + j], out[oo + j], v, null);
+                cont += continuousCell(c, s, j, x0[o + j], xt[o + j], out[oo + j], v, null);
             }
             double bin = 0.0;
             for (int j = 0; j < c.db; j++) {

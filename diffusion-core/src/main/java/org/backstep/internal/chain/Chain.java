@@ -43,6 +43,8 @@ public final class Chain {
     final int[] catInput;           // first estimator input of each categorical column
     final int[] catLogits;          // first estimator output (logit) of each categorical column
     final CategoricalDiffusion[] catDiffusion;
+    /** Per continuous column, the discretized Gaussian decoder of an integer column, null for a real one. */
+    final org.backstep.posterior.DiscretizedGaussian[] decoders;
     final int logitOffset;          // first output column of the binary logits: dc, or 2 dc with learned variances
     final ReverseVariance variance;
     final Estimator estimator;
@@ -81,16 +83,33 @@ public final class Chain {
     }
 
     /**
+     * As {@link #Chain(NoiseSchedule, NoiseSchedule, int, int, int[], ReverseVariance, Estimator)},
+     * without integer columns.
+     */
+    public Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, int[] categories,
+          ReverseVariance variance, Estimator estimator) {
+        this(continuous, binary, dc, db, categories, new org.backstep.posterior.DiscretizedGaussian[dc], variance,
+                estimator);
+    }
+
+    /**
      * @param continuous the Gaussian schedule of the continuous columns
      * @param binary the binomial schedule of the binary and categorical columns, with as many steps
      * @param dc diffused continuous columns
      * @param db diffused binary columns
      * @param categories K of each diffused categorical column, each at least 2 (not modified)
+     * @param decoders per continuous column, the discretized Gaussian decoder of an integer column or
+     *     null (Ho et al. 2020, eq. 13; not modified)
      * @param variance how the continuous reverse variance is set
      * @param estimator inputs dc + db + sum K, outputs as {@link Estimator} says
      */
     public Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, int[] categories,
-          ReverseVariance variance, Estimator estimator) {
+          org.backstep.posterior.DiscretizedGaussian[] decoders, ReverseVariance variance, Estimator estimator) {
+        if (decoders.length != dc) {
+            throw new IllegalArgumentException("decoders has " + decoders.length + " entries; expected " + dc
+                    + ", one per continuous column");
+        }
+        this.decoders = decoders.clone();
         if (continuous.steps() != binary.steps()) {
             throw new IllegalArgumentException("the binary schedule has " + binary.steps()
                     + " steps and the continuous one " + continuous.steps() + "; both kinds are diffused at the same t");
@@ -185,8 +204,19 @@ public final class Chain {
      */
     public static Chain of(org.backstep.option.FitOptions options, org.backstep.table.TableTransform transform,
                            Estimator estimator) {
-        return new Chain(options.continuousSchedule(), options.binarySchedule(), transform.modelledContinuous().length,
-                transform.modelledBinary().length, transform.modelledCategories(), options.variance(), estimator);
+        int[] mc = transform.modelledContinuous();
+        org.backstep.posterior.DiscretizedGaussian[] decoders = new org.backstep.posterior.DiscretizedGaussian[mc.length];
+        for (int j = 0; j < mc.length; j++) {
+            if (transform.kinds().get(mc[j]) == org.backstep.table.ColumnKind.INTEGER) {
+                org.backstep.table.ColumnTransform t = transform.transform(mc[j]);
+                decoders[j] = transform.lowest().containsKey(transform.names().get(mc[j]))
+                        ? org.backstep.posterior.DiscretizedGaussian.boundedBelow(t.shift(), t.scale(), 0L)
+                        : org.backstep.posterior.DiscretizedGaussian.unbounded(t.shift(), t.scale());
+            }
+        }
+        return new Chain(options.continuousSchedule(), options.binarySchedule(), mc.length,
+                transform.modelledBinary().length, transform.modelledCategories(), decoders, options.variance(),
+                estimator);
     }
 
     /** @return the estimator's input width over a transform's model space: Dc + Db + sum K */
@@ -206,7 +236,7 @@ public final class Chain {
 
     /** The same estimator over the sub-schedules that keep the given steps of this chain. */
     public Chain subset(int[] keep) {
-        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, categories, variance, estimator);
+        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, categories, decoders, variance, estimator);
     }
 
     /** The same estimator over count evenly spaced steps (see {@link NoiseSchedule#strided(int)}). */

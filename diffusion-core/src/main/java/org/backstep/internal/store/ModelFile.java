@@ -64,7 +64,9 @@ import java.util.zip.ZipOutputStream;
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
- * Version 4 added categorical columns: a column of kind {@code CATEGORICAL} carries
+ * Version 4 added integer and categorical columns: a column of kind {@code INTEGER} carries
+ * {@code lowest} = 0 when it is a count (its decoder's bin of 0 reaching to -infinity) and nothing
+ * else new; a column of kind {@code CATEGORICAL} carries
  * {@code categories}, its labels in index order (the order the network's logits and the model-space
  * indices use), and the network's inputs and outputs count one per category; files of versions 1
  * to 3 have no such column. Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
@@ -201,6 +203,9 @@ public final class ModelFile {
             col.put("transform", ct.kind().name());
             col.put("shift", ct.shift());
             col.put("scale", ct.scale());
+            if (tr.lowest().containsKey(tr.names().get(c))) {
+                col.put("lowest", tr.lowest().get(tr.names().get(c)));
+            }
             if (tr.kinds().get(c) == ColumnKind.CATEGORICAL) {
                 ArrayNode labels = col.putArray("categories");
                 tr.categories().get(tr.names().get(c)).forEach(labels::add);
@@ -365,6 +370,7 @@ public final class ModelFile {
         List<ColumnKind> kinds = new ArrayList<>();
         List<ColumnTransform> transforms = new ArrayList<>();
         Map<String, List<String>> categories = new LinkedHashMap<>();
+        Map<String, Long> lowest = new LinkedHashMap<>();
         for (int c = 0; c < columns.size(); c++) {
             String at = cw + "[" + c + "]";
             JsonNode col = JsonFields.object(columns.get(c), at);
@@ -384,7 +390,18 @@ public final class ModelFile {
                     list.add(JsonFields.text(labels.get(i), at + ".categories[" + i + "]"));
                 }
                 categories.put(name, list);
-            } else if (col.has("categories")) {
+            } else if (columnKind == ColumnKind.INTEGER && version < 4) {
+                throw new ModelFileException(at + ".kind", "INTEGER in a file of format version " + version
+                        + "; integer columns came with version 4");
+            }
+            if (col.has("lowest")) {
+                if (columnKind != ColumnKind.INTEGER) {
+                    throw new ModelFileException(at + ".lowest", "present on a " + columnKind
+                            + " column; only INTEGER columns have a lowest value");
+                }
+                lowest.put(name, JsonFields.whole(col.get("lowest"), at + ".lowest", 0, 0));
+            }
+            if (columnKind != ColumnKind.CATEGORICAL && col.has("categories")) {
                 throw new ModelFileException(at + ".categories", "present on a " + columnKind
                         + " column; only CATEGORICAL columns have categories");
             }
@@ -399,7 +416,7 @@ public final class ModelFile {
         }
         TableTransform transform;
         try {
-            transform = TableTransform.of(names, kinds, categories, transforms);
+            transform = TableTransform.of(names, kinds, categories, lowest, transforms);
         } catch (IllegalArgumentException e) {
             throw new ModelFileException(cw, e.getMessage(), e);
         }

@@ -109,7 +109,7 @@ final class LossGradient implements ParallelStep.LossGradient {
                 }
                 double eh = out[oo + j];
                 double v = learned ? out[oo + dc + j] : 0.0;
-                double term = BoundTerms.continuous(chain, s, x0[o + j], xt[o + j], eh, v, partials);
+                double term = BoundTerms.continuousCell(chain, s, j, x0[o + j], xt[o + j], eh, v, partials);
                 double dMean = partials[0];
                 double dLogVar = partials[1];
                 bound += term;
