@@ -108,6 +108,35 @@ class CategoricalModelTest {
     }
 
     @Test
+    void screeningDriftAndPlannersRun() {
+        Table held = sites(60, 11);
+        org.backstep.report.AnomalyScreen screen = model.screen(held, sites(20, 12), 1);
+        assertEquals(20, screen.scores().length);
+        org.backstep.report.Surprisal surprisal = model.surprisal(sites(5, 13), 2);
+        for (int r = 0; r < 5; r++) {
+            assertTrue(Double.isFinite(surprisal.nats()[r][2]), "surprisal of the site, row " + r);
+        }
+        // a batch whose sites are all 'north' drifts from the reference in the site column (chi-squared)
+        double[][] north = sites(200, 14).toArray();
+        for (double[] r : north) {
+            r[2] = 0;
+        }
+        org.backstep.report.DriftReport drift = model.drift(sites(200, 15), table.withRows(north), 3);
+        org.backstep.report.DriftTest site = drift.columns().stream().filter(t -> t.subject().equals("site"))
+                .findFirst().orElseThrow();
+        // chi-squared test of homogeneity (commons-math3): 200 rows of one site against four about equal shares
+        assertTrue(site.pValue() < 1e-6, site.toString());
+        org.backstep.report.DriftTest temp = drift.columns().stream().filter(t -> t.subject().equals("door"))
+                .findFirst().orElseThrow();
+        assertTrue(temp.pValue() > 1e-3, temp.toString());
+        org.backstep.report.StepPlan plan = model.planSteps(held, 0.05, 4, 10, 50);
+        assertTrue(plan.toString().contains("10"), plan.toString());
+        org.backstep.report.TrainingPlan tp = Backstep.builder().hidden(16).batchSize(50).threads(2).seed(3)
+                .planTraining(table, held, org.backstep.option.TrainingBudget.updates(20), 0.05, 10, 20);
+        assertTrue(tp.toString().contains("20"), tp.toString());
+    }
+
+    @Test
     void oneCategoryIsCarriedAsAConstant() {
         double[][] rows = new double[60][2];
         SplittableRandom rng = new SplittableRandom(2);

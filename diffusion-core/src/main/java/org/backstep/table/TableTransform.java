@@ -456,13 +456,14 @@ public final class TableTransform {
      * The table with each categorical column's cells indexed by this transform's labels (matched by
      * label text, {@link Table#recode}); the table itself when the labels are the same.
      *
-     * @param t a table with this transform's names and kinds (not modified)
+     * @param table a table with this transform's names and kinds (not modified)
      * @return the table in this transform's categories
      * @throws IllegalArgumentException naming the first column that differs, or the row, column and
      *     label of a category the transform does not know
      */
-    public Table aligned(Table t) {
-        checkLayout(t);
+    public Table aligned(Table table) {
+        checkLayout(table);
+        Table t = table;
         for (int c = 0; c < names.size(); c++) {
             if (kinds.get(c) == ColumnKind.CATEGORICAL && !t.categories(c).equals(layout.categories.get(c))) {
                 try {
