@@ -103,6 +103,14 @@ class CategoricalIdentityTest {
                 new double[][] {{0}});
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> model.bound(unseen, 1));
         assertTrue(e.getMessage().contains("column 'c' has the category 'k9'"), e.getMessage());
+        // screening gives an unknown category the score of an unknown category: +infinity, with a note
+        Table mixed = Table.of(List.of("c"), List.of(ColumnKind.CATEGORICAL), Map.of("c", List.of("k0", "k9")),
+                new double[][] {{0}, {1}});
+        org.backstep.report.AnomalyScreen screen = model.screen(same, mixed, 2);
+        assertTrue(Double.isFinite(screen.scores()[0]));
+        assertEquals(Double.POSITIVE_INFINITY, screen.scores()[1]);
+        assertTrue(screen.notesFor(1).get(0).text().contains("the category 'k9' is not among the 5 categories"),
+                screen.notesFor(1).toString());
         IllegalArgumentException d = assertThrows(IllegalArgumentException.class,
                 () -> model.denoise(same, Defaults.denoising(0.1), 1));
         assertTrue(d.getMessage().contains("'c' is CATEGORICAL"), d.getMessage());
