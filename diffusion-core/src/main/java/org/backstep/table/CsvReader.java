@@ -46,8 +46,8 @@ import org.backstep.schedule.Require;
  */
 public final class CsvReader {
 
-    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false, Set.of(), false)
-            .withIntegers(Set.of(), false);
+    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false, Set.of(), false,
+            Set.of(), false);
 
     /**
      * Cells per block of the growing store for streams: 256 KiB of doubles, under half of G1's
@@ -65,16 +65,9 @@ public final class CsvReader {
     private final boolean allowEmptyColumns;
     private final Set<String> categorical;
     private final boolean inferCategories;
-    private Set<String> integer = Set.of();
-    private boolean inferIntegers;
+    private final Set<String> integer;
+    private final boolean inferIntegers;
 
-    private CsvReader withIntegers(Set<String> columns, boolean infer) {
-        CsvReader r = new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns,
-                categorical, inferCategories);
-        r.integer = columns;
-        r.inferIntegers = infer;
-        return r;
-    }
 
     /**
      * Declares columns integer (counts, ordinal codes): every cell that is not missing must be a whole
@@ -89,7 +82,8 @@ public final class CsvReader {
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, continuous, "continuous");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return withIntegers(set, inferIntegers);
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, set, inferIntegers);
     }
 
     /**
@@ -98,7 +92,8 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferIntegers(boolean infer) {
-        return withIntegers(integer, infer);
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, infer);
     }
 
     /** @return the columns declared integer (unmodifiable) */
@@ -112,7 +107,10 @@ public final class CsvReader {
     }
 
     private CsvReader(String missingToken, Set<String> binary, Set<String> continuous, boolean inferKinds,
-            char delimiter, boolean allowEmptyColumns, Set<String> categorical, boolean inferCategories) {
+            char delimiter, boolean allowEmptyColumns, Set<String> categorical, boolean inferCategories,
+            Set<String> integer, boolean inferIntegers) {
+        this.integer = integer;
+        this.inferIntegers = inferIntegers;
         this.categorical = categorical;
         this.inferCategories = inferCategories;
         this.missingToken = missingToken;
@@ -131,7 +129,8 @@ public final class CsvReader {
      */
     public CsvReader missingToken(String token) {
         return new CsvReader(CsvTables.checkToken(token), binary, continuous, inferKinds, delimiter,
-                allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
+                allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -146,7 +145,8 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("binary columns", columns);
         CsvTables.checkDisjoint(set, continuous, "continuous");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
+        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -161,7 +161,8 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("continuous columns", columns);
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
+        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -169,7 +170,8 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferKinds(boolean infer) {
-        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
+        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -180,7 +182,8 @@ public final class CsvReader {
      */
     public CsvReader delimiter(char separator) {
         return new CsvReader(missingToken, binary, continuous, inferKinds, CsvTables.checkDelimiter(separator),
-                allowEmptyColumns, categorical, inferCategories).withIntegers(integer, inferIntegers);
+                allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -192,7 +195,8 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader allowEmptyColumns(boolean allow) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow, categorical, inferCategories).withIntegers(integer, inferIntegers);
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -210,7 +214,7 @@ public final class CsvReader {
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, continuous, "continuous");
         return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, set,
-                inferCategories).withIntegers(integer, inferIntegers);
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -222,7 +226,7 @@ public final class CsvReader {
      */
     public CsvReader inferCategories(boolean infer) {
         return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
-                infer).withIntegers(integer, inferIntegers);
+                infer, integer, inferIntegers);
     }
 
     /** @return the columns declared categorical (unmodifiable) */
@@ -294,7 +298,7 @@ public final class CsvReader {
             Set<String> all = new java.util.LinkedHashSet<>(categorical);
             all.addAll(first.textColumns());
             CsvReader declared = new CsvReader(missingToken, binary, continuous, inferKinds, delimiter,
-                    allowEmptyColumns, java.util.Collections.unmodifiableSet(all), false).withIntegers(integer, inferIntegers);
+                    allowEmptyColumns, java.util.Collections.unmodifiableSet(all), false, integer, inferIntegers);
             return declared.read(file);
         }
         int columns = first.names().size();
@@ -435,7 +439,8 @@ public final class CsvReader {
     public String toString() {
         return "CsvReader[missingToken=" + CsvTables.quote(missingToken) + ", binary=" + binary + ", continuous="
                 + continuous + ", inferKinds=" + inferKinds + ", delimiter="
-                + CsvTables.quote(String.valueOf(delimiter)) + ", allowEmptyColumns=" + allowEmptyColumns + ", categorical=" + categorical + ", inferCategories="
-                + inferCategories + "]";
+                + CsvTables.quote(String.valueOf(delimiter)) + ", allowEmptyColumns=" + allowEmptyColumns + ", categorical="
+                + categorical + ", inferCategories="
+                + inferCategories + ", integer=" + integer + ", inferIntegers=" + inferIntegers + "]";
     }
 }

@@ -104,6 +104,24 @@ class CategoricalTableTest {
     }
 
     @Test
+    void integerColumnsAreDeclaredOrInferredAndHoldWholeNumbers() throws Exception {
+        String csv = "count,temp,flag\n3,1.5,0\n0,2.5,1\n12,,0\n";
+        Table declared = CsvTables.reader().integer("count").read(new StringReader(csv), "c.csv");
+        assertEquals(List.of(ColumnKind.INTEGER, CONTINUOUS, BINARY), declared.kinds());
+        assertEquals(CONTINUOUS, CsvTables.reader().read(new StringReader(csv), "c.csv").kind(0));
+        assertEquals(declared, CsvTables.reader().inferIntegers(true).read(new StringReader(csv), "c.csv"));
+        StringWriter out = new StringWriter();
+        CsvTables.writer().write(declared, out);
+        assertTrue(out.toString().contains("\n12,"), out.toString());
+        TableFormatException e = assertThrows(TableFormatException.class,
+                () -> CsvTables.reader().integer("temp").read(new StringReader(csv), "c.csv"));
+        assertTrue(e.getMessage().contains("'1.5' in a column declared integer"), e.getMessage());
+        assertThrows(IllegalArgumentException.class, () -> Table.of(List.of("n"), List.of(ColumnKind.INTEGER),
+                new double[][] {{0.5}}));
+        assertTrue(declared.toText(3).contains("count [int]"));
+    }
+
+    @Test
     void aThousandCategoriesReadInOrder() throws Exception {
         StringBuilder csv = new StringBuilder("code,v\n");
         List<String> expected = new ArrayList<>();
