@@ -90,7 +90,7 @@ public final class ScoringRange {
                     }
                     continue;
                 }
-                if (Double.isNaN(x) || records.kind(c) != ColumnKind.CONTINUOUS) {
+                if (Double.isNaN(x) || records.kind(c) != ColumnKind.CONTINUOUS && records.kind(c) != ColumnKind.INTEGER) {
                     continue;
                 }
                 ColumnTransform t = transform.transform(c);
