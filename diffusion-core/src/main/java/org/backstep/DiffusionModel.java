@@ -9,6 +9,7 @@ import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.plan.StepPlanner;
 import org.backstep.internal.screen.DriftTests;
 import org.backstep.internal.screen.Screener;
+import org.backstep.internal.screen.Scoring;
 import org.backstep.internal.screen.SurprisalEstimator;
 import org.backstep.internal.store.ModelFile;
 import org.backstep.io.ModelFileException;
@@ -212,6 +213,39 @@ public final class DiffusionModel {
     }
 
     /**
+     * The bound of each record by the given method, each record with its own seed: record i draws
+     * its x_t (and, for a sampled bound, its steps) from a generator seeded by {@code rowSeeds[i]}
+     * alone, the draws {@code bound(recordI, how, rowSeeds[i])} makes on a one-record table. So a
+     * record's draws depend only on its seed, not on the other records, their order or the batch
+     * size, while the network still sees the records in batches (one-record calls cost about 17
+     * times as much per record; {@code diffusion-bench/results/spark-scoring.txt}). For a
+     * distributed job whose rows carry a stable key: seed each row from the key, and any
+     * partitioning gives the same draws. The figures agree with the one-record call's to the
+     * float32 network's rounding, not bit for bit: OpenBLAS rounds a row's products differently
+     * with its place in the matrix (measured: up to 2e-6 nats; {@code RowSeedBoundTest}).
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param records complete records with the training columns
+     * @param how the method
+     * @param rowSeeds one seed per record (not modified)
+     * @return the per-record bound; its per-step means (exact method) average over the records
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, a strided
+     *     step count above T, or a seed count other than the record count
+     */
+    public BoundReport bound(Table records, BoundOptions how, long[] rowSeeds) {
+        Require.notNull("how", how);
+        Require.notNull("rowSeeds", rowSeeds);
+        Require.inRange("steps", how.steps(), 0, steps());
+        checkComplete(records, "records");
+        if (rowSeeds.length != records.rows()) {
+            throw new IllegalArgumentException("rowSeeds has " + rowSeeds.length + " seeds; expected "
+                    + records.rows() + " (one per record)");
+        }
+        return engine.bound(records, how, rowSeeds.clone());
+    }
+
+    /**
      * Screens records by {@link Defaults#screening()}: each record's score is its bound (a Monte
      * Carlo bound of at most T steps, with common random numbers: every record shares the bound's
      * draws, so its score is a fixed function of the record and the seed); a record is flagged when
@@ -333,6 +367,73 @@ public final class DiffusionModel {
         Require.atLeast("reference rows", reference.rows(), 2);
         Require.atLeast("batch rows", batch.rows(), 2);
         return DriftTests.drift(engine, reference, batch, how, seed);
+    }
+
+    /**
+     * The score of each record as a screen and a drift test compute it: the bound by {@code how}
+     * with common random numbers (every record shares the draws of the seed, so a record's score is
+     * a fixed function of the record and the seed, whatever table it stands in), +infinity for a
+     * record with a cell beyond the model space's range or outside its column's support. A table can
+     * therefore be scored in parts, e.g. a DataFrame's partitions, and the parts' scores equal the
+     * whole table's to the float32 network's rounding (OpenBLAS rounds a row's products differently
+     * with its place in the matrix; measured up to about 1e-7 relative, {@code DriftInPartsTest});
+     * pass them to {@link #drift(Table, double[], Table, double[])}.
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param records complete records with the training columns
+     * @param how the bound (a sampled one uses at most T draws), e.g. {@code Defaults.drift().bound()}
+     * @param seed the seed of the shared draws (the same for every part and every table compared)
+     * @return per record, nats in model space, or +infinity
+     * @throws IllegalArgumentException naming a column mismatch, an empty table, a strided step
+     *     count above T, or the first missing cell
+     */
+    public double[] screeningScores(Table records, BoundOptions how, long seed) {
+        Require.notNull("records", records);
+        Require.notNull("how", how);
+        Require.inRange("steps", how.steps(), 0, steps());
+        checkColumns(records, "records");
+        return Scoring.score(engine, records, how, MissingCells.refuse(), "records", seed).scores();
+    }
+
+    /**
+     * The tests of {@link #drift(Table, Table, DriftOptions, long)} on complete batches whose scores
+     * were computed by {@link #screeningScores(Table, BoundOptions, long)} (for example in parts, on
+     * the partitions of a DataFrame), with the same bound and seed for both batches: with the scores
+     * of {@code drift}'s own bound and seed, the report equals {@code drift}'s. The notes name each
+     * batch's unscorable cells.
+     *
+     * <p>Caution: a drift alarm says the batches differ; it does not say the new batch is faulty.
+     *
+     * @param reference complete records the model is known to fit; at least 2
+     * @param referenceScores their scores, one per record, not NaN (not modified)
+     * @param batch the new complete records; at least 2
+     * @param batchScores their scores, one per record, not NaN (not modified)
+     * @return the tests
+     * @throws IllegalArgumentException naming a column mismatch, a batch of fewer than 2 rows, a
+     *     missing cell, a score count other than the row count, or a NaN score
+     */
+    public DriftReport drift(Table reference, double[] referenceScores, Table batch, double[] batchScores) {
+        checkComplete(reference, "reference");
+        checkComplete(batch, "batch");
+        Require.atLeast("reference rows", reference.rows(), 2);
+        Require.atLeast("batch rows", batch.rows(), 2);
+        checkScores(referenceScores, "referenceScores", reference.rows(), "reference");
+        checkScores(batchScores, "batchScores", batch.rows(), "batch");
+        return DriftTests.ofScores(engine, reference, referenceScores, batch, batchScores);
+    }
+
+    private static void checkScores(double[] scores, String name, int rows, String table) {
+        Require.notNull(name, scores);
+        if (scores.length != rows) {
+            throw new IllegalArgumentException(name + " has " + scores.length + " values; expected " + rows
+                    + " (one per " + table + " row)");
+        }
+        for (int i = 0; i < rows; i++) {
+            if (Double.isNaN(scores[i])) {
+                throw new IllegalArgumentException(name + "[" + i + "] is NaN; expected a score (nats or +infinity)");
+            }
+        }
     }
 
     // ------------------------------------------------------------------ sampling

@@ -31,25 +31,41 @@ public final class BoundEvaluator {
         }
     }
 
-    /** One chunk of rows and its scratch: x_0, x_t, the steps, the generator and one step's terms. */
+    /**
+     * One chunk of rows and its scratch: x_0, x_t, the steps, the generator of each row and one
+     * step's terms. With one seed for the job, every row of the chunk shares the chunk's generator
+     * {@link Parallel#random}(seed, chunk); with a seed per row, row r has its own,
+     * {@link Parallel#random}(rowSeeds[r], 0), the generator a one-row table seeded with rowSeeds[r]
+     * gets, so that its draws do not depend on the other rows. (The network's float32 products
+     * still round differently with a row's place in the batch: OpenBLAS's sgemm kernels treat the
+     * edges of a matrix apart; measured, a record's bound moved by about 1e-7 relative between
+     * places 0 to 7 and 8 to 247 of a 256-row batch, and not with -XX:-UseSuperWord, so not in Java.)
+     */
     private static final class Chunk {
         final Chain chain;
         final int from;
         final int n;
         final float[] x;
-        final SplittableRandom rng;
+        final SplittableRandom[] rng;
         final Chain.Workspace ws;
         final float[] xt;
         final int[] k;
         final double[] stepCont;
         final double[] stepBin;
 
-        Chunk(Chain chain, float[] x0, int rows, int c, long seed) {
+        Chunk(Chain chain, float[] x0, int rows, int c, long seed, long[] rowSeeds) {
             this.chain = chain;
             from = c * Parallel.CHUNK_ROWS;
             n = Math.min(Parallel.CHUNK_ROWS, rows - from);
             x = slice(x0, from, n, chain.d);
-            rng = Parallel.random(seed, c);
+            rng = new SplittableRandom[n];
+            if (rowSeeds == null) {
+                java.util.Arrays.fill(rng, Parallel.random(seed, c));
+            } else {
+                for (int r = 0; r < n; r++) {
+                    rng[r] = Parallel.random(rowSeeds[from + r], 0);
+                }
+            }
             ws = chain.workspace(n);
             xt = new float[n * chain.d];
             k = new int[n];
@@ -65,12 +81,34 @@ public final class BoundEvaluator {
         }
     }
 
+    /**
+     * The exact bound: every term of the chain, one draw of x_t per term.
+     *
+     * @param chain the chain (full or strided)
+     * @param x0 rows x D model-space records, not modified
+     * @param rows the number of records
+     * @param seed the seed of the draws (chunk c draws from {@link Parallel#random}(seed, c))
+     * @param threads worker threads
+     * @return per record, the terms
+     */
     public static Result exact(Chain chain, float[] x0, int rows, long seed, int threads) {
+        return exact(chain, x0, rows, seed, null, threads);
+    }
+
+    /**
+     * {@link #exact(Chain, float[], int, long, int)} with a seed per row: row r draws as a one-row
+     * table seeded with rowSeeds[r] does.
+     */
+    public static Result exact(Chain chain, float[] x0, int rows, long[] rowSeeds, int threads) {
+        return exact(chain, x0, rows, 0L, rowSeeds, threads);
+    }
+
+    private static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, int threads) {
         Result res = new Result(rows, chain.steps, true);
         int chunks = Parallel.chunks(rows);
         double[][] perChunkSteps = new double[chunks][chain.steps + 1];
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
             int n = ch.n;
             double[] cont = new double[n];
             double[] bin = new double[n];
@@ -99,12 +137,36 @@ public final class BoundEvaluator {
         return res;
     }
 
+    /**
+     * The Monte Carlo bound: L_T and L_0 exact, K steps drawn uniformly from 2..T for the rest.
+     *
+     * @param chain the chain
+     * @param x0 rows x D model-space records, not modified
+     * @param rows the number of records
+     * @param draws K
+     * @param seed the seed of the draws (chunk c draws from {@link Parallel#random}(seed, c))
+     * @param threads worker threads
+     * @return per record, the terms and their standard errors
+     */
     public static Result monteCarlo(Chain chain, float[] x0, int rows, int draws, long seed, int threads) {
+        return monteCarlo(chain, x0, rows, draws, seed, null, threads);
+    }
+
+    /**
+     * {@link #monteCarlo(Chain, float[], int, int, long, int)} with a seed per row: row r draws its
+     * steps and noise as a one-row table seeded with rowSeeds[r] does.
+     */
+    public static Result monteCarlo(Chain chain, float[] x0, int rows, int draws, long[] rowSeeds, int threads) {
+        return monteCarlo(chain, x0, rows, draws, 0L, rowSeeds, threads);
+    }
+
+    private static Result monteCarlo(Chain chain, float[] x0, int rows, int draws, long seed, long[] rowSeeds,
+                                     int threads) {
         Result res = new Result(rows, chain.steps, false);
         int chunks = Parallel.chunks(rows);
         double scale = chain.steps - 1;
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
             int n = ch.n;
             int from = ch.from;
             int[] k = ch.k;
@@ -121,7 +183,7 @@ public final class BoundEvaluator {
             int rounds = chain.steps > 1 ? draws : 0;
             for (int draw = 0; draw < rounds; draw++) {
                 for (int r = 0; r < n; r++) {
-                    k[r] = 2 + ch.rng.nextInt(chain.steps - 1);
+                    k[r] = 2 + ch.rng[r].nextInt(chain.steps - 1);
                     src[r] = chain.source[k[r]];
                 }
                 chain.diffuse(ch.x, n, k, ch.xt, null, ch.rng);

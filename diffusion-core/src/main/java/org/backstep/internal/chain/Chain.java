@@ -395,18 +395,33 @@ public final class Chain {
      */
     public void diffuse(float[] x0, int rows, int[] k, float[] xt, float[] eps, SplittableRandom rng) {
         for (int r = 0; r < rows; r++) {
-            int o = r * d;
-            int s = k[r];
-            for (int j = 0; j < dc; j++) {
-                double e = rng.nextGaussian();
-                if (eps != null) {
-                    eps[r * dc + j] = (float) e;
-                }
-                xt[o + j] = diffusedContinuous(s, x0[o + j], e);
+            diffuseRow(x0, r, k[r], xt, eps, rng);
+        }
+    }
+
+    /**
+     * {@link #diffuse(float[], int, int[], float[], float[], SplittableRandom)} with a generator per
+     * row: row r draws its noise from {@code rowRng[r]} (entries may repeat: one generator shared by
+     * every row draws as the one-generator form does).
+     */
+    public void diffuse(float[] x0, int rows, int[] k, float[] xt, float[] eps, SplittableRandom[] rowRng) {
+        for (int r = 0; r < rows; r++) {
+            diffuseRow(x0, r, k[r], xt, eps, rowRng[r]);
+        }
+    }
+
+    /** x_k of row r into xt: continuous noise first, then one uniform per binary or categorical cell. */
+    private void diffuseRow(float[] x0, int r, int s, float[] xt, float[] eps, SplittableRandom rng) {
+        int o = r * d;
+        for (int j = 0; j < dc; j++) {
+            double e = rng.nextGaussian();
+            if (eps != null) {
+                eps[r * dc + j] = (float) e;
             }
-            for (int j = dc; j < d; j++) {
-                xt[o + j] = diffusedDiscrete(j, s, x0[o + j], rng.nextDouble());
-            }
+            xt[o + j] = diffusedContinuous(s, x0[o + j], e);
+        }
+        for (int j = dc; j < d; j++) {
+            xt[o + j] = diffusedDiscrete(j, s, x0[o + j], rng.nextDouble());
         }
     }
 

@@ -3,6 +3,7 @@ package org.backstep.internal.screen;
 import org.apache.commons.math3.stat.inference.ChiSquareTest;
 import org.apache.commons.math3.stat.inference.KolmogorovSmirnovTest;
 import org.backstep.internal.chain.Engine;
+import org.backstep.internal.chain.ScoringRange;
 import org.backstep.option.DriftOptions;
 import org.backstep.report.CellNote;
 import org.backstep.report.DriftReport;
@@ -41,6 +42,30 @@ public final class DriftTests {
     public static DriftReport drift(Engine engine, Table reference, Table batch, DriftOptions how, long seed) {
         Scoring.Scored ref = Scoring.score(engine, reference, how.bound(), how.missing(), "reference", seed);
         Scoring.Scored now = Scoring.score(engine, batch, how.bound(), how.missing(), "batch", seed);
+        return tests(reference, ref, batch, now);
+    }
+
+    /**
+     * The tests of complete batches whose scores were computed elsewhere (with common random
+     * numbers, e.g. in parts by {@link Scoring#score}): the notes are the unscorable cells of each
+     * batch, as scoring them here would give.
+     *
+     * @param engine the model's engine
+     * @param reference the reference batch (layout checked by the caller)
+     * @param referenceScores its scores, one per row (checked by the caller)
+     * @param batch the new batch (layout checked by the caller)
+     * @param batchScores its scores, one per row (checked by the caller)
+     * @return the report
+     */
+    public static DriftReport ofScores(Engine engine, Table reference, double[] referenceScores, Table batch,
+                                       double[] batchScores) {
+        double limit = ScoringRange.limit(engine.chain());
+        return tests(reference, new Scoring.Scored(referenceScores.clone(),
+                        ScoringRange.unscorable(reference, engine.transform(), limit)),
+                batch, new Scoring.Scored(batchScores.clone(), ScoringRange.unscorable(batch, engine.transform(), limit)));
+    }
+
+    private static DriftReport tests(Table reference, Scoring.Scored ref, Table batch, Scoring.Scored now) {
         int cols = reference.columns();
         String[] subject = new String[cols + 1];
         String[] test = new String[cols + 1];
