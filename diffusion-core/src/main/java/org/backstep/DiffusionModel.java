@@ -627,6 +627,11 @@ public final class DiffusionModel {
     public Denoising denoise(Table readings, DenoisingOptions how, long seed) {
         Require.notNull("how", how);
         checkComplete(readings, "readings");
+        for (int c : transform().modelledCategorical()) {
+            throw new IllegalArgumentException("column '" + transform().names().get(c) + "' is CATEGORICAL; denoising"
+                    + " removes Gaussian reading noise of known size, which categories do not have: denoise a table"
+                    + " without categorical columns (impute a category you distrust instead, with the cell missing)");
+        }
         return Denoiser.denoise(engine, readings, how, seed);
     }
 
@@ -724,7 +729,9 @@ public final class DiffusionModel {
     @Override
     public String toString() {
         return "DiffusionModel[" + transform().names().size() + " columns (" + engine.chain().continuousColumns()
-                + " continuous, " + engine.chain().binaryColumns() + " binary diffused), T=" + steps() + ", "
+                + " continuous, " + engine.chain().binaryColumns() + " binary"
+                + (engine.chain().categoricalColumns() > 0 ? ", " + engine.chain().categoricalColumns() + " categorical" : "")
+                + " diffused), T=" + steps() + ", "
                 + options().continuousSchedule().kind().name().toLowerCase(Locale.ROOT) + " + "
                 + options().binarySchedule().kind().name().toLowerCase(Locale.ROOT) + ", variance "
                 + options().variance() + ", trained on " + provenance().trainingRows() + " rows in "

@@ -54,7 +54,7 @@ import java.util.zip.ZipFile;
 import java.util.zip.ZipOutputStream;
 
 /**
- * The Backstep model file, format version 3 (versions 1 and 2 still load): a zip container of
+ * The Backstep model file, format version 4 (versions 1 to 3 still load): a zip container of
  * exactly three entries.
  * <pre>
  *   model.json        the manifest: format name and version, every fit option, both schedules'
@@ -64,7 +64,12 @@ import java.util.zip.ZipOutputStream;
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
- * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
+ * Version 4 added integer and categorical columns: a column of kind {@code INTEGER} carries
+ * {@code lowest} = 0 when it is a count (its decoder's bin of 0 reaching to -infinity) and nothing
+ * else new; a column of kind {@code CATEGORICAL} carries
+ * {@code categories}, its labels in index order (the order the network's logits and the model-space
+ * indices use), and the network's inputs and outputs count one per category; files of versions 1
+ * to 3 have no such column. Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
  * its training rows instead (see {@code ModelRange}). Version 2 renamed the trainer's own split
@@ -95,7 +100,7 @@ import java.util.zip.ZipOutputStream;
 public final class ModelFile {
 
     public static final String FORMAT = "backstep-model";
-    public static final int VERSION = 3;
+    public static final int VERSION = 4;
     /** The oldest version this release reads. */
     public static final int OLDEST_VERSION = 1;
     public static final String MANIFEST = "model.json";
@@ -198,6 +203,13 @@ public final class ModelFile {
             col.put("transform", ct.kind().name());
             col.put("shift", ct.shift());
             col.put("scale", ct.scale());
+            if (tr.lowest().containsKey(tr.names().get(c))) {
+                col.put("lowest", tr.lowest().get(tr.names().get(c)));
+            }
+            if (tr.kinds().get(c) == ColumnKind.CATEGORICAL) {
+                ArrayNode labels = col.putArray("categories");
+                tr.categories().get(tr.names().get(c)).forEach(labels::add);
+            }
         }
         NetworkShape s = model.network().shape();
         ObjectNode net = root.putObject("network");
@@ -357,12 +369,42 @@ public final class ModelFile {
         List<String> names = new ArrayList<>();
         List<ColumnKind> kinds = new ArrayList<>();
         List<ColumnTransform> transforms = new ArrayList<>();
+        Map<String, List<String>> categories = new LinkedHashMap<>();
+        Map<String, Long> lowest = new LinkedHashMap<>();
         for (int c = 0; c < columns.size(); c++) {
             String at = cw + "[" + c + "]";
             JsonNode col = JsonFields.object(columns.get(c), at);
             String name = JsonFields.text(JsonFields.field(col, "name", at), at + ".name");
             names.add(name);
-            kinds.add(constant(col, at, "kind", ColumnKind.class));
+            ColumnKind columnKind = constant(col, at, "kind", ColumnKind.class);
+            kinds.add(columnKind);
+            if (columnKind == ColumnKind.CATEGORICAL) {
+                if (version < 4) {
+                    throw new ModelFileException(at + ".kind", "CATEGORICAL in a file of format version " + version
+                            + "; categorical columns came with version 4");
+                }
+                JsonNode labels = JsonFields.array(JsonFields.field(col, "categories", at), at + ".categories", 1,
+                        org.backstep.table.Table.MAX_CATEGORIES);
+                List<String> list = new ArrayList<>(labels.size());
+                for (int i = 0; i < labels.size(); i++) {
+                    list.add(JsonFields.text(labels.get(i), at + ".categories[" + i + "]"));
+                }
+                categories.put(name, list);
+            } else if (columnKind == ColumnKind.INTEGER && version < 4) {
+                throw new ModelFileException(at + ".kind", "INTEGER in a file of format version " + version
+                        + "; integer columns came with version 4");
+            }
+            if (col.has("lowest")) {
+                if (columnKind != ColumnKind.INTEGER) {
+                    throw new ModelFileException(at + ".lowest", "present on a " + columnKind
+                            + " column; only INTEGER columns have a lowest value");
+                }
+                lowest.put(name, JsonFields.whole(col.get("lowest"), at + ".lowest", 0, 0));
+            }
+            if (columnKind != ColumnKind.CATEGORICAL && col.has("categories")) {
+                throw new ModelFileException(at + ".categories", "present on a " + columnKind
+                        + " column; only CATEGORICAL columns have categories");
+            }
             ColumnTransform.Kind kind = constant(col, at, "transform", ColumnTransform.Kind.class);
             double shift = JsonFields.number(JsonFields.field(col, "shift", at), at + ".shift", -Limits.MAX_SHIFT, Limits.MAX_SHIFT);
             double scale = JsonFields.number(JsonFields.field(col, "scale", at), at + ".scale", Limits.MIN_SCALE, Limits.MAX_SCALE);
@@ -374,7 +416,7 @@ public final class ModelFile {
         }
         TableTransform transform;
         try {
-            transform = TableTransform.of(names, kinds, transforms);
+            transform = TableTransform.of(names, kinds, categories, lowest, transforms);
         } catch (IllegalArgumentException e) {
             throw new ModelFileException(cw, e.getMessage(), e);
         }
@@ -386,13 +428,14 @@ public final class ModelFile {
         }
         int dc = transform.modelledContinuous().length;
         int db = transform.modelledBinary().length;
-        if (dc + db == 0) {
+        if (transform.modelColumns() == 0) {
             throw new ModelFileException(cw, "no column is diffused; a fitted model has at least one");
         }
-        int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
+        int outputs = org.backstep.internal.chain.Chain.outputsOf(options.variance(), transform);
         NetworkShape shape;
         try {
-            shape = new NetworkShape(dc + db, options.hidden(), outputs, options.embeddingSize(), options.stepInput());
+            shape = new NetworkShape(org.backstep.internal.chain.Chain.inputsOf(transform), options.hidden(), outputs,
+                    options.embeddingSize(), options.stepInput());
         } catch (IllegalArgumentException e) {
             throw new ModelFileException("network", e.getMessage(), e);
         }
@@ -426,22 +469,23 @@ public final class ModelFile {
 
         ModelRange range = null;
         if (version >= 3 && root.has("trainingRange")) {
-            range = readRange(root.get("trainingRange"), dc, db);
+            range = readRange(root.get("trainingRange"), dc, db, transform.modelledCategories());
         }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
         return new Manifest(options, transform, shape, range, provenance);
     }
 
-    private static ModelRange readRange(JsonNode node, int dc, int db) throws ModelFileException {
+    private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {
         String where = MANIFEST + " trainingRange";
         JsonFields.object(node, where);
-        JsonNode lo = JsonFields.array(JsonFields.field(node, "min", where), where + ".min", dc + db, dc + db);
-        JsonNode hi = JsonFields.array(JsonFields.field(node, "max", where), where + ".max", dc + db, dc + db);
-        double[] min = new double[dc + db];
-        double[] max = new double[dc + db];
+        int d = dc + db + categories.length;
+        JsonNode lo = JsonFields.array(JsonFields.field(node, "min", where), where + ".min", d, d);
+        JsonNode hi = JsonFields.array(JsonFields.field(node, "max", where), where + ".max", d, d);
+        double[] min = new double[d];
+        double[] max = new double[d];
         for (int j = 0; j < min.length; j++) {
-            // binary model columns hold 0 and 1; continuous ones are standardized values
-            double bound = j < dc ? Float.MAX_VALUE : 1.0;
+            // binary model columns hold 0 and 1, categorical ones an index 0..K-1; continuous ones are standardized values
+            double bound = j < dc ? Float.MAX_VALUE : j < dc + db ? 1.0 : categories[j - dc - db] - 1.0;
             double floor = j < dc ? -Float.MAX_VALUE : 0.0;
             min[j] = JsonFields.number(lo.get(j), where + ".min[" + j + "]", floor, bound);
             max[j] = JsonFields.number(hi.get(j), where + ".max[" + j + "]", min[j], bound);

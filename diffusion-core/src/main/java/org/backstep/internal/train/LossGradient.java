@@ -19,6 +19,7 @@ import org.nd4j.linalg.factory.Nd4j;
  *   continuous cell, HYBRID:  (eps-hat - eps)^2 + lambda T L_{t-1}, the bound part
  *                             reaching only v                               (Nichol &amp; Dhariwal 2021, sec. 3.1)
  *   binary cell:              T L_{t-1}  (Bernoulli KL, or cross-entropy at t = 1)
+ *   categorical cell:         T L_{t-1}  (categorical KL, or cross-entropy at t = 1; Hoogeboom et al. 2021, sec. 4)
  * </pre>
  * times 1/(T p_t) under importance sampling, averaged over the minibatch. A cell filled in for a
  * missing one ({@link GapFilling}) has no term: it is an input of the network, not a target (the
@@ -34,6 +35,7 @@ final class LossGradient implements ParallelStep.LossGradient {
     private final boolean learned;
     private final int dc;
     private final int db;
+    private final int dk;
     private final int outputs;
     private final int logitOffset;
     private final double steps;
@@ -54,6 +56,7 @@ final class LossGradient implements ParallelStep.LossGradient {
         this.learned = options.variance() == ReverseVariance.LEARNED;
         this.dc = chain.continuousColumns();
         this.db = chain.binaryColumns();
+        this.dk = chain.categoricalColumns();
         this.outputs = chain.outputs();
         this.logitOffset = chain.logitOffset();
         this.steps = chain.steps();
@@ -82,7 +85,14 @@ final class LossGradient implements ParallelStep.LossGradient {
         float[] out = output.dup('c').data().asFloat();
         float[] grad = new float[rows * outputs];
         double[] partials = new double[2];
-        int d = dc + db;
+        int d = dc + db + dk;
+        int[] cats = chain.categories();
+        double[][] logits = new double[dk][];
+        double[][] gradient = new double[dk][];
+        for (int j = 0; j < dk; j++) {
+            logits[j] = new double[cats[j]];
+            gradient[j] = new double[cats[j]];
+        }
         double total = 0.0;
         for (int i = 0; i < rows; i++) {
             int r = rowOffset + i;
@@ -99,7 +109,7 @@ final class LossGradient implements ParallelStep.LossGradient {
                 }
                 double eh = out[oo + j];
                 double v = learned ? out[oo + dc + j] : 0.0;
-                double term = BoundTerms.continuous(chain, s, x0[o + j], xt[o + j], eh, v, partials);
+                double term = BoundTerms.continuousCell(chain, s, j, x0[o + j], xt[o + j], eh, v, partials);
                 double dMean = partials[0];
                 double dLogVar = partials[1];
                 bound += term;
@@ -138,6 +148,22 @@ final class LossGradient implements ParallelStep.LossGradient {
                 bound += term;
                 rowLoss += steps * term;
                 grad[oo + logitOffset + j] = (float) (w * steps * partials[0]);
+            }
+            for (int j = 0; j < dk; j++) {
+                int at = o + dc + db + j;
+                if (filled != null && filled[at]) {
+                    continue;
+                }
+                int first = chain.categoricalLogitOffset(j);
+                for (int c = 0; c < cats[j]; c++) {
+                    logits[j][c] = out[oo + first + c];
+                }
+                double term = BoundTerms.categorical(chain, s, j, (int) x0[at], (int) xt[at], logits[j], gradient[j]);
+                bound += term;
+                rowLoss += steps * term;
+                for (int c = 0; c < cats[j]; c++) {
+                    grad[oo + first + c] = (float) (w * steps * gradient[j][c]);
+                }
             }
             rowBound[r] = bound;
             total += w * rowLoss;
