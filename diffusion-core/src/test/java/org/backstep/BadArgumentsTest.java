@@ -147,8 +147,8 @@ class BadArgumentsTest {
                 () -> m.bound(records(new double[] {1e300, 5, 0}), 1),
                 "row 0, column 'supply_c' is 1.0E300, which its transform ..."));
         cases.add(new Case("flowLikelihood(records of a model with a binary column)", () -> m.flowLikelihood(good),
-                "records: the model diffuses 1 binary column(s) [door_open]; the flow likelihood covers continuous columns"
-                        + " only (the ODE needs a density): use bound(records, seed) for this model"));
+                "records: the model diffuses 1 binary, integer or categorical column(s) [door_open]; the flow likelihood"
+                        + " covers continuous columns only (the ODE needs a density): use bound(records, seed) for this model"));
         cases.add(new Case("flowLikelihood(records, null)", () -> m.flowLikelihood(good, null), "how is null; expected a value"));
         cases.add(new Case("flowLikelihood(records with a missing cell)", () -> m.flowLikelihood(records(new double[] {4, Double.NaN, 0})),
                 "records: row 0, column 'return_c' is missing; this needs complete records (impute them first)"));
