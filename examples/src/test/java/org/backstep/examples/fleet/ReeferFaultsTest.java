@@ -42,7 +42,7 @@ class ReeferFaultsTest {
 
     @Test
     void faultsLieOnRoundedShareOfContainersInOneWindowEach() {
-        // round(0.125 * 48) = 6 faulty containers, kinds in turn: 2 of each (by construction)
+        // round(0.125 * 48) = 6 faulty containers, the 4 kinds in turn: 1 or 2 of each (by construction)
         int[] faultyContainers = faulty.faultyContainers();
         assertEquals(6, faultyContainers.length);
         Map<FaultKind, Integer> kinds = new EnumMap<>(FaultKind.class);
@@ -53,8 +53,9 @@ class ReeferFaultsTest {
             assertTrue(w.width >= perContainer / 4 && w.width <= perContainer / 2, "width " + w.width);
             assertTrue(w.start >= perContainer / 8 && w.start + w.width <= perContainer, "start " + w.start);
         }
-        assertEquals(Map.of(FaultKind.DRIFTING_SENSOR, 2, FaultKind.STUCK_SENSOR, 2, FaultKind.FAILING_COMPRESSOR, 2),
-                kinds);
+        assertEquals(4, kinds.size(), "kinds " + kinds);
+        assertEquals(6, kinds.values().stream().mapToInt(Integer::intValue).sum());
+        assertTrue(kinds.values().stream().allMatch(k -> k == 1 || k == 2), "kinds " + kinds);
         boolean[] rows = faulty.faultRows();
         for (int r = 0; r < rows.length; r++) {
             assertEquals(fault[r] != FaultKind.NONE, rows[r]);
@@ -111,6 +112,16 @@ class ReeferFaultsTest {
                             assertEquals(h[COMPRESSOR], f[COMPRESSOR], 0.0, "idle current during defrost");
                         }
                     }
+                    case CURRENT_MISMATCH -> {
+                        assertEquals(h[SUPPLY_AIR], f[SUPPLY_AIR], 0.0);
+                        assertEquals(h[RETURN_AIR], f[RETURN_AIR], 0.0);
+                        if (h[DEFROST] == 0.0) {
+                            // the idle draw 1.5 A + 0.3 A z, z clipped to [-2, 2]
+                            assertTrue(f[COMPRESSOR] >= 1.5 - 0.6 - 1e-12 && f[COMPRESSOR] <= 1.5 + 0.6 + 1e-12, "current " + f[COMPRESSOR]);
+                        } else {
+                            assertEquals(h[COMPRESSOR], f[COMPRESSOR], 0.0, "a defrost row is left as it was");
+                        }
+                    }
                     default -> throw new AssertionError("label " + w.kind);
                 }
                 checked++;
@@ -121,6 +132,69 @@ class ReeferFaultsTest {
             }
         }
         assertTrue(checked >= 6 * perContainer / 4, checked + " rows checked");
+    }
+
+    /**
+     * CURRENT_MISMATCH breaks the relation between columns and keeps each column in range: every
+     * cell of its rows lies within [min, max] of the same column over the healthy rows of the fleet
+     * (a per-column range check passes them), while in the healthy rows the current with the
+     * defrost off never comes near the idle draw (the relation holds), and in the fault rows it does
+     * (broken). Our own invented scenario; the bounds follow from the formulas of the ReeferFleet
+     * Javadoc: a cooling unit draws 0.92 (3.0 + 0.10 A) A or more before noise, about 3.3 A at the
+     * coldest ambient the routes give (about 6 C), 4 noise sd (0.3 A) above the clipped idle
+     * draw's top of 1.5 + 0.6 A.
+     */
+    @Test
+    void aCurrentMismatchKeepsEachColumnInRangeAndBreaksTheRelation() {
+        double[] lo = new double[7];
+        double[] hi = new double[7];
+        java.util.Arrays.fill(lo, Double.POSITIVE_INFINITY);
+        java.util.Arrays.fill(hi, Double.NEGATIVE_INFINITY);
+        double idleTop = 1.5 + 2 * 0.3;
+        int cooling = 0;
+        int coolingAsLowAsIdle = 0;
+        for (int r = 0; r < truth.length; r++) {
+            if (fault[r] == FaultKind.NONE) {
+                for (int j = 0; j < 7; j++) {
+                    lo[j] = Math.min(lo[j], truth[r][j]);
+                    hi[j] = Math.max(hi[j], truth[r][j]);
+                }
+                if (truth[r][DEFROST] == 0.0) {
+                    cooling++;
+                    coolingAsLowAsIdle += truth[r][COMPRESSOR] <= idleTop ? 1 : 0;
+                }
+            }
+        }
+        // the relation, on healthy rows: hardly a cooling row draws as little as the idle draw (under 0.1%)
+        assertTrue(coolingAsLowAsIdle < 0.001 * cooling, coolingAsLowAsIdle + " of " + cooling + " healthy cooling rows");
+        int broken = 0;
+        for (int r = 0; r < truth.length; r++) {
+            if (fault[r] != FaultKind.CURRENT_MISMATCH) {
+                continue;
+            }
+            for (int j = 0; j < 7; j++) {
+                assertTrue(truth[r][j] >= lo[j] && truth[r][j] <= hi[j], "row " + r + " column " + j + " = " + truth[r][j]
+                        + " outside the healthy range [" + lo[j] + ", " + hi[j] + "]");
+            }
+            if (truth[r][DEFROST] == 0.0) {
+                assertTrue(truth[r][COMPRESSOR] <= idleTop, "row " + r + ": current " + truth[r][COMPRESSOR]);
+                broken++;
+            }
+        }
+        assertTrue(broken >= perContainer / 8, broken + " rows with the relation broken");
+    }
+
+    @Test
+    void eachKindNamesTheColumnItIsInjectedInto() {
+        // by construction (ReeferFleet's Javadoc): the column each formula changes most
+        assertEquals("return_air_c", FaultKind.DRIFTING_SENSOR.injectedColumn().orElseThrow());
+        assertEquals("supply_air_c", FaultKind.STUCK_SENSOR.injectedColumn().orElseThrow());
+        assertEquals("compressor_a", FaultKind.FAILING_COMPRESSOR.injectedColumn().orElseThrow());
+        assertEquals("compressor_a", FaultKind.CURRENT_MISMATCH.injectedColumn().orElseThrow());
+        assertTrue(FaultKind.NONE.injectedColumn().isEmpty());
+        for (FaultKind k : FaultKind.values()) {
+            k.injectedColumn().ifPresent(c -> assertTrue(ReeferFleet.COLUMN_NAMES.contains(c), c));
+        }
     }
 
     @Test
