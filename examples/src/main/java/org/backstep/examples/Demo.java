@@ -51,7 +51,8 @@ public final class Demo {
         MainJob.Config config;
         if (s.file() == null) {
             Telemetry t = CommandTables.inventedFleet(s.containers, s.days, s.seed, out);
-            config = MainJob.Config.of(FleetTables.cells(t), s).withTruth(FleetTables.truth(t), t.faultRows());
+            config = MainJob.Config.of(FleetTables.cells(t), s).withTruth(FleetTables.truth(t), t.faultRows())
+                    .withFaultKinds(FleetTables.faultKinds(t), FleetTables.faultColumns(t));
         } else {
             config = MainJob.Config.of(CommandTables.csv(s.file(), s.missing, s.binary, out), s);
         }

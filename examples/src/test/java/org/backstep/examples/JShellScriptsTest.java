@@ -47,6 +47,10 @@ class JShellScriptsTest {
             "import java.util.prefs.*;", "import java.util.regex.*;", "import java.util.stream.*;");
     /** A script run here must have at least this many snippets, so that a parse slip cannot pass as an empty run. */
     static final int MIN_SNIPPETS = 3;
+    /** The headings of the README's screening and drift sections, whose first ```jshell blocks are run. */
+    static final String SCREENING_HEADING = "## Screening records";
+    static final String DRIFT_HEADING = "## Drift between batches";
+
     /** The heading of the README's tour, whose first ```java block is run. */
     static final String TOUR_HEADING = "## A tour of the API";
     /** The tour's fleet.csv: 2 containers for 1 day, 192 rows (ReeferFleet.READINGS_PER_DAY = 96). */
@@ -126,6 +130,20 @@ class JShellScriptsTest {
         String tour = readmeTourBlock();
         assertTrue(tour.contains("\"fleet.csv\""), "the tour no longer reads \"fleet.csv\"; adapt this test:\n" + tour);
         run("README.md tour", tour.replace("\"fleet.csv\"", "\"" + csv.toString().replace("\\", "\\\\") + "\""));
+    }
+
+    /**
+     * The README's JShell examples of screening and of drift, pasted into one session as written:
+     * the drift block goes on with the screening block's table and model, as a reader following
+     * the README would.
+     */
+    @Test
+    void readmeScreeningAndDriftBlocksRunAsPasted() throws IOException {
+        String screening = readmeBlock("```jshell", SCREENING_HEADING);
+        String drift = readmeBlock("```jshell", DRIFT_HEADING);
+        assertTrue(screening.contains("model.screen(") && drift.contains("model.drift("),
+                "the README's screening or drift block no longer screens or tests drift:\n" + screening + "\n" + drift);
+        run("README.md screening and drift blocks", screening + "\n" + drift);
     }
 
     @Test

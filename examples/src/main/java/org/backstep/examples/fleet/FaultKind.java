@@ -17,12 +17,13 @@ public enum FaultKind {
     /** The compressor draws ever more current while the supply air creeps up. */
     FAILING_COMPRESSOR("compressor_a"),
     /**
-     * The compressor current reads the idle draw of a defrost while the unit is cooling (defrost
-     * off, supply air at its setpoint): every reading lies in its column's normal range, the
-     * combination does not. A slipped current clamp, say; the relation between columns within one
-     * reading is broken, not any one column.
+     * The supply air sensor reads 5 C warm, as it does while the defrost heaters run, while the
+     * unit is cooling (defrost off, compressor at its running draw, return air as it was): every
+     * reading lies in the range its column takes in this container, but the return air now reads
+     * below the supply air. A sensor moved next to the heaters, say; the relation between columns
+     * within one reading is broken, not any one column.
      */
-    CURRENT_MISMATCH("compressor_a");
+    MISPLACED_SENSOR("supply_air_c");
 
     private final String column;
 

@@ -64,7 +64,7 @@ import org.backstep.schedule.Require;
  * <h2>Faults</h2>
  * round(faultyShare n) containers, chosen by a seeded shuffle, get one fault each; the kinds go
  * round {@link FaultKind#DRIFTING_SENSOR}, {@link FaultKind#STUCK_SENSOR},
- * {@link FaultKind#FAILING_COMPRESSOR}, {@link FaultKind#CURRENT_MISMATCH} from a seeded starting
+ * {@link FaultKind#FAILING_COMPRESSOR}, {@link FaultKind#MISPLACED_SENSOR} from a seeded starting
  * kind, so they are balanced. With N
  * readings per container, the window has W ~ U{N/4, ..., N/2} readings and starts at
  * k0 ~ U{N/8, ..., N - W}. With j = k - k0 = 0, ..., W - 1 inside the window:
@@ -73,14 +73,14 @@ import org.backstep.schedule.Require;
  *   STUCK_SENSOR        supply_air_c  = supply_air_c at j = 0          (the sensor only)
  *   FAILING_COMPRESSOR  supply_air_c += 0.015 (j + 1),  return_air_c += 0.015 (j + 1)  (the air warms)
  *                       compressor_a *= 1 + p (j + 1) / W  on rows with d_k = 0,  p ~ U[0.30, 0.60]
- *   CURRENT_MISMATCH    compressor_a  = 1.5 + 0.3 clip(N(0, 1), -2, 2)  on rows with d_k = 0     (the sensor only)
+ *   MISPLACED_SENSOR    supply_air_c += 5.0  on rows with d_k = 0                      (the sensor only)
  * </pre>
  * The first three are slow or frozen: one reading of them looks normal until the fault has grown,
- * so a model of single rows sees only their far end. CURRENT_MISMATCH is visible in every reading,
- * yet only in the relation between columns: the current is the idle draw of a defrost (1.5 A, sd
- * 0.3 A as above, clipped at 2 sd so that it stays inside the range defrost rows span) while the
- * defrost flag is 0 and the supply air holds its setpoint; a check of each column against its own
- * range cannot see it.
+ * so a model of single rows sees only their far end. MISPLACED_SENSOR is visible in every reading,
+ * yet only in the relation between columns: the supply air reads what it reads during a defrost
+ * (the same 5 C lift; so the value lies in the range the column takes in this container) while the
+ * defrost flag is 0, the compressor draws its running current and the return air, unchanged, now
+ * reads below the supply air; a check of each column against its own range cannot see it.
  * Only rows inside the window carry the fault's label; every other row is {@link FaultKind#NONE}.
  *
  * <h2>Missing cells</h2>
@@ -196,7 +196,6 @@ public final class ReeferFleet {
     static final double CREEP_PER_READING_C = 0.015;
     static final double CURRENT_RISE_MIN = 0.30;
     static final double CURRENT_RISE_MAX = 0.60;
-    static final double MISMATCH_CLIP_SD = 2.0;
 
     private static final int COLUMNS = 7;
 
@@ -490,7 +489,7 @@ public final class ReeferFleet {
         int perContainer = options.readingsPerContainer();
         int[] order = permutation(options.containers(), rng);
         FaultKind[] kinds = {FaultKind.DRIFTING_SENSOR, FaultKind.STUCK_SENSOR, FaultKind.FAILING_COMPRESSOR,
-            FaultKind.CURRENT_MISMATCH};
+            FaultKind.MISPLACED_SENSOR};
         int firstKind = rng.nextInt(kinds.length);
         for (int i = 0; i < options.faultyContainers(); i++) {
             int c = order[i];
@@ -515,10 +514,9 @@ public final class ReeferFleet {
                             row[COMPRESSOR] *= 1.0 + rise * (j + 1) / width;
                         }
                     }
-                    case CURRENT_MISMATCH -> {
+                    case MISPLACED_SENSOR -> {
                         if (row[DEFROST] == 0.0) {
-                            double z = Math.max(-MISMATCH_CLIP_SD, Math.min(MISMATCH_CLIP_SD, rng.nextGaussian()));
-                            row[COMPRESSOR] = CURRENT_IDLE_A + CURRENT_SD_A * z;
+                            row[SUPPLY_AIR] += DEFROST_SUPPLY_LIFT_C;
                         }
                     }
                     default -> throw new IllegalStateException("no effect for " + kind);
