@@ -17,13 +17,13 @@ public enum FaultKind {
     /** The compressor draws ever more current while the supply air creeps up. */
     FAILING_COMPRESSOR("compressor_a"),
     /**
-     * The supply air sensor reads 5 C warm, as it does while the defrost heaters run, while the
-     * unit is cooling (defrost off, compressor at its running draw, return air as it was): every
-     * reading lies in the range its column takes in this container, but the return air now reads
-     * below the supply air. A sensor moved next to the heaters, say; the relation between columns
-     * within one reading is broken, not any one column.
+     * The humidity reading belongs to the other kind of cargo: 18 points up in a frozen box (a
+     * chilled box's humidity), 18 points down in a chilled or tropical box (near a frozen box's). A
+     * channel wired to the wrong sensor, say. Every reading lies in its column's normal range over
+     * the fleet; the relation between the humidity and the temperatures of one reading is broken,
+     * not any one column.
      */
-    MISPLACED_SENSOR("supply_air_c");
+    CROSSED_HUMIDITY("humidity_pct");
 
     private final String column;
 

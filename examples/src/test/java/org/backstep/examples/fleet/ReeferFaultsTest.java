@@ -87,7 +87,9 @@ class ReeferFaultsTest {
                 double[] f = truth[base + j];
                 double[] h = healthy[base + j];
                 for (int col : new int[] {ReeferFleet.AMBIENT, ReeferFleet.HUMIDITY, ReeferFleet.DOOR_OPEN, DEFROST}) {
-                    assertEquals(h[col], f[col], 0.0, "a fault never changes column " + col);
+                    if (col != ReeferFleet.HUMIDITY || w.kind != FaultKind.CROSSED_HUMIDITY) {
+                        assertEquals(h[col], f[col], 0.0, "no other fault changes column " + col);
+                    }
                 }
                 switch (w.kind) {
                     case DRIFTING_SENSOR -> {
@@ -112,11 +114,14 @@ class ReeferFaultsTest {
                             assertEquals(h[COMPRESSOR], f[COMPRESSOR], 0.0, "idle current during defrost");
                         }
                     }
-                    case MISPLACED_SENSOR -> {
+                    case CROSSED_HUMIDITY -> {
+                        assertEquals(h[SUPPLY_AIR], f[SUPPLY_AIR], 0.0);
                         assertEquals(h[RETURN_AIR], f[RETURN_AIR], 0.0);
                         assertEquals(h[COMPRESSOR], f[COMPRESSOR], 0.0);
-                        // the defrost lift of 5 C on cooling rows; a defrost row is left as it was
-                        assertEquals(h[DEFROST] == 0.0 ? 5.0 : 0.0, f[SUPPLY_AIR] - h[SUPPLY_AIR], IDENTITY_TOLERANCE);
+                        // 18 points towards the other cargo's humidity, unless the clip at 0 or 100 bites
+                        double expected = Math.min(100, Math.max(0, h[ReeferFleet.HUMIDITY]
+                                + (faulty.setpointC()[c] < 0 ? 18.0 : -18.0)));
+                        assertEquals(expected, f[ReeferFleet.HUMIDITY], IDENTITY_TOLERANCE);
                     }
                     default -> throw new AssertionError("label " + w.kind);
                 }
@@ -131,22 +136,23 @@ class ReeferFaultsTest {
     }
 
     /**
-     * MISPLACED_SENSOR breaks the relation between columns and keeps each column in range: every
-     * cell of its rows lies within [min, max] of the same column over the healthy rows of the fleet
-     * (a per-column range check passes them); with the door closed and the defrost off, healthy
-     * return air reads more than 1 C below supply air in under 0.1% of rows (the relation), fault
-     * rows in over 95% (broken). Our own invented scenario; the shares follow from the formulas of
-     * the ReeferFleet Javadoc: healthy return minus supply is 0.6 + 0.05 (A - s), above 0.25 C, plus
-     * noise of sd 0.32 C; under the fault 5 C less.
+     * CROSSED_HUMIDITY breaks the relation between columns and keeps each column in range: the
+     * humidity of its rows lies within [min, max] of the column over the healthy rows of the fleet
+     * (the other columns are the fault-free run's; a per-column range check passes them), while the humidity no longer fits the cargo the
+     * temperatures show: healthy frozen boxes (supply air below -10 C) read humidity below 79
+     * (= 70 + 9, 4 sd of the 2.5-point spread) in over 99% of their cooling rows, chilled and
+     * tropical boxes above 79 in over 99%; fault rows the other way round in over 95%. Our own
+     * invented scenario; the levels 70, 88, 92 and the shift of 18 are those of the ReeferFleet
+     * Javadoc.
      */
     @Test
-    void aMisplacedSensorKeepsEachColumnInRangeAndBreaksTheRelation() {
+    void crossedHumidityKeepsEachColumnInRangeAndBreaksTheRelation() {
         double[] lo = new double[7];
         double[] hi = new double[7];
         java.util.Arrays.fill(lo, Double.POSITIVE_INFINITY);
         java.util.Arrays.fill(hi, Double.NEGATIVE_INFINITY);
-        int cooling = 0;
-        int crossed = 0;
+        int healthy = 0;
+        int fits = 0;
         for (int r = 0; r < truth.length; r++) {
             if (fault[r] == FaultKind.NONE) {
                 for (int j = 0; j < 7; j++) {
@@ -154,29 +160,35 @@ class ReeferFaultsTest {
                     hi[j] = Math.max(hi[j], truth[r][j]);
                 }
                 if (truth[r][DEFROST] == 0.0 && truth[r][ReeferFleet.DOOR_OPEN] == 0.0) {
-                    cooling++;
-                    crossed += truth[r][RETURN_AIR] < truth[r][SUPPLY_AIR] - 1.0 ? 1 : 0;
+                    healthy++;
+                    fits += humidityFitsCargo(truth[r]) ? 1 : 0;
                 }
             }
         }
-        assertTrue(crossed < 0.001 * cooling, crossed + " of " + cooling + " healthy cooling rows have return 1 C below supply");
-        int faultCooling = 0;
-        int faultCrossed = 0;
+        assertTrue(fits > 0.99 * healthy, fits + " of " + healthy + " healthy cooling rows fit their cargo's humidity");
+        int rows = 0;
+        int broken = 0;
         for (int r = 0; r < truth.length; r++) {
-            if (fault[r] != FaultKind.MISPLACED_SENSOR) {
+            if (fault[r] != FaultKind.CROSSED_HUMIDITY) {
                 continue;
             }
-            for (int j = 0; j < 7; j++) {
-                assertTrue(truth[r][j] >= lo[j] && truth[r][j] <= hi[j], "row " + r + " column " + j + " = " + truth[r][j]
-                        + " outside the healthy range [" + lo[j] + ", " + hi[j] + "]");
-            }
+            // the one column the fault changes (the others are the fault-free run's, checked above)
+            int j = ReeferFleet.HUMIDITY;
+            assertTrue(truth[r][j] >= lo[j] && truth[r][j] <= hi[j], "row " + r + " humidity " + truth[r][j]
+                    + " outside the healthy range [" + lo[j] + ", " + hi[j] + "]");
             if (truth[r][DEFROST] == 0.0 && truth[r][ReeferFleet.DOOR_OPEN] == 0.0) {
-                faultCooling++;
-                faultCrossed += truth[r][RETURN_AIR] < truth[r][SUPPLY_AIR] - 1.0 ? 1 : 0;
+                rows++;
+                broken += humidityFitsCargo(truth[r]) ? 0 : 1;
             }
         }
-        assertTrue(faultCooling >= perContainer / 8, faultCooling + " fault rows cooling with the door closed");
-        assertTrue(faultCrossed > 0.95 * faultCooling, faultCrossed + " of " + faultCooling + " fault rows cross");
+        assertTrue(rows >= perContainer / 8, rows + " fault rows cooling with the door closed");
+        assertTrue(broken > 0.95 * rows, broken + " of " + rows + " fault rows with the humidity of the other cargo");
+    }
+
+    /** Frozen (supply below -10 C) with humidity below 79, or chilled and tropical with humidity above it. */
+    private static boolean humidityFitsCargo(double[] row) {
+        boolean frozen = row[SUPPLY_AIR] < -10.0;
+        return frozen == (row[ReeferFleet.HUMIDITY] < 79.0);
     }
 
     @Test
@@ -185,7 +197,7 @@ class ReeferFaultsTest {
         assertEquals("return_air_c", FaultKind.DRIFTING_SENSOR.injectedColumn().orElseThrow());
         assertEquals("supply_air_c", FaultKind.STUCK_SENSOR.injectedColumn().orElseThrow());
         assertEquals("compressor_a", FaultKind.FAILING_COMPRESSOR.injectedColumn().orElseThrow());
-        assertEquals("supply_air_c", FaultKind.MISPLACED_SENSOR.injectedColumn().orElseThrow());
+        assertEquals("humidity_pct", FaultKind.CROSSED_HUMIDITY.injectedColumn().orElseThrow());
         assertTrue(FaultKind.NONE.injectedColumn().isEmpty());
         for (FaultKind k : FaultKind.values()) {
             k.injectedColumn().ifPresent(c -> assertTrue(ReeferFleet.COLUMN_NAMES.contains(c), c));
