@@ -403,15 +403,19 @@ public final class MainJob {
         }
         console.printf(Locale.ROOT, "   The same screen by classical detectors, fitted on the same %d complete rows of the training part "
                 + "(model space) and thresholded at the same held-out 99th percentile:%n", trainIndex.length);
-        StringBuilder head = new StringBuilder(String.format(Locale.ROOT, "   %-44s %7s %9s %6s %6s", "detector", "flagged",
+        StringBuilder head = new StringBuilder(String.format(Locale.ROOT, "   %-42s %7s %9s %6s %6s", "detector", "flagged",
                 "precision", "recall", "AUROC"));
         if (!kinds.isEmpty()) {
-            head.append("  recall by fault kind:");
+            head.append(" | recall / AUROC by fault kind:");
             for (int k = 0; k < kinds.size(); k++) {
                 head.append(String.format(Locale.ROOT, " %s (%d rows)", kinds.get(k), kindRows[k]));
             }
         }
         console.println(head);
+        boolean[] normal = new boolean[scoredIndex.length];
+        for (int f = 0; f < scoredIndex.length; f++) {
+            normal[f] = !fault[f];
+        }
         ArrayNode out = a.putArray("detectors");
         Map<String, List<org.backstep.report.RocPoint>> curves = new LinkedHashMap<>();
         for (Detectors.Scores d : detectors) {
@@ -441,18 +445,26 @@ public final class MainJob {
             o.put("precision", precision);
             o.put("recall", recall);
             o.put("auroc", auroc);
-            StringBuilder line = new StringBuilder(String.format(Locale.ROOT, "   %-44s %7d %9.2f %6.2f %6.2f", d.name(),
+            StringBuilder line = new StringBuilder(String.format(Locale.ROOT, "   %-42s %7d %9.2f %6.2f %6.2f", d.name(),
                     s.flagged().length, precision, recall, auroc));
             if (!kinds.isEmpty()) {
                 ArrayNode byKind = o.putArray("byKind");
-                line.append("  ");
+                line.append(" |");
                 for (int k = 0; k < kinds.size(); k++) {
+                    String kind = kinds.get(k);
+                    boolean[] ofKind = new boolean[scoredIndex.length];
+                    for (int f : faultArray) {
+                        ofKind[f] = c.faultKinds()[scoredIndex[f]].equals(kind);
+                    }
+                    double kindRecall = caught[k] / (double) kindRows[k];
+                    double kindArea = Detectors.area(d.screened(), ofKind, normal);
                     ObjectNode bk = byKind.addObject();
-                    bk.put("kind", kinds.get(k));
+                    bk.put("kind", kind);
                     bk.put("rows", kindRows[k]);
                     bk.put("caught", caught[k]);
-                    bk.put("recall", kindRows[k] == 0 ? 0 : caught[k] / (double) kindRows[k]);
-                    line.append(String.format(Locale.ROOT, " %s %.2f", kinds.get(k), kindRows[k] == 0 ? 0 : caught[k] / (double) kindRows[k]));
+                    bk.put("recall", kindRecall);
+                    bk.put("auroc", kindArea);
+                    line.append(String.format(Locale.ROOT, "  %s %.2f / %.2f", kind, kindRecall, kindArea));
                 }
             }
             console.println(line);

@@ -242,11 +242,14 @@ final class Report {
         JsonNode first = anomalies.path("detectors").path(0);
         h.append(p("The same screen by classical detectors, each fitted on the same complete rows of the training part (model "
                 + "space) and flagging the rows past the same " + pct(anomalies.path("quantile").asDouble(), 0)
-                + " quantile of its own held-out scores. The range check looks at each column alone; the others at whole rows."));
+                + " quantile of its own held-out scores. The range check looks at each column alone; the others at whole rows. "
+                + "Per fault kind: the recall at that threshold, and the area under the ROC curve of that kind's rows against the "
+                + "normal rows (the chance that such a fault row scores above a normal one), which shows what a screen ranks "
+                + "high even where the threshold, set by the rarest normal rows, lets it pass."));
         h.append("<table>\n<tr><th class=\"l\">detector</th><th>flagged</th><th>precision</th><th>recall</th><th>area under ROC</th>");
         for (JsonNode k : first.path("byKind")) {
-            h.append("<th>recall, ").append(escape(k.path("kind").asText().toLowerCase(Locale.ROOT).replace('_', ' ')))
-                    .append(" (").append(k.path("rows").asInt()).append(" rows)</th>");
+            h.append("<th>").append(escape(k.path("kind").asText().toLowerCase(Locale.ROOT).replace('_', ' ')))
+                    .append(" (").append(k.path("rows").asInt()).append(" rows): recall / area</th>");
         }
         h.append("</tr>\n");
         for (JsonNode d : anomalies.path("detectors")) {
@@ -254,7 +257,7 @@ final class Report {
                     .append(count(d, "flagged")).append("</td><td>").append(num(d, "precision", 2)).append("</td><td>")
                     .append(num(d, "recall", 2)).append("</td><td>").append(num(d, "auroc", 2)).append("</td>");
             for (JsonNode k : d.path("byKind")) {
-                h.append("<td>").append(num(k, "recall", 2)).append("</td>");
+                h.append("<td>").append(num(k, "recall", 2)).append(" / ").append(num(k, "auroc", 2)).append("</td>");
             }
             h.append("</tr>\n");
         }

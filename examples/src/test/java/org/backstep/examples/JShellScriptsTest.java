@@ -192,32 +192,38 @@ class JShellScriptsTest {
                 continue;       // blank lines between snippets, and JShell commands such as /exit
             }
             pending.append(line).append('\n');
-            SourceCodeAnalysis.CompletionInfo info = analysis.analyzeCompletion(pending.toString());
-            if (!info.completeness().isComplete()) {
-                continue;
+            // every complete snippet the lines so far hold: a trailing comment comes back as the
+            // remainder and completes, on its own, as the next line's text is added
+            SourceCodeAnalysis.CompletionInfo info;
+            while (!pending.toString().isBlank()
+                    && (info = analysis.analyzeCompletion(pending.toString())).completeness().isComplete()) {
+                pending.setLength(0);
+                pending.append(info.remaining().isBlank() ? "" : info.remaining());
+                evaluateSnippet(shell, name, info.source(), captured);
+                count++;
             }
-            String snippet = info.source();
-            pending.setLength(0);
-            pending.append(info.remaining().isBlank() ? "" : info.remaining());
-            for (SnippetEvent e : shell.eval(snippet)) {
-                if (e.status() == Snippet.Status.REJECTED || e.status() == Snippet.Status.RECOVERABLE_NOT_DEFINED) {
-                    String diagnostics = shell.diagnostics(e.snippet())
-                            .map(d -> d.getMessage(java.util.Locale.ROOT)).collect(Collectors.joining("\n  "));
-                    String unresolved = e.snippet() instanceof jdk.jshell.DeclarationSnippet ds
-                            ? shell.unresolvedDependencies(ds).collect(Collectors.joining(", ")) : "";
-                    fail(name + ": snippet " + e.status() + ":\n" + snippet + "\n  " + diagnostics
-                            + (unresolved.isEmpty() ? "" : "\n  unresolved: " + unresolved) + output(captured));
-                }
-                if (e.exception() != null) {
-                    fail(name + ": snippet threw " + describe(e.exception()) + ":\n" + snippet + output(captured));
-                }
-            }
-            count++;
         }
         if (!pending.toString().isBlank()) {
             fail(name + ": the script ends in an incomplete snippet:\n" + pending);
         }
         return count;
+    }
+
+    /** Evaluates one complete snippet; fails on a rejected snippet or an exception. */
+    private static void evaluateSnippet(JShell shell, String name, String snippet, ByteArrayOutputStream captured) {
+        for (SnippetEvent e : shell.eval(snippet)) {
+            if (e.status() == Snippet.Status.REJECTED || e.status() == Snippet.Status.RECOVERABLE_NOT_DEFINED) {
+                String diagnostics = shell.diagnostics(e.snippet())
+                        .map(d -> d.getMessage(java.util.Locale.ROOT)).collect(Collectors.joining("\n  "));
+                String unresolved = e.snippet() instanceof jdk.jshell.DeclarationSnippet ds
+                        ? shell.unresolvedDependencies(ds).collect(Collectors.joining(", ")) : "";
+                fail(name + ": snippet " + e.status() + ":\n" + snippet + "\n  " + diagnostics
+                        + (unresolved.isEmpty() ? "" : "\n  unresolved: " + unresolved) + output(captured));
+            }
+            if (e.exception() != null) {
+                fail(name + ": snippet threw " + describe(e.exception()) + ":\n" + snippet + output(captured));
+            }
+        }
     }
 
     private static String describe(JShellException e) {
