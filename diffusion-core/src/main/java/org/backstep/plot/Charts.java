@@ -310,7 +310,7 @@ public final class Charts {
         Require.atLeast("curves", curves.size(), 1);
         XYChart c = chart("Screens against known faults (ROC)", "false-positive rate (share of normal records flagged)",
                 "true-positive rate (share of faulty records flagged)");
-        c.getStyler().setXAxisMin(0.0).setXAxisMax(1.0).setYAxisMin(0.0).setYAxisMax(1.0);
+        c.getStyler().setXAxisDecimalPattern("0.0").setYAxisDecimalPattern("0.0");
         c.getStyler().setLegendPosition(Styler.LegendPosition.InsideSE);
         for (Map.Entry<String, List<RocPoint>> e : curves.entrySet()) {
             List<RocPoint> pts = Require.notNull("curve " + e.getKey(), e.getValue());

@@ -347,8 +347,8 @@ public final class MainJob {
      * What a screen of single rows can and cannot see; printed by the demo and shown in the report.
      */
     static final String SINGLE_ROW_SENTENCE = "A screen of single rows judges each reading on its own: it sees a fault that makes "
-            + "one reading unusual, by a value out of range or by columns that do not fit together (a current that does not "
-            + "match the temperatures); it cannot see a slow drift or a stuck sensor until the fault has grown enough to make "
+            + "one reading unusual, by a value out of range or by columns that do not fit together (a humidity that does not "
+            + "fit the cargo the temperatures show); it cannot see a slow drift or a stuck sensor until the fault has grown enough to make "
             + "one reading unusual, so it sees such faults only at their far end. For those, compare readings over time "
             + "(the change per reading of each container) or compare batches (drift).";
     /** Caught faults, at most, whose columns are ranked by surprisal (about 0.7 s each), spread over the caught ones. */
