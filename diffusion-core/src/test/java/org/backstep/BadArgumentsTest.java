@@ -145,7 +145,7 @@ class BadArgumentsTest {
                 "steps is 21; expected a whole number from 0 to 20"));
         cases.add(new Case("bound(a record past the float range in model space, ...)",
                 () -> m.bound(records(new double[] {1e300, 5, 0}), 1),
-                "row 0, column 'supply_c' is 1.0E300, which its transform ..."));
+                "records: row 0, column 'supply_c' is 1.0E300: ..."));
         cases.add(new Case("denoise(null, how, seed)", () -> m.denoise(null, Defaults.denoising(0.1, 0.1, 0), 1),
                 "readings is null; expected a value"));
         cases.add(new Case("denoise(readings, null, seed)", () -> m.denoise(good, null, 1), "how is null; expected a value"));
