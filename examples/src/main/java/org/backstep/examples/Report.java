@@ -152,7 +152,7 @@ final class Report {
                     b.path("caughtFaultRows").asInt(), b.path("cap").asInt(), b.path("injectedColumnFirst").asInt(),
                     pct(b.path("share").asDouble(), 0), kinds.length() == 0 ? "" : "; by kind, " + kinds)));
         }
-        h.append(p("<b>What a screen of single rows can see.</b> " + escape(MainJob.SINGLE_ROW_SENTENCE)));
+        h.append(p("<b>What a screen of single rows can see.</b> " + escape(ScreenComparison.SINGLE_ROW_SENTENCE)));
 
         h.append("<h2>Filling in missing cells</h2>\n");
         table(h, List.of(
