@@ -7,6 +7,7 @@ import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.internal.chain.ModelParts;
+import org.backstep.internal.chain.ScoringRange;
 import org.backstep.internal.plan.StepPlanner;
 import org.backstep.internal.screen.DriftTests;
 import org.backstep.internal.screen.Screener;
@@ -191,8 +192,11 @@ public final class DiffusionModel {
      *
      * @param records complete records with the training columns
      * @param seed the seed of the x_t draws
-     * @return the per-record bound, with the per-step breakdown
-     * @throws IllegalArgumentException naming a column mismatch or the first missing cell
+     * @return the per-record bound, with the per-step breakdown; never NaN
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, or the
+     *     first cell the model cannot score (beyond the float32 model space's range or outside its
+     *     column's support; see {@link #bound(Table, BoundOptions, long)}; {@link #screen screen}
+     *     scores such records +infinity instead)
      */
     public BoundReport bound(Table records, long seed) {
         return bound(records, Defaults.bound(), seed);
@@ -203,17 +207,33 @@ public final class DiffusionModel {
      * chain (a different, usually looser bound of the same model; the planner compares them), or
      * the Monte Carlo estimate with its standard errors; see {@link BoundOptions}.
      *
+     * <p>Every record must be scorable: a finite cell beyond the range the float32 model space can
+     * diffuse (|z| above sqrt(beta_1) 2^23 training standard deviations; 1e39 or 1e300 in an
+     * ordinary column, and 1e15 in a column whose values are of order 1) or outside its column's
+     * support (at or below 0 in a log column, off the one value of a constant column) is refused,
+     * naming its row and column, never scored NaN. The bound is a figure of fit and a mean over
+     * records, which one infinite record would swamp; to rank such records, {@link #screen screen}
+     * them: a screen scores them +infinity and flags them with a note naming the cell.
+     *
      * @param records complete records with the training columns
      * @param how the method
      * @param seed the seed
-     * @return the per-record bound
-     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, or a
-     *     strided step count above T
+     * @return the per-record bound, every figure finite
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, the first
+     *     cell beyond the model space's range or outside its column's support, or a strided step
+     *     count above T
      */
     public BoundReport bound(Table records, BoundOptions how, long seed) {
         Require.notNull("how", how);
         Require.inRange("steps", how.steps(), 0, steps());
         checkComplete(records, "records");
+        List<org.backstep.report.CellNote> unscorable = ScoringRange.unscorable(records, transform(),
+                ScoringRange.limit(engine.chain()));
+        if (!unscorable.isEmpty()) {
+            throw new IllegalArgumentException("records: " + unscorable.get(0).text().replace("; the record scores +infinity", "")
+                    + "; the bound cannot be computed for it (" + unscorable.size() + " such cell"
+                    + (unscorable.size() == 1 ? "" : "s") + " in all; screen(...) scores such records +infinity and flags them)");
+        }
         return engine.bound(records, how, seed);
     }
 

@@ -145,7 +145,7 @@ class BadArgumentsTest {
                 "steps is 21; expected a whole number from 0 to 20"));
         cases.add(new Case("bound(a record past the float range in model space, ...)",
                 () -> m.bound(records(new double[] {1e300, 5, 0}), 1),
-                "row 0, column 'supply_c' is 1.0E300, which its transform ..."));
+                "records: row 0, column 'supply_c' is 1.0E300: ..."));
         cases.add(new Case("flowLikelihood(records of a model with a binary column)", () -> m.flowLikelihood(good),
                 "records: the model diffuses 1 binary, integer or categorical column(s) [door_open]; the flow likelihood"
                         + " covers continuous columns only (the ODE needs a density): use bound(records, seed) for this model"));

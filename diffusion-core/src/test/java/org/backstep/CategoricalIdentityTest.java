@@ -102,7 +102,7 @@ class CategoricalIdentityTest {
         Table unseen = Table.of(List.of("c"), List.of(ColumnKind.CATEGORICAL), Map.of("c", List.of("k9")),
                 new double[][] {{0}});
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> model.bound(unseen, 1));
-        assertTrue(e.getMessage().contains("column 'c' has the category 'k9'"), e.getMessage());
+        assertTrue(e.getMessage().contains("column 'c'") && e.getMessage().contains("the category 'k9' is not among the 5 categories"), e.getMessage());
         // screening gives an unknown category the score of an unknown category: +infinity, with a note
         Table mixed = Table.of(List.of("c"), List.of(ColumnKind.CATEGORICAL), Map.of("c", List.of("k0", "k9")),
                 new double[][] {{0}, {1}});

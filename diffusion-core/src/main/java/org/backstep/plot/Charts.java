@@ -1,6 +1,7 @@
 package org.backstep.plot;
 
 import org.backstep.report.BoundReport;
+import org.backstep.report.RocPoint;
 import org.backstep.training.EpochRecord;
 import org.backstep.report.StepPlan;
 import org.backstep.report.TrainingPlan;
@@ -291,6 +292,43 @@ public final class Charts {
         double top = java.util.Arrays.stream(count).max().orElse(1.0);
         c.addSeries(String.format(Locale.ROOT, "threshold %.2f", threshold), new double[] {threshold, threshold},
                 new double[] {0.0, top}).setMarker(SeriesMarkers.NONE);
+        return c;
+    }
+
+    /**
+     * Receiver operating characteristics, one line per detector (as {@code AnomalyScreen.roc}
+     * gives them: false-positive rate against true-positive rate, each point the shares of normal
+     * and of faulty records flagged above one threshold), with the diagonal of a detector that
+     * guesses. The legend carries each curve's area when the caller puts it in the name.
+     *
+     * @param curves name to points, in legend order; each with at least one point
+     * @return the chart
+     * @throws IllegalArgumentException if there is no curve, or a curve is empty
+     */
+    public static XYChart roc(Map<String, List<RocPoint>> curves) {
+        Require.notNull("curves", curves);
+        Require.atLeast("curves", curves.size(), 1);
+        XYChart c = chart("Screens against known faults (ROC)", "false-positive rate (share of normal records flagged)",
+                "true-positive rate (share of faulty records flagged)");
+        c.getStyler().setXAxisDecimalPattern("0.0").setYAxisDecimalPattern("0.0");
+        c.getStyler().setLegendPosition(Styler.LegendPosition.InsideSE);
+        for (Map.Entry<String, List<RocPoint>> e : curves.entrySet()) {
+            List<RocPoint> pts = Require.notNull("curve " + e.getKey(), e.getValue());
+            Require.atLeast("points of curve " + e.getKey(), pts.size(), 1);
+            double[] x = new double[pts.size()];
+            double[] y = new double[pts.size()];
+            for (int i = 0; i < x.length; i++) {
+                x[i] = pts.get(i).falsePositiveRate();
+                y[i] = pts.get(i).truePositiveRate();
+            }
+            XYSeries line = c.addSeries(e.getKey(), x, y);
+            line.setMarker(SeriesMarkers.NONE);
+            line.setLineStyle(new BasicStroke(2.0f));
+        }
+        XYSeries chance = c.addSeries("chance", new double[] {0.0, 1.0}, new double[] {0.0, 1.0});
+        chance.setMarker(SeriesMarkers.NONE);
+        chance.setLineColor(new Color(0xB0B0A8));
+        chance.setLineStyle(new BasicStroke(1.0f, BasicStroke.CAP_BUTT, BasicStroke.JOIN_MITER, 10f, new float[] {6f, 4f}, 0f));
         return c;
     }
 

@@ -90,6 +90,15 @@ class ChartsTest {
                 new StepPlan.Row(50, 1.31, 0.01, 0.30, 0.05, 55.0),
                 new StepPlan.Row(100, 1.30, 0.01, 0.40, 0.04, 110.0)), 0.02, 50, "50 steps: within 0.02 of the best")));
         c.put("trainingPlan", () -> Charts.trainingPlan(trainingPlan(false)));
+        c.put("roc", () -> {
+            Map<String, List<org.backstep.report.RocPoint>> curves = new LinkedHashMap<>();
+            curves.put("model, area 0.80", List.of(new org.backstep.report.RocPoint(Double.POSITIVE_INFINITY, 0, 0),
+                    new org.backstep.report.RocPoint(3.0, 0.1, 0.6), new org.backstep.report.RocPoint(1.0, 0.5, 0.9),
+                    new org.backstep.report.RocPoint(Double.NEGATIVE_INFINITY, 1, 1)));
+            curves.put("range check, area 0.50", List.of(new org.backstep.report.RocPoint(Double.POSITIVE_INFINITY, 0, 0),
+                    new org.backstep.report.RocPoint(Double.NEGATIVE_INFINITY, 1, 1)));
+            return Charts.roc(curves);
+        });
         return c.entrySet().stream().map(e -> new Object[] {e.getKey(), e.getValue()});
     }
 

@@ -94,14 +94,22 @@ public final class Baselines {
     }
 
     static double mixtureNll(double[][] train, double[][] test, int k) {
-        MultivariateNormalMixtureExpectationMaximization em = new MultivariateNormalMixtureExpectationMaximization(train);
-        em.fit(MultivariateNormalMixtureExpectationMaximization.estimate(train, k), 500, 1e-6);
-        MixtureMultivariateNormalDistribution m = em.getFittedModel();
+        MixtureMultivariateNormalDistribution m = fitMixture(train, k);
         double s = 0;
         for (double[] r : test) {
             s -= Math.log(Math.max(m.density(r), Double.MIN_NORMAL));
         }
         return s / test.length;
+    }
+
+    /**
+     * The mixture of k full-covariance Gaussians fitted by EM (commons-math3; at most 500
+     * iterations, log-likelihood tolerance 1e-6), started from its deterministic estimate.
+     */
+    static MixtureMultivariateNormalDistribution fitMixture(double[][] train, int k) {
+        MultivariateNormalMixtureExpectationMaximization em = new MultivariateNormalMixtureExpectationMaximization(train);
+        em.fit(MultivariateNormalMixtureExpectationMaximization.estimate(train, k), 500, 1e-6);
+        return em.getFittedModel();
     }
 
     static double bernoulliNll(double[][] train, double[][] test, int dc) {

@@ -21,12 +21,19 @@ final class CommandTables {
     }
 
     /**
-     * Invented telemetry of a fleet (seed {@link ReeferFleet#DEFAULT_SEED} + {@code seed}), with a
-     * line on {@code out} saying that it is invented.
+     * The share of faulty containers in the commands' invented fleet: one in six, so that the
+     * default 24 containers carry 4 faults, one of each kind ({@link ReeferFleet} gives them in
+     * turn); the generator's own default, 0.125, would give 3 and leave a kind out.
+     */
+    static final double FAULTY_SHARE = 1.0 / 6.0;
+
+    /**
+     * Invented telemetry of a fleet (seed {@link ReeferFleet#DEFAULT_SEED} + {@code seed}, faulty
+     * share {@link #FAULTY_SHARE}), with a line on {@code out} saying that it is invented.
      */
     static Telemetry inventedFleet(int containers, int days, long seed, PrintStream out) {
         Telemetry t = ReeferFleet.generate(ReeferFleet.options().withContainers(containers).withDays(days)
-                .withSeed(ReeferFleet.DEFAULT_SEED + seed));
+                .withSeed(ReeferFleet.DEFAULT_SEED + seed).withFaultyShare(FAULTY_SHARE));
         out.printf(Locale.ROOT, "Invented reefer telemetry (for demonstration, not measurements): %d containers, %d days, %d rows%n",
                 containers, days, t.rows());
         return t;

@@ -66,7 +66,8 @@ public final class Demo {
         MainJob.Config config;
         if (s.file() == null) {
             Telemetry t = CommandTables.inventedFleet(s.containers, s.days, s.seed, pre);
-            config = MainJob.Config.of(FleetTables.cells(t), s).withTruth(FleetTables.truth(t), t.faultRows());
+            config = MainJob.Config.of(FleetTables.cells(t), s).withTruth(FleetTables.truth(t), t.faultRows())
+                    .withFaultKinds(FleetTables.faultKinds(t), FleetTables.faultColumns(t));
         } else {
             Table table = CommandTables.csv(s.file(), s.missing, s.binary, pre);
             config = MainJob.Config.of(table, s).withLines(ResultFiles.recordLines(s.file(), table.rows()));

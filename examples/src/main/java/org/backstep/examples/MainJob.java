@@ -69,45 +69,54 @@ public final class MainJob {
      *     the order given: their readings are denoised into denoised.csv; empty for none
      * @param compare a new batch with the table's columns to test for drift against the held-out rows, or null
      * @param compareName the batch's file name, for the console and the report (null without a batch)
+     * @param faultKinds per row, the kind of the injected fault ("NONE" outside faults), or null
+     * @param faultColumns per row, the column the fault was injected into (null outside faults), or null
      */
     public record Config(Table table, Table truth, boolean[] faults, Path out, int trainSteps, int epochs, int[] hidden,
                          long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd, int[] lines,
-                         Map<String, Double> noise, Table compare, String compareName) {
+                         Map<String, Double> noise, Table compare, String compareName,
+                         String[] faultKinds, String[] faultColumns) {
 
         /** Copies the noise map (null: none). */
         public Config {
             noise = noise == null ? Map.of() : java.util.Collections.unmodifiableMap(new LinkedHashMap<>(noise));
         }
 
-        /** Without per-row files' options: no given noise, no batch to compare, the lines of table.csv. */
+        /** Without per-row files' options and fault kinds: no given noise, no batch to compare, the lines of table.csv. */
         public Config(Table table, Table truth, boolean[] faults, Path out, int trainSteps, int epochs, int[] hidden,
                       long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd) {
             this(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
-                    null, Map.of(), null, null);
+                    null, Map.of(), null, null, null, null);
+        }
+
+        /** The same, with the kind of each row's injected fault and the column it was injected into. */
+        Config withFaultKinds(String[] kinds, String[] columns) {
+            return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
+                    lines, noise, compare, compareName, kinds, columns);
         }
 
         /** The configuration a command line gives, on a table without injected truth. */
         static Config of(Table table, Settings s) {
             return new Config(table, null, null, s.out, s.trainSteps, s.epochs, s.hidden, s.seed, s.holdout, s.sampleSteps,
-                    s.tolerance, null, null, s.noise, null, null);
+                    s.tolerance, null, null, s.noise, null, null, null, null);
         }
 
         /** The same, with the table before cells were blanked and the rows with an injected fault. */
         Config withTruth(Table truth, boolean[] faults) {
             return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
-                    lines, noise, compare, compareName);
+                    lines, noise, compare, compareName, faultKinds, faultColumns);
         }
 
         /** The same, with each row's line in the input file. */
         Config withLines(int[] lines) {
             return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
-                    lines, noise, compare, compareName);
+                    lines, noise, compare, compareName, faultKinds, faultColumns);
         }
 
         /** The same, with a batch to compare for drift. */
         Config withCompare(Table batch, String name) {
             return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
-                    lines, noise, batch, name);
+                    lines, noise, batch, name, faultKinds, faultColumns);
         }
     }
 
@@ -352,6 +361,14 @@ public final class MainJob {
             console.printf(Locale.ROOT, "   against the injected faults (never shown to the model): precision %.2f, recall %.2f "
                             + "(%d fault rows, %.1f%% of the screened rows)%n",
                     precision, recall, faultsScored, 100 * baseRate);
+            if (faultsScored > 0 && faultsScored < scoredIndex.length) {
+                ScreenComparison.compare(model, table, scoredRows, scoredIndex, heldComplete, screen, c, console, summary, a,
+                        charts);
+                ScreenComparison.blame(model, scoredRows, scoredIndex, screen, c, console, a);
+            }
+        }
+        for (String line : ScreenComparison.wrap(ScreenComparison.SINGLE_ROW_SENTENCE, 96)) {
+            console.println("   " + line);
         }
         charts.put(Report.SCORES, png(Charts.scoreHistogram(screen.scores(), screen.threshold(), 60)));
         return screen;

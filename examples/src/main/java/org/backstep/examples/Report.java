@@ -24,6 +24,7 @@ final class Report {
     static final String HISTORY = "history";
     static final String BOUND_TERMS = "boundTerms";
     static final String SCORES = "scores";
+    static final String ROC = "roc";
     static final String SAMPLES = "samples";
     static final String STEP_PLAN = "stepPlan";
     /** The training-history table shows about this many rows: the first, every Nth and the last. */
@@ -143,6 +144,25 @@ final class Report {
         }
         table(h, screen);
         chart(h, charts, SCORES, "Each screened row's bound (higher is more unusual) and the threshold.");
+        if (anomalies.has("detectors")) {
+            comparison(h, anomalies);
+            chart(h, charts, ROC, "The ROC curve of each screen against the injected faults: for every threshold, the share of "
+                    + "normal rows flagged (across) and of fault rows flagged (up); the area under a curve is the chance that a "
+                    + "fault row scores above a normal one (0.5 for a guess).");
+        }
+        if (anomalies.has("blame")) {
+            JsonNode b = anomalies.path("blame");
+            StringBuilder kinds = new StringBuilder();
+            for (JsonNode k : b.path("byKind")) {
+                kinds.append(kinds.length() == 0 ? "" : "; ").append(escape(k.path("kind").asText())).append(": ")
+                        .append(k.path("injectedColumnFirst").asInt()).append(" of ").append(k.path("attributed").asInt());
+            }
+            h.append(p(String.format(Locale.ROOT, "<b>Columns to blame.</b> Of the %d fault rows the screen caught, the column the"
+                            + " fault was injected into ranked first by surprisal, -log p(cell | the row's other cells), in %d (%s)%s.",
+                    b.path("attributed").asInt(), b.path("injectedColumnFirst").asInt(),
+                    pct(b.path("share").asDouble(), 0), kinds.length() == 0 ? "" : "; by kind, " + kinds)));
+        }
+        h.append(p("<b>What a screen of single rows can see.</b> " + escape(ScreenComparison.SINGLE_ROW_SENTENCE)));
 
         h.append("<h2>Filling in missing cells</h2>\n");
         table(h, List.of(
@@ -280,6 +300,33 @@ final class Report {
     private static void fileRow(StringBuilder t, String file, String rows, String what) {
         t.append("<tr><td class=\"l\">").append(file).append("</td><td>").append(rows).append("</td><td class=\"l\">")
                 .append(what).append("</td></tr>\n");
+    }
+
+    /** The screens side by side: flagged rows, precision, recall, area under the ROC curve, recall per fault kind. */
+    private static void comparison(StringBuilder h, JsonNode anomalies) {
+        JsonNode first = anomalies.path("detectors").path(0);
+        h.append(p("The same screen by classical detectors, each fitted on the same complete rows of the training part (model "
+                + "space) and flagging the rows past the same " + pct(anomalies.path("quantile").asDouble(), 0)
+                + " quantile of its own held-out scores. The range check looks at each column alone; the others at whole rows. "
+                + "Per fault kind: the recall at that threshold, and the area under the ROC curve of that kind's rows against the "
+                + "normal rows (the chance that such a fault row scores above a normal one), which shows what a screen ranks "
+                + "high even where the threshold, set by the rarest normal rows, lets it pass."));
+        h.append("<table>\n<tr><th class=\"l\">detector</th><th>flagged</th><th>precision</th><th>recall</th><th>area under ROC</th>");
+        for (JsonNode k : first.path("byKind")) {
+            h.append("<th>").append(escape(k.path("kind").asText().toLowerCase(Locale.ROOT).replace('_', ' ')))
+                    .append(" (").append(k.path("rows").asInt()).append(" rows): recall / area</th>");
+        }
+        h.append("</tr>\n");
+        for (JsonNode d : anomalies.path("detectors")) {
+            h.append("<tr><td class=\"l\">").append(escape(d.path("detector").asText())).append("</td><td>")
+                    .append(count(d, "flagged")).append("</td><td>").append(num(d, "precision", 2)).append("</td><td>")
+                    .append(num(d, "recall", 2)).append("</td><td>").append(num(d, "auroc", 2)).append("</td>");
+            for (JsonNode k : d.path("byKind")) {
+                h.append("<td>").append(num(k, "recall", 2)).append(" / ").append(num(k, "auroc", 2)).append("</td>");
+            }
+            h.append("</tr>\n");
+        }
+        h.append("</table>\n");
     }
 
     /** Specific cautions: where a baseline beats the model, and figures that are weak. */

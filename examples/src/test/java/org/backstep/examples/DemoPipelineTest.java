@@ -83,7 +83,7 @@ class DemoPipelineTest {
         table = FleetTables.cells(t);
         deleteRecursively(OUT);
         MainJob.Config config = new MainJob.Config(table, FleetTables.truth(t), t.faultRows(), OUT, STEPS, EPOCHS, HIDDEN, 3, 5,
-                new int[0], TOLERANCE, null);
+                new int[0], TOLERANCE, null).withFaultKinds(FleetTables.faultKinds(t), FleetTables.faultColumns(t));
         ByteArrayOutputStream bytes = new ByteArrayOutputStream();
         returned = MainJob.run(config, new PrintStream(bytes, true, StandardCharsets.UTF_8), false);
         console = bytes.toString(StandardCharsets.UTF_8);
@@ -243,6 +243,34 @@ class DemoPipelineTest {
                         + " and the report (Report.java) that reads them");
     }
 
+    /**
+     * The anomaly section of report.html carries the comparison of the screens, the ROC chart (an
+     * inline PNG under its caption), the columns to blame and the sentence on what a screen of
+     * single rows can see; the console prints the comparison with one line per detector.
+     */
+    @Test
+    void reportHasTheRocSectionAndTheComparison() throws Exception {
+        String html = Files.readString(OUT.resolve("report.html"), StandardCharsets.UTF_8);
+        int section = html.indexOf("<h2>Screening for unusual rows</h2>");
+        int next = html.indexOf("<h2>", section + 1);
+        assertTrue(section >= 0 && next > section, "no screening section in report.html");
+        String screen = html.substring(section, next);
+        assertTrue(screen.contains("<img alt=\"The ROC curve of each screen") && screen.contains("src=\"data:image/png;base64,"),
+                "no ROC chart in the screening section");
+        JsonNode detectors = returned.path("anomalies").path("detectors");
+        assertEquals(5, detectors.size(), "Backstep and four classical detectors");
+        for (JsonNode d : detectors) {
+            assertTrue(screen.contains(Report.escape(d.path("detector").asText())), d.path("detector").asText());
+            assertTrue(console.contains(d.path("detector").asText()), d.path("detector").asText());
+            assertUnit(d, "auroc");
+            assertUnit(d, "precision");
+            assertUnit(d, "recall");
+        }
+        assertTrue(screen.contains("What a screen of single rows can see"), "no sentence on what the screen can see");
+        assertTrue(screen.contains("Columns to blame") == returned.path("anomalies").has("blame"));
+        assertTrue(console.contains("slow drift or a stuck sensor"), console);
+    }
+
     /** plan-steps on the demo's model writes the files the demo writes, by the same names. */
     @Test
     void planStepsOnTheDemosModelWritesTheSameFiles(@TempDir Path dir) {
@@ -272,7 +300,7 @@ class DemoPipelineTest {
         assertEquals(SCREENSHOT_WIDTH, shot.getWidth());
         // common practice, no source: six charts of Charts.HEIGHT pixels, shown at their size (the page is
         // wider than a chart), cannot fit in less; a page whose images failed to load is far shorter
-        int charts = 6;
+        int charts = 7;
         assertTrue(shot.getHeight() > charts * org.backstep.plot.Charts.HEIGHT, "the rendered page is only " + shot.getHeight()
                 + " pixels high; are its charts missing? See " + OUT.resolve("report-screenshot.png"));
         assertTrue(shot.getHeight() < SCREENSHOT_WINDOW_HEIGHT, "the page is longer than the screenshot window of "

@@ -47,6 +47,10 @@ class JShellScriptsTest {
             "import java.util.prefs.*;", "import java.util.regex.*;", "import java.util.stream.*;");
     /** A script run here must have at least this many snippets, so that a parse slip cannot pass as an empty run. */
     static final int MIN_SNIPPETS = 3;
+    /** The headings of the README's screening and drift sections, whose first ```jshell blocks are run. */
+    static final String SCREENING_HEADING = "## Screening records";
+    static final String DRIFT_HEADING = "## Drift between batches";
+
     /** The heading of the README's tour, whose first ```java block is run. */
     static final String TOUR_HEADING = "## A tour of the API";
     /** The tour's fleet.csv: 2 containers for 1 day, 192 rows (ReeferFleet.READINGS_PER_DAY = 96). */
@@ -128,6 +132,20 @@ class JShellScriptsTest {
         run("README.md tour", tour.replace("\"fleet.csv\"", "\"" + csv.toString().replace("\\", "\\\\") + "\""));
     }
 
+    /**
+     * The README's JShell examples of screening and of drift, pasted into one session as written:
+     * the drift block goes on with the screening block's table and model, as a reader following
+     * the README would.
+     */
+    @Test
+    void readmeScreeningAndDriftBlocksRunAsPasted() throws IOException {
+        String screening = readmeBlock("```jshell", SCREENING_HEADING);
+        String drift = readmeBlock("```jshell", DRIFT_HEADING);
+        assertTrue(screening.contains("model.screen(") && drift.contains("model.drift("),
+                "the README's screening or drift block no longer screens or tests drift:\n" + screening + "\n" + drift);
+        run("README.md screening and drift blocks", screening + "\n" + drift);
+    }
+
     @Test
     void sampleSessionRuns() throws IOException {
         run("examples/session.jsh", Files.readString(basedir().resolve("session.jsh"), StandardCharsets.UTF_8));
@@ -174,32 +192,38 @@ class JShellScriptsTest {
                 continue;       // blank lines between snippets, and JShell commands such as /exit
             }
             pending.append(line).append('\n');
-            SourceCodeAnalysis.CompletionInfo info = analysis.analyzeCompletion(pending.toString());
-            if (!info.completeness().isComplete()) {
-                continue;
+            // every complete snippet the lines so far hold: a trailing comment comes back as the
+            // remainder and completes, on its own, as the next line's text is added
+            SourceCodeAnalysis.CompletionInfo info;
+            while (!pending.toString().isBlank()
+                    && (info = analysis.analyzeCompletion(pending.toString())).completeness().isComplete()) {
+                pending.setLength(0);
+                pending.append(info.remaining().isBlank() ? "" : info.remaining());
+                evaluateSnippet(shell, name, info.source(), captured);
+                count++;
             }
-            String snippet = info.source();
-            pending.setLength(0);
-            pending.append(info.remaining().isBlank() ? "" : info.remaining());
-            for (SnippetEvent e : shell.eval(snippet)) {
-                if (e.status() == Snippet.Status.REJECTED || e.status() == Snippet.Status.RECOVERABLE_NOT_DEFINED) {
-                    String diagnostics = shell.diagnostics(e.snippet())
-                            .map(d -> d.getMessage(java.util.Locale.ROOT)).collect(Collectors.joining("\n  "));
-                    String unresolved = e.snippet() instanceof jdk.jshell.DeclarationSnippet ds
-                            ? shell.unresolvedDependencies(ds).collect(Collectors.joining(", ")) : "";
-                    fail(name + ": snippet " + e.status() + ":\n" + snippet + "\n  " + diagnostics
-                            + (unresolved.isEmpty() ? "" : "\n  unresolved: " + unresolved) + output(captured));
-                }
-                if (e.exception() != null) {
-                    fail(name + ": snippet threw " + describe(e.exception()) + ":\n" + snippet + output(captured));
-                }
-            }
-            count++;
         }
         if (!pending.toString().isBlank()) {
             fail(name + ": the script ends in an incomplete snippet:\n" + pending);
         }
         return count;
+    }
+
+    /** Evaluates one complete snippet; fails on a rejected snippet or an exception. */
+    private static void evaluateSnippet(JShell shell, String name, String snippet, ByteArrayOutputStream captured) {
+        for (SnippetEvent e : shell.eval(snippet)) {
+            if (e.status() == Snippet.Status.REJECTED || e.status() == Snippet.Status.RECOVERABLE_NOT_DEFINED) {
+                String diagnostics = shell.diagnostics(e.snippet())
+                        .map(d -> d.getMessage(java.util.Locale.ROOT)).collect(Collectors.joining("\n  "));
+                String unresolved = e.snippet() instanceof jdk.jshell.DeclarationSnippet ds
+                        ? shell.unresolvedDependencies(ds).collect(Collectors.joining(", ")) : "";
+                fail(name + ": snippet " + e.status() + ":\n" + snippet + "\n  " + diagnostics
+                        + (unresolved.isEmpty() ? "" : "\n  unresolved: " + unresolved) + output(captured));
+            }
+            if (e.exception() != null) {
+                fail(name + ": snippet threw " + describe(e.exception()) + ":\n" + snippet + output(captured));
+            }
+        }
     }
 
     private static String describe(JShellException e) {

@@ -28,6 +28,32 @@ public final class FleetTables {
         return Table.of(telemetry.columnNames(), kinds(telemetry), telemetry.truth());
     }
 
+    /**
+     * @param telemetry generated telemetry
+     * @return per row, the name of its fault kind ({@code "NONE"} outside every fault window)
+     */
+    public static String[] faultKinds(Telemetry telemetry) {
+        FaultKind[] f = telemetry.fault();
+        String[] out = new String[f.length];
+        for (int r = 0; r < f.length; r++) {
+            out[r] = f[r].name();
+        }
+        return out;
+    }
+
+    /**
+     * @param telemetry generated telemetry
+     * @return per row, the column its fault was injected into ({@link FaultKind#injectedColumn()}), null outside faults
+     */
+    public static String[] faultColumns(Telemetry telemetry) {
+        FaultKind[] f = telemetry.fault();
+        String[] out = new String[f.length];
+        for (int r = 0; r < f.length; r++) {
+            out[r] = f[r].injectedColumn().orElse(null);
+        }
+        return out;
+    }
+
     private static List<ColumnKind> kinds(Telemetry telemetry) {
         List<ColumnKind> kinds = new ArrayList<>();
         for (boolean b : telemetry.binaryColumns()) {

@@ -64,7 +64,8 @@ import org.backstep.schedule.Require;
  * <h2>Faults</h2>
  * round(faultyShare n) containers, chosen by a seeded shuffle, get one fault each; the kinds go
  * round {@link FaultKind#DRIFTING_SENSOR}, {@link FaultKind#STUCK_SENSOR},
- * {@link FaultKind#FAILING_COMPRESSOR} from a seeded starting kind, so they are balanced. With N
+ * {@link FaultKind#FAILING_COMPRESSOR}, {@link FaultKind#CROSSED_HUMIDITY} from a seeded starting
+ * kind, so they are balanced. With N
  * readings per container, the window has W ~ U{N/4, ..., N/2} readings and starts at
  * k0 ~ U{N/8, ..., N - W}. With j = k - k0 = 0, ..., W - 1 inside the window:
  * <pre>
@@ -72,7 +73,14 @@ import org.backstep.schedule.Require;
  *   STUCK_SENSOR        supply_air_c  = supply_air_c at j = 0          (the sensor only)
  *   FAILING_COMPRESSOR  supply_air_c += 0.015 (j + 1),  return_air_c += 0.015 (j + 1)  (the air warms)
  *                       compressor_a *= 1 + p (j + 1) / W  on rows with d_k = 0,  p ~ U[0.30, 0.60]
+ *   CROSSED_HUMIDITY    humidity_pct += 18 (frozen), -18 (chilled, tropical), clipped to [0, 100]  (the sensor only)
  * </pre>
+ * The first three are slow or frozen: one reading of them looks normal until the fault has grown,
+ * so a model of single rows sees only their far end. CROSSED_HUMIDITY is visible in every reading,
+ * yet only in the relation between columns: 18 = H_chilled - H_frozen moves the humidity to the
+ * level of the other kind of cargo, a value the column takes every day elsewhere in the fleet, while
+ * the temperatures still say which cargo the box holds; a check of each column against its own
+ * range cannot see it.
  * Only rows inside the window carry the fault's label; every other row is {@link FaultKind#NONE}.
  *
  * <h2>Missing cells</h2>
@@ -345,7 +353,7 @@ public final class ReeferFleet {
 
         FaultKind[] fault = new FaultKind[rows];
         Arrays.fill(fault, FaultKind.NONE);
-        injectFaultsInPlace(truth, fault, options, faultRng);
+        injectFaultsInPlace(truth, fault, setpoint, options, faultRng);
 
         double[][] cells = new double[rows][];
         double p = options.missingShare();
@@ -474,13 +482,16 @@ public final class ReeferFleet {
      *
      * @param truth all rows, container by container (modified: the fault windows)
      * @param fault one label per row (modified: the fault windows)
+     * @param setpoints the setpoint of each container
      * @param options the options (not modified)
      * @param rng the fault stream (advanced)
      */
-    private static void injectFaultsInPlace(double[][] truth, FaultKind[] fault, Options options, RandomGenerator rng) {
+    private static void injectFaultsInPlace(double[][] truth, FaultKind[] fault, double[] setpoints, Options options,
+                                            RandomGenerator rng) {
         int perContainer = options.readingsPerContainer();
         int[] order = permutation(options.containers(), rng);
-        FaultKind[] kinds = {FaultKind.DRIFTING_SENSOR, FaultKind.STUCK_SENSOR, FaultKind.FAILING_COMPRESSOR};
+        FaultKind[] kinds = {FaultKind.DRIFTING_SENSOR, FaultKind.STUCK_SENSOR, FaultKind.FAILING_COMPRESSOR,
+            FaultKind.CROSSED_HUMIDITY};
         int firstKind = rng.nextInt(kinds.length);
         for (int i = 0; i < options.faultyContainers(); i++) {
             int c = order[i];
@@ -492,6 +503,7 @@ public final class ReeferFleet {
             double rise = uniform(rng, CURRENT_RISE_MIN, CURRENT_RISE_MAX);
             int base = c * perContainer + start;
             double stuck = truth[base][SUPPLY_AIR];
+            double setpoint = setpoints[c];
             for (int j = 0; j < width; j++) {
                 double[] row = truth[base + j];
                 fault[base + j] = kind;
@@ -504,6 +516,11 @@ public final class ReeferFleet {
                         if (row[DEFROST] == 0.0) {
                             row[COMPRESSOR] *= 1.0 + rise * (j + 1) / width;
                         }
+                    }
+                    case CROSSED_HUMIDITY -> {
+                        double shift = HUMIDITY_CHILLED - HUMIDITY_FROZEN;
+                        double h = row[HUMIDITY] + (setpoint < SETPOINT_CHILLED_C ? shift : -shift);
+                        row[HUMIDITY] = Math.min(100.0, Math.max(0.0, h));
                     }
                     default -> throw new IllegalStateException("no effect for " + kind);
                 }

@@ -42,7 +42,7 @@ class ReeferFaultsTest {
 
     @Test
     void faultsLieOnRoundedShareOfContainersInOneWindowEach() {
-        // round(0.125 * 48) = 6 faulty containers, kinds in turn: 2 of each (by construction)
+        // round(0.125 * 48) = 6 faulty containers, the 4 kinds in turn: 1 or 2 of each (by construction)
         int[] faultyContainers = faulty.faultyContainers();
         assertEquals(6, faultyContainers.length);
         Map<FaultKind, Integer> kinds = new EnumMap<>(FaultKind.class);
@@ -53,8 +53,9 @@ class ReeferFaultsTest {
             assertTrue(w.width >= perContainer / 4 && w.width <= perContainer / 2, "width " + w.width);
             assertTrue(w.start >= perContainer / 8 && w.start + w.width <= perContainer, "start " + w.start);
         }
-        assertEquals(Map.of(FaultKind.DRIFTING_SENSOR, 2, FaultKind.STUCK_SENSOR, 2, FaultKind.FAILING_COMPRESSOR, 2),
-                kinds);
+        assertEquals(4, kinds.size(), "kinds " + kinds);
+        assertEquals(6, kinds.values().stream().mapToInt(Integer::intValue).sum());
+        assertTrue(kinds.values().stream().allMatch(k -> k == 1 || k == 2), "kinds " + kinds);
         boolean[] rows = faulty.faultRows();
         for (int r = 0; r < rows.length; r++) {
             assertEquals(fault[r] != FaultKind.NONE, rows[r]);
@@ -86,7 +87,9 @@ class ReeferFaultsTest {
                 double[] f = truth[base + j];
                 double[] h = healthy[base + j];
                 for (int col : new int[] {ReeferFleet.AMBIENT, ReeferFleet.HUMIDITY, ReeferFleet.DOOR_OPEN, DEFROST}) {
-                    assertEquals(h[col], f[col], 0.0, "a fault never changes column " + col);
+                    if (col != ReeferFleet.HUMIDITY || w.kind != FaultKind.CROSSED_HUMIDITY) {
+                        assertEquals(h[col], f[col], 0.0, "no other fault changes column " + col);
+                    }
                 }
                 switch (w.kind) {
                     case DRIFTING_SENSOR -> {
@@ -111,6 +114,15 @@ class ReeferFaultsTest {
                             assertEquals(h[COMPRESSOR], f[COMPRESSOR], 0.0, "idle current during defrost");
                         }
                     }
+                    case CROSSED_HUMIDITY -> {
+                        assertEquals(h[SUPPLY_AIR], f[SUPPLY_AIR], 0.0);
+                        assertEquals(h[RETURN_AIR], f[RETURN_AIR], 0.0);
+                        assertEquals(h[COMPRESSOR], f[COMPRESSOR], 0.0);
+                        // 18 points towards the other cargo's humidity, unless the clip at 0 or 100 bites
+                        double expected = Math.min(100, Math.max(0, h[ReeferFleet.HUMIDITY]
+                                + (faulty.setpointC()[c] < 0 ? 18.0 : -18.0)));
+                        assertEquals(expected, f[ReeferFleet.HUMIDITY], IDENTITY_TOLERANCE);
+                    }
                     default -> throw new AssertionError("label " + w.kind);
                 }
                 checked++;
@@ -121,6 +133,75 @@ class ReeferFaultsTest {
             }
         }
         assertTrue(checked >= 6 * perContainer / 4, checked + " rows checked");
+    }
+
+    /**
+     * CROSSED_HUMIDITY breaks the relation between columns and keeps each column in range: the
+     * humidity of its rows lies within [min, max] of the column over the healthy rows of the fleet
+     * (the other columns are the fault-free run's; a per-column range check passes them), while the humidity no longer fits the cargo the
+     * temperatures show: healthy frozen boxes (supply air below -10 C) read humidity below 79
+     * (= 70 + 9, 4 sd of the 2.5-point spread) in over 99% of their cooling rows, chilled and
+     * tropical boxes above 79 in over 99%; fault rows the other way round in over 95%. Our own
+     * invented scenario; the levels 70, 88, 92 and the shift of 18 are those of the ReeferFleet
+     * Javadoc.
+     */
+    @Test
+    void crossedHumidityKeepsEachColumnInRangeAndBreaksTheRelation() {
+        double[] lo = new double[7];
+        double[] hi = new double[7];
+        java.util.Arrays.fill(lo, Double.POSITIVE_INFINITY);
+        java.util.Arrays.fill(hi, Double.NEGATIVE_INFINITY);
+        int healthy = 0;
+        int fits = 0;
+        for (int r = 0; r < truth.length; r++) {
+            if (fault[r] == FaultKind.NONE) {
+                for (int j = 0; j < 7; j++) {
+                    lo[j] = Math.min(lo[j], truth[r][j]);
+                    hi[j] = Math.max(hi[j], truth[r][j]);
+                }
+                if (truth[r][DEFROST] == 0.0 && truth[r][ReeferFleet.DOOR_OPEN] == 0.0) {
+                    healthy++;
+                    fits += humidityFitsCargo(truth[r]) ? 1 : 0;
+                }
+            }
+        }
+        assertTrue(fits > 0.99 * healthy, fits + " of " + healthy + " healthy cooling rows fit their cargo's humidity");
+        int rows = 0;
+        int broken = 0;
+        for (int r = 0; r < truth.length; r++) {
+            if (fault[r] != FaultKind.CROSSED_HUMIDITY) {
+                continue;
+            }
+            // the one column the fault changes (the others are the fault-free run's, checked above)
+            int j = ReeferFleet.HUMIDITY;
+            assertTrue(truth[r][j] >= lo[j] && truth[r][j] <= hi[j], "row " + r + " humidity " + truth[r][j]
+                    + " outside the healthy range [" + lo[j] + ", " + hi[j] + "]");
+            if (truth[r][DEFROST] == 0.0 && truth[r][ReeferFleet.DOOR_OPEN] == 0.0) {
+                rows++;
+                broken += humidityFitsCargo(truth[r]) ? 0 : 1;
+            }
+        }
+        assertTrue(rows >= perContainer / 8, rows + " fault rows cooling with the door closed");
+        assertTrue(broken > 0.95 * rows, broken + " of " + rows + " fault rows with the humidity of the other cargo");
+    }
+
+    /** Frozen (supply below -10 C) with humidity below 79, or chilled and tropical with humidity above it. */
+    private static boolean humidityFitsCargo(double[] row) {
+        boolean frozen = row[SUPPLY_AIR] < -10.0;
+        return frozen == (row[ReeferFleet.HUMIDITY] < 79.0);
+    }
+
+    @Test
+    void eachKindNamesTheColumnItIsInjectedInto() {
+        // by construction (ReeferFleet's Javadoc): the column each formula changes most
+        assertEquals("return_air_c", FaultKind.DRIFTING_SENSOR.injectedColumn().orElseThrow());
+        assertEquals("supply_air_c", FaultKind.STUCK_SENSOR.injectedColumn().orElseThrow());
+        assertEquals("compressor_a", FaultKind.FAILING_COMPRESSOR.injectedColumn().orElseThrow());
+        assertEquals("humidity_pct", FaultKind.CROSSED_HUMIDITY.injectedColumn().orElseThrow());
+        assertTrue(FaultKind.NONE.injectedColumn().isEmpty());
+        for (FaultKind k : FaultKind.values()) {
+            k.injectedColumn().ifPresent(c -> assertTrue(ReeferFleet.COLUMN_NAMES.contains(c), c));
+        }
     }
 
     @Test

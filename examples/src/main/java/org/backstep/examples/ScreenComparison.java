@@ -1,0 +1,229 @@
+package org.backstep.examples;
+
+import com.fasterxml.jackson.databind.node.ArrayNode;
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import org.backstep.DiffusionModel;
+import org.backstep.option.ThresholdRule;
+import org.backstep.plot.Charts;
+import org.backstep.report.AnomalyScreen;
+import org.backstep.report.Surprisal;
+import org.backstep.table.Table;
+
+import java.io.IOException;
+import java.io.PrintStream;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+
+/**
+ * The main job's screen measured against the injected faults (issue 13): the same screen by the
+ * classical {@link Detectors}, fitted on the same training rows and thresholded at the same
+ * held-out quantile, with precision, recall, the area under the ROC curve and both per fault kind;
+ * the ROC chart; the columns to blame for caught faults; and the sentence on what a screen of
+ * single rows can and cannot see.
+ */
+final class ScreenComparison {
+
+    private ScreenComparison() {
+    }
+
+    /**
+     * What a screen of single rows can and cannot see; printed by the demo and shown in the report.
+     */
+    static final String SINGLE_ROW_SENTENCE = "A screen of single rows judges each reading on its own: it sees a fault that makes "
+            + "one reading unusual, by a value out of range or by columns that do not fit together (a humidity that does not "
+            + "fit the cargo the temperatures show); it cannot see a slow drift or a stuck sensor until the fault has grown enough to make "
+            + "one reading unusual, so it sees such faults only at their far end. For those, compare readings over time "
+            + "(the change per reading of each container) or compare batches (drift).";
+
+    /**
+     * The same screen by classical detectors (Detectors), fitted on the same training rows in model
+     * space and thresholded at the same quantile of their held-out scores: flagged rows, precision,
+     * recall, the area under the ROC curve, recall per fault kind; and the ROC chart.
+     */
+    static void compare(DiffusionModel model, Table table, Table scoredRows, int[] scoredIndex, Table heldComplete,
+                                AnomalyScreen screen, MainJob.Config c, PrintStream console, ObjectNode summary, ObjectNode a,
+                                Map<String, String> charts) throws IOException {
+        int[] trainIndex = java.util.Arrays.stream(scoredIndex).filter(i -> i % c.holdout() != 0).toArray();
+        double[][] trainM = model.transform().toModelSpace(table.selectRows(trainIndex));
+        double[][] heldM = model.transform().toModelSpace(heldComplete);
+        double[][] scoredM = model.transform().toModelSpace(scoredRows);
+        int dc = model.transform().modelledContinuous().length;
+        int components = summary.path("heldOutBound").path("mixtureComponents").asInt(1);
+        List<Detectors.Scores> detectors = new ArrayList<>();
+        detectors.add(new Detectors.Scores("Backstep (diffusion bound)", screen.heldOutScores(), screen.scores()));
+        detectors.add(Detectors.mahalanobis(trainM, heldM, scoredM));
+        detectors.add(Detectors.mixture(trainM, heldM, scoredM, dc, components));
+        detectors.add(Detectors.nearest(trainM, trainIndex, heldM, scoredM, scoredIndex));
+        if (dc > 0) {
+            detectors.add(Detectors.range(trainM, heldM, scoredM, dc));
+        }
+        boolean[] fault = new boolean[scoredIndex.length];
+        List<Integer> faultRows = new ArrayList<>();
+        for (int f = 0; f < scoredIndex.length; f++) {
+            fault[f] = c.faults()[scoredIndex[f]];
+            if (fault[f]) {
+                faultRows.add(f);
+            }
+        }
+        int[] faultArray = faultRows.stream().mapToInt(Integer::intValue).toArray();
+        List<String> kinds = new ArrayList<>();
+        if (c.faultKinds() != null) {
+            for (int f : faultArray) {
+                String k = c.faultKinds()[scoredIndex[f]];
+                if (!kinds.contains(k)) {
+                    kinds.add(k);
+                }
+            }
+            java.util.Collections.sort(kinds);
+        }
+        int[] kindRows = new int[kinds.size()];
+        for (int f : faultArray) {
+            if (!kinds.isEmpty()) {
+                kindRows[kinds.indexOf(c.faultKinds()[scoredIndex[f]])]++;
+            }
+        }
+        console.printf(Locale.ROOT, "   The same screen by classical detectors, fitted on the same %d complete rows of the training part "
+                + "(model space) and thresholded at the same held-out 99th percentile:%n", trainIndex.length);
+        StringBuilder head = new StringBuilder(String.format(Locale.ROOT, "   %-42s %7s %9s %6s %6s", "detector", "flagged",
+                "precision", "recall", "AUROC"));
+        if (!kinds.isEmpty()) {
+            head.append(" | recall / AUROC by fault kind:");
+            for (int k = 0; k < kinds.size(); k++) {
+                head.append(String.format(Locale.ROOT, " %s (%d rows)", kinds.get(k), kindRows[k]));
+            }
+        }
+        console.println(head);
+        boolean[] normal = new boolean[scoredIndex.length];
+        for (int f = 0; f < scoredIndex.length; f++) {
+            normal[f] = !fault[f];
+        }
+        ArrayNode out = a.putArray("detectors");
+        Map<String, List<org.backstep.report.RocPoint>> curves = new LinkedHashMap<>();
+        for (Detectors.Scores d : detectors) {
+            AnomalyScreen s = d == detectors.get(0) ? screen : new AnomalyScreen(ThresholdRule.quantile(MainJob.SCREEN_QUANTILE),
+                    Detectors.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE), d.heldOut(), d.screened(),
+                    AnomalyScreen.flaggedAt(d.screened(), Detectors.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE)), List.of(),
+                    Surprisal.none(table.names()));
+            int tp = 0;
+            int[] caught = new int[kinds.size()];
+            for (int f : s.flagged()) {
+                if (fault[f]) {
+                    tp++;
+                    if (!kinds.isEmpty()) {
+                        caught[kinds.indexOf(c.faultKinds()[scoredIndex[f]])]++;
+                    }
+                }
+            }
+            double precision = s.flagged().length == 0 ? 0 : tp / (double) s.flagged().length;
+            double recall = tp / (double) faultArray.length;
+            List<org.backstep.report.RocPoint> roc = s.roc(faultArray);
+            double auroc = s.rocArea(faultArray);
+            curves.put(String.format(Locale.ROOT, "%s, area %.2f", d.name(), auroc), roc);
+            ObjectNode o = out.addObject();
+            o.put("detector", d.name());
+            o.put("threshold", s.threshold());
+            o.put("flagged", s.flagged().length);
+            o.put("precision", precision);
+            o.put("recall", recall);
+            o.put("auroc", auroc);
+            StringBuilder line = new StringBuilder(String.format(Locale.ROOT, "   %-42s %7d %9.2f %6.2f %6.2f", d.name(),
+                    s.flagged().length, precision, recall, auroc));
+            if (!kinds.isEmpty()) {
+                ArrayNode byKind = o.putArray("byKind");
+                line.append(" |");
+                for (int k = 0; k < kinds.size(); k++) {
+                    String kind = kinds.get(k);
+                    boolean[] ofKind = new boolean[scoredIndex.length];
+                    for (int f : faultArray) {
+                        ofKind[f] = c.faultKinds()[scoredIndex[f]].equals(kind);
+                    }
+                    double kindRecall = caught[k] / (double) kindRows[k];
+                    double kindArea = Detectors.area(d.screened(), ofKind, normal);
+                    ObjectNode bk = byKind.addObject();
+                    bk.put("kind", kind);
+                    bk.put("rows", kindRows[k]);
+                    bk.put("caught", caught[k]);
+                    bk.put("recall", kindRecall);
+                    bk.put("auroc", kindArea);
+                    line.append(String.format(Locale.ROOT, "  %s %.2f / %.2f", kind, kindRecall, kindArea));
+                }
+            }
+            console.println(line);
+            if (d == detectors.get(0)) {
+                a.put("auroc", auroc);
+            }
+        }
+        charts.put(Report.ROC, MainJob.png(Charts.roc(curves)));
+    }
+
+    /**
+     * The columns to blame, measured: for every caught fault (a flagged row, whose columns the screen
+     * ranks by surprisal), the share whose injected column ranks first.
+     */
+    static void blame(DiffusionModel model, Table scoredRows, int[] scoredIndex, AnomalyScreen screen, MainJob.Config c,
+                              PrintStream console, ObjectNode a) {
+        if (c.faultColumns() == null) {
+            return;
+        }
+        int[] caught = java.util.Arrays.stream(screen.flagged()).filter(f -> c.faultColumns()[scoredIndex[f]] != null
+                && model.transform().names().contains(c.faultColumns()[scoredIndex[f]])).toArray();
+        ObjectNode b = a.putObject("blame");
+        b.put("caughtFaultRows", caught.length);
+        if (caught.length == 0) {
+            b.put("attributed", 0);
+            b.put("injectedColumnFirst", 0);
+            b.put("share", 0.0);
+            console.println("   No fault was caught, so no column was blamed.");
+            return;
+        }
+        int[] rows = caught;
+        // the screen's own figures (it ranks the columns of every flagged row): no second estimate
+        org.backstep.report.Surprisal sur = screen.surprisal();
+        int first = 0;
+        Map<String, int[]> byKind = new java.util.TreeMap<>();
+        for (int i = 0; i < rows.length; i++) {
+            String injected = c.faultColumns()[scoredIndex[rows[i]]];
+            boolean hit = sur.rankedForRow(rows[i]).get(0).column().equals(injected);
+            first += hit ? 1 : 0;
+            String kind = c.faultKinds() == null ? "fault" : c.faultKinds()[scoredIndex[rows[i]]];
+            int[] k = byKind.computeIfAbsent(kind, x -> new int[2]);
+            k[0]++;
+            k[1] += hit ? 1 : 0;
+        }
+        double share = first / (double) rows.length;
+        b.put("attributed", rows.length);
+        b.put("injectedColumnFirst", first);
+        b.put("share", share);
+        ArrayNode bk = b.putArray("byKind");
+        StringBuilder kinds = new StringBuilder();
+        byKind.forEach((k, v) -> {
+            ObjectNode o = bk.addObject();
+            o.put("kind", k);
+            o.put("attributed", v[0]);
+            o.put("injectedColumnFirst", v[1]);
+            kinds.append(String.format(Locale.ROOT, "%s%s %d of %d", kinds.length() == 0 ? "" : ", ", k, v[1], v[0]));
+        });
+        console.printf(Locale.ROOT, "   Columns to blame: of the %d caught fault rows, the injected column ranks first by surprisal"
+                        + " in %d (%.0f%%): %s%n", rows.length, first, 100 * share, kinds);
+    }
+
+    /** Lines of at most {@code width} characters, broken at spaces. */
+    static List<String> wrap(String text, int width) {
+        List<String> lines = new ArrayList<>();
+        StringBuilder line = new StringBuilder();
+        for (String word : text.split(" ")) {
+            if (line.length() > 0 && line.length() + 1 + word.length() > width) {
+                lines.add(line.toString());
+                line.setLength(0);
+            }
+            line.append(line.length() == 0 ? "" : " ").append(word);
+        }
+        if (line.length() > 0) {
+            lines.add(line.toString());
+        }
+        return lines;
+    }
+}
