@@ -2,6 +2,9 @@ package org.backstep;
 
 import org.backstep.internal.store.ModelFile;
 import org.backstep.internal.chain.Estimator;
+import org.backstep.internal.chain.GaussianBaseline;
+import org.backstep.option.Baseline;
+import org.backstep.option.ReverseVariance;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.option.FitOptions;
 import org.backstep.report.BoundReport;
@@ -46,7 +49,7 @@ import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 /**
- * A model saved in each model-file format version, 1 to 3 (test resources golden/, see the
+ * A model saved in each model-file format version, 1 to 4 (test resources golden/, see the
  * README.md there), must still load and give the same numbers: the exact bounds of fixed records
  * for a fixed seed, and samples for a fixed seed. {@link #regenerateGoldenFiles()} made the files;
  * it runs only with {@code -Dbackstep.regenerateGolden=true}.
@@ -94,7 +97,7 @@ class GoldenModelTest {
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
     @ParameterizedTest(name = "format version {0}")
-    @ValueSource(ints = {1, 2, 3})
+    @ValueSource(ints = {1, 2, 3, 4})
     void goldenModelStillLoadsAndGivesTheSameNumbers(int version) throws Exception {
         String MODEL = model(version);
         String TRAINING = training(version);
@@ -104,7 +107,7 @@ class GoldenModelTest {
         // the container: the three entries of every format version (ModelFile's Javadoc)
         assertEquals(new TreeSet<>(List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS, ModelFile.SUMS)), zipEntries(file),
                 "entries of the golden file");
-        assertEquals(3, ModelFile.VERSION, "this test pins format versions 1 to 3; add a golden file for a new version");
+        assertEquals(4, ModelFile.VERSION, "this test pins format versions 1 to 4; add a golden file for a new version");
         assertTrue(ModelFile.OLDEST_VERSION <= version, "version " + version + " must still load");
         assertEquals(version, expected.path("formatVersion").asInt());
 
@@ -119,6 +122,8 @@ class GoldenModelTest {
         assertEquals(FIT_SEED, o.seed());
         assertEquals(expected.path("options").path("variance").asText(), o.variance().name());
         assertEquals(expected.path("options").path("loss").asText(), o.loss().name());
+        // version 4 added the closed-form part (its golden model uses the fitted Gaussian); older files have none
+        assertEquals(version >= 4 ? expected.path("options").path("baseline").asText() : "NONE", o.baseline().name());
         assertEquals(List.of("supply_c", "return_c", "door_open"), model.transform().names());
         assertEquals(List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.BINARY), model.transform().kinds());
 
@@ -179,7 +184,7 @@ class GoldenModelTest {
     }
 
     @ParameterizedTest(name = "format version {0}")
-    @ValueSource(ints = {1, 2, 3})
+    @ValueSource(ints = {1, 2, 3, 4})
     void goldenFiguresHoldForADoublePrecisionNetwork(int version) throws Exception {
         String EXPECTED = expected(version);
         String MODEL = model(version);
@@ -189,7 +194,8 @@ class GoldenModelTest {
         JsonNode expected = JSON.readTree(resource(EXPECTED));
         DiffusionModel model = DiffusionModel.load(Path.of(resource(MODEL).toURI()));
         DiffusionModel reference = DiffusionModel.withEstimator(model.options(), model.transform(),
-                doublePrecision(model.parts().network().shape(), model.parts().network().parameters()));
+                withBaseline(doublePrecision(model.parts().network().shape(), model.parts().network().parameters()),
+                        model.parts().baseline(), model.options().variance() == ReverseVariance.LEARNED));
         double tol = REFERENCE_SHARE * GOLDEN_REL_TOL;
         Table records = recordsOf(expected.path("records"), model);
         assertClose(doubles(expected.path("boundNats")), reference.bound(records, expected.path("boundSeed").asLong()).nats(),
@@ -252,7 +258,7 @@ class GoldenModelTest {
 
         DiffusionModel fitted = Backstep.builder().continuousSchedule(goldenSchedule()).hidden(16, 16)
                 .timeEmbedding(8, StepInput.EVERY_BLOCK).epochs(EPOCHS).batchSize(64).learningRate(3e-3)
-                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).fit(back);
+                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).baseline(Baseline.FITTED_GAUSSIAN).fit(back);
         Path modelFile = folder.resolve(MODEL);
         fitted.save(modelFile);
         DiffusionModel model = DiffusionModel.load(modelFile);
@@ -268,6 +274,7 @@ class GoldenModelTest {
         ObjectNode opts = root.putObject("options");
         opts.put("variance", model.options().variance().name());
         opts.put("loss", model.options().loss().name());
+        opts.put("baseline", model.options().baseline().name());
         ObjectNode rec = root.putObject("records");
         ArrayNode names = rec.putArray("names");
         records.names().forEach(names::add);
@@ -311,6 +318,34 @@ class GoldenModelTest {
         ArrayNode notes = prov.putArray("notes");
         p.notes().forEach(notes::add);
         Files.write(folder.resolve(EXPECTED), JSON.writeValueAsBytes(root));
+    }
+
+    /** The estimator plus the model's closed-form part, as the model's own NetworkEstimator adds it. */
+    static Estimator withBaseline(Estimator inner, GaussianBaseline baseline, boolean learned) {
+        if (baseline == null) {
+            return inner;
+        }
+        return new Estimator() {
+            @Override
+            public int inputs() {
+                return inner.inputs();
+            }
+
+            @Override
+            public int outputs() {
+                return inner.outputs();
+            }
+
+            @Override
+            public void predict(INDArray xt, int[] steps, INDArray out) {
+                inner.predict(xt, steps, out);
+                int rows = (int) xt.rows();
+                float[] x = xt.dup('c').data().asFloat();
+                float[] o = out.dup('c').data().asFloat();
+                baseline.addInPlace(x, inputs(), steps, o, outputs(), rows, learned);
+                out.assign(org.nd4j.linalg.factory.Nd4j.create(o, new long[] {rows, outputs()}, 'c'));
+            }
+        };
     }
 
     /**

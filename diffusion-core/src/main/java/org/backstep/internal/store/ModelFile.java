@@ -2,6 +2,7 @@ package org.backstep.internal.store;
 
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
+import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.io.AtomicFiles;
 import org.backstep.io.JsonFields;
@@ -11,6 +12,7 @@ import org.backstep.io.ModelFileException;
 import org.backstep.training.ProvenanceJson;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.Baseline;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.StepSampling;
 import org.backstep.option.TrainingLoss;
@@ -54,7 +56,7 @@ import java.util.zip.ZipFile;
 import java.util.zip.ZipOutputStream;
 
 /**
- * The Backstep model file, format version 3 (versions 1 and 2 still load): a zip container of
+ * The Backstep model file, format version 4 (versions 1 to 3 still load): a zip container of
  * exactly three entries.
  * <pre>
  *   model.json        the manifest: format name and version, every fit option, both schedules'
@@ -64,6 +66,11 @@ import java.util.zip.ZipOutputStream;
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
+ * Version 4 added the option {@code baseline} (the closed-form part of the reverse model; a file of
+ * an older version is read as {@code NONE}, what every older release did) and, when that option is
+ * {@code FITTED_GAUSSIAN}, the object {@code gaussianBaseline} with the fitted {@code mean},
+ * {@code covariance} (rows) and {@code shrinkage} of the continuous model columns; the per-step
+ * factors are recomputed from them and the schedule on load.
  * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
@@ -95,7 +102,7 @@ import java.util.zip.ZipOutputStream;
 public final class ModelFile {
 
     public static final String FORMAT = "backstep-model";
-    public static final int VERSION = 3;
+    public static final int VERSION = 4;
     /** The oldest version this release reads. */
     public static final int OLDEST_VERSION = 1;
     public static final String MANIFEST = "model.json";
@@ -187,6 +194,7 @@ public final class ModelFile {
         new TreeSet<>(o.logColumns()).forEach(logs::add);
         opts.put("seed", o.seed());
         opts.put("threads", o.threads());
+        opts.put("baseline", o.baseline().name());
 
         ArrayNode cols = root.putArray("columns");
         TableTransform tr = model.transform();
@@ -221,6 +229,22 @@ public final class ModelFile {
             for (double v : model.range().max()) {
                 hi.add(v);
             }
+        }
+        GaussianBaseline gb = model.baseline();
+        if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN) {
+            ObjectNode g = root.putObject("gaussianBaseline");
+            ArrayNode mean = g.putArray("mean");
+            for (double v : gb.mean()) {
+                mean.add(v);
+            }
+            ArrayNode cov = g.putArray("covariance");
+            for (double[] row : gb.covariance()) {
+                ArrayNode r = cov.addArray();
+                for (double v : row) {
+                    r.add(v);
+                }
+            }
+            g.put("shrinkage", gb.shrinkage());
         }
         root.set("provenance", ProvenanceJson.write(model.provenance()));
         return root;
@@ -292,8 +316,17 @@ public final class ModelFile {
             }
             try {
                 ReverseNetwork network = ReverseNetwork.fromParameters(m.shape, m.options.steps(), weights);
-                return m.range == null ? new ModelParts(m.options, m.transform, network, new NetworkEstimator(network),
-                        m.provenance) : ModelParts.ofNetwork(m.options, m.transform, network, m.provenance, m.range);
+                GaussianBaseline baseline = switch (m.options.baseline()) {
+                    case NONE -> null;
+                    case STANDARD_NORMAL -> GaussianBaseline.standardNormal(m.transform.modelledContinuous().length,
+                            m.options.continuousSchedule());
+                    case FITTED_GAUSSIAN -> GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, m.baselineMean,
+                            m.baselineCovariance, m.baselineShrinkage, m.options.continuousSchedule());
+                };
+                boolean learned = m.options.variance() == ReverseVariance.LEARNED;
+                return m.range == null ? new ModelParts(m.options, m.transform, network,
+                        new NetworkEstimator(network, baseline, learned), m.provenance)
+                        : ModelParts.ofNetwork(m.options, m.transform, network, baseline, m.provenance, m.range);
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(MANIFEST, "inconsistent content: " + e.getMessage(), e);
             }
@@ -308,7 +341,8 @@ public final class ModelFile {
 
     /** The manifest's content, every field checked; the network is not built yet. */
     private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
-                            Provenance provenance) {
+                            Provenance provenance, double[] baselineMean, double[][] baselineCovariance,
+                            double baselineShrinkage) {
     }
 
     private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
@@ -346,7 +380,8 @@ public final class ModelFile {
                     int32(o, opt, v1 ? "validationDraws" : "checkpointDraws", 1, Limits.MAX_DRAWS),
                     int32(o, opt, "patience", 0, Integer.MAX_VALUE), logs,
                     JsonFields.whole(JsonFields.field(o, "seed", opt), opt + ".seed", Long.MIN_VALUE, Long.MAX_VALUE),
-                    int32(o, opt, "threads", 1, Limits.MAX_THREADS));
+                    int32(o, opt, "threads", 1, Limits.MAX_THREADS),
+                    version >= 4 ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE);
         } catch (IllegalArgumentException e) {
             // the builder's own validation refused them
             throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);
@@ -428,8 +463,34 @@ public final class ModelFile {
         if (version >= 3 && root.has("trainingRange")) {
             range = readRange(root.get("trainingRange"), dc, db);
         }
+        double[] baselineMean = null;
+        double[][] baselineCovariance = null;
+        double baselineShrinkage = 0.0;
+        if (options.baseline() == Baseline.FITTED_GAUSSIAN) {
+            String gw = MANIFEST + " gaussianBaseline";
+            JsonNode g = JsonFields.object(JsonFields.field(root, "gaussianBaseline", MANIFEST), gw);
+            JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", gw), gw + ".mean", dc, dc);
+            JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", gw), gw + ".covariance", dc, dc);
+            baselineMean = new double[dc];
+            baselineCovariance = new double[dc][dc];
+            for (int i = 0; i < dc; i++) {
+                baselineMean[i] = JsonFields.number(mean.get(i), gw + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
+                JsonNode row = JsonFields.array(cov.get(i), gw + ".covariance[" + i + "]", dc, dc);
+                for (int j = 0; j < dc; j++) {
+                    baselineCovariance[i][j] = JsonFields.number(row.get(j), gw + ".covariance[" + i + "][" + j + "]",
+                            -Float.MAX_VALUE, Float.MAX_VALUE);
+                }
+            }
+            baselineShrinkage = JsonFields.number(JsonFields.field(g, "shrinkage", gw), gw + ".shrinkage", 0.0, 1.0);
+            try {
+                GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, baselineMean, baselineCovariance, baselineShrinkage, cont);
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(gw, e.getMessage(), e);
+            }
+        }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
-        return new Manifest(options, transform, shape, range, provenance);
+        return new Manifest(options, transform, shape, range, provenance, baselineMean, baselineCovariance,
+                baselineShrinkage);
     }
 
     private static ModelRange readRange(JsonNode node, int dc, int db) throws ModelFileException {

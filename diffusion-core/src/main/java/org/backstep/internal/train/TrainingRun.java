@@ -2,6 +2,7 @@ package org.backstep.internal.train;
 
 import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
+import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
@@ -69,6 +70,8 @@ public final class TrainingRun implements AutoCloseable {
     private final NetworkShape shape;
     private final ReverseNetwork net;
     private final Chain chain;
+    private final GaussianBaseline baseline;   // null without a closed-form part
+    private final boolean learned;
     private final int batch;
     private final int batchesPerEpoch;
     private final long budgetUpdates;
@@ -145,9 +148,11 @@ public final class TrainingRun implements AutoCloseable {
         steps = options.steps();
         int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
         shape = new NetworkShape(d, options.hidden(), outputs, options.embeddingSize(), options.stepInput());
-        net = ReverseNetwork.create(shape, steps, options.seed());
+        baseline = GaussianBaseline.fit(options.baseline(), x0, n, d, dc, options.continuousSchedule());
+        learned = options.variance() == ReverseVariance.LEARNED;
+        net = ReverseNetwork.create(shape, steps, options.seed(), baseline != null);
         chain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                options.variance(), new NetworkEstimator(net));
+                options.variance(), new NetworkEstimator(net, baseline, learned));
 
         batch = Math.min(options.batchSize(), n);
         batchesPerEpoch = n / batch;
@@ -187,7 +192,7 @@ public final class TrainingRun implements AutoCloseable {
         ema = WeightAverage.of(net.parameterView(), options.emaDecay());
         rng = new SplittableRandom(options.seed());
         sampler = new StepSampler(steps, options.stepSampling());
-        terms = new LossGradient(chain, options, batch);
+        terms = new LossGradient(chain, options, batch, baseline);
         xtArray = Nd4j.create(DataType.FLOAT, batch, d);
         xb = new float[batch * d];
         xt = new float[batch * d];
@@ -279,7 +284,7 @@ public final class TrainingRun implements AutoCloseable {
             float[] avg = ema.average();
             ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
             Chain evalChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                    options.variance(), new NetworkEstimator(averaged));
+                    options.variance(), new NetworkEstimator(averaged, baseline, learned));
             BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
                     options.seed() + 1, options.threads());
             double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
@@ -321,7 +326,7 @@ public final class TrainingRun implements AutoCloseable {
     private void refillGaps() {
         ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, ema.average());
         Chain averagedChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                options.variance(), new NetworkEstimator(averaged));
+                options.variance(), new NetworkEstimator(averaged, baseline, learned));
         gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills);
         refills++;
     }
@@ -365,7 +370,7 @@ public final class TrainingRun implements AutoCloseable {
         ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
         Provenance provenance = Provenance.ofFit(table.rows(), table.sha256(), n, nv, Trainer.seconds(started),
                 history, notes);
-        return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, provenance,
+        return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, baseline, provenance,
                 ModelRange.of(x0, n, d, dc)), step,
                 step / (double) batchesPerEpoch, updateNanos / 1e9);
     }
