@@ -108,13 +108,17 @@ public final class GaussianBaseline {
     }
 
     /**
-     * The baseline of {@code kind} for these training rows, or null for {@link Baseline#NONE}.
+     * The baseline of {@code kind} for these training rows, or null for {@link Baseline#NONE} or
+     * when no continuous column is diffused.
      *
      * @param x0 n rows of d model-space cells, continuous first (not modified)
      * @param schedule the training schedule of the continuous columns
      */
     public static GaussianBaseline fit(Baseline kind, float[] x0, int n, int d, int dc, NoiseSchedule schedule) {
         Require.notNull("kind", kind);
+        if (dc == 0) {
+            return null;    // binary columns only: nothing to add, and the network is initialized as without a baseline
+        }
         return switch (kind) {
             case NONE -> null;
             case STANDARD_NORMAL -> standardNormal(dc, schedule);

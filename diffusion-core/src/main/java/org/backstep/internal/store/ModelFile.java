@@ -316,7 +316,7 @@ public final class ModelFile {
             }
             try {
                 ReverseNetwork network = ReverseNetwork.fromParameters(m.shape, m.options.steps(), weights);
-                GaussianBaseline baseline = switch (m.options.baseline()) {
+                GaussianBaseline baseline = m.transform.modelledContinuous().length == 0 ? null : switch (m.options.baseline()) {
                     case NONE -> null;
                     case STANDARD_NORMAL -> GaussianBaseline.standardNormal(m.transform.modelledContinuous().length,
                             m.options.continuousSchedule());
@@ -466,7 +466,7 @@ public final class ModelFile {
         double[] baselineMean = null;
         double[][] baselineCovariance = null;
         double baselineShrinkage = 0.0;
-        if (options.baseline() == Baseline.FITTED_GAUSSIAN) {
+        if (options.baseline() == Baseline.FITTED_GAUSSIAN && dc > 0) {
             String gw = MANIFEST + " gaussianBaseline";
             JsonNode g = JsonFields.object(JsonFields.field(root, "gaussianBaseline", MANIFEST), gw);
             JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", gw), gw + ".mean", dc, dc);
