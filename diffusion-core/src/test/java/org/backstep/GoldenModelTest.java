@@ -337,6 +337,11 @@ class GoldenModelTest {
             }
 
             @Override
+            public GaussianBaseline baseline() {
+                return baseline;
+            }
+
+            @Override
             public void predict(INDArray xt, int[] steps, INDArray out) {
                 inner.predict(xt, steps, out);
                 int rows = (int) xt.rows();

@@ -313,6 +313,37 @@ public final class GaussianBaseline {
         }
     }
 
+    /**
+     * @param step the training-schedule step t
+     * @return the gain A_t = U diag(sqrt(1 - abar_t) / (abar_t l_k + 1 - abar_t)) U^T of epsilon-hat =
+     *     A_t (x_t - sqrt(abar_t) m), dc x dc, symmetric (a new array)
+     */
+    double[][] gain(int step) {
+        double[][] a = new double[dc][dc];
+        double[] sc = scale[step];
+        for (int i = 0; i < dc; i++) {
+            for (int j = 0; j <= i; j++) {
+                double v = 0.0;
+                for (int k = 0; k < dc; k++) {
+                    v += basis[i][k] * sc[k] * basis[j][k];
+                }
+                a[i][j] = v;
+                a[j][i] = v;
+            }
+        }
+        return a;
+    }
+
+    /** @return the v of each column at training-schedule step t (a copy) */
+    double[] v(int step) {
+        return v[step].clone();
+    }
+
+    /** @return m (not a copy: callers in this package only read it) */
+    double[] meanView() {
+        return mean;
+    }
+
     /** @return the kind of baseline */
     public Baseline kind() {
         return kind;

@@ -85,9 +85,9 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
                 options.variance() == org.backstep.option.ReverseVariance.LEARNED), provenance, range);
     }
 
-    /** @return the closed-form part of the estimator, or null when it has none (or is not a network) */
+    /** @return the closed-form part of the estimator, or null when it has none */
     public GaussianBaseline baseline() {
-        return estimator instanceof NetworkEstimator n ? n.baseline() : null;
+        return estimator.baseline();
     }
 
     /** @return the full reverse chain of these parts */

@@ -41,6 +41,7 @@ public final class NetworkEstimator implements Estimator {
     }
 
     /** @return the closed-form part, or null */
+    @Override
     public GaussianBaseline baseline() {
         return baseline;
     }
