@@ -20,7 +20,8 @@ import org.backstep.table.Table;
  * requested {@link Lever}, against the Gaussian fitted on the training rows (mean and population
  * covariance, the maximum-likelihood estimate; density by commons-math3) and the true density.
  * Figures are nats per test record in the data's own units (Backstep: the exact bound, all T
- * terms, mean over the bound seeds, the lever's log-Jacobian taken off).
+ * terms, mean over the bound seeds, the lever's log-Jacobian taken off; rec sd: the per-record sd
+ * over the bound seeds, root mean square over the records).
  *
  * <p>The covariance: S = D C D with C the correlation of A A^T / 13 + 0.3 I, A a 13 x 13 matrix of
  * standard normal draws (Well19937c seed 13), and sd_j = 1 + j / 2, means mu_j = 3 j: strongly and
@@ -88,6 +89,7 @@ public final class GaussianCheck {
                 + "data units%n  true density %.3f; fitted Gaussian (MLE) %.3f%n", TRAIN, TEST, trueNll, fittedNll));
         for (Lever lever : levers) {
             List<Double> perSeed = new ArrayList<>();
+            List<Double> recordSd = new ArrayList<>();
             double seconds = 0;
             for (long seed : seeds) {
                 Lever.Encoding enc = lever.fit(trainT);
@@ -97,19 +99,33 @@ public final class GaussianCheck {
                 double[] lj = enc.logJacobian(testT);
                 Table encTest = enc.encode(testT);
                 double sum = 0;
+                double[][] per = new double[boundSeeds][];
                 for (int b = 1; b <= boundSeeds; b++) {
                     double[] n = m.bound(encTest, BoundOptions.exact(), b).natsOriginalUnits();
+                    per[b - 1] = n;
                     for (int i = 0; i < n.length; i++) {
                         sum += (n[i] - lj[i]) / n.length;
                     }
                 }
+                double squares = 0;
+                for (int i = 0; i < TEST; i++) {
+                    double[] across = new double[boundSeeds];
+                    for (int b = 0; b < boundSeeds; b++) {
+                        across[b] = per[b][i];
+                    }
+                    double sd = Measures.sd(across);
+                    squares += sd * sd;
+                }
+                recordSd.add(Math.sqrt(squares / TEST));
                 perSeed.add(sum / boundSeeds);
-                System.err.printf(Locale.ROOT, "gaussian13, %s, seed %d: %.3f%n", lever, seed, sum / boundSeeds);
+                System.err.printf(Locale.ROOT, "gaussian13, %s, seed %d: %.3f (rec sd %.3f)%n", lever, seed,
+                        sum / boundSeeds, Math.sqrt(squares / TEST));
             }
             double avg = perSeed.stream().mapToDouble(Double::doubleValue).average().orElse(Double.NaN);
-            out.append(String.format(Locale.ROOT, "  %-28s %.3f (%s; %+.3f vs fitted Gaussian), fit %.1f s per fit%n",
+            out.append(String.format(Locale.ROOT, "  %-28s %.3f (%s; %+.3f vs fitted Gaussian), rec sd %.3f, fit %.1f s per fit%n",
                     lever, avg, perSeed.stream().map(v -> String.format(Locale.ROOT, "%.3f", v)).toList(),
-                    avg - fittedNll, seconds / seeds.size()));
+                    avg - fittedNll, recordSd.stream().mapToDouble(Double::doubleValue).average().orElse(Double.NaN),
+                    seconds / seeds.size()));
         }
         System.out.print(out);
     }
