@@ -53,7 +53,8 @@ import org.backstep.table.Table;
  * </ul>
  *
  * <p>Usage: {@code QualityBenchmark --baselines FILE --data DIR --labels DIR [--out FILE]
- * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--bound-seeds 5]}.
+ * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--only-levers A,B]
+ * [--density-only] [--bound-seeds 5]} ({@code --density-only}: no imputation and no anomaly ranks).
  * Progress goes to standard error; the table to standard output and, with {@code --out}, to a file.
  */
 public final class QualityBenchmark {
@@ -137,7 +138,7 @@ public final class QualityBenchmark {
                     if (lever != Lever.DEFAULTS && split.train().continuousColumns().length == 0) {
                         continue; // every lever maps continuous columns; the table has none
                     }
-                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines);
+                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines, opt.containsKey("--density-only"));
                     runs.add(run);
                     runLines.append(runLine(run)).append('\n');
                     System.err.printf(Locale.ROOT, "%s, %s, seed %d: %.3f nats (rec sd %.3f), rmse %.3f, auroc %.4f, fit %.1f s%n",
@@ -156,7 +157,8 @@ public final class QualityBenchmark {
         }
     }
 
-    static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines) {
+    static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines,
+                       boolean densityOnly) {
         Table train = split.train();
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
@@ -195,7 +197,7 @@ public final class QualityBenchmark {
         double coverage = Double.NaN;
         double expected = Double.NaN;
         double imputeSeconds = Double.NaN;
-        if (enc.imputes()) {
+        if (enc.imputes() && !densityOnly) {
             List<int[]> hidden = new ArrayList<>();
             for (JsonNode cell : baselines.path("tables").path(split.table().key()).path("imputation").path("hidden")) {
                 hidden.add(new int[] {cell.get(0).asInt(), cell.get(1).asInt()});
@@ -259,7 +261,7 @@ public final class QualityBenchmark {
         double r95 = Double.NaN;
         double aurocBound = Double.NaN;
         double anomalyFit = Double.NaN;
-        if (split.labels() != null) {
+        if (split.labels() != null && !densityOnly) {
             Table normalTrain = split.normalTrain();
             Lever.Encoding encA = lever.fit(normalTrain);
             long a0 = System.nanoTime();
@@ -329,7 +331,7 @@ public final class QualityBenchmark {
             if (!a.startsWith("--")) {
                 throw new IllegalArgumentException("argument " + (i + 1) + " is '" + a + "'; expected an option --NAME");
             }
-            if (a.equals("--levers")) {
+            if (a.equals("--levers") || a.equals("--density-only")) {
                 out.put(a, "");
             } else {
                 if (i + 1 >= args.length) {
