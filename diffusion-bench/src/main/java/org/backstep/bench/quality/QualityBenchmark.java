@@ -54,7 +54,8 @@ import org.backstep.table.Table;
  *
  * <p>Usage: {@code QualityBenchmark --baselines FILE --data DIR --labels DIR [--out FILE]
  * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--only-levers A,B]
- * [--density-only] [--bound-seeds 5]} ({@code --density-only}: no imputation and no anomaly ranks).
+ * [--density-only] [--no-anomaly] [--bound-seeds 5]} ({@code --density-only}: no imputation and no
+ * anomaly ranks; {@code --no-anomaly}: no anomaly ranks).
  * Progress goes to standard error; the table to standard output and, with {@code --out}, to a file.
  */
 public final class QualityBenchmark {
@@ -138,7 +139,8 @@ public final class QualityBenchmark {
                     if (lever != Lever.DEFAULTS && split.train().continuousColumns().length == 0) {
                         continue; // every lever maps continuous columns; the table has none
                     }
-                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines, opt.containsKey("--density-only"));
+                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines, opt.containsKey("--density-only"),
+                            opt.containsKey("--density-only") || opt.containsKey("--no-anomaly"));
                     runs.add(run);
                     runLines.append(runLine(run)).append('\n');
                     System.err.printf(Locale.ROOT, "%s, %s, seed %d: %.3f nats (rec sd %.3f), rmse %.3f, auroc %.4f, fit %.1f s%n",
@@ -158,7 +160,7 @@ public final class QualityBenchmark {
     }
 
     static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines,
-                       boolean densityOnly) {
+                       boolean densityOnly, boolean noAnomaly) {
         Table train = split.train();
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
@@ -261,7 +263,7 @@ public final class QualityBenchmark {
         double r95 = Double.NaN;
         double aurocBound = Double.NaN;
         double anomalyFit = Double.NaN;
-        if (split.labels() != null && !densityOnly) {
+        if (split.labels() != null && !noAnomaly) {
             Table normalTrain = split.normalTrain();
             Lever.Encoding encA = lever.fit(normalTrain);
             long a0 = System.nanoTime();
@@ -331,7 +333,7 @@ public final class QualityBenchmark {
             if (!a.startsWith("--")) {
                 throw new IllegalArgumentException("argument " + (i + 1) + " is '" + a + "'; expected an option --NAME");
             }
-            if (a.equals("--levers") || a.equals("--density-only")) {
+            if (a.equals("--levers") || a.equals("--density-only") || a.equals("--no-anomaly")) {
                 out.put(a, "");
             } else {
                 if (i + 1 >= args.length) {
