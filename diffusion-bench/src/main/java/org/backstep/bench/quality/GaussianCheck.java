@@ -118,7 +118,7 @@ public final class GaussianCheck {
                 }
                 recordSd.add(Math.sqrt(squares / TEST));
                 perSeed.add(sum / boundSeeds);
-                System.err.printf(Locale.ROOT, "gaussian13, %s, seed %d: %.3f (rec sd %.3f)%n", lever, seed,
+                System.err.printf(Locale.ROOT, "gaussian13, %s, seed %d: %.5f (rec sd %.3f)%n", lever, seed,
                         sum / boundSeeds, Math.sqrt(squares / TEST));
             }
             double avg = perSeed.stream().mapToDouble(Double::doubleValue).average().orElse(Double.NaN);
