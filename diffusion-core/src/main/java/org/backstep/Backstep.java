@@ -364,7 +364,12 @@ public final class Backstep {
          * Validates every option, draws the checkpoint rows {@link #checkpointFraction(double)}
          * (seeded), and fits.
          *
-         * @param training the table to model; rows with a missing cell are left out of training
+         * @param training the table to model; rows with a missing cell are trained on, their missing
+         *     cells filled by stochastic EM (drawn from the model given the row's observed cells, and
+         *     never a target of the loss; the provenance's notes say how many rows and cells); a row
+         *     with no observed cell, or with a cell beyond the model space's range, is left out with a
+         *     note; checkpoint rows with a missing cell are not used, since a bound needs every cell
+         *     (when none of them is complete, they are trained on instead)
          * @return the fitted model
          * @throws IllegalArgumentException naming the first bad option or the table's problem
          */
@@ -377,7 +382,7 @@ public final class Backstep {
         /**
          * Validates every option and fits, evaluating the held-out bound on the given rows.
          *
-         * @param training the table to model
+         * @param training the table to model (rows with a missing cell are trained on, as in {@link #fit(Table)})
          * @param checkpointRows rows with the same columns on which the kept weights are chosen (not trained on)
          * @return the fitted model
          * @throws IllegalArgumentException naming the first bad option or the tables' problem
@@ -418,7 +423,7 @@ public final class Backstep {
          * <p>Cost: the training budget times the number of T values, plus for each model an exact
          * bound (T network evaluations per held-out row) and one sampling run (the same).
          *
-         * @param training the table to model (rows with a missing cell are left out of training)
+         * @param training the table to model (rows with a missing cell are trained on, as in {@link #fit(Table)})
          * @param heldOut rows not trained on, with the training table's columns; at least 2 complete rows
          * @param budget the training each model gets
          * @param tolerance in nats per dimension, at least 0

@@ -5,10 +5,12 @@ import org.backstep.internal.chain.Denoiser;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.Imputer;
+import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.plan.StepPlanner;
 import org.backstep.internal.screen.DriftTests;
 import org.backstep.internal.screen.Screener;
+import org.backstep.internal.screen.Scoring;
 import org.backstep.internal.screen.SurprisalEstimator;
 import org.backstep.internal.store.ModelFile;
 import org.backstep.io.ModelFileException;
@@ -16,6 +18,7 @@ import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.DriftOptions;
 import org.backstep.option.FitOptions;
+import org.backstep.option.FlowOptions;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.Limits;
 import org.backstep.option.SamplingPlan;
@@ -28,11 +31,13 @@ import org.backstep.report.BoundReport;
 import org.backstep.report.CheckedSample;
 import org.backstep.report.Denoising;
 import org.backstep.report.DriftReport;
+import org.backstep.report.FlowLikelihood;
 import org.backstep.report.Imputation;
 import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
 import org.backstep.report.Surprisal;
 import org.backstep.schedule.Require;
+import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
 import org.backstep.training.EpochRecord;
@@ -40,6 +45,7 @@ import org.backstep.training.Provenance;
 
 import java.io.IOException;
 import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
 import java.util.stream.IntStream;
@@ -212,6 +218,102 @@ public final class DiffusionModel {
     }
 
     /**
+     * The bound of each record by the given method, each record with its own seed: record i draws
+     * its x_t (and, for a sampled bound, its steps) from a generator seeded by {@code rowSeeds[i]}
+     * alone, the draws {@code bound(recordI, how, rowSeeds[i])} makes on a one-record table. So a
+     * record's draws depend only on its seed, not on the other records, their order or the batch
+     * size, while the network still sees the records in batches (one-record calls cost about 17
+     * times as much per record; {@code diffusion-bench/results/spark-scoring.txt}). For a
+     * distributed job whose rows carry a stable key: seed each row from the key, and any
+     * partitioning gives the same draws. The figures agree with the one-record call's to the
+     * float32 network's rounding, not bit for bit: OpenBLAS rounds a row's products differently
+     * with its place in the matrix (measured: up to 2e-6 nats; {@code RowSeedBoundTest}).
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param records complete records with the training columns
+     * @param how the method
+     * @param rowSeeds one seed per record (not modified)
+     * @return the per-record bound; its per-step means (exact method) average over the records
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, a strided
+     *     step count above T, or a seed count other than the record count
+     */
+    public BoundReport bound(Table records, BoundOptions how, long[] rowSeeds) {
+        Require.notNull("how", how);
+        Require.notNull("rowSeeds", rowSeeds);
+        Require.inRange("steps", how.steps(), 0, steps());
+        checkComplete(records, "records");
+        if (rowSeeds.length != records.rows()) {
+            throw new IllegalArgumentException("rowSeeds has " + rowSeeds.length + " seeds; expected "
+                    + records.rows() + " (one per record)");
+        }
+        return engine.bound(records, how, rowSeeds.clone());
+    }
+
+    /**
+     * The exact likelihood of each record under the probability-flow ODE of the model's continuous
+     * columns ({@link Defaults#flow()}): -log p(x) = -log N(x(T); 0, I) - integral of the divergence
+     * of the ODE's drift along the path from the record to the prior (Song et al. 2021, "Score-Based
+     * Generative Modeling through Stochastic Differential Equations", section 4.3 and appendix D.2,
+     * eq. 39), with the exact trace of the estimator's Jacobian (forward-mode tangents, one per
+     * continuous column) and commons-math3's Dormand-Prince 5(4) integrator. See
+     * {@link FlowLikelihood} for what the figure is: an exact likelihood (up to the integrator's
+     * tolerance) of the flow that shares this model's estimator, not a bound on the ancestral
+     * chain's likelihood that {@link #bound(Table, long)} bounds.
+     *
+     * <p>No seed: it draws nothing. The same record and model give the same figure, bit for bit,
+     * whatever the other records and the thread count. Cost: each record is integrated on its own,
+     * a few hundred to a few thousand evaluations of the estimator and its Jacobian trace (about
+     * Dc forward passes each), so far more than one exact bound; the ratio for each open-data table
+     * is in diffusion-bench/results/flow-likelihood.txt.
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param records complete records with the training columns
+     * @return the per-record negative log-likelihood
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, or the
+     *     model's binary columns (the flow covers continuous columns only; use
+     *     {@link #bound(Table, long)} for a table with binary columns)
+     * @throws IllegalStateException naming the row, if its integration does not converge
+     */
+    public FlowLikelihood flowLikelihood(Table records) {
+        return flowLikelihood(records, Defaults.flow());
+    }
+
+    /**
+     * {@link #flowLikelihood(Table)} with the integrator's tolerances chosen.
+     *
+     * @param records complete records with the training columns
+     * @param how the tolerances
+     * @return the per-record negative log-likelihood
+     * @throws IllegalArgumentException naming a column mismatch, the first missing cell, or the
+     *     model's binary columns
+     * @throws IllegalStateException naming the row, if its integration does not converge
+     */
+    public FlowLikelihood flowLikelihood(Table records, FlowOptions how) {
+        Require.notNull("how", how);
+        checkComplete(records, "records");
+        List<String> discrete = new ArrayList<>();
+        for (int j : transform().modelledContinuous()) {
+            if (records.kind(j) == ColumnKind.INTEGER) {
+                discrete.add(transform().names().get(j));
+            }
+        }
+        IntStream.concat(IntStream.of(transform().modelledBinary()), IntStream.of(transform().modelledCategorical()))
+                .forEach(j -> discrete.add(transform().names().get(j)));
+        if (!discrete.isEmpty()) {
+            throw new IllegalArgumentException("records: the model diffuses " + discrete.size() + " binary, integer or"
+                    + " categorical column(s) " + discrete + "; the flow likelihood covers continuous columns only (the"
+                    + " ODE needs a density): use bound(records, seed) for this model");
+        }
+        ProbabilityFlow flow = new ProbabilityFlow(engine.parts(), how.relativeTolerance(), how.absoluteTolerance());
+        float[] x = engine.modelSpace(records);
+        ProbabilityFlow.Result r = flow.evaluate(x, records.rows(), options().threads());
+        return FlowLikelihood.of(engine.chain().continuousColumns(), how.relativeTolerance(), how.absoluteTolerance(),
+                r.nats, r.prior, transform().logJacobian(records), r.evaluations);
+    }
+
+    /**
      * Screens records by {@link Defaults#screening()}: each record's score is its bound (a Monte
      * Carlo bound of at most T steps, with common random numbers: every record shares the bound's
      * draws, so its score is a fixed function of the record and the seed); a record is flagged when
@@ -239,7 +341,10 @@ public final class DiffusionModel {
      * of the held-out scores, an expected false-positive rate, or a score; see
      * {@link ThresholdRule}), the bound, missing cells refused or imputed ({@link MissingCells}),
      * and the surprisal of the flagged records ({@link SurprisalOptions}, none with 0 draws).
-     * Held-out and screened records are scored with the same seed, so with the same draws.
+     * Held-out and screened records are scored with the same seed, so with the same draws. With
+     * {@link ScreeningOptions#withFlow} each record is scored by its flow likelihood instead
+     * ({@link #flowLikelihood(Table, FlowOptions)}: no draws, continuous columns only, far costlier;
+     * {@link Defaults#SCREENING_SCORE} says why the bound is the default).
      *
      * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
      *
@@ -333,6 +438,73 @@ public final class DiffusionModel {
         Require.atLeast("reference rows", reference.rows(), 2);
         Require.atLeast("batch rows", batch.rows(), 2);
         return DriftTests.drift(engine, reference, batch, how, seed);
+    }
+
+    /**
+     * The score of each record as a screen and a drift test compute it: the bound by {@code how}
+     * with common random numbers (every record shares the draws of the seed, so a record's score is
+     * a fixed function of the record and the seed, whatever table it stands in), +infinity for a
+     * record with a cell beyond the model space's range or outside its column's support. A table can
+     * therefore be scored in parts, e.g. a DataFrame's partitions, and the parts' scores equal the
+     * whole table's to the float32 network's rounding (OpenBLAS rounds a row's products differently
+     * with its place in the matrix; measured up to about 1e-7 relative, {@code DriftInPartsTest});
+     * pass them to {@link #drift(Table, double[], Table, double[])}.
+     *
+     * <p>Caution: the score ranks records; it is not a calibrated probability of a fault.
+     *
+     * @param records complete records with the training columns
+     * @param how the bound (a sampled one uses at most T draws), e.g. {@code Defaults.drift().bound()}
+     * @param seed the seed of the shared draws (the same for every part and every table compared)
+     * @return per record, nats in model space, or +infinity
+     * @throws IllegalArgumentException naming a column mismatch, an empty table, a strided step
+     *     count above T, or the first missing cell
+     */
+    public double[] screeningScores(Table records, BoundOptions how, long seed) {
+        Require.notNull("records", records);
+        Require.notNull("how", how);
+        Require.inRange("steps", how.steps(), 0, steps());
+        checkColumns(records, "records");
+        return Scoring.score(engine, records, how, MissingCells.refuse(), "records", seed).scores();
+    }
+
+    /**
+     * The tests of {@link #drift(Table, Table, DriftOptions, long)} on complete batches whose scores
+     * were computed by {@link #screeningScores(Table, BoundOptions, long)} (for example in parts, on
+     * the partitions of a DataFrame), with the same bound and seed for both batches: with the scores
+     * of {@code drift}'s own bound and seed, the report equals {@code drift}'s. The notes name each
+     * batch's unscorable cells.
+     *
+     * <p>Caution: a drift alarm says the batches differ; it does not say the new batch is faulty.
+     *
+     * @param reference complete records the model is known to fit; at least 2
+     * @param referenceScores their scores, one per record, not NaN (not modified)
+     * @param batch the new complete records; at least 2
+     * @param batchScores their scores, one per record, not NaN (not modified)
+     * @return the tests
+     * @throws IllegalArgumentException naming a column mismatch, a batch of fewer than 2 rows, a
+     *     missing cell, a score count other than the row count, or a NaN score
+     */
+    public DriftReport drift(Table reference, double[] referenceScores, Table batch, double[] batchScores) {
+        checkComplete(reference, "reference");
+        checkComplete(batch, "batch");
+        Require.atLeast("reference rows", reference.rows(), 2);
+        Require.atLeast("batch rows", batch.rows(), 2);
+        checkScores(referenceScores, "referenceScores", reference.rows(), "reference");
+        checkScores(batchScores, "batchScores", batch.rows(), "batch");
+        return DriftTests.ofScores(engine, reference, referenceScores, batch, batchScores);
+    }
+
+    private static void checkScores(double[] scores, String name, int rows, String table) {
+        Require.notNull(name, scores);
+        if (scores.length != rows) {
+            throw new IllegalArgumentException(name + " has " + scores.length + " values; expected " + rows
+                    + " (one per " + table + " row)");
+        }
+        for (int i = 0; i < rows; i++) {
+            if (Double.isNaN(scores[i])) {
+                throw new IllegalArgumentException(name + "[" + i + "] is NaN; expected a score (nats or +infinity)");
+            }
+        }
     }
 
     // ------------------------------------------------------------------ sampling
@@ -463,6 +635,11 @@ public final class DiffusionModel {
     public Denoising denoise(Table readings, DenoisingOptions how, long seed) {
         Require.notNull("how", how);
         checkComplete(readings, "readings");
+        for (int c : transform().modelledCategorical()) {
+            throw new IllegalArgumentException("column '" + transform().names().get(c) + "' is CATEGORICAL; denoising"
+                    + " removes Gaussian reading noise of known size, which categories do not have: denoise a table"
+                    + " without categorical columns (impute a category you distrust instead, with the cell missing)");
+        }
         return Denoiser.denoise(engine, readings, how, seed);
     }
 
@@ -560,7 +737,9 @@ public final class DiffusionModel {
     @Override
     public String toString() {
         return "DiffusionModel[" + transform().names().size() + " columns (" + engine.chain().continuousColumns()
-                + " continuous, " + engine.chain().binaryColumns() + " binary diffused), T=" + steps() + ", "
+                + " continuous, " + engine.chain().binaryColumns() + " binary"
+                + (engine.chain().categoricalColumns() > 0 ? ", " + engine.chain().categoricalColumns() + " categorical" : "")
+                + " diffused), T=" + steps() + ", "
                 + options().continuousSchedule().kind().name().toLowerCase(Locale.ROOT) + " + "
                 + options().binarySchedule().kind().name().toLowerCase(Locale.ROOT) + ", variance "
                 + options().variance() + ", trained on " + provenance().trainingRows() + " rows in "

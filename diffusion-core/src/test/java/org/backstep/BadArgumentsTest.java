@@ -146,6 +146,16 @@ class BadArgumentsTest {
         cases.add(new Case("bound(a record past the float range in model space, ...)",
                 () -> m.bound(records(new double[] {1e300, 5, 0}), 1),
                 "row 0, column 'supply_c' is 1.0E300, which its transform ..."));
+        cases.add(new Case("flowLikelihood(records of a model with a binary column)", () -> m.flowLikelihood(good),
+                "records: the model diffuses 1 binary, integer or categorical column(s) [door_open]; the flow likelihood"
+                        + " covers continuous columns only (the ODE needs a density): use bound(records, seed) for this model"));
+        cases.add(new Case("flowLikelihood(records, null)", () -> m.flowLikelihood(good, null), "how is null; expected a value"));
+        cases.add(new Case("flowLikelihood(records with a missing cell)", () -> m.flowLikelihood(records(new double[] {4, Double.NaN, 0})),
+                "records: row 0, column 'return_c' is missing; this needs complete records (impute them first)"));
+        cases.add(new Case("FlowOptions.of(0, 1e-5)", () -> org.backstep.option.FlowOptions.of(0, 1e-5),
+                "relativeTolerance is 0.0; expected a number in (0, 0.1]"));
+        cases.add(new Case("FlowOptions.of(1e-5, 1)", () -> org.backstep.option.FlowOptions.of(1e-5, 1),
+                "absoluteTolerance is 1.0; expected a number in (0, 0.1]"));
         cases.add(new Case("denoise(null, how, seed)", () -> m.denoise(null, Defaults.denoising(0.1, 0.1, 0), 1),
                 "readings is null; expected a value"));
         cases.add(new Case("denoise(readings, null, seed)", () -> m.denoise(good, null, 1), "how is null; expected a value"));

@@ -122,6 +122,7 @@ class NullArgumentsTest {
         samples.put(Provenance.class, () -> provenance);
         samples.put(OptionalDouble.class, OptionalDouble::empty);
         samples.put(BoundOptions.class, BoundOptions::exact);
+        samples.put(org.backstep.option.FlowOptions.class, Defaults::flow);
         samples.put(ImputationOptions.class, Defaults::imputation);
         samples.put(DenoisingOptions.class, () -> Defaults.denoising(0.1, 0.1, 0.0));
         samples.put(ScreeningOptions.class, Defaults::screening);

@@ -26,7 +26,12 @@ import java.util.List;
  * data and carry its blind spots.
  *
  * @param draws the k completed tables, one per draw
- * @param mean the per-cell mean of the draws (for binary cells, the share of draws that are 1)
+ * <p>Categorical cells have no mean or interval: {@link #categoryShares(int, int)} gives the share of
+ * the draws in each category and {@link #mostLikely(int, int)} the most frequent one; the mean,
+ * lower and upper tables hold that category's index there.
+ *
+ * @param mean the per-cell mean of the draws (for binary cells, the share of draws that are 1; for
+ *     categorical cells, the index of the most frequent category)
  * @param lower the per-cell lower end of the central interval at {@link #level()}
  * @param upper the per-cell upper end
  * @param level the interval's coverage, e.g. 0.9
@@ -52,5 +57,44 @@ public record Imputation(List<Table> draws, Table mean, Table lower, Table upper
     public double expectedCoverage() {
         int k = draws.size();
         return level * (k - 1) / (k + 1);
+    }
+
+    /**
+     * The share of the draws in each category of a categorical cell (the observed category has
+     * share 1 when the cell was observed).
+     *
+     * @param row a row index, 0-based
+     * @param column the index of a categorical column
+     * @return one share per category, in the column's label order, summing to 1
+     * @throws IllegalArgumentException if an index is out of range or the column is not categorical
+     */
+    public double[] categoryShares(int row, int column) {
+        Table first = draws.get(0);
+        if (first.kind(column) != org.backstep.table.ColumnKind.CATEGORICAL) {
+            throw new IllegalArgumentException("column '" + first.name(column) + "' is " + first.kind(column)
+                    + "; expected a CATEGORICAL column");
+        }
+        double[] shares = new double[first.categories(column).size()];
+        for (Table t : draws) {
+            shares[(int) t.get(row, column)] += 1.0 / draws.size();
+        }
+        return shares;
+    }
+
+    /**
+     * @param row a row index, 0-based
+     * @param column the index of a categorical column
+     * @return the label of the category most frequent among the draws (the first in label order on a tie)
+     * @throws IllegalArgumentException if an index is out of range or the column is not categorical
+     */
+    public String mostLikely(int row, int column) {
+        double[] shares = categoryShares(row, column);
+        int best = 0;
+        for (int k = 1; k < shares.length; k++) {
+            if (shares[k] > shares[best]) {
+                best = k;
+            }
+        }
+        return draws.get(0).categories(column).get(best);
     }
 }

@@ -46,7 +46,8 @@ import org.backstep.schedule.Require;
  */
 public final class CsvReader {
 
-    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false);
+    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false, Set.of(), false,
+            Set.of(), false);
 
     /**
      * Cells per block of the growing store for streams: 256 KiB of doubles, under half of G1's
@@ -62,9 +63,56 @@ public final class CsvReader {
     private final boolean inferKinds;
     private final char delimiter;
     private final boolean allowEmptyColumns;
+    private final Set<String> categorical;
+    private final boolean inferCategories;
+    private final Set<String> integer;
+    private final boolean inferIntegers;
+
+
+    /**
+     * Declares columns integer (counts, ordinal codes): every cell that is not missing must be a whole
+     * number within +-2^52. Replaces any earlier declaration of integer columns; default none.
+     *
+     * @param columns column names (not modified)
+     * @return new options
+     * @throws IllegalArgumentException if a name is null or also declared binary, continuous or categorical
+     */
+    public CsvReader integer(String... columns) {
+        Set<String> set = CsvTables.nameSet("integer columns", columns);
+        CsvTables.checkDisjoint(set, binary, "binary");
+        CsvTables.checkDisjoint(set, continuous, "continuous");
+        CsvTables.checkDisjoint(set, categorical, "categorical");
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, set, inferIntegers);
+    }
+
+    /**
+     * @param infer whether an undeclared column of whole numbers that is not binary becomes INTEGER;
+     *     default false (it stays CONTINUOUS). Needs {@link #inferKinds} on
+     * @return new options
+     */
+    public CsvReader inferIntegers(boolean infer) {
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, infer);
+    }
+
+    /** @return the columns declared integer (unmodifiable) */
+    public Set<String> integerColumns() {
+        return integer;
+    }
+
+    /** @return whether columns of whole numbers become INTEGER */
+    public boolean inferIntegers() {
+        return inferIntegers;
+    }
 
     private CsvReader(String missingToken, Set<String> binary, Set<String> continuous, boolean inferKinds,
-            char delimiter, boolean allowEmptyColumns) {
+            char delimiter, boolean allowEmptyColumns, Set<String> categorical, boolean inferCategories,
+            Set<String> integer, boolean inferIntegers) {
+        this.integer = integer;
+        this.inferIntegers = inferIntegers;
+        this.categorical = categorical;
+        this.inferCategories = inferCategories;
         this.missingToken = missingToken;
         this.binary = binary;
         this.continuous = continuous;
@@ -81,7 +129,8 @@ public final class CsvReader {
      */
     public CsvReader missingToken(String token) {
         return new CsvReader(CsvTables.checkToken(token), binary, continuous, inferKinds, delimiter,
-                allowEmptyColumns);
+                allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -95,7 +144,9 @@ public final class CsvReader {
     public CsvReader binary(String... columns) {
         Set<String> set = CsvTables.nameSet("binary columns", columns);
         CsvTables.checkDisjoint(set, continuous, "continuous");
-        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns);
+        CsvTables.checkDisjoint(set, categorical, "categorical");
+        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -109,7 +160,9 @@ public final class CsvReader {
     public CsvReader continuous(String... columns) {
         Set<String> set = CsvTables.nameSet("continuous columns", columns);
         CsvTables.checkDisjoint(set, binary, "binary");
-        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns);
+        CsvTables.checkDisjoint(set, categorical, "categorical");
+        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -117,7 +170,8 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferKinds(boolean infer) {
-        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns);
+        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -128,7 +182,8 @@ public final class CsvReader {
      */
     public CsvReader delimiter(char separator) {
         return new CsvReader(missingToken, binary, continuous, inferKinds, CsvTables.checkDelimiter(separator),
-                allowEmptyColumns);
+                allowEmptyColumns, categorical,
+                inferCategories, integer, inferIntegers);
     }
 
     /**
@@ -140,7 +195,48 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader allowEmptyColumns(boolean allow) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow);
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow, categorical,
+                inferCategories, integer, inferIntegers);
+    }
+
+    /**
+     * Declares columns categorical: every cell that is not the missing token is a label (text or a
+     * number, taken as text after stripping white space), its index the order in which the label is
+     * first seen. Replaces any earlier declaration of categorical columns; default none. A column
+     * with two labels is categorical, not binary, unless declared binary.
+     *
+     * @param columns column names (not modified)
+     * @return new options
+     * @throws IllegalArgumentException if a name is null or also declared binary or continuous
+     */
+    public CsvReader categorical(String... columns) {
+        Set<String> set = CsvTables.nameSet("categorical columns", columns);
+        CsvTables.checkDisjoint(set, binary, "binary");
+        CsvTables.checkDisjoint(set, continuous, "continuous");
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, set,
+                inferCategories, integer, inferIntegers);
+    }
+
+    /**
+     * @param infer whether an undeclared column with a cell that is not a number becomes CATEGORICAL
+     *     (its every cell a label) rather than a problem; default false. Needs {@link #inferKinds}
+     *     on, and a regular file: the first pass finds the columns, the second reads them as declared
+     *     categorical (a stream, read once, reports such a column as a problem naming it)
+     * @return new options
+     */
+    public CsvReader inferCategories(boolean infer) {
+        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
+                infer, integer, inferIntegers);
+    }
+
+    /** @return the columns declared categorical (unmodifiable) */
+    public Set<String> categoricalColumns() {
+        return categorical;
+    }
+
+    /** @return whether columns holding text become categorical */
+    public boolean inferCategories() {
+        return inferCategories;
     }
 
     /** @return the missing-value token */
@@ -197,6 +293,14 @@ public final class CsvReader {
         try (InputStream in = Files.newInputStream(file)) {
             first = CsvScan.run(this, CsvText.ofBytes(in), source, row -> { });
         }
+        if (!first.textColumns().isEmpty()) {
+            // the columns found to hold text are read again as declared categorical ones
+            Set<String> all = new java.util.LinkedHashSet<>(categorical);
+            all.addAll(first.textColumns());
+            CsvReader declared = new CsvReader(missingToken, binary, continuous, inferKinds, delimiter,
+                    allowEmptyColumns, java.util.Collections.unmodifiableSet(all), false, integer, inferIntegers);
+            return declared.read(file);
+        }
         int columns = first.names().size();
         double[] cells = allocate((long) first.rows() * columns, source);
         int[] stored = new int[1];
@@ -211,10 +315,11 @@ public final class CsvReader {
         } catch (TableFormatException e) {
             throw changed(source, e);
         }
-        if (!second.equals(first)) {
+        if (!second.names().equals(first.names()) || !second.kinds().equals(first.kinds())
+                || second.rows() != first.rows() || !second.categories().equals(first.categories())) {
             throw changed(source, null);
         }
-        return Table.Layout.of(first.names(), first.kinds()).adopt(first.rows(), cells);
+        return Table.Layout.of(first.names(), first.kinds(), first.categories()).adopt(first.rows(), cells);
     }
 
     /**
@@ -252,7 +357,16 @@ public final class CsvReader {
     private Table readOnce(CsvText text, String source) throws IOException, TableFormatException {
         Blocks blocks = new Blocks(source);
         CsvScan.Scanned s = CsvScan.run(this, text, source, blocks);
-        return Table.Layout.of(s.names(), s.kinds()).adopt(s.rows(), blocks.join());
+        if (!s.textColumns().isEmpty()) {
+            List<TableFormatException.Problem> found = new ArrayList<>();
+            for (String name : s.textColumns()) {
+                found.add(new TableFormatException.Problem(1, name, "the column holds text, and inferring categories"
+                        + " needs two passes over a regular file; expected a file, or the column declared with"
+                        + " categorical(\"" + name + "\")"));
+            }
+            throw new TableFormatException(source, found, 0);
+        }
+        return Table.Layout.of(s.names(), s.kinds(), s.categories()).adopt(s.rows(), blocks.join());
     }
 
     private static double[] allocate(long cells, String source) {
@@ -325,6 +439,8 @@ public final class CsvReader {
     public String toString() {
         return "CsvReader[missingToken=" + CsvTables.quote(missingToken) + ", binary=" + binary + ", continuous="
                 + continuous + ", inferKinds=" + inferKinds + ", delimiter="
-                + CsvTables.quote(String.valueOf(delimiter)) + ", allowEmptyColumns=" + allowEmptyColumns + "]";
+                + CsvTables.quote(String.valueOf(delimiter)) + ", allowEmptyColumns=" + allowEmptyColumns + ", categorical="
+                + categorical + ", inferCategories="
+                + inferCategories + ", integer=" + integer + ", inferIntegers=" + inferIntegers + "]";
     }
 }

@@ -34,7 +34,11 @@ final class CsvScan {
         /** Declared continuous, or kinds not inferred: any finite number or missing. */
         CONTINUOUS,
         /** Any finite number or missing; BINARY if every value is 0 or 1, else CONTINUOUS. */
-        INFERRED
+        INFERRED,
+        /** Declared categorical: any text, a label kept in first-seen order, or missing. */
+        CATEGORICAL,
+        /** Declared integer: a whole number within +-2^52, or missing. */
+        INTEGER
     }
 
     /** Where the rows of a pass go. */
@@ -44,7 +48,8 @@ final class CsvScan {
     }
 
     /** The outcome of a pass without problems. */
-    record Scanned(List<String> names, List<ColumnKind> kinds, int rows) {
+    record Scanned(List<String> names, List<ColumnKind> kinds, int rows, Map<String, List<String>> categories,
+            List<String> textColumns) {
     }
 
     private final CsvReader options;
@@ -55,6 +60,10 @@ final class CsvScan {
     private Rule[] rules;
     private boolean[] present;   // a column has a cell that is not the missing token
     private boolean[] nonBinary; // a column has a value other than 0 and 1
+    private boolean[] nonWhole;  // a column has a value that is not a whole number within +-2^52
+    private boolean[] textual;   // an inferred column has a cell that is not a number (inferCategories)
+    private Map<String, Integer>[] labelIndex; // per categorical column, label to index in first-seen order
+    private List<String>[] labelList;
     private long headerLine;
     private int rows;
     private boolean complete; // the source was read to its end
@@ -136,14 +145,33 @@ final class CsvScan {
             throw problems.exception();
         }
         List<ColumnKind> kinds = new ArrayList<>(names.size());
+        Map<String, List<String>> categories = new java.util.LinkedHashMap<>();
+        List<String> textColumns = new ArrayList<>();
         for (int c = 0; c < names.size(); c++) {
+            if (rules[c] == Rule.CATEGORICAL || textual[c]) {
+                kinds.add(ColumnKind.CATEGORICAL);
+                if (textual[c]) {
+                    textColumns.add(names.get(c));
+                } else if (labelList[c].isEmpty()) {
+                    problems.add(headerLine, labels.get(c), "the column is declared categorical but every cell is"
+                            + " missing; expected at least one label");
+                } else {
+                    categories.put(names.get(c), List.copyOf(labelList[c]));
+                }
+                continue;
+            }
+            if (rules[c] == Rule.INTEGER || (rules[c] == Rule.INFERRED && options.inferIntegers() && present[c]
+                    && nonBinary[c] && !nonWhole[c])) {
+                kinds.add(ColumnKind.INTEGER);
+                continue;
+            }
             kinds.add(rules[c] == Rule.BINARY || (rules[c] == Rule.INFERRED && present[c] && !nonBinary[c])
                     ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);
         }
         if (problems.any()) {
             throw problems.exception();
         }
-        return new Scanned(List.copyOf(names), List.copyOf(kinds), rows);
+        return new Scanned(List.copyOf(names), List.copyOf(kinds), rows, categories, List.copyOf(textColumns));
     }
 
     /** Records why reading stopped early: a problem of the text, broken CSV syntax, or a failed read. */
@@ -175,13 +203,26 @@ final class CsvScan {
         rules = new Rule[columns];
         present = new boolean[columns];
         nonBinary = new boolean[columns];
+        textual = new boolean[columns];
+        nonWhole = new boolean[columns];
+        @SuppressWarnings("unchecked")
+        Map<String, Integer>[] maps = new Map[columns];
+        @SuppressWarnings("unchecked")
+        List<String>[] lists = new List[columns];
+        labelIndex = maps;
+        labelList = lists;
         Set<String> binary = options.binaryColumns();
         Set<String> continuous = options.continuousColumns();
+        Set<String> categorical = options.categoricalColumns();
         for (int c = 0; c < columns; c++) {
             String name = header.get(c).strip();
             names.add(name);
-            rules[c] = binary.contains(name) ? Rule.BINARY
-                    : continuous.contains(name) || !options.inferKinds() ? Rule.CONTINUOUS : Rule.INFERRED;
+            rules[c] = binary.contains(name) ? Rule.BINARY : categorical.contains(name) ? Rule.CATEGORICAL
+                    : options.integerColumns().contains(name) ? Rule.INTEGER : continuous.contains(name) || !options.inferKinds() ? Rule.CONTINUOUS : Rule.INFERRED;
+            if (rules[c] == Rule.CATEGORICAL) {
+                labelIndex[c] = new HashMap<>();
+                labelList[c] = new ArrayList<>();
+            }
             if (name.isEmpty()) {
                 labels.add("(column " + (c + 1) + ")");
                 problems.add(headerLine, labels.get(c), "blank column name in the header; expected a name"
@@ -202,6 +243,8 @@ final class CsvScan {
         }
         checkDeclared(binary, "binary");
         checkDeclared(continuous, "continuous");
+        checkDeclared(categorical, "categorical");
+        checkDeclared(options.integerColumns(), "integer");
     }
 
     private void checkDeclared(Set<String> declared, String kind) {
@@ -232,7 +275,38 @@ final class CsvScan {
                 continue;
             }
             present[c] = true;
+            if (rules[c] == Rule.CATEGORICAL) {
+                Integer i = labelIndex[c].get(cell);
+                if (i == null) {
+                    if (labelList[c].size() >= Table.MAX_CATEGORIES) {
+                        problems.add(line, labels.get(c), "cell " + CsvTables.quote(cell) + " would be category "
+                                + (Table.MAX_CATEGORIES + 1) + " of the column; expected at most "
+                                + Table.MAX_CATEGORIES + " categories");
+                        good = false;
+                        continue;
+                    }
+                    i = labelList[c].size();
+                    labelIndex[c].put(cell, i);
+                    labelList[c].add(cell);
+                }
+                row[c] = i;
+                continue;
+            }
+            if (rules[c] == Rule.INFERRED && options.inferCategories() && !CsvTables.isDecimal(cell)) {
+                textual[c] = true;   // read again as a declared categorical column
+                row[c] = Double.NaN;
+                continue;
+            }
             double v = parse(cell, line, labels.get(c));
+            if (!Double.isNaN(v) && (v != Math.rint(v) || Math.abs(v) > 0x1p52)) {
+                nonWhole[c] = true;
+                if (rules[c] == Rule.INTEGER) {
+                    problems.add(line, labels.get(c), "cell " + CsvTables.quote(cell) + " in a column declared integer;"
+                            + " expected a whole number within +-2^52 or the missing-value token "
+                            + CsvTables.quote(missing));
+                    good = false;
+                }
+            }
             if (Double.isNaN(v)) {
                 good = false;
             } else if (v != 0.0 && v != 1.0) {

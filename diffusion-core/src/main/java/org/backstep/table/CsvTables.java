@@ -20,7 +20,10 @@ import org.backstep.schedule.Require;
  * <p>Written numbers read back bit for bit: continuous cells are written by
  * {@link Double#toString(double)}, whose text parses back to the same double (Java SE API
  * specification of {@code Double.toString} and {@code Double.parseDouble}), binary cells as
- * {@code 0} or {@code 1}, missing cells as the missing token.
+ * {@code 0} or {@code 1}, categorical cells as their labels, missing cells as the missing token.
+ * Categorical columns are read where declared ({@link CsvReader#categorical(String...)}) or, with
+ * {@link CsvReader#inferCategories(boolean)}, where a column holds text; their labels are kept in
+ * first-seen order.
  */
 public final class CsvTables {
 
@@ -139,6 +142,18 @@ public final class CsvTables {
                         + "; expected each column declared at most one kind");
             }
         }
+    }
+
+    /** At most the first ten labels, quoted, then how many more: for messages. */
+    static String preview(java.util.List<String> labels) {
+        StringBuilder sb = new StringBuilder("[");
+        for (int i = 0; i < Math.min(10, labels.size()); i++) {
+            sb.append(i > 0 ? ", " : "").append(quote(labels.get(i)));
+        }
+        if (labels.size() > 10) {
+            sb.append(", ... ").append(labels.size() - 10).append(" more");
+        }
+        return sb.append(']').toString();
     }
 
     static String quote(String text) {

@@ -17,7 +17,7 @@ import org.backstep.schedule.Require;
  * Immutable options for writing a {@link Table} as UTF-8 CSV, with the methods that write; start
  * from {@link CsvTables#writer()}. The header holds the column names; continuous cells are written
  * by {@link Double#toString(double)} (they read back bit for bit), binary cells as {@code 0} or
- * {@code 1}, missing cells as the missing token; fields are quoted only where CSV needs it (RFC 4180,
+ * {@code 1}, categorical cells as their labels, missing cells as the missing token; fields are quoted only where CSV needs it (RFC 4180,
  * section 2); records end with {@code '\n'}. The kinds are not written: read the file back with the
  * same declarations, or let the reader infer them.
  */
@@ -97,6 +97,12 @@ public final class CsvWriter {
                 .setQuoteMode(QuoteMode.MINIMAL).get();
         @SuppressWarnings("resource") // closing would close the caller's writer
         CSVPrinter printer = new CSVPrinter(out, format);
+        for (int c : table.categoricalColumns()) {
+            if (table.categories(c).contains(missingToken)) {
+                throw new IllegalArgumentException("column '" + table.name(c) + "' has the category '" + missingToken
+                        + "', the writer's missing token; expected another missing token, so that it reads back as a label");
+            }
+        }
         printer.printRecord(table.names());
         int columns = table.columns();
         boolean[] isBinary = new boolean[columns];
@@ -107,7 +113,9 @@ public final class CsvWriter {
         for (int r = 0; r < table.rows(); r++) {
             for (int c = 0; c < columns; c++) {
                 double v = table.get(r, c);
-                cells[c] = Double.isNaN(v) ? missingToken : isBinary[c] ? (v == 1.0 ? "1" : "0") : Double.toString(v);
+                cells[c] = Double.isNaN(v) ? missingToken : isBinary[c] ? (v == 1.0 ? "1" : "0")
+                        : table.kind(c) == ColumnKind.CATEGORICAL ? table.label(r, c)
+                        : table.kind(c) == ColumnKind.INTEGER ? Long.toString((long) v) : Double.toString(v);
             }
             printer.printRecord((Object[]) cells);
         }

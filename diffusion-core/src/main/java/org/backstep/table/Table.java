@@ -44,21 +44,31 @@ public final class Table {
     /** The most cells a table holds (one Java array). */
     static final int MAX_CELLS = Integer.MAX_VALUE - 8;
 
+    /**
+     * The most categories of one categorical column, 65,536: far beyond the 1,000 of issue 12, and
+     * small enough that a column's labels and the network's one logit per category stay a few
+     * megabytes (common practice, no source).
+     */
+    public static final int MAX_CATEGORIES = 1 << 16;
+
     private final List<String> names;
     private final List<ColumnKind> kinds;
     private final Map<String, Integer> index;
+    private final Layout layout;
     private final int rows;
     private final int columns;
     private final double[] cells; // row-major, cells[r * columns + c]
     private final int missing;
     private final int[] continuous;
     private final int[] binary;
+    private final int[] categorical;
+    private final int[] integer;
 
-    private Table(List<String> names, List<ColumnKind> kinds, Map<String, Integer> index, int rows,
-            double[] cells) {
-        this.names = names;
-        this.kinds = kinds;
-        this.index = index;
+    private Table(Layout layout, int rows, double[] cells) {
+        this.layout = layout;
+        this.names = layout.names;
+        this.kinds = layout.kinds;
+        this.index = layout.index;
         this.rows = rows;
         this.columns = names.size();
         this.cells = cells;
@@ -71,6 +81,8 @@ public final class Table {
         this.missing = m;
         this.continuous = indicesOf(kinds, ColumnKind.CONTINUOUS);
         this.binary = indicesOf(kinds, ColumnKind.BINARY);
+        this.categorical = indicesOf(kinds, ColumnKind.CATEGORICAL);
+        this.integer = indicesOf(kinds, ColumnKind.INTEGER);
     }
 
     // ------------------------------------------------------------------ factories
@@ -89,6 +101,26 @@ public final class Table {
         Require.notNull("rows", rows);
         Layout layout = Layout.of(names, kinds);
         return layout.build(rows);
+    }
+
+    /**
+     * A table with categorical columns: each {@link ColumnKind#CATEGORICAL} column's cells hold the
+     * index 0..K-1 of a label in {@code categories.get(name)} (or NaN). The rows are copied.
+     *
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param categories for each categorical column, its labels in order: 1 to {@link #MAX_CATEGORIES}
+     *     distinct, non-null, non-blank labels without leading or trailing white space; no entry for
+     *     other columns (not modified)
+     * @param rows the cells, {@code rows[r][c]}; NaN marks a missing cell (not modified)
+     * @return the table
+     * @throws IllegalArgumentException naming the column, label, row or cell that breaks an invariant
+     */
+    public static Table of(List<String> names, List<ColumnKind> kinds, Map<String, List<String>> categories,
+            double[][] rows) {
+        Require.notNull("rows", rows);
+        Require.notNull("categories", categories);
+        return Layout.of(names, kinds, categories).build(rows);
     }
 
     /**
@@ -147,7 +179,7 @@ public final class Table {
      */
     public Table withRows(double[][] newRows) {
         Require.notNull("rows", newRows);
-        return new Layout(names, kinds, index).build(newRows);
+        return layout.build(newRows);
     }
 
     // ------------------------------------------------------------------ shape and layout
@@ -213,6 +245,93 @@ public final class Table {
     /** @return the indices of the binary columns, in increasing order (a copy) */
     public int[] binaryColumns() {
         return binary.clone();
+    }
+
+    /** @return the indices of the integer columns, in increasing order (a copy) */
+    public int[] integerColumns() {
+        return integer.clone();
+    }
+
+    /** @return the indices of the categorical columns, in increasing order (a copy) */
+    public int[] categoricalColumns() {
+        return categorical.clone();
+    }
+
+    /**
+     * @param column the column index, 0-based
+     * @return the labels of a categorical column in index order (unmodifiable); empty for other kinds
+     * @throws IllegalArgumentException if the index is out of range
+     */
+    public List<String> categories(int column) {
+        checkColumn(column);
+        return layout.categories.get(column);
+    }
+
+    /** @return the labels of every categorical column by name, in table order (unmodifiable) */
+    public Map<String, List<String>> categories() {
+        return layout.categoryMap();
+    }
+
+    /**
+     * @param row the row index, 0-based
+     * @param column the index of a categorical column
+     * @return the cell's label, or null if the cell is missing
+     * @throws IllegalArgumentException if an index is out of range or the column is not categorical
+     */
+    public String label(int row, int column) {
+        double v = get(row, column);
+        if (kinds.get(column) != ColumnKind.CATEGORICAL) {
+            throw new IllegalArgumentException("column '" + names.get(column) + "' is " + kinds.get(column)
+                    + "; expected a CATEGORICAL column");
+        }
+        return Double.isNaN(v) ? null : layout.categories.get(column).get((int) v);
+    }
+
+    /**
+     * This table with a categorical column's cells re-indexed to other labels, e.g. a model's
+     * categories, matched by label text. A label of this table that {@code labels} lacks is refused
+     * by name (never mapped to a wrong index).
+     *
+     * @param column the name of a categorical column
+     * @param labels the new labels in index order, as for {@link #of(List, List, Map, double[][])} (not modified)
+     * @return a table whose column has {@code labels} and the same label in every cell
+     * @throws IllegalArgumentException naming the column, and the row and label not in {@code labels}
+     */
+    public Table recode(String column, List<String> labels) {
+        Require.notNull("column", column);
+        Require.notNull("labels", labels);
+        int c = indexOf(column);
+        if (kinds.get(c) != ColumnKind.CATEGORICAL) {
+            throw new IllegalArgumentException("column '" + column + "' is " + kinds.get(c)
+                    + "; expected a CATEGORICAL column");
+        }
+        List<String> old = layout.categories.get(c);
+        if (old.equals(labels)) {
+            return this;
+        }
+        Map<String, List<String>> cats = new java.util.LinkedHashMap<>(layout.categoryMap());
+        cats.put(column, labels);
+        Layout target = Layout.of(names, kinds, cats);
+        Map<String, Integer> at = new HashMap<>();
+        for (int i = 0; i < labels.size(); i++) {
+            at.put(labels.get(i), i);
+        }
+        double[] out = cells.clone();
+        for (int r = 0; r < rows; r++) {
+            double v = out[r * columns + c];
+            if (Double.isNaN(v)) {
+                continue;
+            }
+            String label = old.get((int) v);
+            Integer i = at.get(label);
+            if (i == null) {
+                throw new IllegalArgumentException("row " + r + ", column '" + column + "' has the category '" + label
+                        + "', which is not among the column's " + labels.size() + " known categories "
+                        + CsvTables.preview(labels));
+            }
+            out[r * columns + c] = i;
+        }
+        return new Table(target, rows, out);
     }
 
     // ------------------------------------------------------------------ cells
@@ -344,7 +463,7 @@ public final class Table {
             }
             System.arraycopy(cells, r * columns, out, i * columns, columns);
         }
-        return new Table(names, kinds, index, rowIndices.length, out);
+        return new Table(layout, rowIndices.length, out);
     }
 
     /**
@@ -380,18 +499,22 @@ public final class Table {
         }
         int[] idx = new int[selected.length];
         List<ColumnKind> newKinds = new ArrayList<>(selected.length);
+        Map<String, List<String>> cats = new HashMap<>();
         for (int i = 0; i < selected.length; i++) {
             idx[i] = indexOf(selected[i]);
             newKinds.add(kinds.get(idx[i]));
+            if (kinds.get(idx[i]) == ColumnKind.CATEGORICAL) {
+                cats.put(selected[i], layout.categories.get(idx[i]));
+            }
         }
-        Layout layout = Layout.of(Arrays.asList(selected), newKinds);
+        Layout layout = Layout.of(Arrays.asList(selected), newKinds, cats);
         double[] out = new double[rows * selected.length];
         for (int r = 0; r < rows; r++) {
             for (int i = 0; i < idx.length; i++) {
                 out[r * idx.length + i] = cells[r * columns + idx[i]];
             }
         }
-        return new Table(layout.names, layout.kinds, layout.index, rows, out);
+        return new Table(layout, rows, out);
     }
 
     // ------------------------------------------------------------------ provenance
@@ -401,7 +524,8 @@ public final class Table {
      * (a fitted model records it for its training rows). The encoding, all integers little-endian:
      * <pre>
      *   int32 column count, int32 row count,
-     *   per column: int32 byte length of the UTF-8 name, the UTF-8 bytes, one byte 'C' (continuous) or 'B' (binary),
+     *   per column: int32 byte length of the UTF-8 name, the UTF-8 bytes, one byte 'C' (continuous) or 'B' (binary)
+     *       or 'I' (integer) or 'K' (categorical, then int32 K and per label its int32 UTF-8 byte length and bytes),
      *   per cell, row by row: the int64 Double.doubleToLongBits of the value (every NaN as 0x7ff8000000000000)
      * </pre>
      * Equal tables have equal hashes; the hash depends on names, kinds, order and every bit of
@@ -422,8 +546,19 @@ public final class Table {
         for (int c = 0; c < columns; c++) {
             byte[] utf8 = names.get(c).getBytes(StandardCharsets.UTF_8);
             ByteBuffer col = ByteBuffer.allocate(4 + utf8.length + 1).order(ByteOrder.LITTLE_ENDIAN);
-            col.putInt(utf8.length).put(utf8).put((byte) (kinds.get(c) == ColumnKind.CONTINUOUS ? 'C' : 'B'));
+            ColumnKind kind = kinds.get(c);
+            col.putInt(utf8.length).put(utf8).put((byte) (kind == ColumnKind.CONTINUOUS ? 'C'
+                    : kind == ColumnKind.BINARY ? 'B' : kind == ColumnKind.INTEGER ? 'I' : 'K'));
             md.update(col.array());
+            if (kind == ColumnKind.CATEGORICAL) {
+                List<String> labels = layout.categories.get(c);
+                md.update(ByteBuffer.allocate(4).order(ByteOrder.LITTLE_ENDIAN).putInt(labels.size()).array());
+                for (String label : labels) {
+                    byte[] b = label.getBytes(StandardCharsets.UTF_8);
+                    md.update(ByteBuffer.allocate(4).order(ByteOrder.LITTLE_ENDIAN).putInt(b.length).array());
+                    md.update(b);
+                }
+            }
         }
         ByteBuffer buf = ByteBuffer.allocate(8 * 1024).order(ByteOrder.LITTLE_ENDIAN);
         for (double v : cells) {
@@ -500,7 +635,8 @@ public final class Table {
             return false;
         }
         Table t = (Table) o;
-        return rows == t.rows && names.equals(t.names) && kinds.equals(t.kinds) && Arrays.equals(cells, t.cells);
+        return rows == t.rows && names.equals(t.names) && kinds.equals(t.kinds)
+                && layout.categories.equals(t.layout.categories) && Arrays.equals(cells, t.cells);
     }
 
     /** @return a hash consistent with {@link #equals(Object)} */
@@ -534,14 +670,33 @@ public final class Table {
         final List<String> names;
         final List<ColumnKind> kinds;
         final Map<String, Integer> index;
+        /** Per column its labels (unmodifiable), empty for columns that are not categorical. */
+        final List<List<String>> categories;
 
-        private Layout(List<String> names, List<ColumnKind> kinds, Map<String, Integer> index) {
+        private Layout(List<String> names, List<ColumnKind> kinds, Map<String, Integer> index,
+                List<List<String>> categories) {
             this.names = names;
             this.kinds = kinds;
             this.index = index;
+            this.categories = categories;
         }
 
         static Layout of(List<String> names, List<ColumnKind> kinds) {
+            return of(names, kinds, Map.of());
+        }
+
+        /** The labels of the categorical columns by name, in table order (unmodifiable). */
+        Map<String, List<String>> categoryMap() {
+            Map<String, List<String>> out = new java.util.LinkedHashMap<>();
+            for (int c = 0; c < names.size(); c++) {
+                if (kinds.get(c) == ColumnKind.CATEGORICAL) {
+                    out.put(names.get(c), categories.get(c));
+                }
+            }
+            return Collections.unmodifiableMap(out);
+        }
+
+        static Layout of(List<String> names, List<ColumnKind> kinds, Map<String, List<String>> categories) {
             Require.notNull("names", names);
             Require.notNull("kinds", kinds);
             checkNames(names);
@@ -552,15 +707,58 @@ public final class Table {
             for (int c = 0; c < kinds.size(); c++) {
                 if (kinds.get(c) == null) {
                     throw new IllegalArgumentException("kinds[" + c + "] (column '" + names.get(c)
-                            + "') is null; expected CONTINUOUS or BINARY");
+                            + "') is null; expected CONTINUOUS, BINARY, CATEGORICAL or INTEGER");
                 }
             }
             Map<String, Integer> index = new HashMap<>();
             for (int c = 0; c < names.size(); c++) {
                 index.put(names.get(c), c);
             }
+            for (String name : categories.keySet()) {
+                Integer c = index.get(name);
+                if (c == null || kinds.get(c) != ColumnKind.CATEGORICAL) {
+                    throw new IllegalArgumentException("categories names '" + name + "', which is "
+                            + (c == null ? "not a column " + names : kinds.get(c) + "; expected labels only for CATEGORICAL columns"));
+                }
+            }
+            List<List<String>> labels = new ArrayList<>(names.size());
+            for (int c = 0; c < names.size(); c++) {
+                if (kinds.get(c) != ColumnKind.CATEGORICAL) {
+                    labels.add(List.of());
+                    continue;
+                }
+                List<String> given = categories.get(names.get(c));
+                if (given == null) {
+                    throw new IllegalArgumentException("column '" + names.get(c) + "' is CATEGORICAL but categories has"
+                            + " no labels for it; expected its labels in index order (Table.of with categories)");
+                }
+                labels.add(checkLabels(names.get(c), given));
+            }
             return new Layout(Collections.unmodifiableList(new ArrayList<>(names)),
-                    Collections.unmodifiableList(new ArrayList<>(kinds)), Collections.unmodifiableMap(index));
+                    Collections.unmodifiableList(new ArrayList<>(kinds)), Collections.unmodifiableMap(index),
+                    Collections.unmodifiableList(labels));
+        }
+
+        /** Checks one column's labels: 1 to MAX_CATEGORIES, distinct, non-blank, not padded. */
+        static List<String> checkLabels(String column, List<String> given) {
+            if (given.isEmpty() || given.size() > MAX_CATEGORIES) {
+                throw new IllegalArgumentException("column '" + column + "' has " + given.size()
+                        + " categories; expected 1 to " + MAX_CATEGORIES);
+            }
+            Set<String> seen = new HashSet<>();
+            for (int i = 0; i < given.size(); i++) {
+                String l = given.get(i);
+                if (l == null || l.isBlank() || !l.equals(l.strip())) {
+                    throw new IllegalArgumentException("category " + i + " of column '" + column + "' is "
+                            + (l == null ? "null" : "'" + l + "'")
+                            + "; expected a non-blank label without leading or trailing white space");
+                }
+                if (!seen.add(l)) {
+                    throw new IllegalArgumentException("category " + i + " of column '" + column + "' is '" + l
+                            + "', which repeats an earlier label; expected distinct labels");
+                }
+            }
+            return List.copyOf(given);
         }
 
         /** Checks the rules for column names: at least one, none null, blank, padded or repeated. */
@@ -623,8 +821,12 @@ public final class Table {
                         + cols);
             }
             boolean[] binary = new boolean[cols];
+            int[] k = new int[cols];
+            boolean[] whole = new boolean[cols];
             for (int c = 0; c < cols; c++) {
+                whole[c] = kinds.get(c) == ColumnKind.INTEGER;
                 binary[c] = kinds.get(c) == ColumnKind.BINARY;
+                k[c] = categories.get(c).size();
             }
             for (int r = 0, i = 0; r < rows; r++) {
                 for (int c = 0; c < cols; c++, i++) {
@@ -640,10 +842,27 @@ public final class Table {
                             throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
                                     + "' is " + v + "; the column is BINARY, expected 0, 1 or NaN for a missing cell");
                         }
+                    } else if (whole[c] && !Double.isNaN(v)) {
+                        if (v != Math.rint(v) || Math.abs(v) > 0x1p52) {
+                            throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
+                                    + "' is " + v + "; the column is INTEGER, expected a whole number within +-2^52"
+                                    + " or NaN for a missing cell");
+                        }
+                        if (v == 0.0) {
+                            cells[i] = 0.0;
+                        }
+                    } else if (k[c] > 0 && !Double.isNaN(v)) {
+                        if (v == 0.0) {
+                            cells[i] = 0.0;
+                        } else if (v != Math.rint(v) || v < 0 || v >= k[c]) {
+                            throw new IllegalArgumentException("cell at row " + r + ", column '" + names.get(c)
+                                    + "' is " + v + "; the column is CATEGORICAL with " + k[c]
+                                    + " categories, expected an index 0.." + (k[c] - 1) + " or NaN for a missing cell");
+                        }
                     }
                 }
             }
-            return new Table(names, kinds, index, rows, cells);
+            return new Table(this, rows, cells);
         }
     }
 }

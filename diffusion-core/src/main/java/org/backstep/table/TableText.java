@@ -28,7 +28,9 @@ final class TableText {
     static String summary(Table t) {
         int missing = t.missingCount();
         return "Table: " + CsvScan.count(t.rows(), "row") + " x " + CsvScan.count(t.columns(), "column") + " ("
-                + t.continuousColumns().length + " continuous, " + t.binaryColumns().length + " binary), "
+                + t.continuousColumns().length + " continuous, " + t.binaryColumns().length + " binary"
+                + (t.integerColumns().length > 0 ? ", " + t.integerColumns().length + " integer" : "")
+                + (t.categoricalColumns().length > 0 ? ", " + t.categoricalColumns().length + " categorical" : "") + "), "
                 + (missing == 0 ? "no missing cells" : CsvScan.count(missing, "missing cell") + " (shown as "
                 + MISSING + ")");
     }
@@ -44,9 +46,11 @@ final class TableText {
         }
         for (int c = 0; c < shownCols; c++) {
             ColumnKind kind = t.kind(c);
-            grid[0][c + 1] = t.name(c) + (kind == ColumnKind.BINARY ? " [bin]" : " [cont]");
+            grid[0][c + 1] = t.name(c) + (kind == ColumnKind.BINARY ? " [bin]"
+                    : kind == ColumnKind.CATEGORICAL ? " [cat]" : kind == ColumnKind.INTEGER ? " [int]" : " [cont]");
             for (int r = 0; r < shownRows; r++) {
-                grid[r + 1][c + 1] = cell(t.get(r, c), kind);
+                double v = t.get(r, c);
+                grid[r + 1][c + 1] = kind == ColumnKind.CATEGORICAL && !Double.isNaN(v) ? t.label(r, c) : cell(v, kind);
             }
         }
         int[] width = new int[shownCols + 1];
@@ -85,6 +89,9 @@ final class TableText {
         }
         if (kind == ColumnKind.BINARY) {
             return v == 1.0 ? "1" : "0";
+        }
+        if (kind == ColumnKind.INTEGER) {
+            return Long.toString((long) v);
         }
         return Double.toString(v);
     }

@@ -27,15 +27,21 @@ import org.backstep.schedule.Require;
  * (test resources {@code data/SOURCES.md}).
  *
  * <p><b>Model space</b> has the modelled continuous columns (not CONSTANT) first, transformed, then
- * the binary columns unchanged, each group in table order; a row of n_c + n_b values. Missing cells
- * stay NaN.
+ * the binary columns unchanged, then the categorical columns with two or more categories as their
+ * category index (IDENTITY; a categorical column of one category is CONSTANT at index 0), each group
+ * in table order; a row of n_c + n_b + n_k values. Missing cells stay NaN. The categories and their
+ * order are those of the training table; a table with other labels is matched by label text
+ * ({@link Table#recode}), and a label the model does not know is refused by name.
  *
  * <p><b>Densities.</b> With z = f(x) column by column, the change of variables formula gives
  * log p_x(x) = log p_z(z) + sum_j log |dz_j/dx_j| (Dinh, Sohl-Dickstein &amp; Bengio 2017, "Density
  * estimation using Real NVP", section 3.1), the sum over the modelled continuous, non-missing cells
  * ({@link #logJacobian(double[])}). For STANDARDIZE log |dz/dx| = -log s, so a negative
  * log-likelihood in model space becomes one in original units by adding sum_j log s_j; for
- * LOG_STANDARDIZE and NORMAL_SCORES it depends on x (see {@link ColumnTransform}). Densities are
+ * LOG_STANDARDIZE and NORMAL_SCORES it depends on x (see {@link ColumnTransform}). INTEGER
+ * columns are standardized like continuous ones, but their decoder gives the probability of the
+ * integer's unit-wide bin, a mass that needs no change of variables: they are left out of the
+ * log-Jacobian, and their model values are rounded back to integers. Densities are
  * in nats; constant columns contribute nothing (they are a point mass, left out of both sides).
  *
  * <p>One file of more than 400 lines: fitting, applying and inverting the column transforms and their log-Jacobian must agree column by column.
@@ -47,25 +53,43 @@ public final class TableTransform {
     private final List<ColumnTransform> transforms;
     private final int[] modelledContinuous;
     private final int[] modelledBinary;
+    private final int[] modelledCategorical;
+    private final Table.Layout layout;
+    /** The lowest integer of each INTEGER column that has one (counts: 0), by name. */
+    private final java.util.Map<String, Long> lowest;
     private final int[] constants;
     private final List<String> notes;
 
-    private TableTransform(Table.Layout layout, List<ColumnTransform> transforms, List<String> fitNotes) {
+    private TableTransform(Table.Layout layout, List<ColumnTransform> transforms, List<String> fitNotes,
+            java.util.Map<String, Long> lowest) {
+        this.lowest = java.util.Collections.unmodifiableMap(new java.util.LinkedHashMap<>(lowest));
         this.names = layout.names;
         this.kinds = layout.kinds;
+        this.layout = layout;
         this.transforms = List.copyOf(transforms);
         int n = names.size();
-        this.modelledContinuous = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.CONTINUOUS
+        this.modelledContinuous = IntStream.range(0, n).filter(c -> (kinds.get(c) == ColumnKind.CONTINUOUS
+                || kinds.get(c) == ColumnKind.INTEGER)
                 && this.transforms.get(c).kind() != ColumnTransform.Kind.CONSTANT).toArray();
         this.modelledBinary = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.BINARY).toArray();
+        this.modelledCategorical = IntStream.range(0, n).filter(c -> kinds.get(c) == ColumnKind.CATEGORICAL
+                && this.transforms.get(c).kind() != ColumnTransform.Kind.CONSTANT).toArray();
         this.constants = IntStream.range(0, n)
                 .filter(c -> this.transforms.get(c).kind() == ColumnTransform.Kind.CONSTANT).toArray();
         List<String> all = new ArrayList<>();
         for (int c = 0; c < n; c++) {
             ColumnTransform t = this.transforms.get(c);
-            if (t.kind() == ColumnTransform.Kind.CONSTANT) {
+            if (t.kind() == ColumnTransform.Kind.CONSTANT && kinds.get(c) == ColumnKind.CATEGORICAL) {
+                all.add("column '" + names.get(c) + "' has one category ('" + layout.categories.get(c).get(0)
+                        + "') and is carried exactly, not diffused");
+            } else if (t.kind() == ColumnTransform.Kind.CONSTANT) {
                 all.add("column '" + names.get(c) + "' is constant (" + t.shift()
                         + ") and is carried exactly, not diffused");
+            } else if (kinds.get(c) == ColumnKind.INTEGER) {
+                all.add("column '" + names.get(c) + "' holds integers: its decoder is a discretized Gaussian over"
+                        + " unit-wide bins (Ho et al. 2020, eq. 13), " + (this.lowest.containsKey(names.get(c))
+                        ? "counts from 0 (the bin of 0 reaches to -infinity)" : "with no lowest value")
+                        + ", so its part of a score is a probability mass");
             } else if (t.kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
                 all.add("column '" + names.get(c) + "' is modelled on the log scale: z = (log x - " + t.shift()
                         + ") / " + t.scale());
@@ -133,11 +157,22 @@ public final class TableTransform {
         }
         List<ColumnTransform> transforms = new ArrayList<>(training.columns());
         List<String> fitNotes = new ArrayList<>();
+        java.util.Map<String, Long> lowest = new java.util.LinkedHashMap<>();
         for (int c = 0; c < training.columns(); c++) {
             String name = training.name(c);
             if (training.kind(c) == ColumnKind.BINARY) {
                 transforms.add(ColumnTransform.identity());
                 continue;
+            }
+            if (training.kind(c) == ColumnKind.CATEGORICAL) {
+                transforms.add(training.categories(c).size() == 1 ? ColumnTransform.constant(0.0)
+                        : ColumnTransform.identity());
+                continue;
+            }
+            boolean whole = training.kind(c) == ColumnKind.INTEGER;
+            if (whole && java.util.Arrays.stream(training.column(c)).filter(v -> !Double.isNaN(v)).min()
+                    .orElse(-1.0) >= 0.0) {
+                lowest.put(name, 0L);      // counts: the support starts at 0
             }
             boolean log = logColumns.contains(name);
             double[] col = training.column(c);
@@ -167,7 +202,7 @@ public final class TableTransform {
                 transforms.add(ColumnTransform.constant(observed[0]));
                 continue;
             }
-            if (scores) {
+            if (scores && !whole) {
                 double h = bandwidthMultiple * ColumnTransform.silvermanBandwidth(observed);
                 transforms.add(ColumnTransform.normalScores(observed, h));
                 continue;
@@ -185,7 +220,8 @@ public final class TableTransform {
             }
             transforms.add(log ? ColumnTransform.logStandardize(mean, sd) : ColumnTransform.standardize(mean, sd));
         }
-        return new TableTransform(Table.Layout.of(training.names(), training.kinds()), transforms, fitNotes);
+        return new TableTransform(Table.Layout.of(training.names(), training.kinds(), training.categories()), transforms,
+                fitNotes, lowest);
     }
 
     /**
@@ -199,17 +235,78 @@ public final class TableTransform {
      * @throws IllegalArgumentException naming the column if a size or a pairing of kind and transform is wrong
      */
     public static TableTransform of(List<String> names, List<ColumnKind> kinds, List<ColumnTransform> transforms) {
-        Table.Layout layout = Table.Layout.of(names, kinds);
+        return of(names, kinds, java.util.Map.of(), transforms);
+    }
+
+    /**
+     * Rebuilds fitted transforms with categorical columns, e.g. from a model file.
+     *
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param categories the labels of each categorical column, in index order (not modified)
+     * @param transforms one transform per column: IDENTITY for each binary column and each categorical
+     *     column of two or more categories, CONSTANT at 0 for a categorical column of one, as
+     *     {@link #of(List, List, List)} for continuous ones (not modified)
+     * @return the transforms
+     * @throws IllegalArgumentException naming the column if a size, label or pairing of kind and transform is wrong
+     */
+    public static TableTransform of(List<String> names, List<ColumnKind> kinds,
+            java.util.Map<String, List<String>> categories, List<ColumnTransform> transforms) {
+        return of(names, kinds, categories, java.util.Map.of(), transforms);
+    }
+
+    /**
+     * Rebuilds fitted transforms with categorical and integer columns, e.g. from a model file.
+     *
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param categories the labels of each categorical column, in index order (not modified)
+     * @param lowest the lowest integer of each INTEGER column whose support has one: 0 (counts); no
+     *     entry for integer columns without a lowest value (not modified)
+     * @param transforms one transform per column, as {@link #of(List, List, java.util.Map, List)};
+     *     STANDARDIZE or CONSTANT for an integer column (not modified)
+     * @return the transforms
+     * @throws IllegalArgumentException naming the column if a size, label, lowest value or pairing is wrong
+     */
+    public static TableTransform of(List<String> names, List<ColumnKind> kinds,
+            java.util.Map<String, List<String>> categories, java.util.Map<String, Long> lowest,
+            List<ColumnTransform> transforms) {
+        Require.notNull("categories", categories);
+        Require.notNull("lowest", lowest);
+        Table.Layout layout = Table.Layout.of(names, kinds, categories);
         Require.notNull("transforms", transforms);
         if (transforms.size() != layout.names.size()) {
             throw new IllegalArgumentException("transforms has " + transforms.size() + " entries; expected "
                     + layout.names.size() + " (one per column)");
+        }
+        for (java.util.Map.Entry<String, Long> e : lowest.entrySet()) {
+            Integer at = layout.index.get(e.getKey());
+            if (at == null || layout.kinds.get(at) != ColumnKind.INTEGER || e.getValue() == null || e.getValue() != 0L) {
+                throw new IllegalArgumentException("lowest names '" + e.getKey() + "' with " + e.getValue()
+                        + "; expected an INTEGER column with the lowest value 0 (counts)");
+            }
         }
         for (int c = 0; c < transforms.size(); c++) {
             ColumnTransform t = transforms.get(c);
             if (t == null) {
                 throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c)
                         + "') is null; expected a transform");
+            }
+            if (layout.kinds.get(c) == ColumnKind.CATEGORICAL) {
+                boolean one = layout.categories.get(c).size() == 1;
+                boolean ok = one ? t.kind() == ColumnTransform.Kind.CONSTANT && t.shift() == 0.0
+                        : t.kind() == ColumnTransform.Kind.IDENTITY;
+                if (!ok) {
+                    throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c)
+                            + "', CATEGORICAL with " + layout.categories.get(c).size() + " categories) is " + t.kind()
+                            + "; expected " + (one ? "CONSTANT at 0" : "IDENTITY"));
+                }
+                continue;
+            }
+            if (layout.kinds.get(c) == ColumnKind.INTEGER && t.kind() != ColumnTransform.Kind.STANDARDIZE
+                    && t.kind() != ColumnTransform.Kind.CONSTANT) {
+                throw new IllegalArgumentException("transforms[" + c + "] (column '" + layout.names.get(c)
+                        + "', INTEGER) is " + t.kind() + "; expected STANDARDIZE or CONSTANT");
             }
             boolean binary = layout.kinds.get(c) == ColumnKind.BINARY;
             boolean identity = t.kind() == ColumnTransform.Kind.IDENTITY;
@@ -220,7 +317,7 @@ public final class TableTransform {
                                 : "STANDARDIZE, LOG_STANDARDIZE, NORMAL_SCORES or CONSTANT for a continuous column"));
             }
         }
-        return new TableTransform(layout, transforms, List.of());
+        return new TableTransform(layout, transforms, List.of(), lowest);
     }
 
     // ------------------------------------------------------------------ accessors
@@ -260,14 +357,38 @@ public final class TableTransform {
         return modelledBinary.clone();
     }
 
+    /** @return indices of the categorical columns with two or more categories, in order (a copy) */
+    public int[] modelledCategorical() {
+        return modelledCategorical.clone();
+    }
+
+    /** @return K of each modelled categorical column, in model-space order */
+    public int[] modelledCategories() {
+        int[] k = new int[modelledCategorical.length];
+        for (int j = 0; j < k.length; j++) {
+            k[j] = layout.categories.get(modelledCategorical[j]).size();
+        }
+        return k;
+    }
+
+    /** @return the lowest integer (0) of each INTEGER column that is a count, by name (unmodifiable) */
+    public java.util.Map<String, Long> lowest() {
+        return lowest;
+    }
+
+    /** @return the labels of every categorical column by name, in table order (unmodifiable) */
+    public java.util.Map<String, List<String>> categories() {
+        return layout.categoryMap();
+    }
+
     /** @return indices of the CONSTANT columns, in order (a copy) */
     public int[] constantColumns() {
         return constants.clone();
     }
 
-    /** @return the width of a model-space row: modelledContinuous().length + modelledBinary().length */
+    /** @return the width of a model-space row: modelled continuous, binary and categorical columns */
     public int modelColumns() {
-        return modelledContinuous.length + modelledBinary.length;
+        return modelledContinuous.length + modelledBinary.length + modelledCategorical.length;
     }
 
     /** @return the names of the model-space columns, in model-space order */
@@ -277,6 +398,9 @@ public final class TableTransform {
             out.add(names.get(c));
         }
         for (int c : modelledBinary) {
+            out.add(names.get(c));
+        }
+        for (int c : modelledCategorical) {
             out.add(names.get(c));
         }
         return List.copyOf(out);
@@ -304,7 +428,7 @@ public final class TableTransform {
      * @throws IllegalArgumentException naming the first column that differs, or a LOG_STANDARDIZE cell &lt;= 0
      */
     public double[][] toModelSpace(Table t) {
-        checkLayout(t);
+        t = aligned(t);
         int nc = modelledContinuous.length;
         double[][] out = new double[t.rows()][modelColumns()];
         for (int r = 0; r < t.rows(); r++) {
@@ -320,8 +444,36 @@ public final class TableTransform {
             for (int j = 0; j < modelledBinary.length; j++) {
                 out[r][nc + j] = t.get(r, modelledBinary[j]);
             }
+            int nd = nc + modelledBinary.length;
+            for (int j = 0; j < modelledCategorical.length; j++) {
+                out[r][nd + j] = t.get(r, modelledCategorical[j]);
+            }
         }
         return out;
+    }
+
+    /**
+     * The table with each categorical column's cells indexed by this transform's labels (matched by
+     * label text, {@link Table#recode}); the table itself when the labels are the same.
+     *
+     * @param table a table with this transform's names and kinds (not modified)
+     * @return the table in this transform's categories
+     * @throws IllegalArgumentException naming the first column that differs, or the row, column and
+     *     label of a category the transform does not know
+     */
+    public Table aligned(Table table) {
+        checkLayout(table);
+        Table t = table;
+        for (int c = 0; c < names.size(); c++) {
+            if (kinds.get(c) == ColumnKind.CATEGORICAL && !t.categories(c).equals(layout.categories.get(c))) {
+                try {
+                    t = t.recode(names.get(c), layout.categories.get(c));
+                } catch (IllegalArgumentException e) {
+                    throw new IllegalArgumentException(e.getMessage() + " (the categories of the training table)", e);
+                }
+            }
+        }
+        return t;
     }
 
     /**
@@ -344,21 +496,34 @@ public final class TableTransform {
             if (z == null || z.length != width) {
                 throw new IllegalArgumentException("model[" + r + "] has " + (z == null ? "no array (null)" : z.length
                         + " values") + "; expected " + width + " (" + nc + " continuous then "
-                        + modelledBinary.length + " binary)");
+                        + modelledBinary.length + " binary" + (modelledCategorical.length > 0 ? " then "
+                        + modelledCategorical.length + " categorical" : "") + ")");
             }
             for (int j = 0; j < nc; j++) {
                 int c = modelledContinuous[j];
-                rows[r][c] = transforms.get(c).inverse(z[j]);
+                double x = transforms.get(c).inverse(z[j]);
+                if (kinds.get(c) == ColumnKind.INTEGER && !Double.isNaN(x)) {
+                    // the integer whose unit-wide bin holds x (Ho et al. 2020, eq. 13), within the support
+                    x = Math.max(Math.rint(x), lowest.containsKey(names.get(c)) ? 0.0 : -0x1p52);
+                    x = Math.min(x, 0x1p52);
+                }
+                rows[r][c] = x;
             }
             for (int j = 0; j < modelledBinary.length; j++) {
                 double v = z[nc + j];
                 rows[r][modelledBinary[j]] = Double.isNaN(v) ? Double.NaN : v >= 0.5 ? 1.0 : 0.0;
             }
+            int nd = nc + modelledBinary.length;
+            for (int j = 0; j < modelledCategorical.length; j++) {
+                double v = z[nd + j];
+                int k = layout.categories.get(modelledCategorical[j]).size();
+                rows[r][modelledCategorical[j]] = Double.isNaN(v) ? Double.NaN : Math.max(0, Math.min(k - 1, Math.rint(v)));
+            }
             for (int c : constants) {
                 rows[r][c] = transforms.get(c).shift();
             }
         }
-        return Table.of(names, kinds, rows);
+        return Table.of(names, kinds, layout.categoryMap(), rows);
     }
 
     /**
@@ -398,6 +563,9 @@ public final class TableTransform {
     private double sumLogJacobian(double[] row, int r) {
         double sum = 0.0;
         for (int c : modelledContinuous) {
+            if (kinds.get(c) == ColumnKind.INTEGER) {
+                continue;      // a probability mass: no change of variables
+            }
             double x = row[c];
             if (Double.isNaN(x)) {
                 continue;
@@ -487,7 +655,8 @@ public final class TableTransform {
             return false;
         }
         TableTransform t = (TableTransform) o;
-        return names.equals(t.names) && kinds.equals(t.kinds) && transforms.equals(t.transforms);
+        return names.equals(t.names) && kinds.equals(t.kinds) && transforms.equals(t.transforms)
+                && layout.categories.equals(t.layout.categories) && lowest.equals(t.lowest);
     }
 
     /** @return a hash consistent with {@link #equals(Object)} */
@@ -511,6 +680,9 @@ public final class TableTransform {
                 sb.append(" knots=").append(t.knots().length).append(" bandwidth=").append(t.scale());
             } else if (t.kind() == ColumnTransform.Kind.CONSTANT) {
                 sb.append(" value=").append(t.shift());
+            }
+            if (kinds.get(c) == ColumnKind.CATEGORICAL) {
+                sb.append(" categories=").append(layout.categories.get(c).size());
             }
             sb.append('\n');
         }

@@ -215,7 +215,7 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         ColumnMatch m = ColumnMatch.of(schema, cols, Arrays.asList(cols), kinds, getOrDefault(rowKeyCol()));
         RowJob.Kind kind = RowJob.check(this, cols.length);
         return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()), getOrDefault(flagCol()),
-                (Double) getOrDefault(screenQuantile)));
+                (Double) getOrDefault(screenQuantile), getOrDefault(culpritCol()), getOrDefault(surprisalCol())));
     }
 
     @Override
@@ -281,19 +281,20 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
     /** The q-quantile of the held-out rows' scores, scored as the fitted model will score rows. */
     private double threshold(DiffusionModel model, Table sample, long[] rowSeeds, double q) {
         int draws = (Integer) getOrDefault(scoreDraws());
-        List<Double> scores = new ArrayList<>();
+        List<Integer> held = new ArrayList<>();
         for (int i = 0; i < sample.rows(); i += 5) {
-            Table one = sample.selectRows(new int[] {i});
-            if (!one.hasMissing()) {
-                scores.add(CoreCalls.score(model, one, draws, rowSeeds[i]));
+            if (!sample.selectRows(new int[] {i}).hasMissing()) {
+                held.add(i);
             }
         }
-        if (scores.size() < MIN_HELD_OUT) {
+        if (held.size() < MIN_HELD_OUT) {
             throw new IllegalArgumentException("screenQuantile needs at least " + MIN_HELD_OUT
-                    + " complete held-out rows; the sample gave " + scores.size() + " (raise sampleRows or add rows)");
+                    + " complete held-out rows; the sample gave " + held.size() + " (raise sampleRows or add rows)");
         }
-        return new Percentile().withEstimationType(Percentile.EstimationType.R_7)
-                .evaluate(scores.stream().mapToDouble(Double::doubleValue).toArray(), 100.0 * q);
+        int[] rows = held.stream().mapToInt(Integer::intValue).toArray();
+        long[] seeds = java.util.stream.IntStream.of(rows).mapToLong(i -> rowSeeds[i]).toArray();
+        double[] scores = CoreCalls.score(model, sample.selectRows(rows), draws, seeds);
+        return new Percentile().withEstimationType(Percentile.EstimationType.R_7).evaluate(scores, 100.0 * q);
     }
 
     /** A row's sampling key, from its seed (mixed once more, so that sampling and the row's stream do not share bits). */

@@ -32,19 +32,22 @@ import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructField;
 import org.apache.spark.sql.types.StructType;
 import org.backstep.DiffusionModel;
+import org.backstep.report.DriftReport;
 
 /**
  * A fitted Backstep model as a Spark ML Transformer: {@link #transform(Dataset)} appends the
- * columns of the chosen job (score and flag, imputation, or denoising; see {@link BackstepParams})
- * to every row of a DataFrame; {@link #sample(SparkSession, long, int, long)} draws synthetic rows
+ * columns of the chosen job (score and flag, the culprit columns of flagged rows, imputation, or
+ * denoising; see {@link BackstepParams}) to every row of a DataFrame; {@link #drift(Dataset, Dataset)}
+ * tests whether a new DataFrame differs from a reference one; {@link #sample(SparkSession, long, int, long)} draws synthetic rows
  * as a DataFrame spread over partitions. Made by {@link BackstepEstimator#fit(Dataset)}, or around
  * a model fitted in one JVM by {@link #of(DiffusionModel)} or {@link #load(Path)}.
  *
  * <p>What is sent where: the model file's bytes are broadcast once per transform (Spark ships a
  * broadcast to each executor once); each executor JVM loads the model once, keyed by the SHA-256 of
  * the bytes ({@code ExecutorModels}), whatever the number of tasks. Rows stay in their partitions;
- * each partition is read in batches of {@code batchRows} rows and each row goes through the core
- * with its own random stream ({@link RowSeeds}), on {@code spark.task.cpus} threads.
+ * each partition is read in batches of {@code batchRows} rows, each row with its own random stream
+ * ({@link RowSeeds}), on {@code spark.task.cpus} threads; scoring sends a batch to the core as one
+ * matrix, imputation, denoising and a flagged row's surprisal one row per call.
  *
  * <p>Saved with Spark ML's writer: the folder holds Spark's {@code metadata} (every Param) and the
  * Backstep model file, {@value #MODEL_FILE}, byte for byte.
@@ -139,13 +142,14 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
      *
      * @param heldOut complete rows not trained on, at least {@link BackstepEstimator#MIN_HELD_OUT}
      * @param quantile in (0, 1), e.g. 0.99
-     * @return a copy with the threshold set and the job set to score
+     * @return a copy with the threshold set and the job set to score (kept at attribute if it was)
      * @throws IllegalArgumentException naming the quantile or the held-out row count
      */
     public BackstepModel screenAgainst(Dataset<?> heldOut, double quantile) {
         if (!(quantile > 0 && quantile < 1)) {
             throw new IllegalArgumentException("quantile is " + quantile + "; expected a number in (0, 1)");
         }
+        String keep = ATTRIBUTE.equalsIgnoreCase(getOrDefault(job())) ? ATTRIBUTE : SCORE;
         BackstepModel scorer = copy(ParamMap.empty()).setJob(SCORE).setThreshold(Double.NaN);
         String col = scorer.getOrDefault(outputCol());
         double[] scores = scorer.transform(heldOut).select(col).collectAsList().stream()
@@ -157,7 +161,7 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
         double t = new org.apache.commons.math3.stat.descriptive.rank.Percentile()
                 .withEstimationType(org.apache.commons.math3.stat.descriptive.rank.Percentile.EstimationType.R_7)
                 .evaluate(scores, 100.0 * quantile);
-        return copy(ParamMap.empty()).setJob(SCORE).setThreshold(t);
+        return copy(ParamMap.empty()).setJob(keep).setThreshold(t);
     }
 
     /** @return the model, loaded in this JVM (once; shared with the transforms run here) */
@@ -183,21 +187,96 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
 
     @Override
     public StructType transformSchema(StructType schema) {
-        RowJob.Kind kind = RowJob.check(this, CoreCalls.names(model()).size());
+        RowJob.Kind kind = checkJob();
         ColumnMatch m = match(schema);
         return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()),
-                getOrDefault(flagCol()), (Double) getOrDefault(threshold)));
+                getOrDefault(flagCol()), (Double) getOrDefault(threshold), getOrDefault(culpritCol()),
+                getOrDefault(surprisalCol())));
+    }
+
+    private RowJob.Kind checkJob() {
+        RowJob.Kind kind = RowJob.check(this, CoreCalls.names(model()).size());
+        if (kind == RowJob.Kind.ATTRIBUTE && Double.isNaN((Double) getOrDefault(threshold))) {
+            throw new IllegalArgumentException("job is 'attribute' and threshold is NaN; expected a threshold in nats "
+                    + "(setThreshold, or screenAgainst held-out rows)");
+        }
+        return kind;
     }
 
     @Override
     public Dataset<Row> transform(Dataset<?> dataset) {
         StructType out = transformSchema(dataset.schema());
-        RowJob.Kind kind = RowJob.check(this, CoreCalls.names(model()).size());
-        RowJob job = new RowJob(broadcast(dataset.sparkSession()), sha256, match(dataset.schema()), kind,
+        RowJob job = job(dataset.schema(), checkJob());
+        return dataset.toDF().mapPartitions(job, Encoders.row(out));
+    }
+
+    private RowJob job(StructType schema, RowJob.Kind kind) {
+        return new RowJob(broadcastBytes(), sha256, match(schema), kind,
                 (Long) getOrDefault(seed()), (Integer) getOrDefault(scoreDraws()), (Integer) getOrDefault(draws()),
                 (Double) getOrDefault(level()), getOrDefault(noiseSd()), (Double) getOrDefault(threshold),
-                (Integer) getOrDefault(batchRows()));
-        return dataset.toDF().mapPartitions(job, Encoders.row(out));
+                (Integer) getOrDefault(batchRows()), (Integer) getOrDefault(culprits()),
+                new int[] {(Integer) getOrDefault(surprisalDraws()), (Integer) getOrDefault(surprisalSteps()),
+                        (Integer) getOrDefault(surprisalRounds())});
+    }
+
+    /**
+     * Whether a new batch of rows differs from a reference batch: the core's drift tests
+     * ({@link DriftReport}: a two-sample Kolmogorov-Smirnov test on the rows' scores, one test per
+     * column, Holm's adjustment). The scores are computed on the executors, partition by partition
+     * in batches, with common random numbers (every row shares the draws of {@link #seed()}, so a
+     * row's score does not depend on its partition; {@code DiffusionModel.screeningScores}) by the
+     * bound {@link #scoreDraws()} names (0: exact; the core's own drift default is a Monte Carlo
+     * bound of {@code Defaults.SCREENING_DRAWS} draws); then each row's model cells and score (one
+     * double per model column and one more) are collected to the driver, which runs the tests. The
+     * report equals {@code model().drift(reference, batch, Defaults.drift().withBound(..), seed)} on
+     * the same rows in one JVM. The notes count rows in the order they were collected.
+     *
+     * <p>Driver memory: 8 (columns + 1) bytes per row of both batches, e.g. 336 MB for two batches
+     * of a million rows of 20 columns.
+     *
+     * <p>Caution: a drift alarm says the batches differ; it does not say the new batch is faulty.
+     *
+     * @param reference rows the model is known to fit (e.g. held-out rows); complete, at least 2
+     * @param batch the new rows; complete, at least 2
+     * @return the tests
+     * @throws IllegalArgumentException naming a missing or mistyped column, a row with a missing
+     *     cell, or a batch of fewer than 2 rows
+     */
+    public DriftReport drift(Dataset<?> reference, Dataset<?> batch) {
+        if (reference == null || batch == null) {
+            throw new IllegalArgumentException((reference == null ? "reference" : "batch") + " is null");
+        }
+        int sd = (Integer) getOrDefault(scoreDraws());
+        if (sd < 0) {
+            throw new IllegalArgumentException("scoreDraws is " + sd + "; expected 0 (exact bound) or a count of at least 1");
+        }
+        DiffusionModel m = model();
+        Object[] ref = commonScores(reference, "reference");
+        Object[] now = commonScores(batch, "batch");
+        return CoreCalls.drift(m, (org.backstep.table.Table) ref[0], (double[]) ref[1],
+                (org.backstep.table.Table) now[0], (double[]) now[1]);
+    }
+
+    /** The rows' model cells as a table and their common-random-number scores, computed on the executors. */
+    private Object[] commonScores(Dataset<?> rows, String name) {
+        List<String> names = CoreCalls.names(model());
+        RowJob job = job(rows.schema(), RowJob.Kind.COMMON);
+        String scoreCol = "backstep_score";
+        List<Row> got = rows.toDF().mapPartitions(job, Encoders.row(RowJob.commonSchema(names, scoreCol))).collectAsList();
+        if (got.size() < 2) {
+            throw new IllegalArgumentException(name + " has " + got.size() + " rows; expected at least 2");
+        }
+        int d = names.size();
+        double[][] cells = new double[got.size()][d];
+        double[] scores = new double[got.size()];
+        for (int i = 0; i < got.size(); i++) {
+            Row r = got.get(i);
+            for (int j = 0; j < d; j++) {
+                cells[i][j] = r.getDouble(j);
+            }
+            scores[i] = r.getDouble(d);
+        }
+        return new Object[] {org.backstep.table.Table.of(names, CoreCalls.kinds(model()), cells), scores};
     }
 
     /**
@@ -230,6 +309,11 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
                 .map(n -> DataTypes.createStructField(n, DataTypes.DoubleType, false)).toArray(StructField[]::new));
         return spark.range(0, partitions, 1, partitions).as(Encoders.LONG())
                 .mapPartitions(new SampleJob(broadcast(spark), sha256, count, partitions, seed, slice), Encoders.row(schema));
+    }
+
+    /** The broadcast of the active session. */
+    private Broadcast<byte[]> broadcastBytes() {
+        return broadcast(SparkSession.active());
     }
 
     /** The model file's bytes as a broadcast variable of the session's context, made once per context. */

@@ -21,7 +21,14 @@ import org.apache.spark.ml.param.StringArrayParam;
  * each missing cell given the observed ones (observed cells repeat their value);
  * {@code "denoise"} appends {@code c_denoised} and {@code c_sd}: the posterior mean and spread of
  * each cell of readings with Gaussian noise of standard deviation {@link #noiseSd()} (original
- * units, one per model column).
+ * units, one per model column); {@code "attribute"} scores and flags as {@code "score"} (the model
+ * needs a threshold) and, for each flagged row, appends which columns make it unusual: the
+ * conditional surprisal -log p(x_j | x_-j) of every model column in nats, model space
+ * ({@link #surprisalCol()}, in the model's column order, NaN for a missing cell; the core's
+ * {@code DiffusionModel.surprisal} with {@link #surprisalDraws()}, {@link #surprisalSteps()} and
+ * {@link #surprisalRounds()}), and the {@link #culprits()} most surprising columns by their
+ * DataFrame names, most surprising first ({@link #culpritCol()}); both arrays are empty for a row
+ * that is not flagged.
  *
  * <p>Every row's random stream derives from {@link #seed()} and the row's key
  * ({@link #rowKeyCol()}, else the row's cells), so results do not depend on the partitioning
@@ -41,6 +48,8 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
     String IMPUTE = "impute";
     /** @see #SCORE */
     String DENOISE = "denoise";
+    /** @see #SCORE */
+    String ATTRIBUTE = "attribute";
 
     /** The Param objects of one instance; internal, made by the implementing class's constructor. */
     final class Defs {
@@ -55,6 +64,12 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
         final DoubleParam level;
         final DoubleArrayParam noiseSd;
         final IntParam batchRows;
+        final Param<String> culpritCol;
+        final Param<String> surprisalCol;
+        final IntParam culprits;
+        final IntParam surprisalDraws;
+        final IntParam surprisalSteps;
+        final IntParam surprisalRounds;
 
         Defs(BackstepParams<?> owner) {
             inputCols = new StringArrayParam(owner, "inputCols",
@@ -64,7 +79,7 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
             outputCol = new Param<>(owner, "outputCol", "the score column: the bound in nats per row");
             flagCol = new Param<>(owner, "flagCol", "the flag column: score above the threshold (or NaN)");
             seed = new LongParam(owner, "seed", "the job's seed; each row's seed derives from it and the row's key");
-            job = new Param<>(owner, "job", "the job of transform: score, impute or denoise");
+            job = new Param<>(owner, "job", "the job of transform: score, attribute, impute or denoise");
             scoreDraws = new IntParam(owner, "scoreDraws",
                     "0: the exact bound over all T steps; K > 0: a Monte Carlo estimate with K steps");
             draws = new IntParam(owner, "draws", "draws per row for impute and denoise, at least 1");
@@ -72,6 +87,15 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
             noiseSd = new DoubleArrayParam(owner, "noiseSd",
                     "for denoise: the noise standard deviation of each model column, original units");
             batchRows = new IntParam(owner, "batchRows", "rows read from a partition at a time, at least 1");
+            culpritCol = new Param<>(owner, "culpritCol",
+                    "for attribute: the column of the most surprising columns' names of a flagged row");
+            surprisalCol = new Param<>(owner, "surprisalCol",
+                    "for attribute: the column of a flagged row's surprisal per model column, nats");
+            culprits = new IntParam(owner, "culprits", "for attribute: how many column names to list, at least 1");
+            surprisalDraws = new IntParam(owner, "surprisalDraws", "for attribute: draws per cell, at least "
+                    + CoreCalls.fewestSurprisalDraws());
+            surprisalSteps = new IntParam(owner, "surprisalSteps", "for attribute: the most chain steps, at least 1");
+            surprisalRounds = new IntParam(owner, "surprisalRounds", "for attribute: resampling rounds per step, at least 1");
             owner.setDefault(rowKeyCol, "");
             owner.setDefault(outputCol, "backstep_nats");
             owner.setDefault(flagCol, "backstep_flag");
@@ -82,6 +106,13 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
             owner.setDefault(level, (Object) 0.9);
             owner.setDefault(noiseSd, new double[0]);
             owner.setDefault(batchRows, (Object) 256);
+            int[] sd = CoreCalls.surprisalDefaults();
+            owner.setDefault(culpritCol, "backstep_culprits");
+            owner.setDefault(surprisalCol, "backstep_surprisal");
+            owner.setDefault(culprits, (Object) 3);
+            owner.setDefault(surprisalDraws, (Object) sd[0]);
+            owner.setDefault(surprisalSteps, (Object) sd[1]);
+            owner.setDefault(surprisalRounds, (Object) sd[2]);
         }
     }
 
@@ -212,6 +243,72 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
     /** @param rows rows read from a partition at a time @return this */
     default S setBatchRows(int rows) {
         set(batchRows(), (Object) rows);
+        return self();
+    }
+
+    /** @return the Param: the culprit column (attribute) */
+    default Param<String> culpritCol() {
+        return paramDefs().culpritCol;
+    }
+
+    /** @return the Param: the surprisal column (attribute) */
+    default Param<String> surprisalCol() {
+        return paramDefs().surprisalCol;
+    }
+
+    /** @return the Param: how many culprit columns to name (attribute) */
+    default IntParam culprits() {
+        return paramDefs().culprits;
+    }
+
+    /** @return the Param: surprisal draws per cell (attribute) */
+    default IntParam surprisalDraws() {
+        return paramDefs().surprisalDraws;
+    }
+
+    /** @return the Param: the most chain steps of the surprisal draws (attribute) */
+    default IntParam surprisalSteps() {
+        return paramDefs().surprisalSteps;
+    }
+
+    /** @return the Param: resampling rounds per step of the surprisal draws (attribute) */
+    default IntParam surprisalRounds() {
+        return paramDefs().surprisalRounds;
+    }
+
+    /** @param col the culprit column @return this */
+    default S setCulpritCol(String col) {
+        set(culpritCol(), col);
+        return self();
+    }
+
+    /** @param col the surprisal column @return this */
+    default S setSurprisalCol(String col) {
+        set(surprisalCol(), col);
+        return self();
+    }
+
+    /** @param count how many culprit columns to name, at least 1 @return this */
+    default S setCulprits(int count) {
+        set(culprits(), (Object) count);
+        return self();
+    }
+
+    /** @param draws surprisal draws per cell @return this */
+    default S setSurprisalDraws(int draws) {
+        set(surprisalDraws(), (Object) draws);
+        return self();
+    }
+
+    /** @param steps the most chain steps of the surprisal draws @return this */
+    default S setSurprisalSteps(int steps) {
+        set(surprisalSteps(), (Object) steps);
+        return self();
+    }
+
+    /** @param rounds resampling rounds per step of the surprisal draws @return this */
+    default S setSurprisalRounds(int rounds) {
+        set(surprisalRounds(), (Object) rounds);
         return self();
     }
 }

@@ -4,6 +4,9 @@ import org.backstep.Defaults;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.ImputationOptions;
+import org.backstep.option.SurprisalOptions;
+import org.backstep.report.DriftReport;
+import org.backstep.report.Surprisal;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Files;
@@ -19,21 +22,59 @@ import org.backstep.table.Table;
 
 /**
  * Every call this module makes into diffusion-core, in one place, so that a change of the core's
- * job signatures is met here only. Each job runs on one record per call (see {@link RowSeeds} for
- * why), except sampling and fitting.
+ * job signatures is met here only. Scoring runs on batches of records, each record with its own
+ * seed ({@link DiffusionModel#bound(Table, BoundOptions, long[])}), and so does the scoring for
+ * drift (common random numbers, {@link DiffusionModel#screeningScores}); imputation, denoising
+ * and the surprisal of a flagged row run on one record per call (the core takes one seed per call
+ * for those; flagged rows are few).
  */
 final class CoreCalls {
 
     private CoreCalls() {
     }
 
+    /** @return the exact bound over all T steps for 0 draws, else the Monte Carlo bound with that many steps */
+    static BoundOptions boundOf(int draws) {
+        return draws == 0 ? BoundOptions.exact() : BoundOptions.sampled(draws);
+    }
+
     /**
-     * The negative variational bound of one record in nats (model space): exact over all T steps
-     * when {@code draws} is 0 ({@link DiffusionModel#bound(Table, long)}), else the Monte Carlo
-     * estimate with {@code draws} steps ({@link BoundOptions#sampled(int)}).
+     * The negative variational bound of each record in nats (model space), record i drawing from
+     * its own seed ({@link DiffusionModel#bound(Table, BoundOptions, long[])}): exact over all T
+     * steps when {@code draws} is 0, else the Monte Carlo estimate with {@code draws} steps.
      */
-    static double score(DiffusionModel model, Table oneRow, int draws, long seed) {
-        return draws == 0 ? model.bound(oneRow, seed).nats()[0] : model.bound(oneRow, BoundOptions.sampled(draws), seed).nats()[0];
+    static double[] score(DiffusionModel model, Table rows, int draws, long[] rowSeeds) {
+        return model.bound(rows, boundOf(draws), rowSeeds).nats();
+    }
+
+    /**
+     * The scores of a screen and of the drift tests ({@link DiffusionModel#screeningScores}): every
+     * record shares the draws of {@code seed}, +infinity for a record the model cannot score.
+     */
+    static double[] commonScores(DiffusionModel model, Table rows, int draws, long seed) {
+        return model.screeningScores(rows, boundOf(draws), seed);
+    }
+
+    /** The drift tests of two batches from their common-random-number scores ({@link DiffusionModel#drift(Table, double[], Table, double[])}). */
+    static DriftReport drift(DiffusionModel model, Table reference, double[] referenceScores, Table batch,
+                             double[] batchScores) {
+        return model.drift(reference, referenceScores, batch, batchScores);
+    }
+
+    /** The per-column surprisal of records ({@link DiffusionModel#surprisal(Table, SurprisalOptions, long)}). */
+    static Surprisal surprisal(DiffusionModel model, Table rows, int draws, int steps, int rounds, long seed) {
+        return model.surprisal(rows, new SurprisalOptions(draws, steps, rounds), seed);
+    }
+
+    /** @return the core's default surprisal settings: draws, steps, rounds */
+    static int[] surprisalDefaults() {
+        SurprisalOptions d = Defaults.surprisal();
+        return new int[] {d.draws(), d.steps(), d.rounds()};
+    }
+
+    /** @return the fewest draws per cell a surprisal takes */
+    static int fewestSurprisalDraws() {
+        return SurprisalOptions.FEWEST_DRAWS;
     }
 
     /** {@link DiffusionModel#impute(Table, ImputationOptions, long)} of one record, at the default steps, rounds and method. */

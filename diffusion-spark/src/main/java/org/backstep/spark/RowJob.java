@@ -18,14 +18,19 @@ import org.apache.spark.sql.types.StructType;
 import org.backstep.DiffusionModel;
 import org.backstep.report.Denoising;
 import org.backstep.report.Imputation;
+import org.backstep.report.Surprisal;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 
 /**
  * One job over the rows of a DataFrame, run per partition: the rows are read in batches of
  * {@code batchRows}, each row's random stream is seeded from the job's seed and the row's key
- * ({@link RowSeeds}), and each row goes through the core on its own (one record per call), on the
- * task's cores. Output rows are the input rows with the job's columns appended.
+ * ({@link RowSeeds}), on the task's cores. Scoring sends each batch to the core as one table (in
+ * slices of at most {@value #SLICE_ROWS} rows, one per task core), each record drawing from its own
+ * seed, so a row's score does not depend on the rows beside it (to the network's float rounding);
+ * imputation, denoising and the surprisal of a flagged row send one record per call. Output rows
+ * are the input rows with the job's columns appended; for {@link Kind#COMMON}, the model's cells
+ * and the score only.
  */
 final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
 
@@ -38,8 +43,18 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         /** Mean and central interval of draws of each missing cell. */
         IMPUTE,
         /** Posterior mean and spread of each cell of readings with known noise. */
-        DENOISE
+        DENOISE,
+        /** Score and flag, and for a flagged row its surprisal per column and the most surprising columns. */
+        ATTRIBUTE,
+        /** Internal (drift): the model's cells and the score with common random numbers. */
+        COMMON
     }
+
+    /**
+     * The most rows of one scoring call into the core: the core's chunk (256 rows, evaluated on the
+     * calling thread), so that a task uses the threads it was given and no more.
+     */
+    static final int SLICE_ROWS = 256;
 
     /** Suffixes of the columns the impute and denoise jobs add, after the input column's name. */
     static final String MEAN = "_mean";
@@ -59,9 +74,15 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
     private final double[] noiseSd;
     private final double threshold;
     private final int batchRows;
+    private final int culprits;
+    private final int[] surprisal;
 
+    /**
+     * @param surprisal the surprisal's draws, steps and rounds (attribute)
+     * @param culprits how many culprit names (attribute)
+     */
     RowJob(Broadcast<byte[]> modelBytes, String sha256, ColumnMatch match, Kind kind, long seed, int scoreDraws,
-           int draws, double level, double[] noiseSd, double threshold, int batchRows) {
+           int draws, double level, double[] noiseSd, double threshold, int batchRows, int culprits, int[] surprisal) {
         this.modelBytes = modelBytes;
         this.sha256 = sha256;
         this.match = match;
@@ -73,6 +94,8 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         this.noiseSd = noiseSd.clone();
         this.threshold = threshold;
         this.batchRows = batchRows;
+        this.culprits = culprits;
+        this.surprisal = surprisal.clone();
     }
 
     /**
@@ -83,9 +106,12 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
      * @param outputCol the score column
      * @param flagCol the flag column
      * @param threshold the flag's threshold, NaN for no flag column
+     * @param culpritCol the culprit column (attribute)
+     * @param surprisalCol the surprisal column (attribute)
      * @return the new fields
      */
-    static List<StructField> addedFields(Kind kind, ColumnMatch match, String outputCol, String flagCol, double threshold) {
+    static List<StructField> addedFields(Kind kind, ColumnMatch match, String outputCol, String flagCol, double threshold,
+                                         String culpritCol, String surprisalCol) {
         List<StructField> f = new ArrayList<>();
         switch (kind) {
             case SCORE -> {
@@ -93,6 +119,12 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
                 if (!Double.isNaN(threshold)) {
                     f.add(DataTypes.createStructField(flagCol, DataTypes.BooleanType, false));
                 }
+            }
+            case ATTRIBUTE -> {
+                f.add(DataTypes.createStructField(outputCol, DataTypes.DoubleType, false));
+                f.add(DataTypes.createStructField(flagCol, DataTypes.BooleanType, false));
+                f.add(DataTypes.createStructField(culpritCol, DataTypes.createArrayType(DataTypes.StringType, false), false));
+                f.add(DataTypes.createStructField(surprisalCol, DataTypes.createArrayType(DataTypes.DoubleType, false), false));
             }
             case IMPUTE -> {
                 for (int j = 0; j < match.columns(); j++) {
@@ -144,7 +176,10 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         try {
             kind = Kind.valueOf(name.toUpperCase(Locale.ROOT));
         } catch (IllegalArgumentException e) {
-            throw new IllegalArgumentException("job is '" + name + "'; expected score, impute or denoise", e);
+            throw new IllegalArgumentException("job is '" + name + "'; expected score, attribute, impute or denoise", e);
+        }
+        if (kind == Kind.COMMON) {
+            throw new IllegalArgumentException("job is '" + name + "'; expected score, attribute, impute or denoise");
         }
         int sd = (Integer) p.getOrDefault(p.scoreDraws());
         if (sd < 0) {
@@ -161,6 +196,25 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         int b = (Integer) p.getOrDefault(p.batchRows());
         if (b < 1) {
             throw new IllegalArgumentException("batchRows is " + b + "; expected at least 1");
+        }
+        if (kind == Kind.ATTRIBUTE) {
+            int c = (Integer) p.getOrDefault(p.culprits());
+            if (c < 1) {
+                throw new IllegalArgumentException("culprits is " + c + "; expected at least 1");
+            }
+            int sd2 = (Integer) p.getOrDefault(p.surprisalDraws());
+            if (sd2 < CoreCalls.fewestSurprisalDraws()) {
+                throw new IllegalArgumentException("surprisalDraws is " + sd2 + "; expected at least "
+                        + CoreCalls.fewestSurprisalDraws());
+            }
+            int st = (Integer) p.getOrDefault(p.surprisalSteps());
+            if (st < 1) {
+                throw new IllegalArgumentException("surprisalSteps is " + st + "; expected at least 1");
+            }
+            int ro = (Integer) p.getOrDefault(p.surprisalRounds());
+            if (ro < 1) {
+                throw new IllegalArgumentException("surprisalRounds is " + ro + "; expected at least 1");
+            }
         }
         if (kind == Kind.DENOISE && p.getOrDefault(p.noiseSd()).length != modelColumns) {
             throw new IllegalArgumentException("noiseSd has " + p.getOrDefault(p.noiseSd()).length
@@ -198,11 +252,7 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
                 Row[] done = new Row[batch.size()];
                 long first = position;
                 position += batch.size();
-                TaskThreads.forEach(batch.size(), cpus, i -> {
-                    Row row = batch.get(i);
-                    ColumnMatch.RowName where = new ColumnMatch.RowName(partition, first + i);
-                    done[i] = append(row, run(model, names, kinds, row, where));
-                });
+                runBatch(model, names, kinds, batch, partition, first, cpus, done);
                 out.addAll(List.of(done));
                 return true;
             }
@@ -217,6 +267,79 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         };
     }
 
+    /** The job's output rows of one batch, into {@code done}. */
+    private void runBatch(DiffusionModel model, List<String> names, List<ColumnKind> kinds, List<Row> batch,
+                          int partition, long first, int cpus, Row[] done) {
+        int b = batch.size();
+        if (kind == Kind.IMPUTE || kind == Kind.DENOISE) {
+            TaskThreads.forEach(b, cpus, i -> {
+                Row row = batch.get(i);
+                ColumnMatch.RowName where = new ColumnMatch.RowName(partition, first + i);
+                done[i] = append(row, run(model, names, kinds, row, where));
+            });
+            return;
+        }
+        double[][] cells = new double[b][];
+        long[] seeds = new long[b];
+        for (int i = 0; i < b; i++) {
+            Row row = batch.get(i);
+            ColumnMatch.RowName where = new ColumnMatch.RowName(partition, first + i);
+            cells[i] = match.cells(row, where);
+            requireComplete(cells[i], row, where, kind == Kind.COMMON ? "drift" : "scoring");
+            seeds[i] = match.rowSeed(seed, row, cells[i], where);
+        }
+        double[] nats = new double[b];
+        int slices = Math.max(Math.min(cpus, b), (b + SLICE_ROWS - 1) / SLICE_ROWS);
+        TaskThreads.forEach(slices, cpus, k -> {
+            int from = (int) ((long) b * k / slices);
+            int to = (int) ((long) b * (k + 1) / slices);
+            Table t = Table.of(names, kinds, java.util.Arrays.copyOfRange(cells, from, to));
+            double[] s = kind == Kind.COMMON ? CoreCalls.commonScores(model, t, scoreDraws, seed)
+                    : CoreCalls.score(model, t, scoreDraws, java.util.Arrays.copyOfRange(seeds, from, to));
+            System.arraycopy(s, 0, nats, from, to - from);
+        });
+        switch (kind) {
+            case COMMON -> {
+                for (int i = 0; i < b; i++) {
+                    Object[] v = new Object[cells[i].length + 1];
+                    for (int j = 0; j < cells[i].length; j++) {
+                        v[j] = cells[i][j];
+                    }
+                    v[cells[i].length] = nats[i];
+                    done[i] = RowFactory.create(v);
+                }
+            }
+            case SCORE -> {
+                for (int i = 0; i < b; i++) {
+                    done[i] = append(batch.get(i), Double.isNaN(threshold) ? new Object[] {nats[i]}
+                            : new Object[] {nats[i], !(nats[i] <= threshold)});
+                }
+            }
+            case ATTRIBUTE -> TaskThreads.forEach(b, cpus, i -> {
+                boolean flagged = !(nats[i] <= threshold);
+                Object[] v = {nats[i], flagged, new String[0], new double[0]};
+                if (flagged) {
+                    Surprisal sp = CoreCalls.surprisal(model, Table.of(names, kinds, new double[][] {cells[i]}),
+                            surprisal[0], surprisal[1], surprisal[2], seeds[i]);
+                    v[3] = sp.nats()[0];
+                    v[2] = sp.ranked(0).stream().limit(culprits)
+                            .map(c -> match.inputCol(names.indexOf(c.column()))).toArray(String[]::new);
+                }
+                done[i] = append(batch.get(i), v);
+            });
+            default -> throw new IllegalStateException(kind.name());
+        }
+    }
+
+    /** The schema of {@link Kind#COMMON}'s rows: the model's columns as doubles, then the score. */
+    static StructType commonSchema(List<String> names, String scoreCol) {
+        StructType s = new StructType();
+        for (String n : names) {
+            s = s.add(DataTypes.createStructField(n, DataTypes.DoubleType, false));
+        }
+        return s.add(DataTypes.createStructField(scoreCol, DataTypes.DoubleType, false));
+    }
+
     private static Row append(Row row, Object[] added) {
         Object[] v = new Object[row.size() + added.length];
         for (int i = 0; i < row.size(); i++) {
@@ -226,18 +349,13 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         return RowFactory.create(v);
     }
 
-    /** The job's values for one row. */
+    /** The job's values for one row (impute, denoise). */
     private Object[] run(DiffusionModel model, List<String> names, List<ColumnKind> kinds, Row row,
                          ColumnMatch.RowName where) {
         double[] cells = match.cells(row, where);
         long rowSeed = match.rowSeed(seed, row, cells, where);
         int d = cells.length;
         switch (kind) {
-            case SCORE -> {
-                requireComplete(cells, row, where, "scoring");
-                double nats = CoreCalls.score(model, Table.of(names, kinds, new double[][] {cells}), scoreDraws, rowSeed);
-                return Double.isNaN(threshold) ? new Object[] {nats} : new Object[] {nats, !(nats <= threshold)};
-            }
             case IMPUTE -> {
                 Object[] v = new Object[3 * d];
                 boolean missing = false;

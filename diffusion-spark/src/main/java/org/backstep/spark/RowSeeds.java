@@ -8,7 +8,8 @@ import java.nio.charset.StandardCharsets;
  * the job's seed, the row's key and its cells: not on the partitioning, the order of rows, or
  * which other rows are in the DataFrame. To reproduce a row in one JVM, call the core's job on a
  * one-row table with the seed this class gives, e.g.
- * {@code model.bound(oneRowTable, RowSeeds.ofKey(seed, 17L))}.
+ * {@code model.bound(oneRowTable, RowSeeds.ofKey(seed, 17L))} (a score computed in a batch agrees
+ * with it to the float32 network's rounding; imputation, denoising and surprisal to the last bit).
  *
  * <p>Formulas: the key's 64-bit hash h is the key itself for integer keys, and FNV-1a 64 (Fowler,
  * Noll, Vo; offset basis 0xcbf29ce484222325, prime 0x100000001b3) over the UTF-8 bytes of a string

@@ -19,12 +19,20 @@ import org.junit.jupiter.api.Test;
 /**
  * Scores through Spark against the same rows scored by {@link DiffusionModel} in this JVM. The
  * reference for each row is the core's own job on that one row with the seed {@link RowSeeds}
- * derives for it, so the figures must agree to the last bit: the same float32 network on the same
- * inputs, the same generator (Spark moves the row's doubles without changing them).
+ * derives for it: the same generator and the same draws (Spark moves the row's doubles without
+ * changing them), and the same float32 network, which Spark runs on batches of rows, so the
+ * figures agree to {@link #PLACE_ROUNDING}.
  */
 class ScoringTest {
 
     private static final long SEED = 42L;
+    /**
+     * Relative tolerance (of max(|nats|, 1)) of a row scored in a batch against the row alone: the
+     * network's float32 products round differently with a row's place in the matrix (OpenBLAS;
+     * measured up to 2e-6 nats in the core's RowSeedBoundTest); different draws would move a score
+     * by tenths of a nat (common practice, no source).
+     */
+    static final double PLACE_ROUNDING = 1e-5;
     /** Relative tolerance of a quantile computed by hand against commons-math3's: the same formula, other rounding. */
     private static final double QUANTILE_TOLERANCE = 1e-12;
 
@@ -34,6 +42,10 @@ class ScoringTest {
             m.put(r.getLong(0), r.getDouble(1));
         }
         return m;
+    }
+
+    static double tolerance(double nats) {
+        return PLACE_ROUNDING * Math.max(1.0, Math.abs(nats));
     }
 
     private static double reference(DiffusionModel model, Table t, int i, int draws, long rowSeed) {
@@ -50,9 +62,9 @@ class ScoringTest {
             Map<Long, Double> got = scores(stage.transform(TestModels.frame(t, partitions)), "backstep_nats");
             assertEquals(t.rows(), got.size());
             for (int i = 0; i < t.rows(); i++) {
-                // reference: the core's bound of the same row in one JVM, same row seed (bit-identical)
+                // reference: the core's bound of the same row in one JVM, same row seed (to the network's rounding)
                 double want = reference(model, t, i, 0, RowSeeds.ofKey(SEED, 1000L + i));
-                assertEquals(want, got.get(1000L + i), 0.0, "row " + i + ", " + partitions + " partitions");
+                assertEquals(want, got.get(1000L + i), tolerance(want), "row " + i + ", " + partitions + " partitions");
             }
         }
     }
@@ -66,10 +78,10 @@ class ScoringTest {
         Map<Long, Double> sevenReversed = scores(stage.transform(
                 TestModels.frame(t, 7).orderBy(functions.col(TestModels.KEY).desc())), "backstep_nats");
         for (int i = 0; i < t.rows(); i++) {
-            // reference: the core's Monte Carlo bound of the same row, seeded from its cells (bit-identical)
+            // reference: the core's Monte Carlo bound of the same row, seeded from its cells (to the network's rounding)
             double want = reference(model, t, i, 4, RowSeeds.ofContent(SEED, t.row(i)));
-            assertEquals(want, two.get(1000L + i), 0.0, "row " + i);
-            assertEquals(want, sevenReversed.get(1000L + i), 0.0, "row " + i + ", reversed");
+            assertEquals(want, two.get(1000L + i), tolerance(want), "row " + i);
+            assertEquals(want, sevenReversed.get(1000L + i), tolerance(want), "row " + i + ", reversed");
         }
     }
 
@@ -79,7 +91,8 @@ class ScoringTest {
         BackstepModel stage = BackstepModel.of(TestModels.model()).setRowKeyCol(TestModels.KEY).setScoreDraws(2);
         List<Row> rows = stage.transform(TestModels.frame(t, 2)).select("backstep_nats").collectAsList();
         double[] s = rows.stream().mapToDouble(r -> r.getDouble(0)).sorted().toArray();
-        double threshold = s[s.length / 2];
+        // between two scores, not at one: a score in another partitioning moves by the network's rounding
+        double threshold = 0.5 * (s[s.length / 2] + s[s.length / 2 + 1]);
         List<Row> flagged = stage.setThreshold(threshold).transform(TestModels.frame(t, 3))
                 .select("backstep_nats", "backstep_flag").collectAsList();
         int count = 0;
@@ -102,11 +115,13 @@ class ScoringTest {
             ref[i] = reference(model, held, i, 3, RowSeeds.ofKey(SEED, 1000L + i));
         }
         java.util.Arrays.sort(ref);
+        // the Spark scores are the references to the network's rounding, so is their quantile
         // type-7 quantile by hand (Hyndman & Fan 1996): h = (n - 1) q, x[floor h] + (h - floor h)(x[floor h + 1] - x[floor h])
         double h = (ref.length - 1) * 0.9;
         int lo = (int) Math.floor(h);
         double want = ref[lo] + (h - lo) * (ref[lo + 1] - ref[lo]);
-        assertEquals(want, (Double) screened.getOrDefault(screened.threshold()), QUANTILE_TOLERANCE * Math.abs(want));
+        assertEquals(want, (Double) screened.getOrDefault(screened.threshold()),
+                Math.max(QUANTILE_TOLERANCE * Math.abs(want), tolerance(want)));
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
                 () -> BackstepModel.of(model).screenAgainst(TestModels.frame(held, 1), 1.5));
         assertTrue(e.getMessage().contains("quantile is 1.5"), e.getMessage());

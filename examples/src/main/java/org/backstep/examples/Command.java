@@ -19,6 +19,18 @@ import java.util.List;
  */
 final class Command {
 
+    /**
+     * A bad argument found only once the command has read its table (a column an option names that
+     * the table lacks, say): reported as a usage error, exit code 2, before any work starts.
+     */
+    static final class UsageError extends IllegalArgumentException {
+        private static final long serialVersionUID = 1L;
+
+        UsageError(String message) {
+            super(message);
+        }
+    }
+
     /** What a command does once its arguments are read. */
     @FunctionalInterface
     interface Action {
@@ -191,6 +203,10 @@ final class Command {
         try {
             action.execute(s, out);
             return 0;
+        } catch (UsageError e) {
+            err.println(name + ": " + e.getMessage());
+            err.println("Run examples/" + name + " --help for the options.");
+            return 2;
         } catch (NoSuchFileException e) {
             err.println(name + ": no such file: " + e.getFile());
             return 1;

@@ -39,7 +39,9 @@ import java.util.Map;
 /**
  * The main job, end to end, on one table: fit with a held-out split, report the bound beside two
  * classical baselines, screen records, impute, denoise, sample with a memorization check, plan the
- * step count, and write a report folder (HTML page, summary.json, the model file).
+ * step count, write every result row by row ({@link RowResults}: the table completed, the synthetic
+ * rows, the scores, and when asked the denoised readings and the drift tests), and write a report
+ * folder (HTML page, summary.json, the model file).
  *
  * <p>Steps that need injected truth (fault labels, the cells before blanking) use it when given
  * and otherwise report what they can.
@@ -61,19 +63,51 @@ public final class MainJob {
      * @param sampleSteps the step counts K the step-count planner compares; empty for its default
      * @param tolerance the step-count planner's tolerance, nats per dimension
      * @param noiseSd per column, the sensor noise to add and remove in the denoising step (original units), or null for 25% of each column's sd
+     * @param lines per row, the 1-based line of the input file it starts on (header line 1), or null for
+     *     the table.csv the job writes (row i on line i + 2)
+     * @param noise the sensor noise of some continuous columns given by the user (original units), in
+     *     the order given: their readings are denoised into denoised.csv; empty for none
+     * @param compare a new batch with the table's columns to test for drift against the held-out rows, or null
+     * @param compareName the batch's file name, for the console and the report (null without a batch)
      */
     public record Config(Table table, Table truth, boolean[] faults, Path out, int trainSteps, int epochs, int[] hidden,
-                         long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd) {
+                         long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd, int[] lines,
+                         Map<String, Double> noise, Table compare, String compareName) {
+
+        /** Copies the noise map (null: none). */
+        public Config {
+            noise = noise == null ? Map.of() : java.util.Collections.unmodifiableMap(new LinkedHashMap<>(noise));
+        }
+
+        /** Without per-row files' options: no given noise, no batch to compare, the lines of table.csv. */
+        public Config(Table table, Table truth, boolean[] faults, Path out, int trainSteps, int epochs, int[] hidden,
+                      long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd) {
+            this(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
+                    null, Map.of(), null, null);
+        }
 
         /** The configuration a command line gives, on a table without injected truth. */
         static Config of(Table table, Settings s) {
             return new Config(table, null, null, s.out, s.trainSteps, s.epochs, s.hidden, s.seed, s.holdout, s.sampleSteps,
-                    s.tolerance, null);
+                    s.tolerance, null, null, s.noise, null, null);
         }
 
         /** The same, with the table before cells were blanked and the rows with an injected fault. */
         Config withTruth(Table truth, boolean[] faults) {
-            return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd);
+            return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
+                    lines, noise, compare, compareName);
+        }
+
+        /** The same, with each row's line in the input file. */
+        Config withLines(int[] lines) {
+            return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
+                    lines, noise, compare, compareName);
+        }
+
+        /** The same, with a batch to compare for drift. */
+        Config withCompare(Table batch, String name) {
+            return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
+                    lines, noise, batch, name);
         }
     }
 
@@ -91,7 +125,7 @@ public final class MainJob {
     }
 
     /**
-     * Runs steps 1-8.
+     * Runs steps 1-9.
      *
      * @param c the configuration
      * @param console where to print the figures
@@ -164,18 +198,20 @@ public final class MainJob {
                 bar.close();
             }
         }
-        int trained = model.provenance().trainingRows();
-        int checkpoint = model.provenance().checkpointRows();
-        int leftOut = train.rows() - trained - checkpoint;
+        TrainingCounts counts = TrainingCounts.of(train, model.provenance());
         console.println("   " + model);
-        console.printf(Locale.ROOT, "   trained on %d of the %d rows of the training part; %d checkpoint rows (the trainer's own split, "
-                + "kept back to choose its weights); %d rows with a missing cell left out%n", trained, train.rows(), checkpoint, leftOut);
+        console.println("   " + counts.trainedSentence(train.rows()));
+        console.printf(Locale.ROOT, "   %d checkpoint rows (the trainer's own split, complete rows kept back to choose its weights); "
+                + "%d rows not used (%s)%n", counts.checkpoint(), counts.notUsed(), TrainingCounts.NOT_USED);
         ObjectNode training = summary.putObject("training");
         training.put("trainSteps", model.steps());
         training.put("epochs", model.history().size());
-        training.put("trainedRows", trained);
-        training.put("checkpointRows", checkpoint);
-        training.put("rowsLeftOut", leftOut);
+        training.put("trainingPartRowsWithGaps", counts.partWithGaps());
+        training.put("trainedRows", counts.trained());
+        training.put("trainedRowsWithGaps", counts.trainedWithGaps());
+        training.put("filledCells", counts.filledCells());
+        training.put("checkpointRows", counts.checkpoint());
+        training.put("rowsNotUsed", counts.notUsed());
         training.put("seconds", model.provenance().trainingSeconds());
         charts.put(Report.SCHEDULES, png(Charts.schedules(Map.of(
                 "continuous (" + model.options().continuousSchedule().kind().name().toLowerCase(Locale.ROOT) + ")",
@@ -210,7 +246,7 @@ public final class MainJob {
         mark = stage(stages, "bound", mark);
 
         // 3. Anomaly screen
-        screen(model, table, heldComplete, c, console, summary, charts);
+        AnomalyScreen screened = screen(model, table, heldComplete, c, console, summary, charts);
         mark = stage(stages, "screen", mark);
 
         // 4. Imputation of cells hidden on purpose
@@ -255,7 +291,11 @@ public final class MainJob {
         PlanFiles.writeStepPlan(plan, c.out(), new PrintStream(OutputStream.nullOutputStream(), false, StandardCharsets.UTF_8));
         mark = stage(stages, "planner", mark);
 
-        // 8. Report folder
+        // 8. Results row by row, in files; drift against a second batch
+        RowResults.write(model, table, held, screened, samples, c, console, summary);
+        mark = stage(stages, "files", mark);
+
+        // 9. Report folder
         Path modelFile = c.out().resolve("model.backstep");
         model.save(modelFile);
         stage(stages, "report", mark);
@@ -264,7 +304,7 @@ public final class MainJob {
         summary.put("modelFile", modelFile.getFileName().toString());
         AtomicFiles.write(c.out().resolve("summary.json"), JSON.writeValueAsBytes(summary));
         AtomicFiles.write(c.out().resolve("report.html"), Report.html(summary, charts, model).getBytes(StandardCharsets.UTF_8));
-        console.printf(Locale.ROOT, "8. Report: %s (summary.json, model.backstep, %s and %s beside it); %.0f s in all%n",
+        console.printf(Locale.ROOT, "9. Report: %s (summary.json, model.backstep, %s and %s beside it); %.0f s in all%n",
                 c.out().resolve("report.html").toAbsolutePath(), PlanFiles.STEP_PLAN_CSV, PlanFiles.STEP_PLAN_PNG,
                 summary.get("seconds").asDouble());
         return summary;
@@ -277,7 +317,7 @@ public final class MainJob {
         return now;
     }
 
-    private static void screen(DiffusionModel model, Table table, Table heldComplete, Config c, PrintStream console,
+    private static AnomalyScreen screen(DiffusionModel model, Table table, Table heldComplete, Config c, PrintStream console,
                                ObjectNode summary, Map<String, String> charts) throws IOException {
         Table scoredRows = table.completeRows();
         int[] scoredIndex = table.completeRowIndices();
@@ -314,6 +354,7 @@ public final class MainJob {
                     precision, recall, faultsScored, 100 * baseRate);
         }
         charts.put(Report.SCORES, png(Charts.scoreHistogram(screen.scores(), screen.threshold(), 60)));
+        return screen;
     }
 
     static String png(XYChart chart) throws IOException {

@@ -52,6 +52,13 @@ enum Option {
             (s, v) -> s.binary = Arrays.asList(v.split(","))),
     MISSING("--missing", "TOKEN", "the token of a missing cell in the CSV file (default: an empty cell)",
             (s, v) -> s.missing = v),
+    NOISE("--noise", "COL=SD[,COL=SD...]", "the sensor noise of continuous columns: a standard deviation above 0 in the"
+            + " column's own units; the job then writes denoised.csv, those columns of each complete row cleaned of that"
+            + " noise (default: none)",
+            (s, v) -> s.noise = Parse.noise(v, "--noise")),
+    COMPARE("--compare", "BATCH.csv", "a new batch with the columns of the table, compared with the table's held-out rows"
+            + " for drift; the job writes drift.csv (default: none)",
+            (s, v) -> s.compare = Parse.existingFile(v, "--compare")),
     CONTAINERS("--containers", "N", "without FILE.csv: containers in the invented fleet (default: " + Settings.CONTAINERS + ")",
             (s, v) -> s.containers = Parse.whole(v, "--containers", 1)),
     DAYS("--days", "N", "without FILE.csv: days of readings in the invented fleet (default: " + Settings.DAYS + ")",
@@ -154,6 +161,35 @@ enum Option {
                 r[k] = whole(parts[k], option, min);
             }
             return r;
+        }
+
+        /**
+         * "COL=SD[,COL=SD...]": column names with a standard deviation above 0 each, in the order given;
+         * a column listed twice, a pair without "=", or a bad number is refused naming the column.
+         */
+        static java.util.Map<String, Double> noise(String v, String option) {
+            java.util.Map<String, Double> out = new java.util.LinkedHashMap<>();
+            for (String pair : v.split(",", -1)) {
+                int eq = pair.lastIndexOf('=');
+                if (eq <= 0 || pair.substring(0, eq).isBlank()) {
+                    throw new IllegalArgumentException(option + " has '" + pair + "'; expected COL=SD, e.g. temperature=0.2");
+                }
+                String column = pair.substring(0, eq).strip();
+                double sd = positive(pair.substring(eq + 1), option + " of column '" + column + "'");
+                if (out.put(column, sd) != null) {
+                    throw new IllegalArgumentException(option + " lists column '" + column + "' twice");
+                }
+            }
+            return out;
+        }
+
+        /** A path to a regular file that exists. */
+        static Path existingFile(String v, String option) {
+            Path p = Path.of(v);
+            if (!java.nio.file.Files.isRegularFile(p)) {
+                throw new IllegalArgumentException(option + " names no such file: " + v);
+            }
+            return p;
         }
 
         /** The values, refused when one is listed twice. */

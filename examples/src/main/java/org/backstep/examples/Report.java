@@ -84,12 +84,23 @@ final class Report {
                 new Figure("Columns", count(data, "columns") + " (" + count(data, "binaryColumns") + " binary)", "", ""),
                 new Figure("Missing cells", count(data, "missingCells"), "all", ""),
                 new Figure("Training part", count(data, "trainingPartRows") + " rows", "row index i with i % " + holdout + " != 0", ""),
-                new Figure("Trained on", count(training, "trainedRows") + " rows", "training part, less the checkpoint rows and left-out rows", ""),
+                new Figure("Trained on", count(training, "trainedRows") + " rows", "training part, less the checkpoint rows and the"
+                        + " rows not used", ""),
+                new Figure("Trained on with missing cells filled", count(training, "trainedRowsWithGaps") + " rows ("
+                        + count(training, "filledCells") + " cells)", "rows trained on that had a missing cell (of "
+                        + count(training, "trainingPartRowsWithGaps") + " in the training part); see below", ""),
                 new Figure("Checkpoint rows", count(training, "checkpointRows") + " rows",
-                        "the trainer's own split of the training part, kept back to choose its weights", ""),
-                new Figure("Left out", count(training, "rowsLeftOut") + " rows", "rows of the training part with a missing cell", ""),
+                        "the trainer's own split of the training part, complete rows kept back to choose its weights", ""),
+                new Figure("Not used", count(training, "rowsNotUsed") + " rows", escape(TrainingCounts.NOT_USED), ""),
                 new Figure("Held-out rows", count(data, "heldOutRows") + " rows (" + count(data, "heldOutCompleteRows") + " complete)",
                         "row index i with i % " + holdout + " == 0; never trained on; the figures below are measured on them", "")));
+
+        String gapNote = model.provenance().notes().stream().filter(n -> n.contains("training rows had a missing cell"))
+                .findFirst().orElse("");
+        h.append(p(gapNote.isEmpty() ? "No row trained on had a missing cell." : "How the rows with a missing cell were used "
+                + "(from the model's provenance): " + escape(gapNote) + ". A filled cell is an input of the network, never a "
+                + "target of its loss, so a draw the model got wrong is not learned back as data (stochastic EM: Dempster, "
+                + "Laird &amp; Rubin 1977; Celeux &amp; Diebolt 1985)."));
 
         h.append("<h2>How well the model fits rows it never saw</h2>\n");
         int dims = bound.path("dimensions").asInt();
@@ -196,6 +207,11 @@ final class Report {
                 + " nats per dimension of the best. Lower bounds are better; cost grows with K."));
         chart(h, charts, STEP_PLAN, "Quality against cost, one point per step count K.");
 
+        if (s.has("drift")) {
+            drift(h, s.path("drift"));
+        }
+        files(h, s.path("files"), s.has("drift"));
+
         h.append("<h2>Training</h2>\n");
         h.append(p(String.format(Locale.ROOT, "%d epochs in %.1f s on %d rows. The checkpoint rows' bound is measured now and then "
                         + "during training; the weights with the best one are kept.", training.path("epochs").asInt(),
@@ -214,6 +230,56 @@ final class Report {
         h.append("<h2>Provenance</h2>\n<pre>").append(escape(withoutHistory(model.describeText()))).append("</pre>\n");
         h.append("</body></html>\n");
         return h.toString();
+    }
+
+    /** The drift section: the batch of --compare against the held-out rows. */
+    private static void drift(StringBuilder h, JsonNode d) {
+        h.append("<h2>Drift: a new batch against the held-out rows</h2>\n");
+        boolean drifted = d.path("drifted").asBoolean();
+        String level = pct(d.path("level").asDouble(), 0);
+        List<Figure> f = new ArrayList<>(List.of(
+                new Figure("Batch", escape(d.path("batch").asText()) + ", " + count(d, "batchRows") + " rows",
+                        "compared with the " + count(d, "referenceRows") + " held-out rows", ""),
+                new Figure("Verdict", drifted ? "<b>the batch differs</b>" : "no difference found", count(d, "rejectedTests")
+                        + " of the tests reject at " + level + " after Holm's adjustment", "no test rejects, for a batch like the reference"),
+                new Figure("Scores, Kolmogorov-Smirnov p-value", num(d, "scorePValue", 3) + " (adjusted " + num(d, "scoreAdjustedPValue", 3)
+                        + ")", "the two batches' scores", "above " + level)));
+        if (d.has("firstColumn")) {
+            f.add(new Figure("Column that differs most", escape(d.path("firstColumn").asText()) + ", adjusted p "
+                    + num(d, "firstColumnAdjustedPValue", 3), "Kolmogorov-Smirnov (continuous) or chi-squared (binary)",
+                    "above " + level));
+        }
+        table(h, f);
+        h.append(p("Every test, with its statistic and p-values, is in " + ResultFiles.DRIFT + ". The p-values are adjusted "
+                + "together for their number (Holm 1979), so the chance that any of them rejects for a batch like the "
+                + "reference is at most " + level + ". A drift says the batches differ, not that the new one is faulty: a "
+                + "new season or a new fleet differs too."));
+    }
+
+    /** The files of the folder written row by row, with their row counts. */
+    private static void files(StringBuilder h, JsonNode f, boolean drift) {
+        h.append("<h2>Results row by row</h2>\n");
+        h.append(p("Each result is a CSV file beside this page; the column <code>" + ResultFiles.LINE + "</code> is the row's "
+                + "line in the input file (the header is line 1). The README lists every column."));
+        StringBuilder t = new StringBuilder("<table>\n<tr><th class=\"l\">file</th><th>rows</th><th class=\"l\">what it holds</th></tr>\n");
+        fileRow(t, ResultFiles.COMPLETED, count(f, "completedRows"), "the table with its " + count(f, "imputedCells")
+                + " missing cells (in " + count(f, "completedRowsWithGaps") + " rows) filled by the imputation's mean, the most "
+                + "likely value for binary cells, with intervals");
+        fileRow(t, ResultFiles.SYNTHETIC, count(f, "syntheticRows"), "synthetic rows, in the table's units");
+        fileRow(t, ResultFiles.SCORES, count(f, "scoredRows"), "each screened row's score and flag; the three most "
+                + "surprising columns of the " + count(f, "scoredRowsWithSurprisal") + " flagged rows");
+        if (f.has("denoisedRows")) {
+            fileRow(t, ResultFiles.DENOISED, count(f, "denoisedRows"), "the columns given with --noise, denoised");
+        }
+        if (drift) {
+            fileRow(t, ResultFiles.DRIFT, count(f, "driftTests"), "the drift tests, one per column and one on the scores");
+        }
+        h.append(t).append("</table>\n");
+    }
+
+    private static void fileRow(StringBuilder t, String file, String rows, String what) {
+        t.append("<tr><td class=\"l\">").append(file).append("</td><td>").append(rows).append("</td><td class=\"l\">")
+                .append(what).append("</td></tr>\n");
     }
 
     /** Specific cautions: where a baseline beats the model, and figures that are weak. */
@@ -340,6 +406,7 @@ final class Report {
             case "denoising" -> "denoising";
             case "samples" -> "synthetic rows and their checks";
             case "planner" -> "sampling step-count planner";
+            case "files" -> "results row by row in files (imputing the table's own gaps, denoising, drift)";
             case "report" -> "saving the model";
             default -> escape(key);
         };

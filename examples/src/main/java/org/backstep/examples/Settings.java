@@ -47,6 +47,10 @@ final class Settings {
     int holdout = HOLDOUT;
     int containers = CONTAINERS;
     int days = DAYS;
+    /** --noise: column name to sensor noise sd (original units), in the order given; empty when not given. */
+    java.util.Map<String, Double> noise = java.util.Map.of();
+    /** --compare: the batch to compare with the table for drift, or null. */
+    Path compare;
     boolean progress = true;
     boolean help;
 

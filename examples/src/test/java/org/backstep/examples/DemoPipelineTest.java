@@ -92,17 +92,20 @@ class DemoPipelineTest {
     @Test
     void mainJobWritesASaneReportFolder() throws Exception {
         Path out = OUT;
-        // every step printed its line (MainJob numbers them 1 to 8)
+        // every step printed its line (MainJob numbers them 1 to 9)
         String text = console;
-        for (int step = 1; step <= 8; step++) {
+        for (int step = 1; step <= 9; step++) {
             assertTrue(text.contains("\n" + step + ". ") || text.startsWith(step + ". "), "no line for step " + step + ":\n" + text);
         }
 
         // the files of the report folder; the step plan's names are those plan-steps writes (PlanFiles)
         for (String f : List.of("summary.json", "report.html", "model.backstep", PlanFiles.STEP_PLAN_CSV, PlanFiles.STEP_PLAN_PNG,
-                "table.csv")) {
+                "table.csv", ResultFiles.COMPLETED, ResultFiles.SYNTHETIC, ResultFiles.SCORES)) {
             assertTrue(Files.size(out.resolve(f)) > 0, f + " is missing or empty");
         }
+        // without --noise and --compare, no denoised readings of the user's and no drift tests
+        assertFalse(Files.exists(out.resolve(ResultFiles.DENOISED)), ResultFiles.DENOISED + " written without --noise");
+        assertFalse(Files.exists(out.resolve(ResultFiles.DRIFT)), ResultFiles.DRIFT + " written without --compare");
         JsonNode s = new ObjectMapper().readTree(out.resolve("summary.json").toFile());
         assertEquals(returned, s, "summary.json differs from the summary returned");
 
@@ -170,7 +173,7 @@ class DemoPipelineTest {
 
         // the time of each stage, and the stages add up to at most the whole (common practice, no source)
         double stages = 0;
-        for (String stage : List.of("fit", "bound", "screen", "imputation", "denoising", "samples", "planner", "report")) {
+        for (String stage : List.of("fit", "bound", "screen", "imputation", "denoising", "samples", "planner", "files", "report")) {
             assertTrue(s.path("stageSeconds").path(stage).asDouble(-1) >= 0, "stage " + stage);
             stages += s.path("stageSeconds").path(stage).asDouble();
         }
@@ -184,7 +187,8 @@ class DemoPipelineTest {
 
     /**
      * Counts printed and counts written agree, and add up: the training part is the rows trained
-     * on, the checkpoint rows and the rows left out; "N rows trained on" is the model's own count.
+     * on, the checkpoint rows and the rows not used; "N rows trained on" is the model's own count,
+     * and the rows trained on with a missing cell are those of its provenance's note.
      */
     @Test
     void printedCountsAgreeWithSummaryAndModel() throws Exception {
@@ -193,17 +197,34 @@ class DemoPipelineTest {
         DiffusionModel model = DiffusionModel.load(OUT.resolve("model.backstep"));
         assertEquals(model.provenance().trainingRows(), t.path("trainedRows").asInt());
         assertEquals(d.path("trainingPartRows").asInt(), t.path("trainedRows").asInt() + t.path("checkpointRows").asInt()
-                + t.path("rowsLeftOut").asInt());
+                + t.path("rowsNotUsed").asInt());
         assertEquals(table.rows(), d.path("trainingPartRows").asInt() + d.path("heldOutRows").asInt());
+        // the fleet has 5% missing cells: rows with gaps are trained on, at most those of the training part
+        int withGaps = t.path("trainedRowsWithGaps").asInt();
+        assertTrue(withGaps > 0 && withGaps <= t.path("trainingPartRowsWithGaps").asInt(), t.toString());
+        assertTrue(model.provenance().notes().stream().anyMatch(n -> n.startsWith(withGaps + " of " + t.path("trainedRows").asInt()
+                + " training rows had a missing cell (" + t.path("filledCells").asInt() + " cells)")), model.provenance().notes().toString());
+        assertFalse(console.contains("with a missing cell left out"), console);
         assertTrue(console.contains(d.path("trainingPartRows").asInt() + " rows in the training part"), console);
         assertTrue(console.contains(d.path("heldOutRows").asInt() + " held-out rows"), console);
-        assertTrue(console.contains("trained on " + t.path("trainedRows").asInt() + " of the " + d.path("trainingPartRows").asInt()),
-                console);
+        assertTrue(console.contains("trained on " + t.path("trainedRows").asInt() + " of the " + d.path("trainingPartRows").asInt()
+                + " rows of the training part, " + withGaps + " of them with a missing cell (" + t.path("filledCells").asInt()
+                + " cells in all)"), console);
         assertTrue(console.contains(t.path("checkpointRows").asInt() + " checkpoint rows"), console);
+        assertTrue(console.contains(t.path("rowsNotUsed").asInt() + " rows not used"), console);
         assertTrue(console.contains("Denoised " + returned.path("denoising").path("cells").asInt() + " readings ("
                 + returned.path("denoising").path("rows").asInt() + " complete held-out rows"), console);
         assertTrue(console.contains("Imputed " + returned.path("imputation").path("hiddenCells").asInt() + " cells"), console);
         assertTrue(console.contains(returned.path("samples").path("count").asInt() + " synthetic rows"), console);
+        JsonNode f = returned.path("files");
+        assertEquals(table.rows(), f.path("completedRows").asInt());
+        assertEquals(table.missingCount(), f.path("imputedCells").asInt());
+        assertEquals(table.rows() + 1, Files.readAllLines(OUT.resolve(ResultFiles.COMPLETED)).size());
+        assertEquals(f.path("syntheticRows").asInt() + 1, Files.readAllLines(OUT.resolve(ResultFiles.SYNTHETIC)).size());
+        assertEquals(f.path("scoredRows").asInt() + 1, Files.readAllLines(OUT.resolve(ResultFiles.SCORES)).size());
+        assertEquals(returned.path("anomalies").path("scoredRows").asInt(), f.path("scoredRows").asInt());
+        assertTrue(console.contains(ResultFiles.COMPLETED + ": the " + table.rows() + " rows, the " + table.missingCount()
+                + " missing cells"), console);
     }
 
     /** summary.json has exactly the keys of the golden list, so that a change to them is deliberate. */

@@ -31,25 +31,41 @@ public final class BoundEvaluator {
         }
     }
 
-    /** One chunk of rows and its scratch: x_0, x_t, the steps, the generator and one step's terms. */
+    /**
+     * One chunk of rows and its scratch: x_0, x_t, the steps, the generator of each row and one
+     * step's terms. With one seed for the job, every row of the chunk shares the chunk's generator
+     * {@link Parallel#random}(seed, chunk); with a seed per row, row r has its own,
+     * {@link Parallel#random}(rowSeeds[r], 0), the generator a one-row table seeded with rowSeeds[r]
+     * gets, so that its draws do not depend on the other rows. (The network's float32 products
+     * still round differently with a row's place in the batch: OpenBLAS's sgemm kernels treat the
+     * edges of a matrix apart; measured, a record's bound moved by about 1e-7 relative between
+     * places 0 to 7 and 8 to 247 of a 256-row batch, and not with -XX:-UseSuperWord, so not in Java.)
+     */
     private static final class Chunk {
         final Chain chain;
         final int from;
         final int n;
         final float[] x;
-        final SplittableRandom rng;
+        final SplittableRandom[] rng;
         final Chain.Workspace ws;
         final float[] xt;
         final int[] k;
         final double[] stepCont;
         final double[] stepBin;
 
-        Chunk(Chain chain, float[] x0, int rows, int c, long seed) {
+        Chunk(Chain chain, float[] x0, int rows, int c, long seed, long[] rowSeeds) {
             this.chain = chain;
             from = c * Parallel.CHUNK_ROWS;
             n = Math.min(Parallel.CHUNK_ROWS, rows - from);
             x = slice(x0, from, n, chain.d);
-            rng = Parallel.random(seed, c);
+            rng = new SplittableRandom[n];
+            if (rowSeeds == null) {
+                java.util.Arrays.fill(rng, Parallel.random(seed, c));
+            } else {
+                for (int r = 0; r < n; r++) {
+                    rng[r] = Parallel.random(rowSeeds[from + r], 0);
+                }
+            }
             ws = chain.workspace(n);
             xt = new float[n * chain.d];
             k = new int[n];
@@ -66,23 +82,46 @@ public final class BoundEvaluator {
     }
 
     /**
-     * All T terms, one draw of x_t per term. When the estimator has a closed-form part
-     * ({@link GaussianBaseline}), each continuous term is taken with that part as a control
-     * variate: L(x_t) - L_lin(x_t) + E[L_lin], where L_lin is the term of the zero-correction
-     * model (the baseline alone) on the same x_t and E[L_lin] its expectation over x_t in closed
-     * form ({@link BoundTerms#expectedBaselineRows}). The expectation is the same bound; only the
-     * noise of the draw changes, and it vanishes where the network's correction does.
+     * The exact bound: every term of the chain, one draw of x_t per term. When the estimator has a
+     * closed-form part ({@link GaussianBaseline}), each continuous term is taken with that part as
+     * a control variate: L(x_t) - L_lin(x_t) + E[L_lin], where L_lin is the term of the
+     * zero-correction model (the baseline alone) on the same x_t and E[L_lin] its expectation over
+     * x_t in closed form ({@link BoundTerms#expectedBaselineRows}). The expectation is the same
+     * bound; only the noise of the draw changes, and it vanishes where the network's correction
+     * does. The control variate draws nothing of its own, so a row's draws are those of the plain
+     * bound (and, with a seed per row, those of a one-row table). An integer column's decoder term
+     * (t = 1, a discretized Gaussian's mass) has no closed-form expectation here and is taken as
+     * drawn.
+     *
+     * @param chain the chain (full or strided)
+     * @param x0 rows x D model-space records, not modified
+     * @param rows the number of records
+     * @param seed the seed of the draws (chunk c draws from {@link Parallel#random}(seed, c))
+     * @param threads worker threads
+     * @return per record, the terms
      */
     public static Result exact(Chain chain, float[] x0, int rows, long seed, int threads) {
+        return exact(chain, x0, rows, seed, null, threads);
+    }
+
+    /**
+     * {@link #exact(Chain, float[], int, long, int)} with a seed per row: row r draws as a one-row
+     * table seeded with rowSeeds[r] does.
+     */
+    public static Result exact(Chain chain, float[] x0, int rows, long[] rowSeeds, int threads) {
+        return exact(chain, x0, rows, 0L, rowSeeds, threads);
+    }
+
+    private static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, int threads) {
         GaussianBaseline baseline = chain.estimator.baseline();
         if (baseline != null && baseline.continuousColumns() > 0) {
-            return exactWithControlVariate(chain, baseline, x0, rows, seed, threads);
+            return exactWithControlVariate(chain, baseline, x0, rows, seed, rowSeeds, threads);
         }
         Result res = new Result(rows, chain.steps, true);
         int chunks = Parallel.chunks(rows);
         double[][] perChunkSteps = new double[chunks][chain.steps + 1];
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
             int n = ch.n;
             double[] cont = new double[n];
             double[] bin = new double[n];
@@ -112,7 +151,7 @@ public final class BoundEvaluator {
     }
 
     private static Result exactWithControlVariate(Chain chain, GaussianBaseline baseline, float[] x0, int rows, long seed,
-                                                  int threads) {
+                                                  long[] rowSeeds, int threads) {
         Result res = new Result(rows, chain.steps, true);
         int chunks = Parallel.chunks(rows);
         double[][] perChunkSteps = new double[chunks][chain.steps + 1];
@@ -124,7 +163,7 @@ public final class BoundEvaluator {
             vs[s] = baseline.v(chain.source[s]);
         }
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
             int n = ch.n;
             double[] cont = new double[n];
             double[] bin = new double[n];
@@ -144,6 +183,10 @@ public final class BoundEvaluator {
                 baseline.addInPlace(ch.xt, chain.d, src, lin, chain.outputs, n, learned);
                 java.util.Arrays.fill(linCont, 0.0);
                 BoundTerms.rowTerms(chain, ch.x, ch.xt, lin, n, ch.k, linCont, linBin);
+                if (s == 1) {
+                    // integer columns' decoder terms are taken as drawn (expectedBaselineRows leaves them out)
+                    BoundTerms.subtractDiscretizedDecoderRows(chain, ch.x, ch.xt, lin, n, linCont);
+                }
                 java.util.Arrays.fill(expected, 0.0);
                 BoundTerms.expectedBaselineRows(chain, s, gains[s], vs[s], baseline.meanView(), ch.x, n, expected);
                 double stepSum = 0.0;
@@ -168,12 +211,36 @@ public final class BoundEvaluator {
         return res;
     }
 
+    /**
+     * The Monte Carlo bound: L_T and L_0 exact, K steps drawn uniformly from 2..T for the rest.
+     *
+     * @param chain the chain
+     * @param x0 rows x D model-space records, not modified
+     * @param rows the number of records
+     * @param draws K
+     * @param seed the seed of the draws (chunk c draws from {@link Parallel#random}(seed, c))
+     * @param threads worker threads
+     * @return per record, the terms and their standard errors
+     */
     public static Result monteCarlo(Chain chain, float[] x0, int rows, int draws, long seed, int threads) {
+        return monteCarlo(chain, x0, rows, draws, seed, null, threads);
+    }
+
+    /**
+     * {@link #monteCarlo(Chain, float[], int, int, long, int)} with a seed per row: row r draws its
+     * steps and noise as a one-row table seeded with rowSeeds[r] does.
+     */
+    public static Result monteCarlo(Chain chain, float[] x0, int rows, int draws, long[] rowSeeds, int threads) {
+        return monteCarlo(chain, x0, rows, draws, 0L, rowSeeds, threads);
+    }
+
+    private static Result monteCarlo(Chain chain, float[] x0, int rows, int draws, long seed, long[] rowSeeds,
+                                     int threads) {
         Result res = new Result(rows, chain.steps, false);
         int chunks = Parallel.chunks(rows);
         double scale = chain.steps - 1;
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
             int n = ch.n;
             int from = ch.from;
             int[] k = ch.k;
@@ -190,7 +257,7 @@ public final class BoundEvaluator {
             int rounds = chain.steps > 1 ? draws : 0;
             for (int draw = 0; draw < rounds; draw++) {
                 for (int r = 0; r < n; r++) {
-                    k[r] = 2 + ch.rng.nextInt(chain.steps - 1);
+                    k[r] = 2 + ch.rng[r].nextInt(chain.steps - 1);
                     src[r] = chain.source[k[r]];
                 }
                 chain.diffuse(ch.x, n, k, ch.xt, null, ch.rng);

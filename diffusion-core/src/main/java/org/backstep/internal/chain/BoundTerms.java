@@ -17,7 +17,12 @@ import org.backstep.posterior.Divergence;
  * eps-hat) / sqrt(alpha_t) (Ho et al. 2020, eq. 11) and sigma^2 fixed or learned (Nichol &amp;
  * Dhariwal 2021, eq. 15); a binary cell's is Bernoulli(q0 + P(x_0 = 1) (q1 - q0)) (see
  * {@link Chain#binaryReverseOne}). The Gaussian KL and the Bernoulli KL come from
- * {@link Divergence}, which holds the one probability floor.
+ * {@link Divergence}, which holds the one probability floor. A categorical cell's reverse kernel is
+ * the posterior averaged over the predicted x_0 distribution softmax(logits),
+ * p(x_{t-1} | x_t) = sum_c x0hat_c q(x_{t-1} | x_t, x_0 = c) (Hoogeboom et al. 2021, section 4), its
+ * terms from {@link org.backstep.posterior.CategoricalDiffusion} ({@link #categorical},
+ * {@link #categoricalPrior}). The bound's "binary" part per row holds the binary and the
+ * categorical cells' terms: every discrete cell's part is a probability in nats.
  */
 public final class BoundTerms {
 
@@ -63,6 +68,32 @@ public final class BoundTerms {
             partials[1] = 0.5 * (1.0 - num * precision);
         }
         return 0.5 * (lv - lq + num * precision - 1.0);
+    }
+
+    /**
+     * {@link #continuous} of continuous column j, except the decoder term (k = 1) of an integer
+     * column: -log of the mass that N(mu, sigma^2) puts on the observed integer's unit-wide bin
+     * (Ho et al. 2020, eq. 13; {@link org.backstep.posterior.DiscretizedGaussian}), a probability.
+     *
+     * @param j the continuous column, 0-based
+     * @return the term in nats; partials as {@link #continuous} writes them
+     */
+    public static double continuousCell(Chain c, int k, int j, double x0, double xt, double epsHat, double v,
+                                        double[] partials) {
+        org.backstep.posterior.DiscretizedGaussian dg = c.decoders[j];
+        if (k != 1 || dg == null) {
+            return continuous(c, k, x0, xt, epsHat, v, partials);
+        }
+        double lv = c.reverseLogVariance(k, v);
+        double mp = (xt - c.epsCoef[k] * epsHat) / c.sqrtAlpha[k];
+        long n = dg.integerAt(x0);
+        if (partials == null) {
+            return -dg.logProbability(n, mp, lv);
+        }
+        double logP = dg.logProbabilityGradientInPlace(n, mp, lv, partials);
+        partials[0] = -partials[0];
+        partials[1] = -partials[1];
+        return -logP;
     }
 
     /** @return d mu / d eps-hat at chain step k: -beta_k / (sqrt(1 - alpha-bar_k) sqrt(alpha_k)) */
@@ -120,6 +151,33 @@ public final class BoundTerms {
         return 0.5 * (-Math.log(c.priorVariance) + c.priorVariance + m * m - 1.0);
     }
 
+    /**
+     * L_{k-1} of categorical column j's cell: KL(q(x_{k-1} | x_k, x_0) || p(x_{k-1} | x_k)) for
+     * k &gt; 1, -log p(x_0 | x_1) = -log softmax(logits)_{x_0} at k = 1 (Hoogeboom et al. 2021,
+     * section 4; Ho et al. 2020, eq. 5).
+     *
+     * @param c the chain
+     * @param k the chain step, 1..K
+     * @param j the categorical column, 0-based among the categorical columns
+     * @param x0 the cell's category
+     * @param xt the cell's category at step k
+     * @param logits the estimator's K logits of x_0 (not modified)
+     * @param gradient null, or K entries overwritten with d term / d logit
+     * @return the term in nats
+     */
+    public static double categorical(Chain c, int k, int j, int x0, int xt, double[] logits, double[] gradient) {
+        org.backstep.posterior.CategoricalDiffusion q = c.catDiffusion[j];
+        if (gradient != null) {
+            return q.boundTermGradientInPlace(k, x0, xt, logits, gradient);
+        }
+        return k == 1 ? q.decoderNll(x0, logits) : q.posteriorKl(k, x0, xt, logits);
+    }
+
+    /** @return L_T of categorical column j's cell, KL(q(x_K | x_0) || Cat(1/K)), the same for every x_0 */
+    public static double categoricalPrior(Chain c, int j) {
+        return c.catDiffusion[j].priorKl();
+    }
+
     /** @return L_T of one binary cell, KL(q(x_K | x_0) || Bernoulli(1/2)) */
     public static double binaryPrior(Chain c, int x0) {
         return Divergence.bernoulliKl(x0 == 1 ? c.binMarginalOne1[c.steps] : c.binMarginalOne0[c.steps], 0.5);
@@ -140,6 +198,7 @@ public final class BoundTerms {
         int d = c.d;
         int outputs = c.outputs;
         boolean learned = c.variance == ReverseVariance.LEARNED;
+        double[][] logits = c.logitBuffers();
         for (int r = 0; r < rows; r++) {
             int s = k[r];
             int o = r * d;
@@ -147,12 +206,17 @@ public final class BoundTerms {
             double cont = 0.0;
             for (int j = 0; j < dc; j++) {
                 double v = learned ? out[oo + dc + j] : 0.0;
-                cont += continuous(c, s, x0[o + j], xt[o + j], out[oo + j], v, null);
+                cont += continuousCell(c, s, j, x0[o + j], xt[o + j], out[oo + j], v, null);
             }
             double bin = 0.0;
             for (int j = 0; j < c.db; j++) {
                 bin += binary(c, s, x0[o + dc + j] > 0.5f ? 1 : 0, xt[o + dc + j] > 0.5f ? 1 : 0,
                         out[oo + c.logitOffset + j], null);
+            }
+            for (int j = 0; j < c.dk; j++) {
+                c.logitsInto(out, oo, j, logits[j]);
+                int at = o + c.discreteEnd + j;
+                bin += categorical(c, s, j, (int) x0[at], (int) xt[at], logits[j], null);
             }
             contOut[r] += cont;
             binOut[r] += bin;
@@ -198,6 +262,11 @@ public final class BoundTerms {
         }
         double lq = c.logVarClipped[k];
         double[] centred = new double[dc];
+        boolean[] skip = new boolean[dc];
+        for (int j = 0; j < dc; j++) {
+            // an integer column's decoder is a discretized Gaussian's mass: not this expectation
+            skip[j] = k == 1 && c.decoders[j] != null;
+        }
         for (int r = 0; r < rows; r++) {
             int o = r * c.d;
             for (int i = 0; i < dc; i++) {
@@ -205,6 +274,9 @@ public final class BoundTerms {
             }
             double total = 0.0;
             for (int j = 0; j < dc; j++) {
+                if (skip[j]) {
+                    continue;
+                }
                 double ax = 0.0;
                 for (int i = 0; i < dc; i++) {
                     ax += gain[j][i] * centred[i];
@@ -219,6 +291,27 @@ public final class BoundTerms {
         }
     }
 
+    /**
+     * Subtracts from {@code contOut} the decoder terms (chain step 1) of the integer columns, those
+     * with a discretized decoder, per row: what {@link #rowTerms} added for them and
+     * {@link #expectedBaselineRows} leaves out.
+     */
+    static void subtractDiscretizedDecoderRows(Chain c, float[] x0, float[] xt, float[] out, int rows,
+                                               double[] contOut) {
+        boolean learned = c.variance == ReverseVariance.LEARNED;
+        for (int j = 0; j < c.dc; j++) {
+            if (c.decoders[j] == null) {
+                continue;
+            }
+            for (int r = 0; r < rows; r++) {
+                int o = r * c.d;
+                int oo = r * c.outputs;
+                double v = learned ? out[oo + c.dc + j] : 0.0;
+                contOut[r] -= continuousCell(c, 1, j, x0[o + j], xt[o + j], out[oo + j], v, null);
+            }
+        }
+    }
+
     /** The prior terms L_T per row, added into contOut and binOut. */
     static void priorRows(Chain c, float[] x0, int rows, double[] contOut, double[] binOut) {
         for (int r = 0; r < rows; r++) {
@@ -228,8 +321,11 @@ public final class BoundTerms {
                 cont += continuousPrior(c, x0[o + j]);
             }
             double bin = 0.0;
-            for (int j = c.dc; j < c.d; j++) {
+            for (int j = c.dc; j < c.discreteEnd; j++) {
                 bin += binaryPrior(c, x0[o + j] > 0.5f ? 1 : 0);
+            }
+            for (int j = 0; j < c.dk; j++) {
+                bin += categoricalPrior(c, j);
             }
             contOut[r] += cont;
             binOut[r] += bin;

@@ -3,6 +3,7 @@ package org.backstep.internal.chain;
 import org.backstep.option.ReverseVariance;
 
 import org.backstep.posterior.BinomialDiffusion;
+import org.backstep.posterior.CategoricalDiffusion;
 import org.backstep.posterior.GaussianDiffusion;
 import org.backstep.schedule.NoiseSchedule;
 import org.nd4j.linalg.api.buffer.DataType;
@@ -20,7 +21,11 @@ import java.util.SplittableRandom;
  * than a chain of small native calls. The estimator (a network, or an exact closed form in tests)
  * is called with the source step of each chain step.
  *
- * <p>Row-major float arrays: x has rows x D cells, continuous columns first, then binary ones.
+ * <p>Row-major float arrays: x has rows x D cells, continuous columns first, then binary ones, then
+ * one cell per categorical column holding the category's index. Categorical columns are diffused by
+ * the multinomial diffusion over the binary schedule ({@link CategoricalDiffusion}; with K = 2 it is
+ * the binomial diffusion value for value). The estimator sees each categorical cell one-hot
+ * ({@link #encodeInput}: K inputs, one of them 1) and gives one logit per category.
  */
 public final class Chain {
 
@@ -29,8 +34,17 @@ public final class Chain {
     final NoiseSchedule binary;
     final int dc;
     final int db;
+    final int dk;                   // categorical columns
     final int d;
+    final int discreteEnd;          // dc + db: the first categorical cell of a row
+    final int inputs;               // dc + db + sum K: the estimator's input width
     final int outputs;
+    final int[] categories;         // K of each categorical column
+    final int[] catInput;           // first estimator input of each categorical column
+    final int[] catLogits;          // first estimator output (logit) of each categorical column
+    final CategoricalDiffusion[] catDiffusion;
+    /** Per continuous column, the discretized Gaussian decoder of an integer column, null for a real one. */
+    final org.backstep.posterior.DiscretizedGaussian[] decoders;
     final int logitOffset;          // first output column of the binary logits: dc, or 2 dc with learned variances
     final ReverseVariance variance;
     final Estimator estimator;
@@ -65,6 +79,37 @@ public final class Chain {
      */
     public Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, ReverseVariance variance,
           Estimator estimator) {
+        this(continuous, binary, dc, db, new int[0], variance, estimator);
+    }
+
+    /**
+     * As {@link #Chain(NoiseSchedule, NoiseSchedule, int, int, int[], ReverseVariance, Estimator)},
+     * without integer columns.
+     */
+    public Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, int[] categories,
+          ReverseVariance variance, Estimator estimator) {
+        this(continuous, binary, dc, db, categories, new org.backstep.posterior.DiscretizedGaussian[dc], variance,
+                estimator);
+    }
+
+    /**
+     * @param continuous the Gaussian schedule of the continuous columns
+     * @param binary the binomial schedule of the binary and categorical columns, with as many steps
+     * @param dc diffused continuous columns
+     * @param db diffused binary columns
+     * @param categories K of each diffused categorical column, each at least 2 (not modified)
+     * @param decoders per continuous column, the discretized Gaussian decoder of an integer column or
+     *     null (Ho et al. 2020, eq. 13; not modified)
+     * @param variance how the continuous reverse variance is set
+     * @param estimator inputs dc + db + sum K, outputs as {@link Estimator} says
+     */
+    public Chain(NoiseSchedule continuous, NoiseSchedule binary, int dc, int db, int[] categories,
+          org.backstep.posterior.DiscretizedGaussian[] decoders, ReverseVariance variance, Estimator estimator) {
+        if (decoders.length != dc) {
+            throw new IllegalArgumentException("decoders has " + decoders.length + " entries; expected " + dc
+                    + ", one per continuous column");
+        }
+        this.decoders = decoders.clone();
         if (continuous.steps() != binary.steps()) {
             throw new IllegalArgumentException("the binary schedule has " + binary.steps()
                     + " steps and the continuous one " + continuous.steps() + "; both kinds are diffused at the same t");
@@ -73,14 +118,35 @@ public final class Chain {
         this.binary = binary;
         this.dc = dc;
         this.db = db;
-        this.d = dc + db;
+        this.categories = categories.clone();
+        this.dk = categories.length;
+        this.discreteEnd = dc + db;
+        this.d = dc + db + dk;
         this.variance = variance;
         this.logitOffset = dc * (variance == ReverseVariance.LEARNED ? 2 : 1);
-        this.outputs = logitOffset + db;
+        this.catInput = new int[dk];
+        this.catLogits = new int[dk];
+        this.catDiffusion = new CategoricalDiffusion[dk];
+        int in = dc + db;
+        int outAt = logitOffset + db;
+        java.util.Map<Integer, CategoricalDiffusion> byK = new java.util.HashMap<>();
+        for (int j = 0; j < dk; j++) {
+            if (categories[j] < 2) {
+                throw new IllegalArgumentException("categorical column " + j + " has " + categories[j]
+                        + " categories; expected at least 2 (a column of one category is constant)");
+            }
+            catInput[j] = in;
+            catLogits[j] = outAt;
+            in += categories[j];
+            outAt += categories[j];
+            catDiffusion[j] = byK.computeIfAbsent(categories[j], kk -> CategoricalDiffusion.of(binary, kk));
+        }
+        this.inputs = in;
+        this.outputs = outAt;
         this.estimator = estimator;
-        if (estimator.inputs() != d || estimator.outputs() != outputs) {
+        if (estimator.inputs() != inputs || estimator.outputs() != outputs) {
             throw new IllegalArgumentException("the estimator takes " + estimator.inputs() + " inputs and gives "
-                    + estimator.outputs() + " outputs; the chain needs " + d + " and " + outputs);
+                    + estimator.outputs() + " outputs; the chain needs " + inputs + " and " + outputs);
         }
         int n = continuous.steps();
         this.steps = n;
@@ -128,9 +194,49 @@ public final class Chain {
         priorVariance = continuous.oneMinusAlphaBar(n);
     }
 
+    /**
+     * The full chain of a fit's options over the model space of a transform.
+     *
+     * @param options the fit's options (schedules, variance)
+     * @param transform the column transforms (the model space's columns and categories)
+     * @param estimator the estimator, inputs and outputs as {@link #inputsOf} and {@link #outputsOf} say
+     * @return the chain
+     */
+    public static Chain of(org.backstep.option.FitOptions options, org.backstep.table.TableTransform transform,
+                           Estimator estimator) {
+        int[] mc = transform.modelledContinuous();
+        org.backstep.posterior.DiscretizedGaussian[] decoders = new org.backstep.posterior.DiscretizedGaussian[mc.length];
+        for (int j = 0; j < mc.length; j++) {
+            if (transform.kinds().get(mc[j]) == org.backstep.table.ColumnKind.INTEGER) {
+                org.backstep.table.ColumnTransform t = transform.transform(mc[j]);
+                decoders[j] = transform.lowest().containsKey(transform.names().get(mc[j]))
+                        ? org.backstep.posterior.DiscretizedGaussian.boundedBelow(t.shift(), t.scale(), 0L)
+                        : org.backstep.posterior.DiscretizedGaussian.unbounded(t.shift(), t.scale());
+            }
+        }
+        return new Chain(options.continuousSchedule(), options.binarySchedule(), mc.length,
+                transform.modelledBinary().length, transform.modelledCategories(), decoders, options.variance(),
+                estimator);
+    }
+
+    /** @return the estimator's input width over a transform's model space: Dc + Db + sum K */
+    public static int inputsOf(org.backstep.table.TableTransform transform) {
+        int in = transform.modelledContinuous().length + transform.modelledBinary().length;
+        for (int k : transform.modelledCategories()) {
+            in += k;
+        }
+        return in;
+    }
+
+    /** @return the estimator's output width: Dc (1 + [learned variance]) + Db + sum K */
+    public static int outputsOf(ReverseVariance variance, org.backstep.table.TableTransform transform) {
+        int dc = transform.modelledContinuous().length;
+        return dc * (variance == ReverseVariance.LEARNED ? 2 : 1) + inputsOf(transform) - dc;
+    }
+
     /** The same estimator over the sub-schedules that keep the given steps of this chain. */
     public Chain subset(int[] keep) {
-        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, variance, estimator);
+        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, categories, decoders, variance, estimator);
     }
 
     /** The same estimator over count evenly spaced steps (see {@link NoiseSchedule#strided(int)}). */
@@ -200,9 +306,12 @@ public final class Chain {
         private final FloatBuffer outView;
         private final float[] outHeap;
 
-        Workspace(int rows, int d, int outputs) {
+        final float[] encoded;           // rows x inputs, the one-hot input of categorical rows; null without them
+
+        Workspace(int rows, int d, int inputs, int outputs) {
             this.rows = rows;
-            this.xt = Nd4j.create(DataType.FLOAT, rows, d);
+            this.encoded = inputs == d ? null : new float[rows * inputs];
+            this.xt = Nd4j.create(DataType.FLOAT, rows, inputs);
             this.out = Nd4j.create(DataType.FLOAT, rows, outputs);
             this.stepBuf = new int[rows];
             this.xtView = xt.data().asNioFloat();
@@ -212,7 +321,7 @@ public final class Chain {
     }
 
     Workspace workspace(int rows) {
-        return new Workspace(rows, d, outputs);
+        return new Workspace(rows, d, inputs, outputs);
     }
 
     /**
@@ -224,10 +333,39 @@ public final class Chain {
      * @return rows x outputs, the workspace's own array: valid until the next call with {@code ws}
      */
     float[] predict(Workspace ws, float[] x, int[] srcSteps) {
-        ws.xtView.put(0, x, 0, ws.rows * d);
+        if (ws.encoded == null) {
+            ws.xtView.put(0, x, 0, ws.rows * d);
+        } else {
+            encodeInput(x, ws.rows, ws.encoded);
+            ws.xtView.put(0, ws.encoded, 0, ws.encoded.length);
+        }
         estimator.predict(ws.xt, srcSteps, ws.out);
         ws.outView.get(0, ws.outHeap, 0, ws.outHeap.length);
         return ws.outHeap;
+    }
+
+    /**
+     * The estimator's input of model-space rows: continuous and binary cells as they are, each
+     * categorical cell as K inputs, 1 at its category and 0 elsewhere (cost O(sum K) per row).
+     *
+     * @param x rows x D, not modified
+     * @param rows rows
+     * @param into rows x {@link #inputs()}, overwritten
+     */
+    public void encodeInput(float[] x, int rows, float[] into) {
+        if (dk == 0) {
+            System.arraycopy(x, 0, into, 0, rows * d);
+            return;
+        }
+        java.util.Arrays.fill(into, 0, rows * inputs, 0f);
+        for (int r = 0; r < rows; r++) {
+            int o = r * d;
+            int io = r * inputs;
+            System.arraycopy(x, o, into, io, discreteEnd);
+            for (int j = 0; j < dk; j++) {
+                into[io + catInput[j] + (int) x[o + discreteEnd + j]] = 1f;
+            }
+        }
     }
 
     float[] predictAtStep(Workspace ws, float[] x, int k) {
@@ -242,8 +380,11 @@ public final class Chain {
             for (int j = 0; j < dc; j++) {
                 x[o + j] = (float) rng.nextGaussian();
             }
-            for (int j = dc; j < d; j++) {
+            for (int j = dc; j < discreteEnd; j++) {
                 x[o + j] = rng.nextDouble() < 0.5 ? 1f : 0f;
+            }
+            for (int j = 0; j < dk; j++) {
+                x[o + discreteEnd + j] = catDiffusion[j].priorDraw(rng.nextDouble());
             }
         }
     }
@@ -254,19 +395,69 @@ public final class Chain {
      */
     public void diffuse(float[] x0, int rows, int[] k, float[] xt, float[] eps, SplittableRandom rng) {
         for (int r = 0; r < rows; r++) {
-            int o = r * d;
-            int s = k[r];
-            for (int j = 0; j < dc; j++) {
-                double e = rng.nextGaussian();
-                if (eps != null) {
-                    eps[r * dc + j] = (float) e;
-                }
-                xt[o + j] = diffusedContinuous(s, x0[o + j], e);
-            }
-            for (int j = dc; j < d; j++) {
-                xt[o + j] = diffusedBinary(s, x0[o + j], rng.nextDouble());
-            }
+            diffuseRow(x0, r, k[r], xt, eps, rng);
         }
+    }
+
+    /**
+     * {@link #diffuse(float[], int, int[], float[], float[], SplittableRandom)} with a generator per
+     * row: row r draws its noise from {@code rowRng[r]} (entries may repeat: one generator shared by
+     * every row draws as the one-generator form does).
+     */
+    public void diffuse(float[] x0, int rows, int[] k, float[] xt, float[] eps, SplittableRandom[] rowRng) {
+        for (int r = 0; r < rows; r++) {
+            diffuseRow(x0, r, k[r], xt, eps, rowRng[r]);
+        }
+    }
+
+    /** x_k of row r into xt: continuous noise first, then one uniform per binary or categorical cell. */
+    private void diffuseRow(float[] x0, int r, int s, float[] xt, float[] eps, SplittableRandom rng) {
+        int o = r * d;
+        for (int j = 0; j < dc; j++) {
+            double e = rng.nextGaussian();
+            if (eps != null) {
+                eps[r * dc + j] = (float) e;
+            }
+            xt[o + j] = diffusedContinuous(s, x0[o + j], e);
+        }
+        for (int j = dc; j < d; j++) {
+            xt[o + j] = diffusedDiscrete(j, s, x0[o + j], rng.nextDouble());
+        }
+    }
+
+    /**
+     * x_s of binary or categorical cell j (dc &lt;= j &lt; D) given a uniform u: {@link #diffusedBinary}
+     * for a binary cell, {@link CategoricalDiffusion#marginalDraw} for a categorical one.
+     */
+    float diffusedDiscrete(int j, int s, float x0, double u) {
+        if (j < discreteEnd) {
+            return diffusedBinary(s, x0, u);
+        }
+        return catDiffusion[j - discreteEnd].marginalDraw(s, (int) x0, Math.min(1.0, u));
+    }
+
+    /**
+     * The K logits of categorical column j (0-based among the categorical columns) in an output row.
+     *
+     * @param out rows x outputs
+     * @param oo the first output of the row
+     * @param j the categorical column
+     * @param into K entries, overwritten
+     */
+    void logitsInto(float[] out, int oo, int j, double[] into) {
+        int at = oo + catLogits[j];
+        for (int c = 0; c < into.length; c++) {
+            into[c] = out[at + c];
+        }
+    }
+
+    /** @return a buffer per categorical column for its logits */
+    double[][] logitBuffers() {
+        double[][] b = new double[dk][];
+        for (int j = 0; j < dk; j++) {
+            b[j] = new double[categories[j]];
+        }
+        return b;
     }
 
     /**
@@ -319,9 +510,34 @@ public final class Chain {
         return db;
     }
 
-    /** @return D = Dc + Db, the width of a model-space row */
+    /** @return D = Dc + Db + Dk, the width of a model-space row */
     public int width() {
         return d;
+    }
+
+    /** @return Dk, the diffused categorical columns */
+    public int categoricalColumns() {
+        return dk;
+    }
+
+    /** @return K of each categorical column (a copy) */
+    public int[] categories() {
+        return categories.clone();
+    }
+
+    /** @return the estimator's input width, Dc + Db + sum K */
+    public int inputs() {
+        return inputs;
+    }
+
+    /** @return the first output column of categorical column j's logits */
+    public int categoricalLogitOffset(int j) {
+        return catLogits[j];
+    }
+
+    /** @return the multinomial diffusion of categorical column j */
+    public CategoricalDiffusion categorical(int j) {
+        return catDiffusion[j];
     }
 
     /** @return the estimator's output columns */

@@ -107,7 +107,7 @@ public final class CommonNoiseBound {
                 xt[o + j] = chain.diffusedContinuous(s, x0[o + j], u[j]);
             }
             for (int j = chain.dc; j < d; j++) {
-                xt[o + j] = chain.diffusedBinary(s, x0[o + j], u[j]);
+                xt[o + j] = chain.diffusedDiscrete(j, s, x0[o + j], u[j]);
             }
         }
     }

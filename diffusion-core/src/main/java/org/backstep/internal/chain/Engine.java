@@ -102,15 +102,38 @@ public final class Engine {
      * @return the per-record report
      */
     public BoundReport bound(Table records, BoundOptions how, long seed) {
+        return bound(records, how, seed, null);
+    }
+
+    /**
+     * {@link #bound(Table, BoundOptions, long)} with a seed per record: record i draws its x_t (and
+     * its Monte Carlo steps) as a one-record table seeded with {@code rowSeeds[i]} does, so its
+     * figures do not depend on the other records.
+     *
+     * @param records complete records with the training columns
+     * @param how exact (full or strided chain) or sampled
+     * @param rowSeeds one seed per record (the length checked by the caller)
+     * @return the per-record report
+     */
+    public BoundReport bound(Table records, BoundOptions how, long[] rowSeeds) {
+        return bound(records, how, 0L, rowSeeds);
+    }
+
+    private BoundReport bound(Table records, BoundOptions how, long seed, long[] rowSeeds) {
         float[] x = modelSpace(records);
         double[] logJacobian = parts.transform().logJacobian(records);
+        int rows = records.rows();
         if (how.sampled()) {
-            BoundEvaluator.Result r = BoundEvaluator.monteCarlo(chain, x, records.rows(), how.draws(), seed, threads);
+            BoundEvaluator.Result r = rowSeeds == null
+                    ? BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), seed, threads)
+                    : BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), rowSeeds, threads);
             return BoundReport.of(BoundReport.Method.MONTE_CARLO, chain.steps, how.draws(), chain.d, r.continuous,
                     r.binary, logJacobian, r.standardError, r.perStepMean);
         }
         Chain c = chainOf(how.steps());
-        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), seed, threads);
+        BoundEvaluator.Result r = rowSeeds == null
+                ? BoundEvaluator.exact(c, x, rows, seed, threads)
+                : BoundEvaluator.exact(c, x, rows, rowSeeds, threads);
         return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary, logJacobian,
                 r.standardError, r.perStepMean);
     }

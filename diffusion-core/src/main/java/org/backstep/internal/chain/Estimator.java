@@ -9,18 +9,21 @@ import org.nd4j.linalg.api.ndarray.INDArray;
  *   columns [0, Dc)            epsilon-hat for each continuous column (Ho et al. 2020, eq. 11)
  *   columns [Dc, 2 Dc)         v, the log-variance interpolation of each continuous column
  *                              (Nichol &amp; Dhariwal 2021, eq. 15), present only with learned variances
- *   the last Db columns        the logit of P(x_0 = 1 | x_t) for each binary column
+ *   the next Db columns        the logit of P(x_0 = 1 | x_t) for each binary column
+ *   then K_j columns each      the logits of x_0's category for each categorical column j
+ *                              (Hoogeboom et al. 2021, section 4)
  * </pre>
- * where Dc and Db count the diffused continuous and binary columns. The trained network of a
+ * where Dc and Db count the diffused continuous (with integer) and binary columns. Its input is
+ * x_t with each categorical cell one-hot ({@link Chain#encodeInput}): Dc + Db + sum_j K_j columns. The trained network of a
  * {@code org.backstep.DiffusionModel} is one implementation; tests supply exact closed-form estimators through
  * the same interface, so they run the same bound and sampling code.
  */
 public interface Estimator {
 
-    /** @return D = Dc + Db, the width of x_t */
+    /** @return the input width, Dc + Db + sum_j K_j (D = Dc + Db without categorical columns) */
     int inputs();
 
-    /** @return the number of output columns, Dc (1 + [learned variance]) + Db */
+    /** @return the number of output columns, Dc (1 + [learned variance]) + Db + sum_j K_j */
     int outputs();
 
     /**

@@ -334,6 +334,20 @@ public final class GaussianBaseline {
         return a;
     }
 
+    /**
+     * @param step the training-schedule step t, 1..T
+     * @return tr(A_t) = sum_k sqrt(1 - abar_t) / (abar_t l_k + 1 - abar_t), the trace of the Jacobian
+     *     d eps-hat / d x_t of the closed-form part (constant in x_t: the part is linear), which the
+     *     flow likelihood's divergence adds to the network's own (Song et al. 2021, eq. 39)
+     */
+    public double trace(int step) {
+        double t = 0.0;
+        for (double s : scale[step]) {
+            t += s;
+        }
+        return t;
+    }
+
     /** @return the v of each column at training-schedule step t (a copy) */
     double[] v(int step) {
         return v[step].clone();

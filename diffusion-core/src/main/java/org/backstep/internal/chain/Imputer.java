@@ -35,6 +35,7 @@ public final class Imputer {
         int rows = records.rows();
         int[] todo = records.incompleteRowIndices();
         int n = todo.length;
+        records = engine.transform().aligned(records);
         float[] known = n == 0 ? new float[0] : engine.modelSpace(records.selectRows(todo));
         Chain c = engine.chainOf(Math.min(how.steps(), engine.steps()));
         List<Table> tables = new ArrayList<>();
@@ -72,6 +73,23 @@ public final class Imputer {
                 }
                 for (int k = 0; k < cell.length; k++) {
                     cell[k] = tables.get(k).get(i, j);
+                }
+                if (records.kind(j) == ColumnKind.CATEGORICAL) {
+                    // no mean or interval of category indices: the most frequent category, first on a tie
+                    int[] count = new int[records.categories(j).size()];
+                    int best = 0;
+                    for (double v : cell) {
+                        count[(int) v]++;
+                    }
+                    for (int cat = 1; cat < count.length; cat++) {
+                        if (count[cat] > count[best]) {
+                            best = cat;
+                        }
+                    }
+                    mean[i][j] = best;
+                    lo[i][j] = best;
+                    hi[i][j] = best;
+                    continue;
                 }
                 mean[i][j] = Arrays.stream(cell).average().orElseThrow();
                 lo[i][j] = quantile(cell, (1.0 - level) / 2.0);

@@ -37,7 +37,7 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
             Limits.checkTransform(transform.names().get(c), transform.transform(c).shift(), transform.transform(c).scale());
         }
         int dc = transform.modelledContinuous().length;
-        int d = dc + transform.modelledBinary().length;
+        int d = transform.modelColumns();
         if (range.width() != d || range.continuous() != dc) {
             throw new IllegalArgumentException("range covers " + range.width() + " model columns (" + range.continuous()
                     + " continuous); the transform diffuses " + d + " (" + dc + " continuous)");
@@ -57,7 +57,7 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
         Require.notNull("transform", transform);
         Require.notNull("provenance", provenance);
         int dc = transform.modelledContinuous().length;
-        int db = transform.modelledBinary().length;
+        int db = transform.modelledBinary().length + transform.modelledCategorical().length;   // discrete columns
         return provenance.trainingRows() >= 2 ? ModelRange.samuelson(dc, db, provenance.trainingRows())
                 : ModelRange.none(dc, db);
     }
@@ -92,8 +92,6 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
 
     /** @return the full reverse chain of these parts */
     public Chain chain() {
-        return new Chain(options.continuousSchedule(), options.binarySchedule(),
-                transform.modelledContinuous().length, transform.modelledBinary().length, options.variance(),
-                estimator);
+        return Chain.of(options, transform, estimator);
     }
 }

@@ -106,6 +106,7 @@ public final class ReverseRun {
      */
     static void ancestralStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, SplittableRandom rng) {
         StepKernel kernel = new StepKernel(chain, k);
+        double[][] logits = chain.logitBuffers();
         int d = chain.d;
         int outputs = chain.outputs;
         for (int r = 0; r < rows; r++) {
@@ -123,6 +124,7 @@ public final class ReverseRun {
                 x[o + j] = (float) next;
             }
             binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng);
+            categoricalStepInPlace(chain, x, out, o, oo, k, logits, rng);
         }
     }
 
@@ -195,6 +197,7 @@ public final class ReverseRun {
         // r_{k-1} = N(m, v): v = 1 - alpha-bar_{k-1} from the schedule (no cancellation), v > 0 for k > 1
         double targetScale = chain.sqrtAbar[k - 1];
         double targetVar = chain.sqrtOneMinusAbar[k - 1] * chain.sqrtOneMinusAbar[k - 1];
+        double[][] catLogits = chain.logitBuffers();
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             int oo = r * outputs;
@@ -225,12 +228,30 @@ public final class ReverseRun {
                 x[o + j] = (float) next;
             }
             int logits = oo + chain.logitOffset;
-            for (int j = dc; j < d; j++) {
+            for (int j = dc; j < chain.discreteEnd; j++) {
                 double pOne = Chain.sigmoid(out[logits + (j - dc)]);
                 float y = known[o + j];
                 double p1 = Float.isNaN(y) ? chain.binaryReverseOne(k, x[o + j], pOne)
                         : productBinaryOne(chain, k, x[o + j], pOne, y);
                 x[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+            }
+            for (int j = 0; j < chain.dk; j++) {
+                int at = o + chain.discreteEnd + j;
+                chain.logitsInto(out, oo, j, catLogits[j]);
+                org.backstep.posterior.CategoricalDiffusion q = chain.catDiffusion[j];
+                double[] lp = q.reverseLogProbabilities(k, (int) x[at], catLogits[j]);
+                float y = known[at];
+                if (!Float.isNaN(y)) {
+                    if (k == 1) {
+                        x[at] = y;      // r_0 is the point mass at y
+                        rng.nextDouble();
+                        continue;
+                    }
+                    for (int cat = 0; cat < lp.length; cat++) {
+                        lp[cat] += q.logMarginal(k - 1, (int) y, cat);   // times q(x_{k-1} | x_0 = y)
+                    }
+                }
+                x[at] = org.backstep.posterior.CategoricalDiffusion.draw(lp, rng.nextDouble());
             }
         }
     }
@@ -324,6 +345,7 @@ public final class ReverseRun {
         double dir = Math.sqrt(Math.max(0.0, 1.0 - abarPrev - sigma * sigma));
         double sqrtAbarPrev = Math.sqrt(abarPrev);
         boolean noise = sigma > 0;
+        double[][] logits = chain.logitBuffers();
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             int oo = r * outputs;
@@ -337,6 +359,7 @@ public final class ReverseRun {
                 x[o + j] = (float) next;
             }
             binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng);
+            categoricalStepInPlace(chain, x, out, o, oo, k, logits, rng);
         }
     }
 
@@ -357,10 +380,26 @@ public final class ReverseRun {
     private static void binaryStepInPlace(Chain chain, float[] x, float[] out, int o, int logits, int k,
                                           SplittableRandom rng) {
         int dc = chain.dc;
-        for (int j = dc; j < chain.d; j++) {
+        for (int j = dc; j < chain.discreteEnd; j++) {
             double pOne = Chain.sigmoid(out[logits + (j - dc)]);
             double p1 = chain.binaryReverseOne(k, x[o + j], pOne);
             x[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+        }
+    }
+
+    /**
+     * Draws the categorical cells of one row (at x[o + dc + db ..], output row at out[oo ..]) from
+     * p(x_{k-1} | x_k) = sum_c x0hat_c q(x_{k-1} | x_k, x_0 = c) (Hoogeboom et al. 2021, section 4;
+     * {@link org.backstep.posterior.CategoricalDiffusion#reverseLogProbabilities}), one uniform each;
+     * at k = 1 the draw is from x0hat itself, so only categories 0..K-1 come out.
+     */
+    private static void categoricalStepInPlace(Chain chain, float[] x, float[] out, int o, int oo, int k,
+                                               double[][] logits, SplittableRandom rng) {
+        for (int j = 0; j < chain.dk; j++) {
+            int at = o + chain.discreteEnd + j;
+            chain.logitsInto(out, oo, j, logits[j]);
+            double[] lp = chain.catDiffusion[j].reverseLogProbabilities(k, (int) x[at], logits[j]);
+            x[at] = org.backstep.posterior.CategoricalDiffusion.draw(lp, rng.nextDouble());
         }
     }
 
@@ -379,7 +418,7 @@ public final class ReverseRun {
                 } else if (j < chain.dc) {
                     x[o + j] = chain.diffusedContinuous(s, v, rng.nextGaussian());
                 } else {
-                    x[o + j] = chain.diffusedBinary(s, v, rng.nextDouble());
+                    x[o + j] = chain.diffusedDiscrete(j, s, v, rng.nextDouble());
                 }
             }
         }
@@ -395,9 +434,15 @@ public final class ReverseRun {
             for (int j = 0; j < chain.dc; j++) {
                 x[o + j] = (float) (chain.sqrtAlpha[k] * x[o + j] + sb * rng.nextGaussian());
             }
-            for (int j = chain.dc; j < d; j++) {
+            for (int j = chain.dc; j < chain.discreteEnd; j++) {
                 if (rng.nextDouble() < binBeta) {
                     x[o + j] = rng.nextDouble() < 0.5 ? 1f : 0f;
+                }
+            }
+            for (int j = 0; j < chain.dk; j++) {
+                // q(x_k | x_{k-1}) = Cat((1 - beta_k) x_{k-1} + beta_k / K): redrawn uniformly with beta_k
+                if (rng.nextDouble() < binBeta) {
+                    x[o + chain.discreteEnd + j] = chain.catDiffusion[j].priorDraw(rng.nextDouble());
                 }
             }
         }

@@ -65,7 +65,9 @@ public final class ScoringRange {
     /**
      * The cells of {@code records} that the model cannot score, under its fitted transform: a
      * continuous cell with |z| beyond {@code limit} (or z not finite), a cell at or below 0 in a log
-     * column, a cell other than the value of a constant column. Missing cells are not judged.
+     * column, a cell other than the value of a constant column, a categorical cell whose label the
+     * training table did not have (the score of an unknown category: +infinity, with a note naming
+     * it). Missing cells are not judged.
      *
      * @param records records with the transform's columns (not modified)
      * @param transform the model's column transforms
@@ -77,7 +79,18 @@ public final class ScoringRange {
         for (int r = 0; r < records.rows(); r++) {
             for (int c = 0; c < records.columns(); c++) {
                 double x = records.get(r, c);
-                if (Double.isNaN(x) || records.kind(c) != ColumnKind.CONTINUOUS) {
+                if (!Double.isNaN(x) && records.kind(c) == ColumnKind.CATEGORICAL) {
+                    String label = records.label(r, c);
+                    List<String> known = transform.categories().get(records.name(c));
+                    if (known != null && !known.contains(label)) {
+                        out.add(CellNote.of(r, records.name(c), x, CellNote.Kind.OUTSIDE_SUPPORT,
+                                "the category '" + label + "' is not among the " + known.size() + " categories of the"
+                                        + " training table, so the model gives it probability zero; the record scores"
+                                        + " +infinity"));
+                    }
+                    continue;
+                }
+                if (Double.isNaN(x) || records.kind(c) != ColumnKind.CONTINUOUS && records.kind(c) != ColumnKind.INTEGER) {
                     continue;
                 }
                 ColumnTransform t = transform.transform(c);

@@ -3,6 +3,7 @@ package org.backstep.internal.screen;
 import org.apache.commons.math3.stat.inference.ChiSquareTest;
 import org.apache.commons.math3.stat.inference.KolmogorovSmirnovTest;
 import org.backstep.internal.chain.Engine;
+import org.backstep.internal.chain.ScoringRange;
 import org.backstep.option.DriftOptions;
 import org.backstep.report.CellNote;
 import org.backstep.report.DriftReport;
@@ -41,6 +42,30 @@ public final class DriftTests {
     public static DriftReport drift(Engine engine, Table reference, Table batch, DriftOptions how, long seed) {
         Scoring.Scored ref = Scoring.score(engine, reference, how.bound(), how.missing(), "reference", seed);
         Scoring.Scored now = Scoring.score(engine, batch, how.bound(), how.missing(), "batch", seed);
+        return tests(reference, ref, batch, now);
+    }
+
+    /**
+     * The tests of complete batches whose scores were computed elsewhere (with common random
+     * numbers, e.g. in parts by {@link Scoring#score}): the notes are the unscorable cells of each
+     * batch, as scoring them here would give.
+     *
+     * @param engine the model's engine
+     * @param reference the reference batch (layout checked by the caller)
+     * @param referenceScores its scores, one per row (checked by the caller)
+     * @param batch the new batch (layout checked by the caller)
+     * @param batchScores its scores, one per row (checked by the caller)
+     * @return the report
+     */
+    public static DriftReport ofScores(Engine engine, Table reference, double[] referenceScores, Table batch,
+                                       double[] batchScores) {
+        double limit = ScoringRange.limit(engine.chain());
+        return tests(reference, new Scoring.Scored(referenceScores.clone(),
+                        ScoringRange.unscorable(reference, engine.transform(), limit)),
+                batch, new Scoring.Scored(batchScores.clone(), ScoringRange.unscorable(batch, engine.transform(), limit)));
+    }
+
+    private static DriftReport tests(Table reference, Scoring.Scored ref, Table batch, Scoring.Scored now) {
         int cols = reference.columns();
         String[] subject = new String[cols + 1];
         String[] test = new String[cols + 1];
@@ -63,7 +88,12 @@ public final class DriftTests {
             double[] y = observed(batch.column(c));
             nRef[i] = x.length;
             nNew[i] = y.length;
-            if (reference.kind(c) == ColumnKind.BINARY) {
+            if (reference.kind(c) == ColumnKind.CATEGORICAL) {
+                test[i] = CHI_SQUARED;
+                double[] r = chiSquaredCategories(reference, batch, c);
+                statistic[i] = r[0];
+                p[i] = r[1];
+            } else if (reference.kind(c) == ColumnKind.BINARY) {
                 test[i] = CHI_SQUARED;
                 double[] r = chiSquared(x, y);
                 statistic[i] = r[0];
@@ -123,6 +153,48 @@ public final class DriftTests {
         if (x.length == 0 || y.length == 0 || a[0] + b[0] == 0 || a[1] + b[1] == 0) {
             return new double[] {0.0, 1.0};
         }
+        ChiSquareTest test = new ChiSquareTest();
+        return new double[] {test.chiSquareDataSetsComparison(a, b), test.chiSquareTestDataSetsComparison(a, b)};
+    }
+
+    /**
+     * The chi-squared test of homogeneity of a categorical column's counts in the two tables
+     * (commons-math3 ChiSquareTest, K - 1 degrees of freedom over the categories seen in either),
+     * the categories matched by label, so that a label only one table has counts as such.
+     */
+    static double[] chiSquaredCategories(org.backstep.table.Table reference, org.backstep.table.Table batch, int c) {
+        java.util.Map<String, Integer> at = new java.util.LinkedHashMap<>();
+        reference.categories(c).forEach(l -> at.putIfAbsent(l, at.size()));
+        batch.categories(c).forEach(l -> at.putIfAbsent(l, at.size()));
+        long[] a = new long[at.size()];
+        long[] b = new long[at.size()];
+        for (int r = 0; r < reference.rows(); r++) {
+            String l = reference.label(r, c);
+            if (l != null) {
+                a[at.get(l)]++;
+            }
+        }
+        for (int r = 0; r < batch.rows(); r++) {
+            String l = batch.label(r, c);
+            if (l != null) {
+                b[at.get(l)]++;
+            }
+        }
+        int used = 0;
+        for (int k = 0; k < a.length; k++) {
+            if (a[k] + b[k] > 0) {
+                a[used] = a[k];
+                b[used] = b[k];
+                used++;
+            }
+        }
+        long na = Arrays.stream(a, 0, used).sum();
+        long nb = Arrays.stream(b, 0, used).sum();
+        if (used < 2 || na == 0 || nb == 0) {
+            return new double[] {0.0, 1.0};
+        }
+        a = Arrays.copyOf(a, used);
+        b = Arrays.copyOf(b, used);
         ChiSquareTest test = new ChiSquareTest();
         return new double[] {test.chiSquareDataSetsComparison(a, b), test.chiSquareTestDataSetsComparison(a, b)};
     }

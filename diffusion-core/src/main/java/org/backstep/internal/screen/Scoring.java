@@ -5,7 +5,9 @@ import org.backstep.internal.chain.CommonNoiseBound;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.chain.ScoringRange;
+import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.option.BoundOptions;
+import org.backstep.option.FlowOptions;
 import org.backstep.option.MissingCells;
 import org.backstep.report.CellNote;
 import org.backstep.report.Imputation;
@@ -13,6 +15,7 @@ import org.backstep.table.Table;
 
 import java.util.ArrayList;
 import java.util.List;
+import java.util.function.Function;
 import java.util.stream.IntStream;
 
 /**
@@ -56,6 +59,17 @@ public final class Scoring {
      */
     public static Scored score(Engine engine, Table records, BoundOptions bound, MissingCells missing, String name,
                                long seed) {
+        return score(engine, records, complete -> bound(engine, complete, bound, seed), missing, name, seed);
+    }
+
+    /**
+     * {@link #score(Engine, Table, BoundOptions, MissingCells, String, long)} with the score of complete,
+     * scorable records given.
+     *
+     * @param scorer the per-record score of a table of complete, scorable records
+     */
+    public static Scored score(Engine engine, Table records, Function<Table, double[]> scorer, MissingCells missing,
+                               String name, long seed) {
         int rows = records.rows();
         if (rows == 0) {
             throw new IllegalArgumentException(name + " has 0 rows; expected at least 1");
@@ -88,7 +102,7 @@ public final class Scoring {
             }
         }
         if (complete.length > 0) {
-            double[] s = bound(engine, records.selectRows(complete), bound, seed);
+            double[] s = scorer.apply(records.selectRows(complete));
             for (int i = 0; i < complete.length; i++) {
                 scores[complete[i]] = s[i];
             }
@@ -99,7 +113,7 @@ public final class Scoring {
             Imputation imp = Imputer.impute(engine, part, missing.imputation(), seed ^ IMPUTATION_SALT);
             double[] sum = new double[incomplete.length];
             for (Table completion : imp.draws()) {
-                double[] s = bound(engine, completion, bound, seed);
+                double[] s = scorer.apply(completion);
                 for (int i = 0; i < s.length; i++) {
                     sum[i] += s[i];
                 }
@@ -118,6 +132,15 @@ public final class Scoring {
         }
         notes.sort(java.util.Comparator.comparingInt(CellNote::row));
         return new Scored(scores, List.copyOf(notes));
+    }
+
+    /**
+     * The exact negative log-likelihood of the probability-flow ODE of complete, scorable records
+     * ({@link ProbabilityFlow}; no draws).
+     */
+    static double[] flow(Engine engine, Table records, FlowOptions how) {
+        ProbabilityFlow flow = new ProbabilityFlow(engine.parts(), how.relativeTolerance(), how.absoluteTolerance());
+        return flow.evaluate(engine.modelSpace(records), records.rows(), engine.parts().options().threads()).nats;
     }
 
     /** The bound with common random numbers of complete, scorable records. */

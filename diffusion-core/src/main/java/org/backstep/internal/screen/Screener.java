@@ -3,6 +3,7 @@ package org.backstep.internal.screen;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.option.BoundOptions;
+import org.backstep.option.ScoreSource;
 import org.backstep.option.ScreeningOptions;
 import org.backstep.option.ThresholdRule;
 import org.backstep.report.AnomalyScreen;
@@ -12,6 +13,7 @@ import org.backstep.table.Table;
 
 import java.util.Arrays;
 import java.util.Locale;
+import java.util.function.Function;
 
 /**
  * The screen: held-out and screened records scored alike ({@link Scoring}, one seed, so both share
@@ -43,7 +45,10 @@ public final class Screener {
         if (heldOut.rows() < rule.heldOutRowsNeeded()) {
             throw tooFew(rule, heldOut.rows());
         }
-        Scoring.Scored held = Scoring.score(engine, heldOut, bound, how.missing(), "heldOut", seed);
+        Function<Table, double[]> scorer = how.source() == ScoreSource.FLOW
+                ? complete -> Scoring.flow(engine, complete, how.flow())
+                : complete -> Scoring.bound(engine, complete, bound, seed);
+        Scoring.Scored held = Scoring.score(engine, heldOut, scorer, how.missing(), "heldOut", seed);
         for (CellNote n : held.notes()) {
             if (n.unscorable()) {
                 throw new IllegalArgumentException(String.format(Locale.ROOT, "heldOut row %d, column '%s' is %s, %s;"
@@ -52,7 +57,7 @@ public final class Screener {
                         ? "beyond the model space's range" : "outside the column's support (probability zero)"));
             }
         }
-        Scoring.Scored scored = Scoring.score(engine, records, bound, how.missing(), "records", seed);
+        Scoring.Scored scored = Scoring.score(engine, records, scorer, how.missing(), "records", seed);
         double threshold = threshold(rule, held.scores());
         int[] flagged = AnomalyScreen.flaggedAt(scored.scores(), threshold);
         Surprisal surprisal = how.surprisal().draws() == 0 || flagged.length == 0

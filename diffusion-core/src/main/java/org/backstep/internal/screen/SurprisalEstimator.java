@@ -79,8 +79,10 @@ public final class SurprisalEstimator {
         int[] tableColumn = new int[d];
         int[] mc = tf.modelledContinuous();
         int[] mb = tf.modelledBinary();
+        int[] mk = tf.modelledCategorical();
+        int[] categories = tf.modelledCategories();
         for (int j = 0; j < d; j++) {
-            tableColumn[j] = j < dc ? mc[j] : mb[j - dc];
+            tableColumn[j] = j < dc ? mc[j] : j < dc + mb.length ? mb[j - dc] : mk[j - dc - mb.length];
         }
         float[] x = engine.modelSpace(sub.withRows(cells));
         // one target per observed modelled cell; each repeated K times with that cell unknown
@@ -120,7 +122,8 @@ public final class SurprisalEstimator {
                 u[rep] = drawn[(t * k + rep) * d + j];
             }
             double observed = x[i * d + j];
-            nats[i][tableColumn[j]] = j < dc ? continuous(u, observed) : binary(u, observed);
+            nats[i][tableColumn[j]] = j < dc ? continuous(u, observed) : j < dc + mb.length ? binary(u, observed)
+                    : categorical(u, observed, categories[j - dc - mb.length]);
         }
         return new Surprisal(rows, records.names(), nats, k);
     }
@@ -196,5 +199,18 @@ public final class SurprisalEstimator {
             same += (v > 0.5) == (observed > 0.5) ? 1 : 0;
         }
         return -Math.log((same + 0.5) / (u.length + 1.0));
+    }
+
+    /**
+     * -log of the share of draws in the observed category with the same add-one-half estimate as
+     * {@link #binary} over K categories, (same + 1/2) / (k + K/2) (Krichevsky &amp; Trofimov 1981;
+     * for K = 2 it is {@link #binary}).
+     */
+    static double categorical(double[] u, double observed, int categories) {
+        int same = 0;
+        for (double v : u) {
+            same += v == observed ? 1 : 0;
+        }
+        return -Math.log((same + 0.5) / (u.length + categories / 2.0));
     }
 }

@@ -66,11 +66,19 @@ import java.util.zip.ZipOutputStream;
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
- * Version 4 added the option {@code baseline} (the closed-form part of the reverse model; a file of
- * an older version is read as {@code NONE}, what every older release did) and, when that option is
- * {@code FITTED_GAUSSIAN}, the object {@code gaussianBaseline} with the fitted {@code mean},
- * {@code covariance} (rows) and {@code shrinkage} of the continuous model columns; the per-step
- * factors are recomputed from them and the schedule on load.
+ * Version 4 added two sets of entries, each optional within the version (a version 4 file of a
+ * table without the new kinds and without a baseline has neither):
+ * integer and categorical columns: a column of kind {@code INTEGER} carries
+ * {@code lowest} = 0 when it is a count (its decoder's bin of 0 reaching to -infinity) and nothing
+ * else new; a column of kind {@code CATEGORICAL} carries
+ * {@code categories}, its labels in index order (the order the network's logits and the model-space
+ * indices use), and the network's inputs and outputs count one per category; files of versions 1
+ * to 3 have no such column. And the option {@code baseline} (the closed-form part of the reverse
+ * model; absent, or a file of an older version, reads as {@code NONE}, what every older release
+ * did) and, when that option is {@code FITTED_GAUSSIAN}, the object {@code gaussianBaseline} with
+ * the fitted {@code mean}, {@code covariance} (rows) and {@code shrinkage} of the continuous model
+ * columns (continuous and integer); the per-step factors are recomputed from them and the schedule
+ * on load.
  * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
@@ -206,6 +214,13 @@ public final class ModelFile {
             col.put("transform", ct.kind().name());
             col.put("shift", ct.shift());
             col.put("scale", ct.scale());
+            if (tr.lowest().containsKey(tr.names().get(c))) {
+                col.put("lowest", tr.lowest().get(tr.names().get(c)));
+            }
+            if (tr.kinds().get(c) == ColumnKind.CATEGORICAL) {
+                ArrayNode labels = col.putArray("categories");
+                tr.categories().get(tr.names().get(c)).forEach(labels::add);
+            }
         }
         NetworkShape s = model.network().shape();
         ObjectNode net = root.putObject("network");
@@ -381,7 +396,8 @@ public final class ModelFile {
                     int32(o, opt, "patience", 0, Integer.MAX_VALUE), logs,
                     JsonFields.whole(JsonFields.field(o, "seed", opt), opt + ".seed", Long.MIN_VALUE, Long.MAX_VALUE),
                     int32(o, opt, "threads", 1, Limits.MAX_THREADS),
-                    version >= 4 ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE);
+                    // optional within version 4 (a file without it was written before the option existed)
+                    version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE);
         } catch (IllegalArgumentException e) {
             // the builder's own validation refused them
             throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);
@@ -392,12 +408,42 @@ public final class ModelFile {
         List<String> names = new ArrayList<>();
         List<ColumnKind> kinds = new ArrayList<>();
         List<ColumnTransform> transforms = new ArrayList<>();
+        Map<String, List<String>> categories = new LinkedHashMap<>();
+        Map<String, Long> lowest = new LinkedHashMap<>();
         for (int c = 0; c < columns.size(); c++) {
             String at = cw + "[" + c + "]";
             JsonNode col = JsonFields.object(columns.get(c), at);
             String name = JsonFields.text(JsonFields.field(col, "name", at), at + ".name");
             names.add(name);
-            kinds.add(constant(col, at, "kind", ColumnKind.class));
+            ColumnKind columnKind = constant(col, at, "kind", ColumnKind.class);
+            kinds.add(columnKind);
+            if (columnKind == ColumnKind.CATEGORICAL) {
+                if (version < 4) {
+                    throw new ModelFileException(at + ".kind", "CATEGORICAL in a file of format version " + version
+                            + "; categorical columns came with version 4");
+                }
+                JsonNode labels = JsonFields.array(JsonFields.field(col, "categories", at), at + ".categories", 1,
+                        org.backstep.table.Table.MAX_CATEGORIES);
+                List<String> list = new ArrayList<>(labels.size());
+                for (int i = 0; i < labels.size(); i++) {
+                    list.add(JsonFields.text(labels.get(i), at + ".categories[" + i + "]"));
+                }
+                categories.put(name, list);
+            } else if (columnKind == ColumnKind.INTEGER && version < 4) {
+                throw new ModelFileException(at + ".kind", "INTEGER in a file of format version " + version
+                        + "; integer columns came with version 4");
+            }
+            if (col.has("lowest")) {
+                if (columnKind != ColumnKind.INTEGER) {
+                    throw new ModelFileException(at + ".lowest", "present on a " + columnKind
+                            + " column; only INTEGER columns have a lowest value");
+                }
+                lowest.put(name, JsonFields.whole(col.get("lowest"), at + ".lowest", 0, 0));
+            }
+            if (columnKind != ColumnKind.CATEGORICAL && col.has("categories")) {
+                throw new ModelFileException(at + ".categories", "present on a " + columnKind
+                        + " column; only CATEGORICAL columns have categories");
+            }
             ColumnTransform.Kind kind = constant(col, at, "transform", ColumnTransform.Kind.class);
             double shift = JsonFields.number(JsonFields.field(col, "shift", at), at + ".shift", -Limits.MAX_SHIFT, Limits.MAX_SHIFT);
             double scale = JsonFields.number(JsonFields.field(col, "scale", at), at + ".scale", Limits.MIN_SCALE, Limits.MAX_SCALE);
@@ -409,7 +455,7 @@ public final class ModelFile {
         }
         TableTransform transform;
         try {
-            transform = TableTransform.of(names, kinds, transforms);
+            transform = TableTransform.of(names, kinds, categories, lowest, transforms);
         } catch (IllegalArgumentException e) {
             throw new ModelFileException(cw, e.getMessage(), e);
         }
@@ -421,13 +467,14 @@ public final class ModelFile {
         }
         int dc = transform.modelledContinuous().length;
         int db = transform.modelledBinary().length;
-        if (dc + db == 0) {
+        if (transform.modelColumns() == 0) {
             throw new ModelFileException(cw, "no column is diffused; a fitted model has at least one");
         }
-        int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
+        int outputs = org.backstep.internal.chain.Chain.outputsOf(options.variance(), transform);
         NetworkShape shape;
         try {
-            shape = new NetworkShape(dc + db, options.hidden(), outputs, options.embeddingSize(), options.stepInput());
+            shape = new NetworkShape(org.backstep.internal.chain.Chain.inputsOf(transform), options.hidden(), outputs,
+                    options.embeddingSize(), options.stepInput());
         } catch (IllegalArgumentException e) {
             throw new ModelFileException("network", e.getMessage(), e);
         }
@@ -461,11 +508,16 @@ public final class ModelFile {
 
         ModelRange range = null;
         if (version >= 3 && root.has("trainingRange")) {
-            range = readRange(root.get("trainingRange"), dc, db);
+            range = readRange(root.get("trainingRange"), dc, db, transform.modelledCategories());
         }
         double[] baselineMean = null;
         double[][] baselineCovariance = null;
         double baselineShrinkage = 0.0;
+        if (root.has("gaussianBaseline") && (options.baseline() != Baseline.FITTED_GAUSSIAN || dc == 0)) {
+            throw new ModelFileException(MANIFEST + " gaussianBaseline", "present, but the model has "
+                    + (dc == 0 ? "no continuous column" : "the baseline " + options.baseline())
+                    + "; only a FITTED_GAUSSIAN baseline over continuous columns has one");
+        }
         if (options.baseline() == Baseline.FITTED_GAUSSIAN && dc > 0) {
             String gw = MANIFEST + " gaussianBaseline";
             JsonNode g = JsonFields.object(JsonFields.field(root, "gaussianBaseline", MANIFEST), gw);
@@ -493,16 +545,17 @@ public final class ModelFile {
                 baselineShrinkage);
     }
 
-    private static ModelRange readRange(JsonNode node, int dc, int db) throws ModelFileException {
+    private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {
         String where = MANIFEST + " trainingRange";
         JsonFields.object(node, where);
-        JsonNode lo = JsonFields.array(JsonFields.field(node, "min", where), where + ".min", dc + db, dc + db);
-        JsonNode hi = JsonFields.array(JsonFields.field(node, "max", where), where + ".max", dc + db, dc + db);
-        double[] min = new double[dc + db];
-        double[] max = new double[dc + db];
+        int d = dc + db + categories.length;
+        JsonNode lo = JsonFields.array(JsonFields.field(node, "min", where), where + ".min", d, d);
+        JsonNode hi = JsonFields.array(JsonFields.field(node, "max", where), where + ".max", d, d);
+        double[] min = new double[d];
+        double[] max = new double[d];
         for (int j = 0; j < min.length; j++) {
-            // binary model columns hold 0 and 1; continuous ones are standardized values
-            double bound = j < dc ? Float.MAX_VALUE : 1.0;
+            // binary model columns hold 0 and 1, categorical ones an index 0..K-1; continuous ones are standardized values
+            double bound = j < dc ? Float.MAX_VALUE : j < dc + db ? 1.0 : categories[j - dc - db] - 1.0;
             double floor = j < dc ? -Float.MAX_VALUE : 0.0;
             min[j] = JsonFields.number(lo.get(j), where + ".min[" + j + "]", floor, bound);
             max[j] = JsonFields.number(hi.get(j), where + ".max[" + j + "]", min[j], bound);

@@ -78,15 +78,18 @@ final class GapFilling {
 
     private final int d;
     private final int dc;
+    /** The first categorical column of a row (d when there is none). */
+    private final int categoricalFrom;
     /** Index in the training rows of each row with a gap, ascending. */
     private final int[] rows;
     /** rows.length x d model-space values, NaN where the cell is missing. */
     private final float[] known;
     private final int cells;
 
-    private GapFilling(int d, int dc, int[] rows, float[] known, int cells) {
+    private GapFilling(int d, int dc, int categoricalFrom, int[] rows, float[] known, int cells) {
         this.d = d;
         this.dc = dc;
+        this.categoricalFrom = categoricalFrom;
         this.rows = rows;
         this.known = known;
         this.cells = cells;
@@ -100,6 +103,14 @@ final class GapFilling {
      * @return the rows with a gap, their observed cells and where their gaps are
      */
     static GapFilling of(float[] x0, int n, int d, int dc) {
+        return of(x0, n, d, dc, d);
+    }
+
+    /**
+     * As {@link #of(float[], int, int, int)} with categorical columns from {@code categoricalFrom} on,
+     * whose gaps start as a draw of the column's observed categories (their empirical distribution).
+     */
+    static GapFilling of(float[] x0, int n, int d, int dc, int categoricalFrom) {
         int[] idx = new int[n];
         int count = 0;
         int cells = 0;
@@ -120,7 +131,7 @@ final class GapFilling {
         for (int i = 0; i < count; i++) {
             System.arraycopy(x0, rows[i] * d, known, i * d, d);
         }
-        return new GapFilling(d, dc, rows, known, cells);
+        return new GapFilling(d, dc, categoricalFrom, rows, known, cells);
     }
 
     /**
@@ -181,6 +192,22 @@ final class GapFilling {
                 }
             }
             double sd = Math.sqrt(squares / observed);
+            if (j >= categoricalFrom) {
+                float[] seen = new float[observed];
+                for (int r = 0, m = 0; r < n; r++) {
+                    float v = x0[r * d + j];
+                    if (!Float.isNaN(v)) {
+                        seen[m++] = v;
+                    }
+                }
+                for (int i : rows) {
+                    int at = i * d + j;
+                    if (Float.isNaN(x0[at])) {
+                        x0[at] = seen[rng.nextInt(observed)];
+                    }
+                }
+                continue;
+            }
             for (int i : rows) {
                 int at = i * d + j;
                 if (Float.isNaN(x0[at])) {

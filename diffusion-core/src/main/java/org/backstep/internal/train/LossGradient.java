@@ -20,6 +20,7 @@ import org.nd4j.linalg.factory.Nd4j;
  *   continuous cell, HYBRID:  (eps-hat - eps)^2 + lambda T L_{t-1}, the bound part
  *                             reaching only v                               (Nichol &amp; Dhariwal 2021, sec. 3.1)
  *   binary cell:              T L_{t-1}  (Bernoulli KL, or cross-entropy at t = 1)
+ *   categorical cell:         T L_{t-1}  (categorical KL, or cross-entropy at t = 1; Hoogeboom et al. 2021, sec. 4)
  * </pre>
  * times 1/(T p_t) under importance sampling, averaged over the minibatch. A cell filled in for a
  * missing one ({@link GapFilling}) has no term: it is an input of the network, not a target (the
@@ -37,6 +38,7 @@ final class LossGradient implements ParallelStep.LossGradient {
     private final boolean learned;
     private final int dc;
     private final int db;
+    private final int dk;
     private final int outputs;
     private final int logitOffset;
     private final double steps;
@@ -60,6 +62,7 @@ final class LossGradient implements ParallelStep.LossGradient {
         this.learned = options.variance() == ReverseVariance.LEARNED;
         this.dc = chain.continuousColumns();
         this.db = chain.binaryColumns();
+        this.dk = chain.categoricalColumns();
         this.outputs = chain.outputs();
         this.logitOffset = chain.logitOffset();
         this.steps = chain.steps();
@@ -88,10 +91,19 @@ final class LossGradient implements ParallelStep.LossGradient {
         float[] out = output.dup('c').data().asFloat();
         float[] grad = new float[rows * outputs];
         double[] partials = new double[2];
-        int d = dc + db;
-        double[] scratch = new double[dc];
+        int d = dc + db + dk;
+        int[] cats = chain.categories();
+        double[][] logits = new double[dk][];
+        double[][] gradient = new double[dk][];
+        for (int j = 0; j < dk; j++) {
+            logits[j] = new double[cats[j]];
+            gradient[j] = new double[cats[j]];
+        }
         if (baseline != null) {
-            // epsilon-hat and v are the closed form plus the network's output: d loss / d output is unchanged
+            // epsilon-hat and v are the closed form plus the network's output: d loss / d output is
+            // unchanged. The closed form reads the continuous cells of the model-space x_t, the
+            // first dc of each row of width d (never the one-hot encoded network input).
+            double[] scratch = new double[dc];
             for (int i = 0; i < rows; i++) {
                 int r = rowOffset + i;
                 baseline.addToRowInPlace(xt, r * d, chain.source(k[r]), out, i * outputs, learned, scratch);
@@ -113,7 +125,7 @@ final class LossGradient implements ParallelStep.LossGradient {
                 }
                 double eh = out[oo + j];
                 double v = learned ? out[oo + dc + j] : 0.0;
-                double term = BoundTerms.continuous(chain, s, x0[o + j], xt[o + j], eh, v, partials);
+                double term = BoundTerms.continuousCell(chain, s, j, x0[o + j], xt[o + j], eh, v, partials);
                 double dMean = partials[0];
                 double dLogVar = partials[1];
                 bound += term;
@@ -152,6 +164,22 @@ final class LossGradient implements ParallelStep.LossGradient {
                 bound += term;
                 rowLoss += steps * term;
                 grad[oo + logitOffset + j] = (float) (w * steps * partials[0]);
+            }
+            for (int j = 0; j < dk; j++) {
+                int at = o + dc + db + j;
+                if (filled != null && filled[at]) {
+                    continue;
+                }
+                int first = chain.categoricalLogitOffset(j);
+                for (int c = 0; c < cats[j]; c++) {
+                    logits[j][c] = out[oo + first + c];
+                }
+                double term = BoundTerms.categorical(chain, s, j, (int) x0[at], (int) xt[at], logits[j], gradient[j]);
+                bound += term;
+                rowLoss += steps * term;
+                for (int c = 0; c < cats[j]; c++) {
+                    grad[oo + first + c] = (float) (w * steps * gradient[j][c]);
+                }
             }
             rowBound[r] = bound;
             total += w * rowLoss;

@@ -34,6 +34,8 @@ final class TrainingRows {
     final TableTransform transform;
     final int dc;
     final int db;
+    /** K of each modelled categorical column. */
+    int[] categories = new int[0];
     final float[] x0;
     final int n;
     /** The checkpoint rows in model space, or null when there are none. */
@@ -58,7 +60,9 @@ final class TrainingRows {
                         + table.names());
             }
             if (table.kind(table.indexOf(name)) != ColumnKind.CONTINUOUS) {
-                throw new IllegalArgumentException("logColumns names '" + name + "', which is binary; only continuous columns take a log scale");
+                throw new IllegalArgumentException("logColumns names '" + name + "', which is "
+                        + table.kind(table.indexOf(name)).name().toLowerCase(java.util.Locale.ROOT)
+                        + "; only continuous columns take a log scale");
             }
         }
         table = leaveOutUnscorable(options, table, "", notes);
@@ -94,6 +98,7 @@ final class TrainingRows {
             transform = fitTransform(table, options);
             dc = transform.modelledContinuous().length;
             db = transform.modelledBinary().length;
+            categories = transform.modelledCategories();
             x0 = Engine.toFloat(transform.toModelSpace(complete));
             n = complete.rows();
             gaps = null;
@@ -118,9 +123,10 @@ final class TrainingRows {
             transform = fitTransform(table, options);
             dc = transform.modelledContinuous().length;
             db = transform.modelledBinary().length;
+            categories = transform.modelledCategories();
             n = train.rows();
             x0 = Engine.toFloat(transform.toModelSpace(train));
-            GapFilling found = GapFilling.of(x0, n, dc + db, dc);
+            GapFilling found = GapFilling.of(x0, n, dc + db + categories.length, dc, dc + db);
             gaps = found.rowCount() == 0 ? null : found;
             if (gaps == null) {
                 notes.add("the missing cells of the training rows all lie in constant columns, which are not"
@@ -207,7 +213,7 @@ final class TrainingRows {
 
     /** @return D, the width of a model-space row */
     int width() {
-        return dc + db;
+        return dc + db + categories.length;
     }
 
     /**

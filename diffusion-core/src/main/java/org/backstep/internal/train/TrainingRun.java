@@ -88,6 +88,7 @@ public final class TrainingRun implements AutoCloseable {
     private final INDArray xtArray;
     private final float[] xb;
     private final float[] xt;
+    private final float[] encoded;     // batch x inputs, the one-hot input when there are categorical columns
     private final float[] eps;
     private final int[] k;
     private final int[] src;
@@ -144,15 +145,15 @@ public final class TrainingRun implements AutoCloseable {
         xv = prepared.checkpoint;
         nv = prepared.checkpointCount;
         gaps = prepared.gaps;
-        d = dc + db;
+        d = prepared.width();
         steps = options.steps();
-        int outputs = dc * (options.variance() == ReverseVariance.LEARNED ? 2 : 1) + db;
-        shape = new NetworkShape(d, options.hidden(), outputs, options.embeddingSize(), options.stepInput());
+        int outputs = Chain.outputsOf(options.variance(), transform);
+        shape = new NetworkShape(Chain.inputsOf(transform), options.hidden(), outputs, options.embeddingSize(),
+                options.stepInput());
         baseline = GaussianBaseline.fit(options.baseline(), x0, n, d, dc, options.continuousSchedule());
         learned = options.variance() == ReverseVariance.LEARNED;
         net = ReverseNetwork.create(shape, steps, options.seed(), baseline != null);
-        chain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                options.variance(), new NetworkEstimator(net, baseline, learned));
+        chain = Chain.of(options, transform, new NetworkEstimator(net, baseline, learned));
 
         batch = Math.min(options.batchSize(), n);
         batchesPerEpoch = n / batch;
@@ -193,7 +194,8 @@ public final class TrainingRun implements AutoCloseable {
         rng = new SplittableRandom(options.seed());
         sampler = new StepSampler(steps, options.stepSampling());
         terms = new LossGradient(chain, options, batch, baseline);
-        xtArray = Nd4j.create(DataType.FLOAT, batch, d);
+        xtArray = Nd4j.create(DataType.FLOAT, batch, chain.inputs());
+        encoded = chain.inputs() == d ? null : new float[batch * chain.inputs()];
         xb = new float[batch * d];
         xt = new float[batch * d];
         eps = new float[batch * Math.max(1, dc)];
@@ -241,7 +243,12 @@ public final class TrainingRun implements AutoCloseable {
                 weight[r] = sampler.weight(k[r]);
             }
             chain.diffuse(xb, batch, k, xt, eps, rng);
-            xtArray.data().setData(xt);
+            if (encoded == null) {
+                xtArray.data().setData(xt);
+            } else {
+                chain.encodeInput(xt, batch, encoded);
+                xtArray.data().setData(encoded);
+            }
             terms.prepare(xb, xt, eps, k, weight, filledBatch);
             double rate = timed
                     ? options.learningRateSchedule().rate(options.learningRate(), updateNanos, budgetNanos)
@@ -283,8 +290,7 @@ public final class TrainingRun implements AutoCloseable {
         if (xv != null && (due || last)) {
             float[] avg = ema.average();
             ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
-            Chain evalChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                    options.variance(), new NetworkEstimator(averaged, baseline, learned));
+            Chain evalChain = Chain.of(options, transform, new NetworkEstimator(averaged, baseline, learned));
             BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
                     options.seed() + 1, options.threads());
             double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
@@ -325,8 +331,7 @@ public final class TrainingRun implements AutoCloseable {
      */
     private void refillGaps() {
         ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, ema.average());
-        Chain averagedChain = new Chain(options.continuousSchedule(), options.binarySchedule(), dc, db,
-                options.variance(), new NetworkEstimator(averaged, baseline, learned));
+        Chain averagedChain = Chain.of(options, transform, new NetworkEstimator(averaged, baseline, learned));
         gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills);
         refills++;
     }
