@@ -5,6 +5,7 @@ import org.backstep.internal.train.Trainer;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
 import org.backstep.option.Limits;
+import org.backstep.option.Baseline;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.ScheduleFamily;
 import org.backstep.option.StepSampling;
@@ -75,6 +76,7 @@ public final class Backstep {
         private int embeddingSize = Defaults.EMBEDDING_SIZE;
         private StepInput stepInput = Defaults.STEP_INPUT;
         private ReverseVariance variance = Defaults.VARIANCE;
+        private Baseline baseline = Defaults.BASELINE;
         private TrainingLoss loss = Defaults.LOSS;
         private double hybridWeight = Defaults.HYBRID_WEIGHT;
         private StepSampling stepSampling = Defaults.STEP_SAMPLING;
@@ -157,6 +159,19 @@ public final class Backstep {
         public Builder variance(ReverseVariance variance) {
             Require.notNull("variance", variance);
             this.variance = variance;
+            return this;
+        }
+
+        /**
+         * The closed-form part of the reverse model that the network corrects (see {@link Baseline});
+         * default {@link Defaults#BASELINE}.
+         *
+         * @param baseline the choice
+         * @return this
+         */
+        public Builder baseline(Baseline baseline) {
+            Require.notNull("baseline", baseline);
+            this.baseline = baseline;
             return this;
         }
 
@@ -342,7 +357,7 @@ public final class Backstep {
             return new FitOptions(cont, bin, hidden, embeddingSize, stepInput, variance, loss, hybridWeight,
                     stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
                     batchSize, epochs, trainingSteps, checkpointFraction, evaluateEvery, evaluations, checkpointDraws, patience,
-                    logColumns, seed, threads);
+                    logColumns, seed, threads, baseline);
         }
 
         /**

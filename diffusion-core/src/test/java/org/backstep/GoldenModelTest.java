@@ -2,6 +2,9 @@ package org.backstep;
 
 import org.backstep.internal.store.ModelFile;
 import org.backstep.internal.chain.Estimator;
+import org.backstep.internal.chain.GaussianBaseline;
+import org.backstep.option.Baseline;
+import org.backstep.option.ReverseVariance;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.option.FitOptions;
 import org.backstep.report.BoundReport;
@@ -72,17 +75,28 @@ class GoldenModelTest {
 
     static final String FOLDER = "golden";
     /** The golden files of format version v: the model, the figures expected of it, its training table. */
-    static String model(int v) {
-        return "model-v" + v + ".backstep";
+    static String model(String golden) {
+        return golden + ".backstep";
     }
 
-    static String expected(int v) {
-        return "model-v" + v + "-expected.json";
+    static String expected(String golden) {
+        return golden + "-expected.json";
     }
 
-    static String training(int v) {
-        return "model-v" + v + "-training.csv";
+    static String training(String golden) {
+        return golden + "-training.csv";
     }
+
+    /** The format version of a golden file's stem: "model-v4-baseline" is version 4. */
+    static int versionOf(String golden) {
+        String rest = golden.substring("model-v".length());
+        int end = rest.indexOf('-');
+        return Integer.parseInt(end < 0 ? rest : rest.substring(0, end));
+    }
+
+    // The golden files: one per format version, and two for version 4, which holds two sets of new
+    // entries (integer/categorical columns, the closed-form part): model-v4 has no baseline,
+    // model-v4-baseline was fitted with Baseline.FITTED_GAUSSIAN.
     /** Seeds of the golden figures. */
     static final long FIT_SEED = 20260;
     static final long BOUND_SEED = 11;
@@ -93,12 +107,13 @@ class GoldenModelTest {
 
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
-    @ParameterizedTest(name = "format version {0}")
-    @ValueSource(ints = {1, 2, 3, 4})
-    void goldenModelStillLoadsAndGivesTheSameNumbers(int version) throws Exception {
-        String MODEL = model(version);
-        String TRAINING = training(version);
-        JsonNode expected = JSON.readTree(resource(expected(version)));
+    @ParameterizedTest(name = "{0}")
+    @ValueSource(strings = {"model-v1", "model-v2", "model-v3", "model-v4", "model-v4-baseline"})
+    void goldenModelStillLoadsAndGivesTheSameNumbers(String golden) throws Exception {
+        int version = versionOf(golden);
+        String MODEL = model(golden);
+        String TRAINING = training(golden);
+        JsonNode expected = JSON.readTree(resource(expected(golden)));
         Path file = Path.of(resource(MODEL).toURI());
 
         // the container: the three entries of every format version (ModelFile's Javadoc)
@@ -119,6 +134,11 @@ class GoldenModelTest {
         assertEquals(FIT_SEED, o.seed());
         assertEquals(expected.path("options").path("variance").asText(), o.variance().name());
         assertEquals(expected.path("options").path("loss").asText(), o.loss().name());
+        // version 4 added the closed-form part (model-v4-baseline uses the fitted Gaussian, model-v4 none);
+        // older files have none
+        JsonNode eo = expected.path("options");
+        assertEquals(version >= 4 && eo.has("baseline") ? eo.path("baseline").asText() : "NONE", o.baseline().name());
+        assertEquals(golden.endsWith("-baseline"), o.baseline() != Baseline.NONE, "the baseline golden file has one");
         assertEquals(List.of("supply_c", "return_c", "door_open"), model.transform().names());
         assertEquals(List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.BINARY), model.transform().kinds());
 
@@ -178,18 +198,19 @@ class GoldenModelTest {
         }
     }
 
-    @ParameterizedTest(name = "format version {0}")
-    @ValueSource(ints = {1, 2, 3, 4})
-    void goldenFiguresHoldForADoublePrecisionNetwork(int version) throws Exception {
-        String EXPECTED = expected(version);
-        String MODEL = model(version);
+    @ParameterizedTest(name = "{0}")
+    @ValueSource(strings = {"model-v1", "model-v2", "model-v3", "model-v4", "model-v4-baseline"})
+    void goldenFiguresHoldForADoublePrecisionNetwork(String golden) throws Exception {
+        String EXPECTED = expected(golden);
+        String MODEL = model(golden);
         // The same weights evaluated by DoubleReference (plain double loops written from the
         // network's documented formula) instead of ND4J's float32 kernels: what is left is float32
         // rounding, which is what differs between machines. It must fit well inside the tolerance.
         JsonNode expected = JSON.readTree(resource(EXPECTED));
         DiffusionModel model = DiffusionModel.load(Path.of(resource(MODEL).toURI()));
         DiffusionModel reference = DiffusionModel.withEstimator(model.options(), model.transform(),
-                doublePrecision(model.parts().network().shape(), model.parts().network().parameters()));
+                withBaseline(doublePrecision(model.parts().network().shape(), model.parts().network().parameters()),
+                        model.parts().baseline(), model.options().variance() == ReverseVariance.LEARNED));
         double tol = REFERENCE_SHARE * GOLDEN_REL_TOL;
         Table records = recordsOf(expected.path("records"), model);
         assertClose(doubles(expected.path("boundNats")), reference.bound(records, expected.path("boundSeed").asLong()).nats(),
@@ -241,9 +262,15 @@ class GoldenModelTest {
         Path folder = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
                 .resolve("src/test/resources").resolve(FOLDER);
         Files.createDirectories(folder);
-        String TRAINING = training(ModelFile.VERSION);
-        String MODEL = model(ModelFile.VERSION);
-        String EXPECTED = expected(ModelFile.VERSION);
+        // the current version's two golden models: without and with the closed-form part
+        regenerate(folder, "model-v" + ModelFile.VERSION, Baseline.NONE);
+        regenerate(folder, "model-v" + ModelFile.VERSION + "-baseline", Baseline.FITTED_GAUSSIAN);
+    }
+
+    private static void regenerate(Path folder, String golden, Baseline baseline) throws Exception {
+        String TRAINING = training(golden);
+        String MODEL = model(golden);
+        String EXPECTED = expected(golden);
 
         Table training = sensorTable(300, 5);
         CsvTables.writer().write(training, folder.resolve(TRAINING));
@@ -252,7 +279,7 @@ class GoldenModelTest {
 
         DiffusionModel fitted = Backstep.builder().continuousSchedule(goldenSchedule()).hidden(16, 16)
                 .timeEmbedding(8, StepInput.EVERY_BLOCK).epochs(EPOCHS).batchSize(64).learningRate(3e-3)
-                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).fit(back);
+                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).baseline(baseline).fit(back);
         Path modelFile = folder.resolve(MODEL);
         fitted.save(modelFile);
         DiffusionModel model = DiffusionModel.load(modelFile);
@@ -268,6 +295,9 @@ class GoldenModelTest {
         ObjectNode opts = root.putObject("options");
         opts.put("variance", model.options().variance().name());
         opts.put("loss", model.options().loss().name());
+        if (baseline != Baseline.NONE) {
+            opts.put("baseline", model.options().baseline().name());
+        }
         ObjectNode rec = root.putObject("records");
         ArrayNode names = rec.putArray("names");
         records.names().forEach(names::add);
@@ -311,6 +341,39 @@ class GoldenModelTest {
         ArrayNode notes = prov.putArray("notes");
         p.notes().forEach(notes::add);
         Files.write(folder.resolve(EXPECTED), JSON.writeValueAsBytes(root));
+    }
+
+    /** The estimator plus the model's closed-form part, as the model's own NetworkEstimator adds it. */
+    static Estimator withBaseline(Estimator inner, GaussianBaseline baseline, boolean learned) {
+        if (baseline == null) {
+            return inner;
+        }
+        return new Estimator() {
+            @Override
+            public int inputs() {
+                return inner.inputs();
+            }
+
+            @Override
+            public int outputs() {
+                return inner.outputs();
+            }
+
+            @Override
+            public GaussianBaseline baseline() {
+                return baseline;
+            }
+
+            @Override
+            public void predict(INDArray xt, int[] steps, INDArray out) {
+                inner.predict(xt, steps, out);
+                int rows = (int) xt.rows();
+                float[] x = xt.dup('c').data().asFloat();
+                float[] o = out.dup('c').data().asFloat();
+                baseline.addInPlace(x, inputs(), steps, o, outputs(), rows, learned);
+                out.assign(org.nd4j.linalg.factory.Nd4j.create(o, new long[] {rows, outputs()}, 'c'));
+            }
+        };
     }
 
     /**

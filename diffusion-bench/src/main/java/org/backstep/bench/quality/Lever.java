@@ -5,6 +5,7 @@ import java.util.Arrays;
 import java.util.List;
 import java.util.Set;
 
+import org.backstep.option.Baseline;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
@@ -25,15 +26,31 @@ enum Lever {
     /** The continuous columns standardized, then whitened by the training covariance. */
     WHITENED("whitened"),
     /** Normal scores, then whitened by the scores' training covariance (a Gaussian copula's space). */
-    NORMAL_SCORES_WHITENED("scores+whitened");
+    NORMAL_SCORES_WHITENED("scores+whitened"),
+    /** The table as it is, fitted with the closed-form part of N(0, I) data (Baseline.STANDARD_NORMAL). */
+    STANDARD_NORMAL_PART("N(0,I) part", Baseline.STANDARD_NORMAL),
+    /**
+     * Whitened as WHITENED, fitted with the N(0, I) part: a zero network is then the Gaussian fitted
+     * on the training rows (diffusion in the whitened space).
+     */
+    WHITENED_STANDARD_NORMAL_PART("whitened+N(0,I) part", Baseline.STANDARD_NORMAL),
+    /** The table as it is, fitted with the closed form of the fitted Gaussian (Baseline.FITTED_GAUSSIAN). */
+    FITTED_GAUSSIAN_PART("fitted Gaussian part", Baseline.FITTED_GAUSSIAN);
 
     /** The bandwidth of NORMAL_SCORES: Silverman's rule itself (no choice made on the test tables). */
     static final double BANDWIDTH_MULTIPLE = 1.0;
 
     final String label;
+    /** The closed-form part the lever fits Backstep with. */
+    final Baseline baseline;
 
     Lever(String label) {
+        this(label, Baseline.NONE);
+    }
+
+    Lever(String label, Baseline baseline) {
         this.label = label;
+        this.baseline = baseline;
     }
 
     /**
@@ -44,10 +61,10 @@ enum Lever {
      */
     Encoding fit(Table train) {
         return switch (this) {
-            case DEFAULTS -> new Encoding(this, null, null, train);
+            case DEFAULTS, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART -> new Encoding(this, null, null, train);
             case NORMAL_SCORES -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
-            case WHITENED, NORMAL_SCORES_WHITENED -> {
-                TableTransform columns = this == WHITENED ? TableTransform.fit(train, Set.of())
+            case WHITENED, NORMAL_SCORES_WHITENED, WHITENED_STANDARD_NORMAL_PART -> {
+                TableTransform columns = this != NORMAL_SCORES_WHITENED ? TableTransform.fit(train, Set.of())
                         : TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE);
                 int nc = columns.modelledContinuous().length;
                 double[][] y = columns.toModelSpace(train);
@@ -97,6 +114,11 @@ enum Lever {
                 names = List.copyOf(n);
                 kinds = List.copyOf(k);
             }
+        }
+
+        /** @return whether the encoding is the identity (the table as it is) */
+        boolean identity() {
+            return columns == null;
         }
 
         /** @return whether imputation can run on the encoded table (not when columns are mixed) */

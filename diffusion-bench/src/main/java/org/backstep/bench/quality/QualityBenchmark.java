@@ -53,7 +53,9 @@ import org.backstep.table.Table;
  * </ul>
  *
  * <p>Usage: {@code QualityBenchmark --baselines FILE --data DIR --labels DIR [--out FILE]
- * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--bound-seeds 5]}.
+ * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--only-levers A,B]
+ * [--density-only] [--no-anomaly] [--bound-seeds 5]} ({@code --density-only}: no imputation and no
+ * anomaly ranks; {@code --no-anomaly}: no anomaly ranks).
  * Progress goes to standard error; the table to standard output and, with {@code --out}, to a file.
  */
 public final class QualityBenchmark {
@@ -108,7 +110,9 @@ public final class QualityBenchmark {
         Path labels = Path.of(required(opt, "--labels"));
         int boundSeeds = Integer.parseInt(opt.getOrDefault("--bound-seeds", "5"));
         List<Long> seeds = seeds(opt.getOrDefault("--seeds", "1"));
-        List<Lever> levers = opt.containsKey("--levers") ? List.of(Lever.values()) : List.of(Lever.DEFAULTS);
+        List<Lever> levers = opt.containsKey("--only-levers")
+                ? Arrays.stream(opt.get("--only-levers").split(",")).map(String::strip).map(Lever::valueOf).toList()
+                : opt.containsKey("--levers") ? List.of(Lever.values()) : List.of(Lever.DEFAULTS);
         List<String> tableKeys = opt.containsKey("--tables") ? List.of(opt.get("--tables").split(","))
                 : OpenTable.ALL.stream().map(OpenTable::key).toList();
         JsonNode baselines = new ObjectMapper().readTree(Files.readString(baselinesFile, StandardCharsets.UTF_8));
@@ -135,7 +139,8 @@ public final class QualityBenchmark {
                     if (lever != Lever.DEFAULTS && split.train().continuousColumns().length == 0) {
                         continue; // every lever maps continuous columns; the table has none
                     }
-                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines);
+                    Run run = measure(split, lever, own.get(si), boundSeeds, baselines, opt.containsKey("--density-only"),
+                            opt.containsKey("--density-only") || opt.containsKey("--no-anomaly"));
                     runs.add(run);
                     runLines.append(runLine(run)).append('\n');
                     System.err.printf(Locale.ROOT, "%s, %s, seed %d: %.3f nats (rec sd %.3f), rmse %.3f, auroc %.4f, fit %.1f s%n",
@@ -154,12 +159,13 @@ public final class QualityBenchmark {
         }
     }
 
-    static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines) {
+    static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines,
+                       boolean densityOnly, boolean noAnomaly) {
         Table train = split.train();
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
         long t0 = System.nanoTime();
-        DiffusionModel model = Backstep.builder().seed(seed).fit(enc.encode(train));
+        DiffusionModel model = Backstep.builder().seed(seed).baseline(lever.baseline).fit(enc.encode(train));
         double fitSeconds = (System.nanoTime() - t0) / 1e9;
 
         // density, in SOURCES.md's space
@@ -193,7 +199,7 @@ public final class QualityBenchmark {
         double coverage = Double.NaN;
         double expected = Double.NaN;
         double imputeSeconds = Double.NaN;
-        if (enc.imputes()) {
+        if (enc.imputes() && !densityOnly) {
             List<int[]> hidden = new ArrayList<>();
             for (JsonNode cell : baselines.path("tables").path(split.table().key()).path("imputation").path("hidden")) {
                 hidden.add(new int[] {cell.get(0).asInt(), cell.get(1).asInt()});
@@ -213,7 +219,7 @@ public final class QualityBenchmark {
             double[][] mean;
             double[][] lower;
             double[][] upper;
-            if (lever == Lever.DEFAULTS) {
+            if (enc.identity()) {
                 mean = imp.mean().toArray();
                 lower = imp.lower().toArray();
                 upper = imp.upper().toArray();
@@ -257,11 +263,11 @@ public final class QualityBenchmark {
         double r95 = Double.NaN;
         double aurocBound = Double.NaN;
         double anomalyFit = Double.NaN;
-        if (split.labels() != null) {
+        if (split.labels() != null && !noAnomaly) {
             Table normalTrain = split.normalTrain();
             Lever.Encoding encA = lever.fit(normalTrain);
             long a0 = System.nanoTime();
-            DiffusionModel ma = Backstep.builder().seed(seed).fit(encA.encode(normalTrain));
+            DiffusionModel ma = Backstep.builder().seed(seed).baseline(lever.baseline).fit(encA.encode(normalTrain));
             anomalyFit = (System.nanoTime() - a0) / 1e9;
             Table screened = split.screened();
             int nn = split.screenedNormal();
@@ -327,7 +333,7 @@ public final class QualityBenchmark {
             if (!a.startsWith("--")) {
                 throw new IllegalArgumentException("argument " + (i + 1) + " is '" + a + "'; expected an option --NAME");
             }
-            if (a.equals("--levers")) {
+            if (a.equals("--levers") || a.equals("--density-only") || a.equals("--no-anomaly")) {
                 out.put(a, "");
             } else {
                 if (i + 1 >= args.length) {

@@ -85,7 +85,9 @@ final class SideBySide {
                                 + "  after a transform of org.backstep.table fitted on the training rows (normal scores: NORMAL_SCORES%n"
                                 + "  with Silverman's bandwidth; whitened: standardized, then Whitening by the training covariance);%n"
                                 + "  nats are taken back to the caller's units by the transform's exact log-Jacobian. A whitened%n"
-                                + "  table mixes columns, so those rows have no imputation.%n")
+                                + "  table mixes columns, so those rows have no imputation. N(0,I) part, fitted Gaussian part: fitted with%n"
+                                + "  .baseline(STANDARD_NORMAL or FITTED_GAUSSIAN), the closed-form reverse model of that Gaussian plus the%n"
+                                + "  network's correction (org.backstep.option.Baseline); whitened+N(0,I) part: both.%n")
                         : ""));
         return out.toString();
     }

@@ -223,6 +223,95 @@ public final class BoundTerms {
         }
     }
 
+    /**
+     * The expectation over x_k ~ q(x_k | x_0) of the continuous cells' term L_{k-1} of the model
+     * whose network outputs zero (the baseline alone), per row, added into {@code out}. The
+     * baseline's epsilon-hat is linear, A (x_k - sqrt(abar_k) m), so the difference of the means
+     * in {@link #continuous} is linear in the noise e of x_k = sqrt(abar_k) x_0 + sqrt(1 - abar_k) e:
+     * <pre>
+     *   diff = mq - mp = a + sqrt(1 - abar_k) M e,   M = (ct - 1/sqrt(alpha_k)) I + g A,  g = epsCoef_k / sqrt(alpha_k)
+     *   a    = (c0 + (ct - 1/sqrt(alpha_k)) sqrt(abar_k)) x_0 + g sqrt(abar_k) A (x_0 - m)
+     *   E[diff_j^2] = a_j^2 + (1 - abar_k) sum_i M_ji^2
+     * </pre>
+     * with (c0, ct) the posterior mean's coefficients for k &gt; 1, and the decoder's diff = x_0 - mp
+     * at k = 1 (c0 = 1, ct = 0); the variance terms do not depend on x_k. (Gaussian expectation of
+     * a quadratic; common practice, no source.)
+     *
+     * @param gain A at the chain step's source step ({@link GaussianBaseline#gain})
+     * @param v the baseline's v per column at that source step
+     */
+    static void expectedBaselineRows(Chain c, int k, double[][] gain, double[] v, double[] m, float[] x0, int rows,
+                                     double[] out) {
+        int dc = c.dc;
+        double sa = c.sqrtAbar[k];
+        double so2 = 1.0 - sa * sa;
+        double g = c.epsCoef[k] / c.sqrtAlpha[k];
+        double c0 = k == 1 ? 1.0 : c.coefX0[k];
+        double ct = k == 1 ? 0.0 : c.coefXt[k];
+        double diag = ct - 1.0 / c.sqrtAlpha[k];
+        double[] noise = new double[dc];
+        double[] lv = new double[dc];
+        for (int j = 0; j < dc; j++) {
+            double ss = 0.0;
+            for (int i = 0; i < dc; i++) {
+                double mji = g * gain[j][i] + (i == j ? diag : 0.0);
+                ss += mji * mji;
+            }
+            noise[j] = so2 * ss;
+            lv[j] = c.reverseLogVariance(k, c.variance == ReverseVariance.LEARNED ? v[j] : 0.0);
+        }
+        double lq = c.logVarClipped[k];
+        double[] centred = new double[dc];
+        boolean[] skip = new boolean[dc];
+        for (int j = 0; j < dc; j++) {
+            // an integer column's decoder is a discretized Gaussian's mass: not this expectation
+            skip[j] = k == 1 && c.decoders[j] != null;
+        }
+        for (int r = 0; r < rows; r++) {
+            int o = r * c.d;
+            for (int i = 0; i < dc; i++) {
+                centred[i] = x0[o + i] - m[i];
+            }
+            double total = 0.0;
+            for (int j = 0; j < dc; j++) {
+                if (skip[j]) {
+                    continue;
+                }
+                double ax = 0.0;
+                for (int i = 0; i < dc; i++) {
+                    ax += gain[j][i] * centred[i];
+                }
+                double a = (c0 + diag * sa) * x0[o + j] + g * sa * ax;
+                double e2 = a * a + noise[j];
+                double precision = Math.exp(-lv[j]);
+                total += k == 1 ? 0.5 * (LOG_2PI + lv[j] + e2 * precision)
+                        : 0.5 * (lv[j] - lq + (Math.exp(lq) + e2) * precision - 1.0);
+            }
+            out[r] += total;
+        }
+    }
+
+    /**
+     * Subtracts from {@code contOut} the decoder terms (chain step 1) of the integer columns, those
+     * with a discretized decoder, per row: what {@link #rowTerms} added for them and
+     * {@link #expectedBaselineRows} leaves out.
+     */
+    static void subtractDiscretizedDecoderRows(Chain c, float[] x0, float[] xt, float[] out, int rows,
+                                               double[] contOut) {
+        boolean learned = c.variance == ReverseVariance.LEARNED;
+        for (int j = 0; j < c.dc; j++) {
+            if (c.decoders[j] == null) {
+                continue;
+            }
+            for (int r = 0; r < rows; r++) {
+                int o = r * c.d;
+                int oo = r * c.outputs;
+                double v = learned ? out[oo + c.dc + j] : 0.0;
+                contOut[r] -= continuousCell(c, 1, j, x0[o + j], xt[o + j], out[oo + j], v, null);
+            }
+        }
+    }
+
     /** The prior terms L_T per row, added into contOut and binOut. */
     static void priorRows(Chain c, float[] x0, int rows, double[] contOut, double[] binOut) {
         for (int r = 0; r < rows; r++) {

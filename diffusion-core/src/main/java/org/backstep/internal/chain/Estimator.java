@@ -34,4 +34,12 @@ public interface Estimator {
      * @param out rows x {@link #outputs()} float32, written in place
      */
     void predict(INDArray xt, int[] steps, INDArray out);
+
+    /**
+     * @return the closed-form part ({@link GaussianBaseline}) that the predictions include, or null
+     *     (the default); the exact bound uses it as a control variate
+     */
+    default GaussianBaseline baseline() {
+        return null;
+    }
 }

@@ -69,8 +69,25 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
      */
     public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
                                        Provenance provenance, ModelRange range) {
+        return ofNetwork(options, transform, network, null, provenance, range);
+    }
+
+    /**
+     * @param network a trained network
+     * @param baseline the closed-form part the network corrects, or null for none
+     * @param range the training rows' range in model space
+     * @return the parts of a model over that network and baseline
+     */
+    public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
+                                       GaussianBaseline baseline, Provenance provenance, ModelRange range) {
         Require.notNull("network", network);
-        return new ModelParts(options, transform, network, new NetworkEstimator(network), provenance, range);
+        return new ModelParts(options, transform, network, new NetworkEstimator(network, baseline,
+                options.variance() == org.backstep.option.ReverseVariance.LEARNED), provenance, range);
+    }
+
+    /** @return the closed-form part of the estimator, or null when it has none */
+    public GaussianBaseline baseline() {
+        return estimator.baseline();
     }
 
     /** @return the full reverse chain of these parts */

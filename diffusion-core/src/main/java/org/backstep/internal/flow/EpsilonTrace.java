@@ -1,6 +1,7 @@
 package org.backstep.internal.flow;
 
 import org.backstep.internal.chain.Estimator;
+import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.internal.net.NetworkTangents;
@@ -9,7 +10,8 @@ import org.backstep.internal.net.NetworkTangents;
  * The trace of the Jacobian of epsilon-hat over the continuous columns,
  * {@code tr(d eps-hat / d x_t) = sum_{c < Dc} d eps-hat_c(x_t, t) / d x_t,c}, per record: the
  * divergence the flow likelihood integrates (Song et al. 2021, eq. 39). An exact estimator of a
- * test implements this interface itself; a trained network gets it from {@link NetworkTangents}.
+ * test implements this interface itself; a trained network gets it from {@link NetworkTangents},
+ * plus tr(A_t) of its closed-form part ({@link GaussianBaseline#trace}) when the model has one.
  */
 public interface EpsilonTrace {
 
@@ -38,7 +40,18 @@ public interface EpsilonTrace {
         }
         if (parts.network() != null && e.getClass() == NetworkEstimator.class) {
             NetworkTangents tangents = new NetworkTangents(parts.network(), parts.transform().modelledContinuous().length);
-            return tangents::traces;
+            GaussianBaseline baseline = e.baseline();
+            if (baseline == null || baseline.continuousColumns() == 0) {
+                return tangents::traces;
+            }
+            // eps-hat = network + A_t (x_t - sqrt(abar_t) m): the trace adds tr(A_t), the same for every row
+            return (x, rows, step, trace) -> {
+                tangents.traces(x, rows, step, trace);
+                double linear = baseline.trace(step);
+                for (int r = 0; r < rows; r++) {
+                    trace[r] += linear;
+                }
+            };
         }
         throw new IllegalArgumentException("the model's estimator (" + e.getClass().getSimpleName()
                 + ") has no Jacobian trace; the flow likelihood needs one");

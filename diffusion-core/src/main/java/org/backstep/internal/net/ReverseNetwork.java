@@ -91,6 +91,16 @@ public final class ReverseNetwork {
      * @return the network
      */
     public static ReverseNetwork create(NetworkShape shape, int steps, long seed) {
+        return create(shape, steps, seed, false);
+    }
+
+    /**
+     * As {@link #create(NetworkShape, int, long)}, the same draws; with {@code zeroOutput} the output
+     * layer's weights are then set to zero, so that the network outputs zero for every input until
+     * trained (a correction to a closed-form part starts at that closed form; the other layers
+     * still get gradients once the output weights move).
+     */
+    public static ReverseNetwork create(NetworkShape shape, int steps, long seed, boolean zeroOutput) {
         Require.notNull("shape", shape);
         Require.atLeast("steps", steps, 1);
         float[] values = new float[checkedCount(shape)];
@@ -103,7 +113,8 @@ public final class ReverseNetwork {
             double bound = output ? Math.sqrt(6.0 / (fanIn + fanOut)) : Math.sqrt(6.0 / fanIn);
             int weights = fanIn * fanOut;
             for (int i = 0; i < weights; i++) {
-                values[offset + i] = (float) ((2 * random.nextDouble() - 1) * bound);
+                float w = (float) ((2 * random.nextDouble() - 1) * bound);
+                values[offset + i] = output && zeroOutput ? 0f : w;
             }
             offset += weights + fanOut; // the bias row stays zero
         }

@@ -2,6 +2,7 @@ package org.backstep.internal.store;
 
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
+import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.io.AtomicFiles;
 import org.backstep.io.JsonFields;
@@ -11,6 +12,7 @@ import org.backstep.io.ModelFileException;
 import org.backstep.training.ProvenanceJson;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.Baseline;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.StepSampling;
 import org.backstep.option.TrainingLoss;
@@ -64,12 +66,20 @@ import java.util.zip.ZipOutputStream;
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
- * Version 4 added integer and categorical columns: a column of kind {@code INTEGER} carries
+ * Version 4 added two sets of entries, each optional within the version (a version 4 file of a
+ * table without the new kinds and without a baseline has neither):
+ * integer and categorical columns: a column of kind {@code INTEGER} carries
  * {@code lowest} = 0 when it is a count (its decoder's bin of 0 reaching to -infinity) and nothing
  * else new; a column of kind {@code CATEGORICAL} carries
  * {@code categories}, its labels in index order (the order the network's logits and the model-space
  * indices use), and the network's inputs and outputs count one per category; files of versions 1
- * to 3 have no such column. Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
+ * to 3 have no such column. And the option {@code baseline} (the closed-form part of the reverse
+ * model; absent, or a file of an older version, reads as {@code NONE}, what every older release
+ * did) and, when that option is {@code FITTED_GAUSSIAN}, the object {@code gaussianBaseline} with
+ * the fitted {@code mean}, {@code covariance} (rows) and {@code shrinkage} of the continuous model
+ * columns (continuous and integer); the per-step factors are recomputed from them and the schedule
+ * on load.
+ * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
  * its training rows instead (see {@code ModelRange}). Version 2 renamed the trainer's own split
@@ -192,6 +202,7 @@ public final class ModelFile {
         new TreeSet<>(o.logColumns()).forEach(logs::add);
         opts.put("seed", o.seed());
         opts.put("threads", o.threads());
+        opts.put("baseline", o.baseline().name());
 
         ArrayNode cols = root.putArray("columns");
         TableTransform tr = model.transform();
@@ -233,6 +244,22 @@ public final class ModelFile {
             for (double v : model.range().max()) {
                 hi.add(v);
             }
+        }
+        GaussianBaseline gb = model.baseline();
+        if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN) {
+            ObjectNode g = root.putObject("gaussianBaseline");
+            ArrayNode mean = g.putArray("mean");
+            for (double v : gb.mean()) {
+                mean.add(v);
+            }
+            ArrayNode cov = g.putArray("covariance");
+            for (double[] row : gb.covariance()) {
+                ArrayNode r = cov.addArray();
+                for (double v : row) {
+                    r.add(v);
+                }
+            }
+            g.put("shrinkage", gb.shrinkage());
         }
         root.set("provenance", ProvenanceJson.write(model.provenance()));
         return root;
@@ -304,8 +331,17 @@ public final class ModelFile {
             }
             try {
                 ReverseNetwork network = ReverseNetwork.fromParameters(m.shape, m.options.steps(), weights);
-                return m.range == null ? new ModelParts(m.options, m.transform, network, new NetworkEstimator(network),
-                        m.provenance) : ModelParts.ofNetwork(m.options, m.transform, network, m.provenance, m.range);
+                GaussianBaseline baseline = m.transform.modelledContinuous().length == 0 ? null : switch (m.options.baseline()) {
+                    case NONE -> null;
+                    case STANDARD_NORMAL -> GaussianBaseline.standardNormal(m.transform.modelledContinuous().length,
+                            m.options.continuousSchedule());
+                    case FITTED_GAUSSIAN -> GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, m.baselineMean,
+                            m.baselineCovariance, m.baselineShrinkage, m.options.continuousSchedule());
+                };
+                boolean learned = m.options.variance() == ReverseVariance.LEARNED;
+                return m.range == null ? new ModelParts(m.options, m.transform, network,
+                        new NetworkEstimator(network, baseline, learned), m.provenance)
+                        : ModelParts.ofNetwork(m.options, m.transform, network, baseline, m.provenance, m.range);
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(MANIFEST, "inconsistent content: " + e.getMessage(), e);
             }
@@ -320,7 +356,8 @@ public final class ModelFile {
 
     /** The manifest's content, every field checked; the network is not built yet. */
     private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
-                            Provenance provenance) {
+                            Provenance provenance, double[] baselineMean, double[][] baselineCovariance,
+                            double baselineShrinkage) {
     }
 
     private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
@@ -358,7 +395,9 @@ public final class ModelFile {
                     int32(o, opt, v1 ? "validationDraws" : "checkpointDraws", 1, Limits.MAX_DRAWS),
                     int32(o, opt, "patience", 0, Integer.MAX_VALUE), logs,
                     JsonFields.whole(JsonFields.field(o, "seed", opt), opt + ".seed", Long.MIN_VALUE, Long.MAX_VALUE),
-                    int32(o, opt, "threads", 1, Limits.MAX_THREADS));
+                    int32(o, opt, "threads", 1, Limits.MAX_THREADS),
+                    // optional within version 4 (a file without it was written before the option existed)
+                    version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE);
         } catch (IllegalArgumentException e) {
             // the builder's own validation refused them
             throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);
@@ -471,8 +510,39 @@ public final class ModelFile {
         if (version >= 3 && root.has("trainingRange")) {
             range = readRange(root.get("trainingRange"), dc, db, transform.modelledCategories());
         }
+        double[] baselineMean = null;
+        double[][] baselineCovariance = null;
+        double baselineShrinkage = 0.0;
+        if (root.has("gaussianBaseline") && (options.baseline() != Baseline.FITTED_GAUSSIAN || dc == 0)) {
+            throw new ModelFileException(MANIFEST + " gaussianBaseline", "present, but the model has "
+                    + (dc == 0 ? "no continuous column" : "the baseline " + options.baseline())
+                    + "; only a FITTED_GAUSSIAN baseline over continuous columns has one");
+        }
+        if (options.baseline() == Baseline.FITTED_GAUSSIAN && dc > 0) {
+            String gw = MANIFEST + " gaussianBaseline";
+            JsonNode g = JsonFields.object(JsonFields.field(root, "gaussianBaseline", MANIFEST), gw);
+            JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", gw), gw + ".mean", dc, dc);
+            JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", gw), gw + ".covariance", dc, dc);
+            baselineMean = new double[dc];
+            baselineCovariance = new double[dc][dc];
+            for (int i = 0; i < dc; i++) {
+                baselineMean[i] = JsonFields.number(mean.get(i), gw + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
+                JsonNode row = JsonFields.array(cov.get(i), gw + ".covariance[" + i + "]", dc, dc);
+                for (int j = 0; j < dc; j++) {
+                    baselineCovariance[i][j] = JsonFields.number(row.get(j), gw + ".covariance[" + i + "][" + j + "]",
+                            -Float.MAX_VALUE, Float.MAX_VALUE);
+                }
+            }
+            baselineShrinkage = JsonFields.number(JsonFields.field(g, "shrinkage", gw), gw + ".shrinkage", 0.0, 1.0);
+            try {
+                GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, baselineMean, baselineCovariance, baselineShrinkage, cont);
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(gw, e.getMessage(), e);
+            }
+        }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
-        return new Manifest(options, transform, shape, range, provenance);
+        return new Manifest(options, transform, shape, range, provenance, baselineMean, baselineCovariance,
+                baselineShrinkage);
     }
 
     private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {

@@ -2,6 +2,7 @@ package org.backstep.internal.train;
 
 import org.backstep.internal.chain.BoundTerms;
 import org.backstep.internal.chain.Chain;
+import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.internal.net.ParallelStep;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
@@ -24,7 +25,9 @@ import org.nd4j.linalg.factory.Nd4j;
  * times 1/(T p_t) under importance sampling, averaged over the minibatch. A cell filled in for a
  * missing one ({@link GapFilling}) has no term: it is an input of the network, not a target (the
  * mean stays over D cells, so a row with gaps weighs its observed cells as a complete row does). Every bound term and its
- * partial derivatives come from {@link BoundTerms}; this class only applies the chain rule through
+ * partial derivatives come from {@link BoundTerms}; epsilon-hat and v are the network's output plus
+ * the model's {@link GaussianBaseline} when it has one (added here, so the loss sees what the
+ * estimator gives; the output's gradient is that of epsilon-hat and v). This class only applies the chain rule through
  * the parameterization (d mu / d eps-hat, d log sigma^2 / d v) and the loss's weights.
  */
 final class LossGradient implements ParallelStep.LossGradient {
@@ -42,6 +45,8 @@ final class LossGradient implements ParallelStep.LossGradient {
     /** Each row's bound summed over its cells, for importance sampling. */
     final double[] rowBound;
     private final int batch;
+    /** The closed-form part added to the network's output, or null (the gradient passes through it unchanged). */
+    private final GaussianBaseline baseline;
     private float[] x0;
     private float[] xt;
     private float[] eps;
@@ -49,8 +54,9 @@ final class LossGradient implements ParallelStep.LossGradient {
     private double[] weight;
     private boolean[] filled;
 
-    LossGradient(Chain chain, FitOptions options, int batch) {
+    LossGradient(Chain chain, FitOptions options, int batch, GaussianBaseline baseline) {
         this.chain = chain;
+        this.baseline = baseline;
         this.loss = options.loss();
         this.lambda = options.hybridWeight();
         this.learned = options.variance() == ReverseVariance.LEARNED;
@@ -92,6 +98,16 @@ final class LossGradient implements ParallelStep.LossGradient {
         for (int j = 0; j < dk; j++) {
             logits[j] = new double[cats[j]];
             gradient[j] = new double[cats[j]];
+        }
+        if (baseline != null) {
+            // epsilon-hat and v are the closed form plus the network's output: d loss / d output is
+            // unchanged. The closed form reads the continuous cells of the model-space x_t, the
+            // first dc of each row of width d (never the one-hot encoded network input).
+            double[] scratch = new double[dc];
+            for (int i = 0; i < rows; i++) {
+                int r = rowOffset + i;
+                baseline.addToRowInPlace(xt, r * d, chain.source(k[r]), out, i * outputs, learned, scratch);
+            }
         }
         double total = 0.0;
         for (int i = 0; i < rows; i++) {

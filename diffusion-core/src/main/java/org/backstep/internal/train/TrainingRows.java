@@ -15,9 +15,11 @@ import java.util.SplittableRandom;
 
 /**
  * The rows a fit trains on, prepared: the log columns checked, the checkpoint rows split off
- * (drawn at random, seeded, unless the caller gives them), the column transforms fitted on the
- * training rows (Trainer's standardization; each column on its observed cells), and both sets in
- * model space as float32 rows. What was done is kept as notes for the provenance.
+ * (drawn at random, seeded, unless the caller gives them), the column transforms fitted, and both
+ * sets in model space as float32 rows. The transforms are fitted on every row of the table given to
+ * the fit, each column on its observed cells (the checkpoint rows split off it included; rows a
+ * caller gives separately as checkpoint rows are not), so that a model's nats are in the
+ * standardized space of the caller's table (issue 11, item 5). What was done is kept as notes for the provenance.
  *
  * <p>Training rows with a missing cell are trained on: their missing cells are filled by
  * {@link GapFilling} (stochastic EM), first here from each column's distribution, then by the run
@@ -92,7 +94,8 @@ final class TrainingRows {
                 throw new IllegalArgumentException("training has " + complete.rows() + " rows; expected at least 2 (the table"
                         + " needs at least 2 rows besides its checkpoint rows)");
             }
-            transform = fitTransform(complete, options);
+            // standardized on every row given (checkpoint rows included), so nats are in the caller's space
+            transform = fitTransform(table, options);
             dc = transform.modelledContinuous().length;
             db = transform.modelledBinary().length;
             categories = transform.modelledCategories();
@@ -115,8 +118,9 @@ final class TrainingRows {
                 throw new IllegalArgumentException("training has " + train.rows()
                         + " rows with an observed cell; expected at least 2");
             }
-            // the transforms of each column from its observed training cells (TableTransform.fit skips missing cells)
-            transform = fitTransform(train, options);
+            // the transforms of each column from its observed cells in every row given (TableTransform.fit
+            // skips missing cells), checkpoint rows included, so nats are in the caller's space
+            transform = fitTransform(table, options);
             dc = transform.modelledContinuous().length;
             db = transform.modelledBinary().length;
             categories = transform.modelledCategories();

@@ -2,6 +2,7 @@ package org.backstep.internal.train;
 
 import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
+import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
@@ -69,6 +70,8 @@ public final class TrainingRun implements AutoCloseable {
     private final NetworkShape shape;
     private final ReverseNetwork net;
     private final Chain chain;
+    private final GaussianBaseline baseline;   // null without a closed-form part
+    private final boolean learned;
     private final int batch;
     private final int batchesPerEpoch;
     private final long budgetUpdates;
@@ -147,8 +150,10 @@ public final class TrainingRun implements AutoCloseable {
         int outputs = Chain.outputsOf(options.variance(), transform);
         shape = new NetworkShape(Chain.inputsOf(transform), options.hidden(), outputs, options.embeddingSize(),
                 options.stepInput());
-        net = ReverseNetwork.create(shape, steps, options.seed());
-        chain = Chain.of(options, transform, new NetworkEstimator(net));
+        baseline = GaussianBaseline.fit(options.baseline(), x0, n, d, dc, options.continuousSchedule());
+        learned = options.variance() == ReverseVariance.LEARNED;
+        net = ReverseNetwork.create(shape, steps, options.seed(), baseline != null);
+        chain = Chain.of(options, transform, new NetworkEstimator(net, baseline, learned));
 
         batch = Math.min(options.batchSize(), n);
         batchesPerEpoch = n / batch;
@@ -188,7 +193,7 @@ public final class TrainingRun implements AutoCloseable {
         ema = WeightAverage.of(net.parameterView(), options.emaDecay());
         rng = new SplittableRandom(options.seed());
         sampler = new StepSampler(steps, options.stepSampling());
-        terms = new LossGradient(chain, options, batch);
+        terms = new LossGradient(chain, options, batch, baseline);
         xtArray = Nd4j.create(DataType.FLOAT, batch, chain.inputs());
         encoded = chain.inputs() == d ? null : new float[batch * chain.inputs()];
         xb = new float[batch * d];
@@ -285,7 +290,7 @@ public final class TrainingRun implements AutoCloseable {
         if (xv != null && (due || last)) {
             float[] avg = ema.average();
             ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
-            Chain evalChain = Chain.of(options, transform, new NetworkEstimator(averaged));
+            Chain evalChain = Chain.of(options, transform, new NetworkEstimator(averaged, baseline, learned));
             BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
                     options.seed() + 1, options.threads());
             double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
@@ -326,7 +331,7 @@ public final class TrainingRun implements AutoCloseable {
      */
     private void refillGaps() {
         ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, ema.average());
-        Chain averagedChain = Chain.of(options, transform, new NetworkEstimator(averaged));
+        Chain averagedChain = Chain.of(options, transform, new NetworkEstimator(averaged, baseline, learned));
         gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills);
         refills++;
     }
@@ -370,7 +375,7 @@ public final class TrainingRun implements AutoCloseable {
         ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
         Provenance provenance = Provenance.ofFit(table.rows(), table.sha256(), n, nv, Trainer.seconds(started),
                 history, notes);
-        return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, provenance,
+        return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, baseline, provenance,
                 ModelRange.of(x0, n, d, dc)), step,
                 step / (double) batchesPerEpoch, updateNanos / 1e9);
     }
