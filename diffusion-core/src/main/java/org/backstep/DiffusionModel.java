@@ -110,7 +110,7 @@ public final class DiffusionModel {
     static DiffusionModel withEstimator(FitOptions options, TableTransform transform, Estimator estimator) {
         return new DiffusionModel(new ModelParts(options, transform, null, estimator,
                 new Provenance(Provenance.currentLibraryVersion(), System.getProperty("java.version"), "", "", "", 0.0,
-                        0, 0, 0, "", List.of(), List.of("supplied estimator"))));
+                        0, 0, 0, 0, 0, 0, "", List.of(), List.of("supplied estimator"))));
     }
 
     /** @return the parts (tests look at the network) */

@@ -53,7 +53,7 @@ class BaselineFlowTest {
         ReverseNetwork net = ReverseNetwork.create(shape, schedule.steps(), 1, true);   // output layer zero
         GaussianBaseline part = GaussianBaseline.standardNormal(3, schedule);
         Provenance provenance = new Provenance(Provenance.currentLibraryVersion(), System.getProperty("java.version"),
-                "", "", "", 0.0, 0, 0, 0, "", List.of(), List.of("zero network"));
+                "", "", "", 0.0, 0, 0, 0, 0, 0, 0, "", List.of(), List.of("zero network"));
         DiffusionModel model = DiffusionModel.of(new ModelParts(options, transform, net,
                 new NetworkEstimator(net, part, false), provenance));
 

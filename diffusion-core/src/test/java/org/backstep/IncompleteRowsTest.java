@@ -100,6 +100,21 @@ class IncompleteRowsTest {
                 () -> "notes " + model.provenance().notes());
         assertTrue(model.provenance().notes().stream().anyMatch(n -> n.contains("drawn from the model 10 times")),
                 () -> "notes " + model.provenance().notes());
+        // the same counts as fields, kept by the model file (common practice, no source)
+        assertEquals(600, model.provenance().rowsWithGaps());
+        assertEquals(600, model.provenance().filledCells());
+        assertEquals(10, model.provenance().refills());
+        try {
+            java.nio.file.Path file = java.nio.file.Files.createTempFile("gaps", ".backstep");
+            model.save(file);
+            org.backstep.training.Provenance back = DiffusionModel.load(file).provenance();
+            java.nio.file.Files.deleteIfExists(file);
+            assertEquals(600, back.rowsWithGaps());
+            assertEquals(600, back.filledCells());
+            assertEquals(10, back.refills());
+        } catch (java.io.IOException e) {
+            throw new java.io.UncheckedIOException(e);
+        }
 
         // each column's transform comes from its observed cells: mean and population sd by commons-math3
         for (int c = 0; c < 2; c++) {
@@ -154,6 +169,8 @@ class IncompleteRowsTest {
         assertEquals(a.transform(), b.transform());
         assertTrue(a.provenance().notes().stream().noneMatch(n -> n.contains("missing cell")),
                 () -> "notes " + a.provenance().notes());
+        assertEquals(0, a.provenance().rowsWithGaps());
+        assertEquals(0, a.provenance().filledCells());
     }
 
     /**

@@ -97,7 +97,7 @@ class NullArgumentsTest {
                 .loss(TrainingLoss.SIMPLE).threads(1).options();
         DiffusionModel model = DiffusionModel.withEstimator(options, transform, new ConstantEstimator(3, 3, 0f));
         EpochRecord epoch = new EpochRecord(1, 0.5, OptionalDouble.of(1.0), 0.1);
-        Provenance provenance = new Provenance("0", "17", "os", "arch", "2020-01-01T00:00:00Z", 1.0, 3, 3, 0, "00",
+        Provenance provenance = new Provenance("0", "17", "os", "arch", "2020-01-01T00:00:00Z", 1.0, 3, 3, 0, 0, 0, 0, "00",
                 List.of(epoch), List.of("note"));
         BoundReport bound = model.bound(table, 1);
         StepPlan.Row stepRow = new StepPlan.Row(10, 1.0, 0.1, 0.5, 0.1, 10.0);

@@ -53,7 +53,7 @@ class SampleCheckTest {
                 .threads(1).options();
         TableTransform transform = TableTransform.of(NAMES, KINDS,
                 List.of(ColumnTransform.standardize(10, 2), ColumnTransform.standardize(-5, 0.5)));
-        Provenance p = new Provenance("test", "17", "", "", "", 0.0, 100, 100, 0, "", List.of(), List.of());
+        Provenance p = new Provenance("test", "17", "", "", "", 0.0, 100, 100, 0, 0, 0, 0, "", List.of(), List.of());
         ModelRange range = new ModelRange(new double[] {-2, -2}, new double[] {2, 2}, 2, ModelRange.TRAINING_ROWS);
         return DiffusionModel.of(new ModelParts(options, transform, null, new ConstantEstimator(2, 2, 0f), p, range));
     }

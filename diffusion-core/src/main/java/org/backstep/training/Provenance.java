@@ -25,12 +25,18 @@ import java.util.Properties;
  * @param trainingRows rows trained on: the training part's rows with an observed cell (those with a
  *     missing cell trained on with the cell filled, as the notes say)
  * @param checkpointRows complete checkpoint rows (the trainer's own split, on which the kept weights were chosen)
+ * @param rowsWithGaps of the rows trained on, those with a missing cell, whose cells the trainer
+ *     filled by stochastic EM; -1 when not recorded (a model file written before this count)
+ * @param filledCells the missing cells of those rows; -1 when not recorded
+ * @param refills how many times over the run the filled cells were drawn again from the model; -1
+ *     when not recorded
  * @param tableSha256 SHA-256 of the table given to fit ({@link Table#sha256()})
  * @param history one record per epoch
  * @param notes what the fit decided on its own (dropped rows, constant columns, early stop)
  */
 public record Provenance(String libraryVersion, String javaVersion, String os, String arch, String fittedAt,
                          double trainingSeconds, int tableRows, int trainingRows, int checkpointRows,
+                         int rowsWithGaps, int filledCells, int refills,
                          String tableSha256, List<EpochRecord> history, List<String> notes) {
 
     /** Checks that every part is present and copies the lists. */
@@ -43,6 +49,9 @@ public record Provenance(String libraryVersion, String javaVersion, String os, S
         Require.notNull("tableSha256", tableSha256);
         Require.notNull("history", history);
         Require.notNull("notes", notes);
+        Require.inRange("rowsWithGaps", rowsWithGaps, -1, Integer.MAX_VALUE);
+        Require.inRange("filledCells", filledCells, -1, Integer.MAX_VALUE);
+        Require.inRange("refills", refills, -1, Integer.MAX_VALUE);
         history = List.copyOf(history);
         notes = List.copyOf(notes);
     }
@@ -54,16 +63,21 @@ public record Provenance(String libraryVersion, String javaVersion, String os, S
      * @param tableSha256 its {@link Table#sha256()}
      * @param trainingRows rows trained on
      * @param checkpointRows complete checkpoint rows
+     * @param rowsWithGaps of the rows trained on, those with a missing cell
+     * @param filledCells their missing cells
+     * @param refills how many times the filled cells were drawn again from the model
      * @param seconds wall time of training
      * @param history one record per epoch
      * @param notes what the fit decided on its own
      * @return the provenance
      */
     public static Provenance ofFit(int tableRows, String tableSha256, int trainingRows, int checkpointRows,
+                                   int rowsWithGaps, int filledCells, int refills,
                                    double seconds, List<EpochRecord> history, List<String> notes) {
         return new Provenance(currentLibraryVersion(), System.getProperty("java.version"),
                 System.getProperty("os.name") + " " + System.getProperty("os.version"), System.getProperty("os.arch"),
-                java.time.Instant.now().toString(), seconds, tableRows, trainingRows, checkpointRows, tableSha256,
+                java.time.Instant.now().toString(), seconds, tableRows, trainingRows, checkpointRows, rowsWithGaps,
+                filledCells, refills, tableSha256,
                 history, notes);
     }
 

@@ -16,7 +16,8 @@ import java.util.OptionalDouble;
  * The one JSON form of a {@link Provenance}, written into model files and report summaries alike:
  * <pre>
  *   { "libraryVersion", "javaVersion", "os", "arch", "fittedAt", "trainingSeconds",
- *     "tableRows", "trainingRows", "checkpointRows", "tableSha256", "notes": [..],
+ *     "tableRows", "trainingRows", "checkpointRows", "rowsWithGaps", "filledCells", "refills" (since format 4),
+ *     "tableSha256", "notes": [..],
  *     "history": [ { "epoch", "loss", "checkpointBound" (when evaluated), "seconds" } ] }
  * </pre>
  * Reading also accepts the keys of model files of format version 1 ("validationRows",
@@ -46,6 +47,11 @@ public final class ProvenanceJson {
         prov.put("tableRows", p.tableRows());
         prov.put("trainingRows", p.trainingRows());
         prov.put("checkpointRows", p.checkpointRows());
+        if (p.rowsWithGaps() >= 0) {
+            prov.put("rowsWithGaps", p.rowsWithGaps());
+            prov.put("filledCells", p.filledCells());
+            prov.put("refills", p.refills());
+        }
         prov.put("tableSha256", p.tableSha256());
         ArrayNode notes = prov.putArray("notes");
         p.notes().forEach(notes::add);
@@ -97,12 +103,18 @@ public final class ProvenanceJson {
         return new Provenance(text(p, "libraryVersion"), text(p, "javaVersion"), text(p, "os"), text(p, "arch"),
                 text(p, "fittedAt"), JsonFields.number(JsonFields.field(p, "trainingSeconds", where), where + ".trainingSeconds",
                         0.0, Double.MAX_VALUE),
-                count(p, "tableRows"), count(p, "trainingRows"), count(p, checkpointKey), text(p, "tableSha256"), history,
+                count(p, "tableRows"), count(p, "trainingRows"), count(p, checkpointKey), optionalCount(p, "rowsWithGaps"),
+                optionalCount(p, "filledCells"), optionalCount(p, "refills"), text(p, "tableSha256"), history,
                 notes);
     }
 
     private static String text(JsonNode p, String key) throws ModelFileException {
         return JsonFields.text(JsonFields.field(p, key, "model.json provenance"), "model.json provenance." + key);
+    }
+
+    /** A count written since the gap counts were added, or -1 for a file without it. */
+    private static int optionalCount(JsonNode p, String key) throws ModelFileException {
+        return p.has(key) ? count(p, key) : -1;
     }
 
     private static int count(JsonNode p, String key) throws ModelFileException {

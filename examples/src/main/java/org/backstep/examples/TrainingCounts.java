@@ -4,15 +4,12 @@ import org.backstep.table.Table;
 import org.backstep.training.Provenance;
 
 import java.util.Locale;
-import java.util.regex.Matcher;
-import java.util.regex.Pattern;
 
 /**
  * How the rows of the training part were used, in counts that add up: the part's rows are those
  * trained on, the checkpoint rows and the rows not used. The rows trained on include rows with a
  * missing cell, which the trainer fills by stochastic EM (Dempster, Laird &amp; Rubin 1977; see the
- * provenance's note); the model's provenance gives the rows trained on and the complete checkpoint
- * rows, its note on gaps the rows and cells filled.
+ * provenance's note); the model's provenance gives every count but the training part's own.
  *
  * @param partWithGaps rows of the training part with a missing cell (before the trainer's split)
  * @param trained rows trained on ({@link Provenance#trainingRows()})
@@ -30,42 +27,26 @@ record TrainingCounts(int partWithGaps, int trained, int trainedWithGaps, int fi
     static final String NOT_USED = "checkpoint rows with a missing cell, since a bound needs every cell, and rows the"
             + " provenance notes as left out: without an observed cell, or with a cell beyond the model's range";
 
-    /** The provenance's note on gaps: "N of M training rows had a missing cell (C cells); ... then R times ...". */
-    private static final Pattern GAPS = Pattern.compile("^(\\d+) of (\\d+) training rows had a missing cell \\((\\d+) cells\\)");
-    /** The run's note on the refills done: "the missing cells of the N training rows with a gap were drawn from the model R times". */
-    private static final Pattern REFILLS = Pattern.compile("^the missing cells of the \\d+ training rows with a gap were drawn from the model (\\d+) times");
-
     /**
      * @param part the training part given to the fit
-     * @param provenance the fitted model's provenance
+     * @param provenance the fitted model's provenance (a fresh fit: its gap counts are recorded)
      * @return the counts
-     * @throws IllegalStateException if the provenance's note on gaps does not match its row count
+     * @throws IllegalStateException if the provenance does not record its gap counts (a model file
+     *     written before they were)
      */
     static TrainingCounts of(Table part, Provenance provenance) {
         int trained = provenance.trainingRows();
         int checkpoint = provenance.checkpointRows();
-        int withGaps = 0;
-        int cells = 0;
-        int refills = 0;
-        String note = "";
-        for (String n : provenance.notes()) {
-            Matcher m = GAPS.matcher(n);
-            if (m.find()) {
-                if (Integer.parseInt(m.group(2)) != trained) {
-                    throw new IllegalStateException("the provenance's note on gaps counts " + m.group(2) + " training rows, its"
-                            + " row count " + trained + ": " + n);
-                }
-                withGaps = Integer.parseInt(m.group(1));
-                cells = Integer.parseInt(m.group(3));
-                note = n;
-            }
-            Matcher r = REFILLS.matcher(n);
-            if (r.find()) {
-                refills = Integer.parseInt(r.group(1));
-            }
+        if (provenance.rowsWithGaps() < 0) {
+            throw new IllegalStateException("the model's provenance does not record its rows with gaps (a model file"
+                    + " written before format 4 recorded them)");
         }
-        return new TrainingCounts(part.incompleteRowIndices().length, trained, withGaps, cells, refills, checkpoint,
-                part.rows() - trained - checkpoint, note);
+        // the provenance's own sentence on the rows with gaps, quoted by the report
+        String prefix = provenance.rowsWithGaps() + " of " + trained + " training rows had a missing cell";
+        String note = provenance.rowsWithGaps() == 0 ? ""
+                : provenance.notes().stream().filter(n -> n.startsWith(prefix)).findFirst().orElse("");
+        return new TrainingCounts(part.incompleteRowIndices().length, trained, provenance.rowsWithGaps(),
+                provenance.filledCells(), provenance.refills(), checkpoint, part.rows() - trained - checkpoint, note);
     }
 
     /** @return "trained on N of the P rows of the training part, ..." with how the rows with a missing cell were used */

@@ -373,7 +373,9 @@ public final class TrainingRun implements AutoCloseable {
             LOG.info(stopReason);
         }
         ReverseNetwork fitted = ReverseNetwork.fromParameters(shape, steps, finalWeights);
-        Provenance provenance = Provenance.ofFit(table.rows(), table.sha256(), n, nv, Trainer.seconds(started),
+        Provenance provenance = Provenance.ofFit(table.rows(), table.sha256(), n, nv,
+                gaps == null ? 0 : gaps.rowCount(), gaps == null ? 0 : gaps.cellCount(), gaps == null ? 0 : refills,
+                Trainer.seconds(started),
                 history, notes);
         return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, baseline, provenance,
                 ModelRange.of(x0, n, d, dc)), step,
