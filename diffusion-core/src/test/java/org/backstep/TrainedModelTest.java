@@ -1,6 +1,5 @@
 package org.backstep;
 
-import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.SamplingPlan;
 import org.backstep.option.TrainingLoss;
@@ -150,7 +149,7 @@ class TrainedModelTest {
         Table t = gaussian(600, 7, new double[] {0, 0}, new double[][] {{1, 0.5}, {0.5, 1}});
         DiffusionModel a = barelyTrained().epochs(2).fit(t);
         DiffusionModel one = DiffusionModel.withEstimator(barelyTrained().threads(1).epochs(2).options(), a.transform(),
-                new NetworkEstimator(a.parts().network()));
+                a.parts().estimator());
         // chunk-seeded generators (our design): same samples whatever the thread count
         assertArrayEquals(a.sample(700, 5).toArray(), one.sample(700, 5).toArray());
     }
