@@ -283,20 +283,6 @@ final class Detectors {
         return (rankSum - pos * (pos + 1) / 2.0) / ((double) pos * neg);
     }
 
-    /**
-     * The q-quantile of values by linear interpolation between order statistics (Hyndman &amp; Fan
-     * 1996, "Sample quantiles in statistical packages", definition 7), as Backstep's screen sets its
-     * threshold.
-     */
-    static double quantile(double[] values, double q) {
-        double[] s = values.clone();
-        Arrays.sort(s);
-        double h = (s.length - 1) * q;
-        int lo = (int) Math.floor(h);
-        int hi = Math.min(s.length - 1, lo + 1);
-        return s[lo] + (h - lo) * (s[hi] - s[lo]);
-    }
-
     private static double[] map(double[][] rows, java.util.function.ToDoubleFunction<double[]> f) {
         double[] out = new double[rows.length];
         for (int i = 0; i < rows.length; i++) {

@@ -104,8 +104,8 @@ final class ScreenComparison {
         Map<String, List<org.backstep.report.RocPoint>> curves = new LinkedHashMap<>();
         for (Detectors.Scores d : detectors) {
             AnomalyScreen s = d == detectors.get(0) ? screen : new AnomalyScreen(ThresholdRule.quantile(MainJob.SCREEN_QUANTILE),
-                    Detectors.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE), d.heldOut(), d.screened(),
-                    AnomalyScreen.flaggedAt(d.screened(), Detectors.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE)), List.of(),
+                    Stats.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE), d.heldOut(), d.screened(),
+                    AnomalyScreen.flaggedAt(d.screened(), Stats.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE)), List.of(),
                     Surprisal.none(table.names()));
             int tp = 0;
             int[] caught = new int[kinds.size()];

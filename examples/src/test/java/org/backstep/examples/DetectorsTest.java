@@ -107,8 +107,8 @@ class DetectorsTest {
         double[][] rows = {{1.0, -1.0}, {1.0, 1.0}};
         Detectors.Scores range = Detectors.range(train, held, rows, 2);
         Detectors.Scores maha = Detectors.mahalanobis(train, held, rows);
-        double rangeThreshold = Detectors.quantile(range.heldOut(), 0.99);
-        double mahaThreshold = Detectors.quantile(maha.heldOut(), 0.99);
+        double rangeThreshold = Stats.quantile(range.heldOut(), 0.99);
+        double mahaThreshold = Stats.quantile(maha.heldOut(), 0.99);
         assertTrue(range.screened()[0] < rangeThreshold, "range check flags the broken row: " + range.screened()[0]);
         assertTrue(maha.screened()[0] > 100 * mahaThreshold, "Mahalanobis " + maha.screened()[0] + " vs " + mahaThreshold);
         assertTrue(maha.screened()[1] < mahaThreshold);
@@ -146,8 +146,8 @@ class DetectorsTest {
     @Test
     void quantileInterpolatesBetweenOrderStatistics() {
         double[] v = {4, 1, 3, 2, 5};
-        assertEquals(5.0, Detectors.quantile(v, 1.0), 0.0);
-        assertEquals(3.0, Detectors.quantile(v, 0.5), 0.0);
-        assertEquals(4.96, Detectors.quantile(v, 0.99), 1e-12);   // h = 4 x 0.99 = 3.96: 4 + 0.96 (5 - 4)
+        assertEquals(5.0, Stats.quantile(v, 1.0), 0.0);
+        assertEquals(3.0, Stats.quantile(v, 0.5), 0.0);
+        assertEquals(4.96, Stats.quantile(v, 0.99), 1e-12);   // h = 4 x 0.99 = 3.96: 4 + 0.96 (5 - 4)
     }
 }

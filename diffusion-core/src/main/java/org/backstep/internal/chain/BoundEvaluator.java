@@ -140,13 +140,7 @@ public final class BoundEvaluator {
             System.arraycopy(cont, 0, res.continuous, ch.from, n);
             System.arraycopy(bin, 0, res.binary, ch.from, n);
         });
-        for (int s = 0; s <= chain.steps; s++) {
-            double total = 0.0;
-            for (int c = 0; c < chunks; c++) {
-                total += perChunkSteps[c][s];
-            }
-            res.perStepMean[s] = total / rows;
-        }
+        perStepMeans(res, perChunkSteps, rows);
         return res;
     }
 
@@ -201,13 +195,7 @@ public final class BoundEvaluator {
             System.arraycopy(cont, 0, res.continuous, ch.from, n);
             System.arraycopy(bin, 0, res.binary, ch.from, n);
         });
-        for (int s = 0; s <= chain.steps; s++) {
-            double total = 0.0;
-            for (int c = 0; c < chunks; c++) {
-                total += perChunkSteps[c][s];
-            }
-            res.perStepMean[s] = total / rows;
-        }
+        perStepMeans(res, perChunkSteps, rows);
         return res;
     }
 
@@ -294,5 +282,16 @@ public final class BoundEvaluator {
             s += v;
         }
         return s;
+    }
+
+    /** Each step's mean over the records, from the chunks' sums (added in chunk order, so the same bits every run). */
+    private static void perStepMeans(Result res, double[][] perChunkSteps, int rows) {
+        for (int s = 0; s < res.perStepMean.length; s++) {
+            double total = 0.0;
+            for (double[] chunk : perChunkSteps) {
+                total += chunk[s];
+            }
+            res.perStepMean[s] = total / rows;
+        }
     }
 }
