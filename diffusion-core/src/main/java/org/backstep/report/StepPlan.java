@@ -35,7 +35,8 @@ public record StepPlan(List<Row> rows, double tolerance, int recommended, String
      * @param energyDistance the energy distance between K-step samples and held-out rows (model space;
      *     NaN if the chain left the float range)
      * @param energyPValue its permutation p-value (Szekely &amp; Rizzo 2004; NaN as above)
-     * @param maxKs the largest per-column two-sample Kolmogorov-Smirnov statistic (NaN as above)
+     * @param maxKs the largest per-column two-sample Kolmogorov-Smirnov statistic; for a categorical
+     *     column, the total variation distance of its category shares (NaN as above)
      * @param millisPer1000 measured wall time to draw 1,000 samples, milliseconds (NaN as above)
      * @param samplesDiverged whether the K-step samples diverge: some lie beyond the bound of
      *     {@link SampleCheck} or the chain left the float range; such a K is not recommended

@@ -204,8 +204,10 @@ public final class StepPlanner {
 
     /**
      * The quality and cost of {@code rows} samples drawn with a plan: the energy distance to the
-     * held-out rows with its permutation p-value (Szekely &amp; Rizzo 2004), the largest per-column
-     * two-sample Kolmogorov-Smirnov statistic, and the wall time per 1,000 samples.
+     * held-out rows with its permutation p-value (Szekely &amp; Rizzo 2004; categorical columns
+     * one-hot), the largest per-column two-sample Kolmogorov-Smirnov statistic (for a categorical
+     * column the total variation distance of its category shares, {@link SampleQuality#columnDistances}),
+     * and the wall time per 1,000 samples.
      */
     private record Quality(double energyDistance, double pValue, double maxKs, double millisPer1000, SampleCheck check) {
 
@@ -220,8 +222,14 @@ public final class StepPlanner {
             double millis = (System.nanoTime() - start) / 1e6 * 1000.0 / rows;
             Table samples = drawn.table();
             double[][] sampleModel = model.transform().toModelSpace(samples);
-            EnergyTest energy = EnergyTest.run(sampleModel, heldModel, PERMUTATIONS, testSeed);
-            double maxKs = Arrays.stream(SampleQuality.kolmogorovSmirnov(sampleModel, heldModel)).max().orElse(0.0);
+            // categorical columns: one-hot for the energy test, total variation for the column figure
+            // (a category index's order is arbitrary); numbers as they are
+            int[] categories = model.transform().modelledCategories();
+            int numeric = sampleModel[0].length - categories.length;
+            EnergyTest energy = EnergyTest.run(SampleQuality.oneHot(sampleModel, numeric, categories),
+                    SampleQuality.oneHot(heldModel, numeric, categories), PERMUTATIONS, testSeed);
+            double maxKs = Arrays.stream(SampleQuality.columnDistances(sampleModel, heldModel, numeric, categories))
+                    .max().orElse(0.0);
             return new Quality(energy.energyDistance(), energy.pValue(), maxKs, millis, drawn.check());
         }
     }
