@@ -635,8 +635,9 @@ public final class DiffusionModel {
      * (1 - alpha-bar)/alpha-bar reaches max_j s_j^2, with x_{t*} = sqrt(alpha-bar_{t*}) (z_y + m),
      * m ~ N(0, (1 - alpha-bar_{t*})/alpha-bar_{t*} - s_j^2) topping each column up to that level, so
      * that x_{t*} is exactly a draw of q(x_{t*} | x_0); then the reverse chain runs down to x_0 on a
-     * strided subset of at most {@link DenoisingOptions#steps()} steps. Binary and constant columns
-     * are taken as observed exactly. Continuous columns must be standardized, not log-transformed.
+     * strided subset of at most {@link DenoisingOptions#steps()} steps. Binary, categorical and
+     * constant columns are taken as observed exactly (a categorical column's noise must be 0: there is
+     * no Gaussian noise on a category; its mean is its index and its spread 0). Continuous columns must be standardized, not log-transformed.
      * Every column is brought to the level of the noisiest one (in units of its scale), so a column
      * whose noise is far below the others' loses precision: denoise such groups of columns in
      * separate calls, passing a tiny noise for the others.
@@ -649,16 +650,21 @@ public final class DiffusionModel {
      *     {@link Defaults#denoising(double...)}
      * @param seed the seed
      * @return posterior mean and spread per cell
-     * @throws IllegalArgumentException naming the column whose noise or transform is unusable
+     * @throws IllegalArgumentException naming the column whose noise or transform is unusable, or a
+     *     categorical column given a noise other than 0
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Denoising denoise(Table readings, DenoisingOptions how, long seed) {
         Require.notNull("how", how);
         checkComplete(readings, "readings");
+        double[] noise = how.noiseSd();
         for (int c : transform().modelledCategorical()) {
-            throw new IllegalArgumentException("column '" + transform().names().get(c) + "' is CATEGORICAL; denoising"
-                    + " removes Gaussian reading noise of known size, which categories do not have: denoise a table"
-                    + " without categorical columns (impute a category you distrust instead, with the cell missing)");
+            if (c < noise.length && noise[c] != 0.0) {
+                throw new IllegalArgumentException("column '" + transform().names().get(c) + "' is CATEGORICAL and its"
+                        + " noise is " + noise[c] + "; denoising removes Gaussian reading noise of known size, which"
+                        + " categories do not have: give 0 for it, and its cells are held as observed (impute a"
+                        + " category you distrust instead, with the cell missing)");
+            }
         }
         return Denoiser.denoise(engine, readings, how, seed);
     }
