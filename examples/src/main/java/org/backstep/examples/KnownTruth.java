@@ -67,7 +67,11 @@ final class KnownTruth {
                     // a category: the most likely one among the draws against the truth, and the true one's share of the draws
                     String label = truth.label(i, j);
                     right += imp.mostLikely(i, j).equals(label) ? 1 : 0;
-                    trueShare += imp.categoryShares(i, j)[(int) truth.get(i, j)];
+                    int same = 0;
+                    for (Table draw : imp.draws()) {
+                        same += draw.get(i, j) == truth.get(i, j) ? 1 : 0;
+                    }
+                    trueShare += same / (double) imp.draws().size();
                     rightByMostFrequent += truth.categories(j).get(mostFrequent(trainComplete, j)).equals(label) ? 1 : 0;
                 } else if (Double.isNaN(hidden[i][j])) {
                     double t = truth.get(i, j);
