@@ -13,8 +13,14 @@ import java.util.Arrays;
  * commons-math3: one full-covariance Gaussian (maximum likelihood), and a Gaussian mixture with full
  * covariances fitted by expectation-maximization (Dempster, Laird &amp; Rubin 1977) whose component
  * count is picked on a validation fold. Binary columns, where present, are modelled as independent
- * Bernoulli variables with add-one smoothing in both baselines, so that each figure is a density
- * over the continuous columns times a probability over the binary ones, as the diffusion bound is.
+ * Bernoulli variables with add-one smoothing in both baselines, and categorical columns as
+ * independent categorical variables over their K labels with add-one smoothing (Laplace's rule; a
+ * Bernoulli is the case K = 2), so that each figure is a density over the continuous columns times a
+ * probability over the binary and categorical ones, as the diffusion bound is. The categorical
+ * columns do not enter the Gaussians (no one-hot columns: their covariance would be singular), so
+ * the baselines see no relation between a category and the numbers; integer columns enter the
+ * Gaussians as the continuous columns they are in model space (a density, where the bound has a
+ * probability mass).
  */
 public final class Baselines {
 
@@ -45,7 +51,11 @@ public final class Baselines {
      */
     public static Result fit(TableTransform transform, double[][] train, double[][] test, long seed) {
         int dc = transform.modelledContinuous().length;
-        double bern = bernoulliNll(train, test, dc);
+        int[] labels = new int[transform.modelColumns() - dc];
+        Arrays.fill(labels, 2);
+        int[] cats = transform.modelledCategories();
+        System.arraycopy(cats, 0, labels, labels.length - cats.length, cats.length);
+        double bern = categoryNll(train, test, dc, labels);
         if (dc == 0) {
             return new Result(bern, bern, 0);
         }
@@ -112,17 +122,22 @@ public final class Baselines {
         return em.getFittedModel();
     }
 
-    static double bernoulliNll(double[][] train, double[][] test, int dc) {
+    /**
+     * Mean NLL of the test rows' columns from {@code dc} on, each an independent categorical variable
+     * with {@code k[j - dc]} categories (cells 0..K-1) and add-one smoothing: p_c = (n_c + 1) / (n + K).
+     */
+    static double categoryNll(double[][] train, double[][] test, int dc, int[] k) {
         int d = train[0].length;
         double s = 0;
         for (int j = dc; j < d; j++) {
-            double ones = 1;
+            int kj = k[j - dc];
+            double[] count = new double[kj];
+            Arrays.fill(count, 1);
             for (double[] r : train) {
-                ones += r[j];
+                count[(int) Math.round(r[j])]++;
             }
-            double p = ones / (train.length + 2);
             for (double[] r : test) {
-                s -= r[j] > 0.5 ? Math.log(p) : Math.log(1 - p);
+                s -= Math.log(count[(int) Math.round(r[j])] / (train.length + kj));
             }
         }
         return s / test.length;

@@ -32,7 +32,7 @@ public final class Demo {
                     + " and write a report folder with every result row by row (completed.csv, synthetic.csv,"
                     + " scores.csv; denoised.csv with --noise, drift.csv with --compare). Without FILE.csv it uses invented telemetry of refrigerated"
                     + " shipping containers (with injected faults and 5% missing cells; not measurements).",
-            List.of(Option.BINARY, Option.MISSING, Option.OUT, Option.TRAIN_STEPS, Option.EPOCHS, Option.HIDDEN,
+            List.of(Option.BINARY, Option.CATEGORICAL, Option.INTEGER, Option.MISSING, Option.OUT, Option.TRAIN_STEPS, Option.EPOCHS, Option.HIDDEN,
                     Option.SEED, Option.HOLDOUT, Option.SAMPLE_STEPS, Option.TOLERANCE, Option.NOISE, Option.COMPARE,
                     Option.CONTAINERS, Option.DAYS, Option.NO_PROGRESS),
             Demo::execute);
@@ -69,7 +69,7 @@ public final class Demo {
             config = MainJob.Config.of(FleetTables.cells(t), s).withTruth(FleetTables.truth(t), t.faultRows())
                     .withFaultKinds(FleetTables.faultKinds(t), FleetTables.faultColumns(t));
         } else {
-            Table table = CommandTables.csv(s.file(), s.missing, s.binary, pre);
+            Table table = CommandTables.csv(s.file(), s.missing, s.binary, s.categorical, s.integer, pre);
             config = MainJob.Config.of(table, s).withLines(ResultFiles.recordLines(s.file(), table.rows()));
         }
         checkNoise(config.table(), s.noise);
@@ -96,6 +96,15 @@ public final class Demo {
                 throw new Command.UsageError("--noise names column '" + column + "', which is binary (0/1); noise is removed from"
                         + " continuous columns only");
             }
+            if (table.kind(j) != ColumnKind.CONTINUOUS) {
+                throw new Command.UsageError("--noise names column '" + column + "', which is " + table.kind(j).name()
+                        .toLowerCase(java.util.Locale.ROOT) + "; noise is removed from continuous columns only");
+            }
+        }
+        List<String> categorical = MainJob.namesOf(table, ColumnKind.CATEGORICAL);
+        if (!noise.isEmpty() && !categorical.isEmpty()) {
+            throw new Command.UsageError("--noise needs a table without categorical columns (the library denoises only models"
+                    + " without them); this one has " + String.join(", ", categorical));
         }
     }
 
@@ -106,15 +115,14 @@ public final class Demo {
      * @throws Command.UsageError naming the option and what is wrong with the file
      */
     static Table batch(Table table, Path file, String missing) throws IOException {
-        List<String> binary = new ArrayList<>();
-        List<String> continuous = new ArrayList<>();
-        for (int j = 0; j < table.columns(); j++) {
-            (table.kind(j) == ColumnKind.BINARY ? binary : continuous).add(table.name(j));
-        }
         Table batch;
         try {
-            batch = CsvTables.reader().missingToken(missing).binary(binary.toArray(String[]::new))
-                    .continuous(continuous.toArray(String[]::new)).allowEmptyColumns(true).read(file);
+            batch = CsvTables.reader().missingToken(missing)
+                    .binary(MainJob.namesOf(table, ColumnKind.BINARY).toArray(String[]::new))
+                    .categorical(MainJob.namesOf(table, ColumnKind.CATEGORICAL).toArray(String[]::new))
+                    .integer(MainJob.namesOf(table, ColumnKind.INTEGER).toArray(String[]::new))
+                    .continuous(MainJob.namesOf(table, ColumnKind.CONTINUOUS).toArray(String[]::new)).allowEmptyColumns(true)
+                    .read(file);
         } catch (TableFormatException e) {
             throw new Command.UsageError("--compare " + file + " cannot be read with the table's columns ("
                     + String.join(", ", table.names()) + "): " + e.getMessage());

@@ -14,8 +14,9 @@ import java.util.List;
 
 /**
  * Classical anomaly detectors, the comparison for Backstep's screen: each is fitted on the
- * training rows in model space (continuous columns standardized, then binary columns as 0 or 1)
- * and gives every row a score, higher is more unusual. The caller thresholds each at the same
+ * training rows in model space (continuous columns standardized, then binary columns as 0 or 1,
+ * then each categorical column as 0/1 indicators of its categories less the first, which the caller,
+ * {@code ScreenComparison}, makes from the model-space category indices) and gives every row a score, higher is more unusual. The caller thresholds each at the same
  * quantile of its held-out scores, as Backstep's screen is.
  *
  * <ul>

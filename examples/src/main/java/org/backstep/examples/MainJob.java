@@ -154,16 +154,16 @@ public final class MainJob {
         // 1. CSV round trip, the user's split and the fit
         Path csv = c.out().resolve("table.csv");
         CsvTables.writer().write(c.table(), csv);
-        List<String> binary = new ArrayList<>();
-        for (int j = 0; j < c.table().columns(); j++) {
-            if (c.table().kind(j) == ColumnKind.BINARY) {
-                binary.add(c.table().name(j));
-            }
+        List<String> binary = namesOf(c.table(), ColumnKind.BINARY);
+        List<String> categorical = namesOf(c.table(), ColumnKind.CATEGORICAL);
+        List<String> integer = namesOf(c.table(), ColumnKind.INTEGER);
+        List<String> continuous = namesOf(c.table(), ColumnKind.CONTINUOUS);
+        Table table = CsvTables.reader().binary(binary.toArray(String[]::new)).categorical(categorical.toArray(String[]::new))
+                .integer(integer.toArray(String[]::new)).continuous(continuous.toArray(String[]::new)).read(csv);
+        for (String name : categorical) {
+            // the file keeps labels, not their order: the labels are put back in the table's order
+            table = table.recode(name, c.table().categories(c.table().indexOf(name)));
         }
-        List<String> continuous = new ArrayList<>(c.table().names());
-        continuous.removeAll(binary);
-        Table table = CsvTables.reader().binary(binary.toArray(String[]::new))
-                .continuous(continuous.toArray(String[]::new)).read(csv);
         if (!table.equals(c.table())) {
             throw new IllegalStateException("the CSV round trip changed the table");
         }
@@ -171,13 +171,16 @@ public final class MainJob {
         Table held = table.filterRows(i -> i % c.holdout() == 0);
         Table heldComplete = held.completeRows();
         Table trainComplete = train.completeRows();
-        console.printf(Locale.ROOT, "1. Table: %d rows x %d columns (%d binary), %d missing cells; %d rows in the training part, "
-                        + "%d held-out rows (row %% %d == 0, never trained on)%n",
-                table.rows(), table.columns(), binary.size(), table.missingCount(), train.rows(), held.rows(), c.holdout());
+        console.printf(Locale.ROOT, "1. Table: %d rows x %d columns (%d binary, %d categorical, %d integer), %d missing cells; %d rows"
+                        + " in the training part, %d held-out rows (row %% %d == 0, never trained on)%n",
+                table.rows(), table.columns(), binary.size(), categorical.size(), integer.size(), table.missingCount(), train.rows(),
+                held.rows(), c.holdout());
         ObjectNode data = summary.putObject("data");
         data.put("rows", table.rows());
         data.put("columns", table.columns());
         data.put("binaryColumns", binary.size());
+        data.put("categoricalColumns", categorical.size());
+        data.put("integerColumns", integer.size());
         data.put("missingCells", table.missingCount());
         data.put("holdout", c.holdout());
         data.put("trainingPartRows", train.rows());
@@ -243,7 +246,7 @@ public final class MainJob {
         }
         ObjectNode b = summary.putObject("heldOutBound");
         b.put("rows", heldComplete.rows());
-        b.put("dimensions", model.transform().modelledContinuous().length + model.transform().modelledBinary().length);
+        b.put("dimensions", model.transform().modelColumns());
         b.put("natsPerRecordModelSpace", bound.meanNats());
         b.put("standardError", bound.standardErrorOfMean());
         b.put("natsPerRecordOriginalUnits", bound.meanNatsOriginalUnits());
@@ -317,6 +320,17 @@ public final class MainJob {
                 c.out().resolve("report.html").toAbsolutePath(), PlanFiles.STEP_PLAN_CSV, PlanFiles.STEP_PLAN_PNG,
                 summary.get("seconds").asDouble());
         return summary;
+    }
+
+    /** The names of the table's columns of one kind, in table order. */
+    static List<String> namesOf(Table table, ColumnKind kind) {
+        List<String> out = new ArrayList<>();
+        for (int j = 0; j < table.columns(); j++) {
+            if (table.kind(j) == kind) {
+                out.add(table.name(j));
+            }
+        }
+        return out;
     }
 
     /** Puts the seconds since {@code mark} under {@code name}; returns the new mark. */

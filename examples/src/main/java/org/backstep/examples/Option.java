@@ -50,6 +50,13 @@ enum Option {
             (s, v) -> s.holdout = Parse.whole(v, "--holdout", 2)),
     BINARY("--binary", "COL[,COL...]", "columns of FILE.csv that are binary (0/1); others are inferred",
             (s, v) -> s.binary = Arrays.asList(v.split(","))),
+    CATEGORICAL("--categorical", "COL[,COL...]", "columns of FILE.csv holding labels (a site, a mode, an alarm code), one"
+            + " category per distinct label; a column holding any text that is not a number is categorical anyway, with a note",
+            (s, v) -> s.categorical = Parse.names(v, "--categorical")),
+    INTEGER("--integer", "COL[,COL...]", "columns of FILE.csv holding whole numbers (counts, ordinal codes): their samples and"
+            + " imputations are whole numbers and their part of a score is a probability; other columns of whole numbers stay"
+            + " continuous, with a note",
+            (s, v) -> s.integer = Parse.names(v, "--integer")),
     MISSING("--missing", "TOKEN", "the token of a missing cell in the CSV file (default: an empty cell)",
             (s, v) -> s.missing = v),
     NOISE("--noise", "COL=SD[,COL=SD...]", "the sensor noise of continuous columns: a standard deviation above 0 in the"
@@ -181,6 +188,22 @@ enum Option {
                 }
             }
             return out;
+        }
+
+        /** A comma-separated list of column names, none blank, none twice. */
+        static java.util.List<String> names(String v, String option) {
+            java.util.List<String> out = new java.util.ArrayList<>();
+            for (String part : v.split(",", -1)) {
+                String name = part.strip();
+                if (name.isEmpty()) {
+                    throw new IllegalArgumentException(option + " is '" + v + "'; expected column names separated by commas");
+                }
+                if (out.contains(name)) {
+                    throw new IllegalArgumentException(option + " lists column '" + name + "' twice");
+                }
+                out.add(name);
+            }
+            return java.util.List.copyOf(out);
         }
 
         /** A path to a regular file that exists. */

@@ -54,10 +54,15 @@ public final class PlanSteps {
         DiffusionModel model = DiffusionModel.load(s.files.get(0));
         List<String> binary = new ArrayList<>();
         List<String> continuous = new ArrayList<>();
+        List<String> categorical = new ArrayList<>();
+        List<String> integer = new ArrayList<>();
         for (int j = 0; j < model.transform().names().size(); j++) {
-            (model.transform().kinds().get(j) == ColumnKind.BINARY ? binary : continuous).add(model.transform().names().get(j));
+            ColumnKind kind = model.transform().kinds().get(j);
+            (kind == ColumnKind.BINARY ? binary : kind == ColumnKind.CATEGORICAL ? categorical : kind == ColumnKind.INTEGER ? integer
+                    : continuous).add(model.transform().names().get(j));
         }
         Table file = CsvTables.reader().missingToken(s.missing).binary(binary.toArray(String[]::new))
+                .categorical(categorical.toArray(String[]::new)).integer(integer.toArray(String[]::new))
                 .continuous(continuous.toArray(String[]::new)).read(s.files.get(1));
         Table held = file.completeRows();
         out.printf(Locale.ROOT, "Held-out rows %s: %d rows, %d of them complete (used)%n", s.files.get(1), file.rows(), held.rows());

@@ -35,7 +35,7 @@ public final class PlanTraining {
                     + " Writes training-plan.csv and training-plan.png. Without FILE.csv it uses invented telemetry of"
                     + " refrigerated shipping containers (not measurements).",
             List.of(Option.TRAIN_STEPS_LIST, Option.SECONDS, Option.UPDATES, Option.TOLERANCE, Option.HIDDEN, Option.SEED,
-                    Option.HOLDOUT, Option.BINARY, Option.MISSING, Option.CONTAINERS, Option.DAYS, Option.OUT,
+                    Option.HOLDOUT, Option.BINARY, Option.CATEGORICAL, Option.INTEGER, Option.MISSING, Option.CONTAINERS, Option.DAYS, Option.OUT,
                     Option.NO_PROGRESS),
             PlanTraining::execute);
 
@@ -63,7 +63,7 @@ public final class PlanTraining {
 
     private static void execute(Settings s, PrintStream out) throws IOException, TableFormatException {
         Table table = s.file() == null ? FleetTables.cells(CommandTables.inventedFleet(s.containers, s.days, s.seed, out))
-                : CommandTables.csv(s.file(), s.missing, s.binary, out);
+                : CommandTables.csv(s.file(), s.missing, s.binary, s.categorical, s.integer, out);
         Table train = table.filterRows(i -> i % s.holdout != 0);
         Table held = table.filterRows(i -> i % s.holdout == 0);
         TrainingBudget budget = s.updates > 0 ? TrainingBudget.updates(s.updates)

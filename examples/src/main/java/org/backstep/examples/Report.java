@@ -82,7 +82,8 @@ final class Report {
         int holdout = data.path("holdout").asInt();
         table(h, List.of(
                 new Figure("Rows in the table", count(data, "rows"), "all", ""),
-                new Figure("Columns", count(data, "columns") + " (" + count(data, "binaryColumns") + " binary)", "", ""),
+                new Figure("Columns", count(data, "columns") + " (" + count(data, "binaryColumns") + " binary, "
+                        + count(data, "categoricalColumns") + " categorical, " + count(data, "integerColumns") + " integer)", "", ""),
                 new Figure("Missing cells", count(data, "missingCells"), "all", ""),
                 new Figure("Training part", count(data, "trainingPartRows") + " rows", "row index i with i % " + holdout + " != 0", ""),
                 new Figure("Trained on", count(training, "trainedRows") + " rows", "training part, less the checkpoint rows and the"
@@ -174,17 +175,31 @@ final class Report {
                         pct(imputation.path("coverage90").asDouble(), 1), "the hidden cells, " + count(imputation, "draws") + " draws each",
                         "near " + pct(imputation.path("coverage90OfPerfectModel").asDouble(), 1) + ", what a perfect model gives with "
                                 + count(imputation, "draws") + " draws")));
+        if (imputation.path("hiddenCategoryCells").asInt() > 0) {
+            table(h, List.of(
+                    new Figure("Categories hidden", count(imputation, "hiddenCategoryCells"), "one per row, in categorical columns", ""),
+                    new Figure("Most likely category right", pct(imputation.path("categoryAccuracy").asDouble(), 1),
+                            "the category most frequent among the draws", "above " + pct(imputation.path("categoryAccuracyMostFrequent")
+                            .asDouble(), 1) + ", the training rows' most frequent category"),
+                    new Figure("Share of the true category among the draws", num(imputation, "categoryTrueShare", 3),
+                            "mean over the hidden categories", "high; 1 would be certain and right")));
+        }
 
         h.append("<h2>Cleaning noisy readings</h2>\n");
-        table(h, List.of(
-                new Figure("Readings denoised", count(denoising, "cells"), count(denoising, "rows")
-                        + " complete held-out rows x their continuous columns; noise added on purpose"
-                        + (denoising.has("noiseShareOfColumnSd") ? ", " + pct(denoising.path("noiseShareOfColumnSd").asDouble(), 0)
-                        + " of each column's sd" : ""), ""),
-                new Figure("Error before", num(denoising, "rmseBeforeInNoiseSd", 3) + " noise sd (RMSE)", "the noisy readings",
-                        "about 1: the noise as added"),
-                new Figure("Error after", num(denoising, "rmseAfterInNoiseSd", 3) + " noise sd (RMSE)", "the denoised readings",
-                        "below the error before")));
+        if (denoising.has("skipped")) {
+            h.append(p("Not run: the model has categorical columns, and the library denoises only models without them (reading"
+                    + " noise is Gaussian; a category has none)."));
+        } else {
+            table(h, List.of(
+                    new Figure("Readings denoised", count(denoising, "cells"), count(denoising, "rows")
+                            + " complete held-out rows x their continuous columns; noise added on purpose"
+                            + (denoising.has("noiseShareOfColumnSd") ? ", " + pct(denoising.path("noiseShareOfColumnSd").asDouble(), 0)
+                            + " of each column's sd" : ""), ""),
+                    new Figure("Error before", num(denoising, "rmseBeforeInNoiseSd", 3) + " noise sd (RMSE)", "the noisy readings",
+                            "about 1: the noise as added"),
+                    new Figure("Error after", num(denoising, "rmseAfterInNoiseSd", 3) + " noise sd (RMSE)", "the denoised readings",
+                            "below the error before")));
+        }
 
         h.append("<h2>Synthetic rows</h2>\n");
         table(h, List.of(
@@ -208,6 +223,18 @@ final class Report {
                     .append("</td><td>").append(num(c, "sdSynthetic", 3)).append("</td><td>").append(num(c, "ks", 3)).append("</td></tr>\n");
         }
         h.append(cols).append("</table>\n");
+        if (samples.has("categories")) {
+            StringBuilder cats = new StringBuilder("<table>\n<tr><th class=\"l\">column</th><th class=\"l\">category</th>"
+                    + "<th>share, held-out</th><th>share, synthetic</th></tr>\n");
+            for (JsonNode c : samples.path("categories")) {
+                cats.append("<tr><td class=\"l\">").append(escape(c.path("column").asText())).append("</td><td class=\"l\">")
+                        .append(escape(c.path("category").asText())).append("</td><td>").append(num(c, "shareData", 3))
+                        .append("</td><td>").append(num(c, "shareSynthetic", 3)).append("</td></tr>\n");
+            }
+            h.append(p("Categorical columns have no mean or sd: the share of each category, held-out rows beside synthetic"
+                    + " ones (every synthetic cell is one of the column's labels)."));
+            h.append(cats).append("</table>\n");
+        }
         chart(h, charts, SAMPLES, "Two continuous columns of the synthetic rows over the held-out rows, in the table's units.");
 
         h.append("<h2>Sampling step count</h2>\n");
@@ -355,7 +382,7 @@ final class Report {
             c.add(String.format(Locale.ROOT, "<b>Imputation intervals are too narrow:</b> they cover %s of the hidden truths, against %s "
                     + "for a perfect model; treat them as too confident.", pct(coverage, 1), pct(perfect, 1)));
         }
-        if (denoising.path("rmseAfterInNoiseSd").asDouble() >= denoising.path("rmseBeforeInNoiseSd").asDouble()) {
+        if (!denoising.has("skipped") && denoising.path("rmseAfterInNoiseSd").asDouble() >= denoising.path("rmseBeforeInNoiseSd").asDouble()) {
             c.add("<b>Denoising did not help:</b> the readings are no closer to the truth after it than before.");
         }
         if (samples.path("energyPValue").asDouble() < SIGNIFICANCE) {

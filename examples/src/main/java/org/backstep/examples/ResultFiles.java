@@ -137,10 +137,12 @@ final class ResultFiles {
     /**
      * Writes completed.csv: per input row its line, every column with each missing cell filled by the
      * imputation's mean (a binary cell by its most likely value: 1 when at least half the draws are
-     * 1), a column naming the row's imputed columns, and for each column with a missing cell the
-     * interval of its imputed cells (continuous: {@code <col>_low90}, {@code <col>_high90} at the
-     * imputation's level; binary: {@code <col>_p1}, the share of draws that are 1), empty where the
-     * cell was observed.
+     * 1; a categorical cell by the label most frequent among the draws; an integer cell by the median
+     * draw, a whole number), a column naming the row's imputed columns, and for each column with a
+     * missing cell the interval of its imputed cells (continuous and integer: {@code <col>_low90},
+     * {@code <col>_high90} at the imputation's level; binary: {@code <col>_p1}, the share of draws
+     * that are 1; categorical: {@code <col>_share}, the share of draws in the label written), empty
+     * where the cell was observed. Categorical cells hold their labels.
      *
      * @param dir the report folder
      * @param table the input table
@@ -169,6 +171,8 @@ final class ResultFiles {
             if (gappy[j]) {
                 if (table.kind(j) == ColumnKind.BINARY) {
                     header.add(unique(table.name(j) + "_p1", taken));
+                } else if (table.kind(j) == ColumnKind.CATEGORICAL) {
+                    header.add(unique(table.name(j) + "_share", taken));
                 } else {
                     header.add(unique(table.name(j) + "_low" + percent, taken));
                     header.add(unique(table.name(j) + "_high" + percent, taken));
@@ -189,16 +193,30 @@ final class ResultFiles {
                 double v = table.get(i, j);
                 boolean missing = Double.isNaN(v);
                 boolean binary = table.kind(j) == ColumnKind.BINARY;
+                boolean categorical = table.kind(j) == ColumnKind.CATEGORICAL;
+                String label = null;
+                double share = Double.NaN;
                 if (missing) {
                     double mean = imputation.mean().get(k, j);
-                    v = binary ? (mean >= 0.5 ? 1 : 0) : mean;
+                    if (categorical) {
+                        label = imputation.mostLikely(k, j);
+                        share = imputation.categoryShares(k, j)[table.categories(j).indexOf(label)];
+                    } else if (table.kind(j) == ColumnKind.INTEGER) {
+                        v = medianDraw(imputation, k, j);
+                    } else {
+                        v = binary ? (mean >= 0.5 ? 1 : 0) : mean;
+                    }
                     names.add(table.name(j));
                     imputed++;
+                } else if (categorical) {
+                    label = table.label(i, j);
                 }
-                cells.add(number(v));
+                cells.add(categorical ? label : number(v));
                 if (gappy[j]) {
                     if (binary) {
                         intervals.add(missing ? number(imputation.mean().get(k, j)) : "");
+                    } else if (categorical) {
+                        intervals.add(missing ? number(share) : "");
                     } else {
                         intervals.add(missing ? number(imputation.lower().get(k, j)) : "");
                         intervals.add(missing ? number(imputation.upper().get(k, j)) : "");
@@ -216,16 +234,26 @@ final class ResultFiles {
         return new Completed(table.rows(), imputed);
     }
 
+    /** The median of a cell's draws, the lower of the two middle ones for an even count: always one of the draws. */
+    static double medianDraw(Imputation imputation, int row, int column) {
+        double[] d = new double[imputation.draws().size()];
+        for (int q = 0; q < d.length; q++) {
+            d[q] = imputation.draws().get(q).get(row, column);
+        }
+        java.util.Arrays.sort(d);
+        return d[(d.length - 1) / 2];
+    }
+
     // ------------------------------------------------------------------ synthetic.csv
 
-    /** Writes synthetic.csv: the synthetic rows, the table's columns in original units (binary 0/1). */
+    /** Writes synthetic.csv: the synthetic rows, the table's columns in original units (binary 0/1, categorical as labels). */
     static void synthetic(Path dir, Table samples) throws IOException {
         StringBuilder out = new StringBuilder();
         row(out, samples.names());
         for (int i = 0; i < samples.rows(); i++) {
             List<String> cells = new ArrayList<>();
             for (int j = 0; j < samples.columns(); j++) {
-                cells.add(number(samples.get(i, j)));
+                cells.add(samples.kind(j) == ColumnKind.CATEGORICAL ? samples.label(i, j) : number(samples.get(i, j)));
             }
             row(out, cells);
         }

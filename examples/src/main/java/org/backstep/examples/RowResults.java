@@ -54,7 +54,7 @@ final class RowResults {
         files.put("completedRowsWithGaps", incomplete.length);
         files.put("imputedCells", completed.imputedCells());
         console.printf(Locale.ROOT, "   %s: the %d rows, the %d missing cells of %d rows filled by the imputation's mean (binary: "
-                        + "the most likely value) with %.0f%% intervals of %d draws%n", ResultFiles.COMPLETED, completed.rows(),
+                        + "the most likely value; categorical: the label most frequent among the draws; integer: the median draw) with %.0f%% intervals of %d draws%n", ResultFiles.COMPLETED, completed.rows(),
                 completed.imputedCells(), incomplete.length, 100 * LEVEL, MainJob.IMPUTATION_DRAWS);
 
         ResultFiles.synthetic(c.out(), samples);

@@ -39,6 +39,45 @@ final class ScreenComparison {
             + "(the change per reading of each container) or compare batches (drift).";
 
     /**
+     * For model-space rows whose last {@code k.length} columns are category indices (K = k[j]), the
+     * flat list of (column, category) pairs kept as indicators: categories 1..K-1 (the first is the
+     * reference, as in dummy coding) that the training rows both show and do not always show, so that
+     * no indicator is constant and the detectors' covariances stay invertible.
+     */
+    static int[] indicators(double[][] train, int[] k) {
+        int width = train[0].length;
+        int first = width - k.length;
+        List<Integer> kept = new ArrayList<>();
+        for (int j = 0; j < k.length; j++) {
+            int[] count = new int[k[j]];
+            for (double[] r : train) {
+                count[(int) r[first + j]]++;
+            }
+            for (int q = 1; q < k[j]; q++) {
+                if (count[q] > 0 && count[q] < train.length) {
+                    kept.add(j * Table.MAX_CATEGORIES + q);
+                }
+            }
+        }
+        return kept.stream().mapToInt(Integer::intValue).toArray();
+    }
+
+    /** The rows with their category-index columns (the last {@code k.length}) replaced by the kept indicators. */
+    static double[][] oneHot(double[][] rows, int[] k, int[] kept) {
+        int first = rows.length == 0 ? 0 : rows[0].length - k.length;
+        double[][] out = new double[rows.length][];
+        for (int i = 0; i < rows.length; i++) {
+            double[] r = java.util.Arrays.copyOf(rows[i], first + kept.length);
+            for (int q = 0; q < kept.length; q++) {
+                int j = kept[q] / Table.MAX_CATEGORIES;
+                r[first + q] = rows[i][first + j] == kept[q] % Table.MAX_CATEGORIES ? 1 : 0;
+            }
+            out[i] = r;
+        }
+        return out;
+    }
+
+    /**
      * The same screen by classical detectors (Detectors), fitted on the same training rows in model
      * space and thresholded at the same quantile of their held-out scores: flagged rows, precision,
      * recall, the area under the ROC curve, recall per fault kind; and the ROC chart.
@@ -50,6 +89,17 @@ final class ScreenComparison {
         double[][] trainM = model.transform().toModelSpace(table.selectRows(trainIndex));
         double[][] heldM = model.transform().toModelSpace(heldComplete);
         double[][] scoredM = model.transform().toModelSpace(scoredRows);
+        int[] cats = model.transform().modelledCategories();
+        if (cats.length > 0) {
+            // a category's index is no number: each categorical column enters the detectors as 0/1 indicators
+            int[] kept = indicators(trainM, cats);
+            trainM = oneHot(trainM, cats, kept);
+            heldM = oneHot(heldM, cats, kept);
+            scoredM = oneHot(scoredM, cats, kept);
+            console.println("   (the classical detectors see each categorical column as 0/1 indicator columns, one per category"
+                    + " seen in their training rows less the first, like binary columns; the Gaussian mixture takes them as"
+                    + " independent)");
+        }
         int dc = model.transform().modelledContinuous().length;
         int components = summary.path("heldOutBound").path("mixtureComponents").asInt(1);
         List<Detectors.Scores> detectors = new ArrayList<>();

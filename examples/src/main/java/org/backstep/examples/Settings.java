@@ -29,6 +29,10 @@ final class Settings {
     /** The file arguments, in order. */
     final List<Path> files = new ArrayList<>();
     List<String> binary = List.of();
+    /** --categorical: columns of FILE.csv holding labels; empty when not given. */
+    List<String> categorical = List.of();
+    /** --integer: columns of FILE.csv holding whole numbers (counts, codes); empty when not given. */
+    List<String> integer = List.of();
     String missing = "";
     Path out = Path.of(OUT);
     int trainSteps = Defaults.STEPS;

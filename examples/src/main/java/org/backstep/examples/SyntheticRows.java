@@ -10,11 +10,13 @@ import org.backstep.table.Table;
 
 import java.io.PrintStream;
 import java.util.Arrays;
+import java.util.List;
 import java.util.Locale;
 
 /**
  * Step 6 of the main job: synthetic rows, their quality against held-out rows (energy test,
- * per-column statistics, Kolmogorov-Smirnov) and a memorization check (each row's distance to its
+ * per-column statistics, Kolmogorov-Smirnov; for a categorical column the share of each category)
+ * and a memorization check (each row's distance to its
  * closest training row, synthetic against held-out).
  */
 final class SyntheticRows {
@@ -81,6 +83,34 @@ final class SyntheticRows {
             console.printf(Locale.ROOT, "   %-16s %10.3f %10.3f %10.3f %10.3f %8.3f%n", held.name(col), Stats.mean(dv),
                     Stats.mean(sv), Stats.sd(dv), Stats.sd(sv), ks[j]);
         }
+        int[] cats = model.transform().modelledCategorical();
+        if (cats.length > 0) {
+            // a category has no mean or sd: the share of each label, data beside synthetic
+            ArrayNode shares = s.putArray("categories");
+            console.printf(Locale.ROOT, "   %-16s %-20s %10s %10s%n", "column", "category", "share data", "share synth");
+            for (int col : cats) {
+                double[] dv = shares(held, col);
+                double[] sv = shares(samples, col);
+                List<String> labels = held.categories(col);
+                for (int k = 0; k < labels.size(); k++) {
+                    ObjectNode o = shares.addObject();
+                    o.put("column", held.name(col));
+                    o.put("category", labels.get(k));
+                    o.put("shareData", dv[k]);
+                    o.put("shareSynthetic", sv[k]);
+                    console.printf(Locale.ROOT, "   %-16s %-20s %10.3f %10.3f%n", k == 0 ? held.name(col) : "", labels.get(k), dv[k], sv[k]);
+                }
+            }
+        }
         return samples;
+    }
+
+    /** The share of each category of a categorical column among the rows (in the column's label order). */
+    static double[] shares(Table t, int col) {
+        double[] out = new double[t.categories(col).size()];
+        for (int r = 0; r < t.rows(); r++) {
+            out[(int) t.get(r, col)] += 1.0 / t.rows();
+        }
+        return out;
     }
 }

@@ -115,9 +115,9 @@ class DemoPipelineTest {
             assertFinite(b, f);
         }
         assertTrue(b.path("standardError").asDouble() > 0, "standard error of the bound");
-        // bits per dimension = nats / (D ln 2) (BoundReport's Javadoc); D = 7 modelled columns here
-        assertEquals(7, b.path("dimensions").asInt());
-        assertEquals(b.path("natsPerRecordModelSpace").asDouble() / (7 * Math.log(2)), b.path("bitsPerDimension").asDouble(), 1e-9);
+        // bits per dimension = nats / (D ln 2) (BoundReport's Javadoc); D = 9 modelled columns here (alarm_code one of them)
+        assertEquals(9, b.path("dimensions").asInt());
+        assertEquals(b.path("natsPerRecordModelSpace").asDouble() / (9 * Math.log(2)), b.path("bitsPerDimension").asDouble(), 1e-9);
         assertTrue(b.path("mixtureComponents").asInt() >= 1);
 
         JsonNode a = s.path("anomalies");
@@ -133,11 +133,12 @@ class DemoPipelineTest {
         assertFinite(imp, "rmseInColumnSd");
         assertUnit(imp, "coverage90");
         assertUnit(imp, "coverage90OfPerfectModel");
+        // the fleet has a categorical column (alarm_code), and the library denoises only models without one
         JsonNode den = s.path("denoising");
-        assertTrue(den.path("cells").asInt() > 0);
-        assertFinite(den, "rmseBeforeInNoiseSd");
-        assertFinite(den, "rmseAfterInNoiseSd");
-        assertTrue(den.path("startStep").asInt() >= 1 && den.path("startStep").asInt() <= STEPS);
+        assertEquals("categorical columns", den.path("skipped").asText(), den.toString());
+        assertTrue(imp.path("hiddenCategoryCells").asInt() > 0, imp.toString());
+        assertUnit(imp, "categoryAccuracy");
+        assertUnit(imp, "categoryTrueShare");
 
         JsonNode smp = s.path("samples");
         assertTrue(smp.path("count").asInt() > 0);
@@ -145,7 +146,8 @@ class DemoPipelineTest {
         assertUnit(smp, "energyPValue");
         assertUnit(smp, "maxKs");
         assertUnit(smp, "shareCloserThanHeldOutFirstPercentile");
-        assertEquals(7, smp.path("columns").size());
+        assertEquals(8, smp.path("columns").size()); // every modelled column but the categorical alarm_code
+        assertEquals(ReeferFleet.ALARM_CODES.size(), smp.path("categories").size());
 
         // the planner: Defaults.PLANNER_STEP_COUNTS below T, and T itself
         JsonNode p = s.path("planner");
@@ -212,8 +214,7 @@ class DemoPipelineTest {
                 + " cells in all)"), console);
         assertTrue(console.contains(t.path("checkpointRows").asInt() + " checkpoint rows"), console);
         assertTrue(console.contains(t.path("rowsNotUsed").asInt() + " rows not used"), console);
-        assertTrue(console.contains("Denoised " + returned.path("denoising").path("cells").asInt() + " readings ("
-                + returned.path("denoising").path("rows").asInt() + " complete held-out rows"), console);
+        assertTrue(console.contains("5. Denoising skipped: the model has categorical columns (alarm_code)"), console);
         assertTrue(console.contains("Imputed " + returned.path("imputation").path("hiddenCells").asInt() + " cells"), console);
         assertTrue(console.contains(returned.path("samples").path("count").asInt() + " synthetic rows"), console);
         JsonNode f = returned.path("files");

@@ -5,6 +5,7 @@ import org.backstep.table.Table;
 
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
 
 /** Turns invented fleet telemetry into Backstep tables. */
 public final class FleetTables {
@@ -17,7 +18,7 @@ public final class FleetTables {
      * @return the readings as a table, NaN where a cell is missing
      */
     public static Table cells(Telemetry telemetry) {
-        return Table.of(telemetry.columnNames(), kinds(telemetry), telemetry.cells());
+        return Table.of(telemetry.columnNames(), kinds(telemetry), categories(telemetry), telemetry.cells());
     }
 
     /**
@@ -25,7 +26,7 @@ public final class FleetTables {
      * @return the readings before cells were blanked
      */
     public static Table truth(Telemetry telemetry) {
-        return Table.of(telemetry.columnNames(), kinds(telemetry), telemetry.truth());
+        return Table.of(telemetry.columnNames(), kinds(telemetry), categories(telemetry), telemetry.truth());
     }
 
     /**
@@ -54,7 +55,16 @@ public final class FleetTables {
         return out;
     }
 
+    private static Map<String, List<String>> categories(Telemetry telemetry) {
+        return telemetry.columnNames().equals(ReeferFleet.COLUMN_NAMES)
+                ? Map.of(ReeferFleet.COLUMN_NAMES.get(ReeferFleet.ALARM_CODE), ReeferFleet.ALARM_CODES) : Map.of();
+    }
+
+    /** The generator's kinds (door_openings INTEGER, alarm_code CATEGORICAL) for its own columns; else binary or continuous. */
     private static List<ColumnKind> kinds(Telemetry telemetry) {
+        if (telemetry.columnNames().equals(ReeferFleet.COLUMN_NAMES)) {
+            return ReeferFleet.COLUMN_KINDS;
+        }
         List<ColumnKind> kinds = new ArrayList<>();
         for (boolean b : telemetry.binaryColumns()) {
             kinds.add(b ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);

@@ -6,6 +6,7 @@ import java.util.SplittableRandom;
 import org.apache.commons.math3.random.RandomGenerator;
 import org.apache.commons.math3.random.Well19937c;
 import org.backstep.schedule.Require;
+import org.backstep.table.ColumnKind;
 
 /**
  * Invented telemetry of a fleet of refrigerated shipping containers ("reefers"), for
@@ -15,8 +16,10 @@ import org.backstep.schedule.Require;
  *
  * <p>Each container records one row every {@value #INTERVAL_MINUTES} minutes
  * ({@value #READINGS_PER_DAY} rows a day) with the columns, in this order:
- * {@code supply_air_c, return_air_c, ambient_c, humidity_pct, compressor_a, door_open, defrost};
- * the last two are binary (0 or 1). Rows are ordered container by container, reading by reading.
+ * {@code supply_air_c, return_air_c, ambient_c, humidity_pct, compressor_a, door_open, defrost,
+ * door_openings, alarm_code}; door_open and defrost are binary (0 or 1), door_openings an integer
+ * count, alarm_code categorical ({@link #ALARM_CODES}). Rows are ordered container by container,
+ * reading by reading.
  * Usage: {@code ReeferFleet.generate(ReeferFleet.options().withContainers(20))}.
  *
  * <h2>Per container c (drawn once)</h2>
@@ -83,10 +86,27 @@ import org.backstep.schedule.Require;
  * range cannot see it.
  * Only rows inside the window carry the fault's label; every other row is {@link FaultKind#NONE}.
  *
+ * <h2>Counts and codes (after the faults)</h2>
+ * Drawn from a stream of their own, from the readings with their faults, so that the seven columns
+ * above are the same bit for bit whether these two exist or not. With u_k = 1 where a door opening
+ * starts at reading k (o_k = 1, o_{k-1} = 0) and the hour of readings k-3..k of the same container:
+ * <pre>
+ *   door_openings = sum of u over the hour + Poisson(lambda),  lambda = 0.6 chilled and tropical
+ *                   (produce is inspected), 0.2 frozen: openings per hour, short ones included that
+ *                   no 15-minute reading catches; at least 1 whenever door_open = 1
+ *   alarm_code    = "sensor-fault"     on a STUCK_SENSOR row from its 9th reading on, with probability 0.5,
+ *                                      and on any row with probability 0.002 (false alarms)
+ *                   else "high-temp"   when return_air_c exceeds the setpoint by more than 4 C
+ *                                      (an open door under load, a drifting sensor, a failing compressor)
+ *                   else "defrost-timeout" on the last reading of a defrost of 3 readings, with probability 0.5
+ *                   else "none"
+ * </pre>
+ *
  * <h2>Missing cells</h2>
  * Each cell of every column is independently missing with probability missingShare (missing
  * completely at random); missing cells are NaN in {@link Telemetry#cells()} and keep their value
- * in {@link Telemetry#truth()}.
+ * in {@link Telemetry#truth()}. The cells of door_openings and alarm_code are blanked from a stream
+ * of their own, so the blanks of the seven columns above do not move.
  *
  * <h2>Randomness</h2>
  * A {@link SplittableRandom} seeded with the seed hands out one seed each to the fleet draws, the
@@ -120,11 +140,31 @@ public final class ReeferFleet {
     /** Column index of {@code defrost} (binary). */
     public static final int DEFROST = 6;
 
+    /** Column index of {@code door_openings} (integer: door openings in the hour up to the reading). */
+    public static final int DOOR_OPENINGS = 7;
+    /** Column index of {@code alarm_code} (categorical: an index into {@link #ALARM_CODES}). */
+    public static final int ALARM_CODE = 8;
+
     /** The column names, in order. */
     public static final List<String> COLUMN_NAMES = List.of(
-            "supply_air_c", "return_air_c", "ambient_c", "humidity_pct", "compressor_a", "door_open", "defrost");
+            "supply_air_c", "return_air_c", "ambient_c", "humidity_pct", "compressor_a", "door_open", "defrost",
+            "door_openings", "alarm_code");
     /** Whether each column is binary (0 or 1), in the order of {@link #COLUMN_NAMES}. */
-    public static final List<Boolean> BINARY_COLUMNS = List.of(false, false, false, false, false, true, true);
+    public static final List<Boolean> BINARY_COLUMNS = List.of(false, false, false, false, false, true, true, false, false);
+    /** The kind of each column, in the order of {@link #COLUMN_NAMES}. */
+    public static final List<ColumnKind> COLUMN_KINDS = List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS,
+            ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.BINARY, ColumnKind.BINARY,
+            ColumnKind.INTEGER, ColumnKind.CATEGORICAL);
+    /** The labels of alarm_code; a cell holds the index of its label. */
+    public static final List<String> ALARM_CODES = List.of("none", "high-temp", "defrost-timeout", "sensor-fault");
+    /** Index of "none" in {@link #ALARM_CODES}. */
+    public static final int ALARM_NONE = 0;
+    /** Index of "high-temp" in {@link #ALARM_CODES}. */
+    public static final int ALARM_HIGH_TEMP = 1;
+    /** Index of "defrost-timeout" in {@link #ALARM_CODES}. */
+    public static final int ALARM_DEFROST_TIMEOUT = 2;
+    /** Index of "sensor-fault" in {@link #ALARM_CODES}. */
+    public static final int ALARM_SENSOR_FAULT = 3;
 
     /** Default number of containers. */
     public static final int DEFAULT_CONTAINERS = 48;
@@ -197,7 +237,17 @@ public final class ReeferFleet {
     static final double CURRENT_RISE_MIN = 0.30;
     static final double CURRENT_RISE_MAX = 0.60;
 
-    private static final int COLUMNS = 7;
+    static final double SHORT_OPENINGS_PRODUCE_PER_HOUR = 0.6;
+    static final double SHORT_OPENINGS_FROZEN_PER_HOUR = 0.2;
+    static final int STUCK_NOTICED_AFTER_READINGS = 8;
+    static final double STUCK_ALARM_PROBABILITY = 0.5;
+    static final double FALSE_SENSOR_ALARM_PROBABILITY = 0.002;
+    static final double HIGH_TEMP_MARGIN_C = 4.0;
+    static final double DEFROST_TIMEOUT_PROBABILITY = 0.5;
+
+    private static final int COLUMNS = 9;
+    /** The columns drawn per reading by the physics; the counts and codes follow them. */
+    private static final int MEASURED_COLUMNS = 7;
 
     private ReeferFleet() {
     }
@@ -354,13 +404,22 @@ public final class ReeferFleet {
         FaultKind[] fault = new FaultKind[rows];
         Arrays.fill(fault, FaultKind.NONE);
         injectFaultsInPlace(truth, fault, setpoint, options, faultRng);
+        // drawn after every other seed, so that the streams above are as they were before these columns
+        RandomGenerator codeRng = new Well19937c(master.nextLong());
+        RandomGenerator codeMissingRng = new Well19937c(master.nextLong());
+        countsAndCodesInPlace(truth, fault, setpoint, perContainer, codeRng);
 
         double[][] cells = new double[rows][];
         double p = options.missingShare();
         for (int r = 0; r < rows; r++) {
             cells[r] = truth[r].clone();
-            for (int j = 0; j < COLUMNS; j++) {
+            for (int j = 0; j < MEASURED_COLUMNS; j++) {
                 if (missingRng.nextDouble() < p) {
+                    cells[r][j] = Double.NaN;
+                }
+            }
+            for (int j = MEASURED_COLUMNS; j < COLUMNS; j++) {
+                if (codeMissingRng.nextDouble() < p) {
                     cells[r][j] = Double.NaN;
                 }
             }
@@ -526,6 +585,55 @@ public final class ReeferFleet {
                 }
             }
         }
+    }
+
+    /** Fills door_openings and alarm_code of every row from the readings with their faults (see the class comment). */
+    private static void countsAndCodesInPlace(double[][] truth, FaultKind[] fault, double[] setpoints, int perContainer,
+                                              RandomGenerator rng) {
+        for (int r = 0; r < truth.length; r++) {
+            int c = r / perContainer;
+            int k = r % perContainer;
+            double[] row = truth[r];
+            int starts = 0;
+            for (int q = Math.max(0, k - 3); q <= k; q++) {
+                double[] at = truth[c * perContainer + q];
+                boolean before = q > 0 && truth[c * perContainer + q - 1][DOOR_OPEN] == 1.0;
+                starts += at[DOOR_OPEN] == 1.0 && !before ? 1 : 0;
+            }
+            double lambda = setpoints[c] == SETPOINT_FROZEN_C ? SHORT_OPENINGS_FROZEN_PER_HOUR : SHORT_OPENINGS_PRODUCE_PER_HOUR;
+            row[DOOR_OPENINGS] = starts + poisson(lambda, rng);
+
+            int stuckRun = 0;
+            for (int q = k; q >= 0 && fault[c * perContainer + q] == FaultKind.STUCK_SENSOR; q--) {
+                stuckRun++;
+            }
+            boolean stuckAlarm = stuckRun > STUCK_NOTICED_AFTER_READINGS && rng.nextDouble() < STUCK_ALARM_PROBABILITY;
+            boolean falseAlarm = rng.nextDouble() < FALSE_SENSOR_ALARM_PROBABILITY;
+            boolean lastOfLongDefrost = row[DEFROST] == 1.0 && (k + 1 == perContainer || truth[r + 1][DEFROST] == 0.0)
+                    && k >= 2 && truth[r - 1][DEFROST] == 1.0 && truth[r - 2][DEFROST] == 1.0;
+            boolean timeout = lastOfLongDefrost && rng.nextDouble() < DEFROST_TIMEOUT_PROBABILITY;
+            if (stuckAlarm || falseAlarm) {
+                row[ALARM_CODE] = ALARM_SENSOR_FAULT;
+            } else if (row[RETURN_AIR] - setpoints[c] > HIGH_TEMP_MARGIN_C) {
+                row[ALARM_CODE] = ALARM_HIGH_TEMP;
+            } else if (timeout) {
+                row[ALARM_CODE] = ALARM_DEFROST_TIMEOUT;
+            } else {
+                row[ALARM_CODE] = ALARM_NONE;
+            }
+        }
+    }
+
+    /** A Poisson draw by multiplying uniforms (Knuth, TAOCP vol. 2, 3.4.1; fine for a small mean). */
+    private static int poisson(double lambda, RandomGenerator rng) {
+        double limit = Math.exp(-lambda);
+        double product = rng.nextDouble();
+        int n = 0;
+        while (product > limit) {
+            product *= rng.nextDouble();
+            n++;
+        }
+        return n;
     }
 
     /** A uniformly random permutation of 0..n-1 (Fisher-Yates). */

@@ -79,8 +79,8 @@ class ReeferFleetTest {
         // 48 containers * 3 days * 96 readings a day = 13824 rows (arithmetic by hand)
         assertEquals(13824, telemetry.rows());
         assertEquals(List.of("supply_air_c", "return_air_c", "ambient_c", "humidity_pct", "compressor_a",
-                "door_open", "defrost"), telemetry.columnNames()); // column order from the brief
-        assertEquals(List.of(false, false, false, false, false, true, true), telemetry.binaryColumns());
+                "door_open", "defrost", "door_openings", "alarm_code"), telemetry.columnNames()); // column order from the brief
+        assertEquals(List.of(false, false, false, false, false, true, true, false, false), telemetry.binaryColumns());
         double[][] cells = telemetry.cells();
         double[][] truth = telemetry.truth();
         int[] container = telemetry.container();
@@ -92,12 +92,56 @@ class ReeferFleetTest {
         assertEquals(13824, telemetry.fault().length);
         assertEquals(48, telemetry.setpointC().length);
         for (int r = 0; r < cells.length; r++) {
-            assertEquals(7, cells[r].length);
-            assertEquals(7, truth[r].length);
+            assertEquals(9, cells[r].length);
+            assertEquals(9, truth[r].length);
             // rows are container by container, one reading every 15 minutes (common practice, no source)
             assertEquals(r / 288, container[r]);
             assertEquals(r % 288, reading[r]);
         }
+    }
+
+    @Test
+    void countsAndCodesAreValidAndFollowTheirCauses() {
+        // common practice, no source: a count is a whole number >= 0, a code one of the labels; the relations are the
+        // class comment's own rules (an open door is an opening within the hour; a stuck sensor raises sensor-fault)
+        double[][] truth = telemetry.truth();
+        double[][] cells = telemetry.cells();
+        FaultKind[] fault = telemetry.fault();
+        int[] codes = new int[ReeferFleet.ALARM_CODES.size()];
+        int stuckRows = 0;
+        int stuckAlarms = 0;
+        int healthyAlarms = 0;
+        int healthy = 0;
+        for (int r = 0; r < truth.length; r++) {
+            double n = truth[r][ReeferFleet.DOOR_OPENINGS];
+            assertTrue(n >= 0 && n == Math.rint(n), "door_openings " + n + " at row " + r);
+            if (truth[r][ReeferFleet.DOOR_OPEN] == 1.0) {
+                assertTrue(n >= 1, "door open without an opening in the hour at row " + r);
+            }
+            double code = truth[r][ReeferFleet.ALARM_CODE];
+            assertTrue(code >= 0 && code < codes.length && code == Math.rint(code), "alarm_code " + code + " at row " + r);
+            codes[(int) code]++;
+            double cell = cells[r][ReeferFleet.ALARM_CODE];
+            assertTrue(Double.isNaN(cell) || cell == code, "a cell differs from the truth at row " + r);
+            if (fault[r] == FaultKind.STUCK_SENSOR) {
+                stuckRows++;
+                stuckAlarms += code == ReeferFleet.ALARM_SENSOR_FAULT ? 1 : 0;
+            } else if (fault[r] == FaultKind.NONE) {
+                healthy++;
+                healthyAlarms += code == ReeferFleet.ALARM_SENSOR_FAULT ? 1 : 0;
+            }
+        }
+        for (int k = 0; k < codes.length; k++) {
+            assertTrue(codes[k] > 0, "no row has the code " + ReeferFleet.ALARM_CODES.get(k));
+        }
+        assertTrue(codes[ReeferFleet.ALARM_NONE] > 0.8 * truth.length, "none on " + codes[ReeferFleet.ALARM_NONE] + " rows");
+        // sensor-fault: about half the stuck rows past the 8th, against 0.2% of healthy rows
+        assertTrue(stuckAlarms > 0.2 * stuckRows, stuckAlarms + " of " + stuckRows);
+        assertTrue(healthyAlarms < 0.01 * healthy, healthyAlarms + " of " + healthy);
+        // the seven measured columns do not depend on the new ones: their own streams (the class comment)
+        assertEquals(9, org.backstep.examples.fleet.FleetTables.cells(telemetry).columns());
+        assertEquals(org.backstep.table.ColumnKind.CATEGORICAL, FleetTables.cells(telemetry).kind(ReeferFleet.ALARM_CODE));
+        assertEquals(ReeferFleet.ALARM_CODES, FleetTables.cells(telemetry).categories(ReeferFleet.ALARM_CODE));
     }
 
     @Test
@@ -129,9 +173,9 @@ class ReeferFleetTest {
         double[][] cells = telemetry.cells();
         double[][] truth = telemetry.truth();
         int rows = cells.length;
-        int[] missingPerColumn = new int[7];
+        int[] missingPerColumn = new int[9];
         for (int r = 0; r < rows; r++) {
-            for (int j = 0; j < 7; j++) {
+            for (int j = 0; j < 9; j++) {
                 if (Double.isNaN(cells[r][j])) {
                     missingPerColumn[j]++;
                     assertFalse(Double.isNaN(truth[r][j]), "truth keeps the blanked cell"); // by construction
@@ -141,12 +185,12 @@ class ReeferFleetTest {
             }
         }
         int total = 0;
-        for (int j = 0; j < 7; j++) {
+        for (int j = 0; j < 9; j++) {
             assertWithinBinomial(missingPerColumn[j], rows, p, "column " + j);
             total += missingPerColumn[j];
         }
-        assertWithinBinomial(total, rows * 7, p, "all cells");
-        assertEquals((double) total / (rows * 7), telemetry.missingShare(), 1e-15); // same count, by definition
+        assertWithinBinomial(total, rows * 9, p, "all cells");
+        assertEquals((double) total / (rows * 9), telemetry.missingShare(), 1e-15); // same count, by definition
     }
 
     @Test
