@@ -101,11 +101,6 @@ public final class Demo {
                         .toLowerCase(java.util.Locale.ROOT) + "; noise is removed from continuous columns only");
             }
         }
-        List<String> categorical = MainJob.namesOf(table, ColumnKind.CATEGORICAL);
-        if (!noise.isEmpty() && !categorical.isEmpty()) {
-            throw new Command.UsageError("--noise needs a table without categorical columns (the library denoises only models"
-                    + " without them); this one has " + String.join(", ", categorical));
-        }
     }
 
     /**

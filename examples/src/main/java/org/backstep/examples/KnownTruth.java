@@ -135,16 +135,9 @@ final class KnownTruth {
     static void denoising(DiffusionModel model, Table heldComplete, MainJob.Config c, PrintStream console, ObjectNode summary) {
         int n = Math.min(MainJob.STEP_ROWS, heldComplete.rows());
         Table truth = heldComplete.selectRows(Stats.spread(n, heldComplete.rows()));
-        if (model.transform().modelledCategorical().length > 0) {
-            List<String> names = MainJob.namesOf(truth, ColumnKind.CATEGORICAL);
-            ObjectNode o = summary.putObject("denoising");
-            o.put("skipped", "categorical columns");
-            console.printf(Locale.ROOT, "5. Denoising skipped: the model has categorical columns (%s), and the library denoises"
-                    + " only models without them (reading noise is Gaussian; a category has none)%n", String.join(", ", names));
-            return;
-        }
         double[] noise = new double[truth.columns()];
-        // integer columns (counts) get no reading noise: they are held nearly as observed, and not counted below
+        // integer columns (counts) get no reading noise: they are held nearly as observed, and not counted below;
+        // binary and categorical columns get 0, and the library holds them as observed
         int[] cont = java.util.Arrays.stream(model.transform().modelledContinuous())
                 .filter(j -> truth.kind(j) == ColumnKind.CONTINUOUS).toArray();
         for (int j : model.transform().modelledContinuous()) {

@@ -186,20 +186,15 @@ final class Report {
         }
 
         h.append("<h2>Cleaning noisy readings</h2>\n");
-        if (denoising.has("skipped")) {
-            h.append(p("Not run: the model has categorical columns, and the library denoises only models without them (reading"
-                    + " noise is Gaussian; a category has none)."));
-        } else {
-            table(h, List.of(
-                    new Figure("Readings denoised", count(denoising, "cells"), count(denoising, "rows")
-                            + " complete held-out rows x their continuous columns; noise added on purpose"
-                            + (denoising.has("noiseShareOfColumnSd") ? ", " + pct(denoising.path("noiseShareOfColumnSd").asDouble(), 0)
-                            + " of each column's sd" : ""), ""),
-                    new Figure("Error before", num(denoising, "rmseBeforeInNoiseSd", 3) + " noise sd (RMSE)", "the noisy readings",
-                            "about 1: the noise as added"),
-                    new Figure("Error after", num(denoising, "rmseAfterInNoiseSd", 3) + " noise sd (RMSE)", "the denoised readings",
-                            "below the error before")));
-        }
+        table(h, List.of(
+                new Figure("Readings denoised", count(denoising, "cells"), count(denoising, "rows")
+                        + " complete held-out rows x their continuous columns; noise added on purpose"
+                        + (denoising.has("noiseShareOfColumnSd") ? ", " + pct(denoising.path("noiseShareOfColumnSd").asDouble(), 0)
+                        + " of each column's sd" : ""), ""),
+                new Figure("Error before", num(denoising, "rmseBeforeInNoiseSd", 3) + " noise sd (RMSE)", "the noisy readings",
+                        "about 1: the noise as added"),
+                new Figure("Error after", num(denoising, "rmseAfterInNoiseSd", 3) + " noise sd (RMSE)", "the denoised readings",
+                        "below the error before")));
 
         h.append("<h2>Synthetic rows</h2>\n");
         table(h, List.of(
@@ -382,7 +377,7 @@ final class Report {
             c.add(String.format(Locale.ROOT, "<b>Imputation intervals are too narrow:</b> they cover %s of the hidden truths, against %s "
                     + "for a perfect model; treat them as too confident.", pct(coverage, 1), pct(perfect, 1)));
         }
-        if (!denoising.has("skipped") && denoising.path("rmseAfterInNoiseSd").asDouble() >= denoising.path("rmseBeforeInNoiseSd").asDouble()) {
+        if (denoising.path("rmseAfterInNoiseSd").asDouble() >= denoising.path("rmseBeforeInNoiseSd").asDouble()) {
             c.add("<b>Denoising did not help:</b> the readings are no closer to the truth after it than before.");
         }
         if (samples.path("energyPValue").asDouble() < SIGNIFICANCE) {

@@ -270,7 +270,9 @@ final class ResultFiles {
         double[] sd = new double[table.columns()];
         for (int j = 0; j < table.columns(); j++) {
             Double given = noise.get(table.name(j));
-            if (given != null) {
+            if (table.kind(j) == ColumnKind.CATEGORICAL) {
+                sd[j] = 0.0;        // held as observed by the library: a category has no reading noise
+            } else if (given != null) {
                 sd[j] = given;
             } else {
                 double[] observed = Arrays.stream(table.column(j)).filter(v -> !Double.isNaN(v)).toArray();
@@ -310,7 +312,8 @@ final class ResultFiles {
             List<String> cells = new ArrayList<>();
             cells.add(Integer.toString(lines[i]));
             for (int j = 0; j < table.columns(); j++) {
-                cells.add(number(noisy.contains(j) ? denoising.mean().get(k, j) : table.get(i, j)));
+                cells.add(noisy.contains(j) ? number(denoising.mean().get(k, j))
+                        : table.kind(j) == ColumnKind.CATEGORICAL ? table.label(i, j) : number(table.get(i, j)));
             }
             for (int j : noisy) {
                 cells.add(number(denoising.standardDeviation().get(k, j)));

@@ -133,9 +133,10 @@ class DemoPipelineTest {
         assertFinite(imp, "rmseInColumnSd");
         assertUnit(imp, "coverage90");
         assertUnit(imp, "coverage90OfPerfectModel");
-        // the fleet has a categorical column (alarm_code), and the library denoises only models without one
+        // the fleet has a categorical column (alarm_code): denoising holds it as observed and cleans the readings
         JsonNode den = s.path("denoising");
-        assertEquals("categorical columns", den.path("skipped").asText(), den.toString());
+        assertTrue(den.path("cells").asInt() > 0, den.toString());
+        assertTrue(den.path("rmseAfterInNoiseSd").asDouble() < den.path("rmseBeforeInNoiseSd").asDouble(), den.toString());
         assertTrue(imp.path("hiddenCategoryCells").asInt() > 0, imp.toString());
         assertUnit(imp, "categoryAccuracy");
         assertUnit(imp, "categoryTrueShare");
@@ -214,7 +215,7 @@ class DemoPipelineTest {
                 + " cells in all)"), console);
         assertTrue(console.contains(t.path("checkpointRows").asInt() + " checkpoint rows"), console);
         assertTrue(console.contains(t.path("rowsNotUsed").asInt() + " rows not used"), console);
-        assertTrue(console.contains("5. Denoising skipped: the model has categorical columns (alarm_code)"), console);
+        assertTrue(console.contains("5. Denoised " + returned.path("denoising").path("cells").asInt() + " readings"), console);
         assertTrue(console.contains("Imputed " + returned.path("imputation").path("hiddenCells").asInt() + " cells"), console);
         assertTrue(console.contains(returned.path("samples").path("count").asInt() + " synthetic rows"), console);
         JsonNode f = returned.path("files");

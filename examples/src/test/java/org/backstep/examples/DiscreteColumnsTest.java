@@ -56,7 +56,8 @@ class DiscreteColumnsTest {
         input = dir.resolve("discrete.csv");
         Files.writeString(input, text.toString());
         out = dir.resolve("report");
-        List<String> args = new ArrayList<>(List.of(input.toString(), "--integer", "AGE", "--out", out.toString()));
+        List<String> args = new ArrayList<>(List.of(input.toString(), "--integer", "AGE", "--noise", "BMI=1",
+                "--out", out.toString()));
         args.addAll(List.of(OwnTableFilesTest.FAST));
         ByteArrayOutputStream o = new ByteArrayOutputStream();
         ByteArrayOutputStream e = new ByteArrayOutputStream();
@@ -96,6 +97,13 @@ class DiscreteColumnsTest {
             assertTrue(LABELS.contains(r[sh.indexOf("SEX")]), String.join(",", r));
             assertTrue(r[sh.indexOf("AGE")].matches("\\d+"), String.join(",", r));
         }
+        // --noise on a table with a categorical column: the category is held as observed, the labels kept
+        List<String[]> denoised = read(ResultFiles.DENOISED);
+        List<String> dh = List.of(denoised.get(0));
+        assertTrue(dh.contains("BMI_sd"), dh.toString());
+        for (String[] r : denoised.subList(1, denoised.size())) {
+            assertTrue(LABELS.contains(r[dh.indexOf("SEX")]), String.join(",", r));
+        }
         String html = Files.readString(out.resolve("report.html"));
         assertTrue(html.contains("sex1") && html.contains("sex2"), "report.html lacks the category shares");
     }
@@ -107,8 +115,8 @@ class DiscreteColumnsTest {
                 "--categorical names column 'SITE', which the file does not have");
         CommandAssertions.assertBadArguments(Demo::run, "demo: ", new String[] {f, "--integer", "AGE,,BP"},
                 "--integer is 'AGE,,BP'; expected column names");
-        CommandAssertions.assertBadArguments(Demo::run, "demo: ", new String[] {f, "--noise", "BMI=1"},
-                "--noise needs a table without categorical columns");
+        CommandAssertions.assertBadArguments(Demo::run, "demo: ", new String[] {f, "--noise", "SEX=1"},
+                "--noise names column 'SEX', which is categorical; noise is removed from continuous columns only");
     }
 
     private static List<String[]> read(String name) throws Exception {
