@@ -43,11 +43,18 @@ final class SyntheticRows {
         Table samples = model.sample(n, SamplingPlan.ancestral(), seed);
         double[][] sm = model.transform().toModelSpace(samples);
         double[][] hm = model.transform().toModelSpace(held);
-        EnergyTest energy = EnergyTest.run(sm, hm, PERMUTATIONS, seed);
-        double[] ks = SampleQuality.kolmogorovSmirnov(sm, hm);
-        double[][] trainSub = Stats.subsample(trainModel, TRAINING_ROWS_COMPARED, seed);
-        double[] synthNear = SampleQuality.nearestDistances(sm, trainSub);
-        double[] heldNear = SampleQuality.nearestDistances(hm, trainSub);
+        // a category index is not a number: categorical columns one-hot for the distances, and the total
+        // variation of their shares in place of a Kolmogorov-Smirnov statistic
+        int[] categories = model.transform().modelledCategories();
+        int numeric = sm[0].length - categories.length;
+        double[][] smDistances = SampleQuality.oneHot(sm, numeric, categories);
+        double[][] hmDistances = SampleQuality.oneHot(hm, numeric, categories);
+        EnergyTest energy = EnergyTest.run(smDistances, hmDistances, PERMUTATIONS, seed);
+        double[] ks = SampleQuality.columnDistances(sm, hm, numeric, categories);
+        double[][] trainSub = SampleQuality.oneHot(Stats.subsample(trainModel, TRAINING_ROWS_COMPARED, seed), numeric,
+                categories);
+        double[] synthNear = SampleQuality.nearestDistances(smDistances, trainSub);
+        double[] heldNear = SampleQuality.nearestDistances(hmDistances, trainSub);
         double heldP01 = Stats.quantile(heldNear, 0.01);
         long closer = Arrays.stream(synthNear).filter(v -> v < heldP01).count();
         double maxKs = Arrays.stream(ks).max().orElse(0);
@@ -62,7 +69,9 @@ final class SyntheticRows {
         s.put("medianNearestTrainingDistanceHeldOut", Stats.quantile(heldNear, 0.5));
         s.put("shareCloserThanHeldOutFirstPercentile", closer / (double) n);
         console.printf(Locale.ROOT, "6. %d synthetic rows against %d complete held-out rows: energy distance %.4f (permutation p = %.3f), "
-                + "largest per-column KS %.3f%n", n, n, energy.energyDistance(), energy.pValue(), maxKs);
+                + "largest per-column KS %.3f%s%n", n, n, energy.energyDistance(), energy.pValue(), maxKs,
+                categories.length == 0 ? "" : " (for a categorical column, the total variation of its shares;"
+                        + " categories one-hot in the distances)");
         console.printf(Locale.ROOT, "   memorization check: median distance to the closest training row %.3f (synthetic) vs %.3f (held-out); "
                         + "%.1f%% of synthetic rows are closer than the closest 1%% of held-out rows%n",
                 Stats.quantile(synthNear, 0.5), Stats.quantile(heldNear, 0.5), 100.0 * closer / n);
