@@ -5,18 +5,12 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
-import java.util.zip.ZipEntry;
-import java.util.zip.ZipInputStream;
-import java.util.zip.ZipOutputStream;
 import org.backstep.internal.store.ModelFile;
 import org.backstep.io.ModelFileException;
 import org.backstep.report.Imputation;
@@ -66,16 +60,16 @@ class CategoricalModelTest {
         Table records = sites(20, 9);
         assertArrayEquals(model.bound(records, 3).nats(), back.bound(records, 3).nats());
         assertEquals(model.sample(30, 4), back.sample(30, 4));
-        String manifest = new String(entries(f).get(ModelFile.MANIFEST), StandardCharsets.UTF_8);
+        String manifest = new String(ModelFileTest.entries(f).get(ModelFile.MANIFEST), StandardCharsets.UTF_8);
         assertTrue(manifest.contains("\"categories\" : [ \"north\", \"south\", \"east\", \"west\" ]"), manifest);
 
         // a categorical column in a file that claims an older format is refused by name
-        Map<String, byte[]> e = entries(f);
+        Map<String, byte[]> e = ModelFileTest.entries(f);
         e.put(ModelFile.MANIFEST, manifest.replace("\"formatVersion\" : " + ModelFile.VERSION, "\"formatVersion\" : 3")
                 .getBytes(StandardCharsets.UTF_8));
-        e.put(ModelFile.SUMS, sums(e).getBytes(StandardCharsets.UTF_8));
+        e.put(ModelFile.SUMS, ModelFileTest.sums(e).getBytes(StandardCharsets.UTF_8));
         Path old = dir.resolve("old.backstep");
-        write(old, e);
+        ModelFileTest.write(old, e);
         ModelFileException x = assertThrows(ModelFileException.class, () -> DiffusionModel.load(old));
         assertTrue(x.getMessage().contains("categorical columns came with version 4"), x.getMessage());
     }
@@ -181,36 +175,5 @@ class CategoricalModelTest {
         assertEquals(1, m.transform().modelColumns());
         assertTrue(m.transform().notes().stream().anyMatch(n -> n.contains("one category ('only')")));
         assertEquals("only", m.sample(3, 1).label(0, 1));
-    }
-
-    private static Map<String, byte[]> entries(Path f) throws IOException {
-        Map<String, byte[]> m = new LinkedHashMap<>();
-        try (ZipInputStream z = new ZipInputStream(Files.newInputStream(f))) {
-            ZipEntry e;
-            while ((e = z.getNextEntry()) != null) {
-                m.put(e.getName(), z.readAllBytes());
-            }
-        }
-        return m;
-    }
-
-    private static void write(Path f, Map<String, byte[]> entries) throws IOException {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        try (ZipOutputStream z = new ZipOutputStream(out)) {
-            for (Map.Entry<String, byte[]> e : entries.entrySet()) {
-                z.putNextEntry(new ZipEntry(e.getKey()));
-                z.write(e.getValue());
-                z.closeEntry();
-            }
-        }
-        Files.write(f, out.toByteArray());
-    }
-
-    private static String sums(Map<String, byte[]> entries) {
-        StringBuilder sb = new StringBuilder();
-        for (String name : List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS)) {
-            sb.append(ModelFile.sha256(entries.get(name))).append("  ").append(name).append('\n');
-        }
-        return sb.toString();
     }
 }

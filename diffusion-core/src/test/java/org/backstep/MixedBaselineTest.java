@@ -6,15 +6,10 @@ import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.io.IOException;
-import java.io.InputStream;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
-import java.util.TreeMap;
-import java.util.zip.ZipEntry;
-import java.util.zip.ZipInputStream;
 
 import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.GaussianBaseline;
@@ -108,8 +103,8 @@ class MixedBaselineTest {
         assertEquals(samples, back.sample(200, 4));
         Path f2 = dir.resolve("again.backstep");
         back.save(f2);
-        Map<String, byte[]> first = entries(f);
-        Map<String, byte[]> second = entries(f2);
+        Map<String, byte[]> first = ModelFileTest.entries(f);
+        Map<String, byte[]> second = ModelFileTest.entries(f2);
         assertEquals(first.keySet(), second.keySet());
         for (String name : first.keySet()) {
             assertArrayEquals(first.get(name), second.get(name), name);
@@ -177,15 +172,5 @@ class MixedBaselineTest {
             // RowSeedBoundTest.PLACE_ROUNDING: the float32 network rounds with a row's place in the batch
             assertEquals(alone, batch[i], RowSeedBoundTest.PLACE_ROUNDING * Math.max(1.0, Math.abs(alone)), "record " + i);
         }
-    }
-
-    private static Map<String, byte[]> entries(Path f) throws IOException {
-        Map<String, byte[]> out = new TreeMap<>();
-        try (InputStream in = Files.newInputStream(f); ZipInputStream zip = new ZipInputStream(in)) {
-            for (ZipEntry e = zip.getNextEntry(); e != null; e = zip.getNextEntry()) {
-                out.put(e.getName(), zip.readAllBytes());
-            }
-        }
-        return out;
     }
 }

@@ -63,7 +63,8 @@ class ModelFileTest {
         assertEquals(model.provenance().tableSha256(), back.provenance().tableSha256());
     }
 
-    private static Map<String, byte[]> entries(Path f) throws IOException {
+    /** The entries of a zip file by name, in order. */
+    static Map<String, byte[]> entries(Path f) throws IOException {
         Map<String, byte[]> m = new LinkedHashMap<>();
         try (ZipInputStream z = new ZipInputStream(Files.newInputStream(f))) {
             ZipEntry e;
@@ -74,7 +75,8 @@ class ModelFileTest {
         return m;
     }
 
-    private static void write(Path f, Map<String, byte[]> entries) throws IOException {
+    /** Writes entries into a zip file (tests that rewrite a model file's parts). */
+    static void write(Path f, Map<String, byte[]> entries) throws IOException {
         ByteArrayOutputStream out = new ByteArrayOutputStream();
         try (ZipOutputStream z = new ZipOutputStream(out)) {
             for (Map.Entry<String, byte[]> e : entries.entrySet()) {
@@ -86,7 +88,8 @@ class ModelFileTest {
         Files.write(f, out.toByteArray());
     }
 
-    private static String sums(Map<String, byte[]> entries) {
+    /** The sums entry a model file would carry for these entries. */
+    static String sums(Map<String, byte[]> entries) {
         StringBuilder sb = new StringBuilder();
         for (String name : List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS)) {
             sb.append(ModelFile.sha256(entries.get(name))).append("  ").append(name).append('\n');
