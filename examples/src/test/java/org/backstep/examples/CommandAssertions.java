@@ -39,6 +39,19 @@ final class CommandAssertions {
         assertEquals(0, out.size(), "nothing goes to standard output on a usage error");
     }
 
+    /**
+     * Runs the command, asserts that it exits with 0 (standard error and output in the message
+     * otherwise) and returns what it printed.
+     */
+    static String assertRuns(Command command, java.util.List<String> args) {
+        ByteArrayOutputStream out = new ByteArrayOutputStream();
+        ByteArrayOutputStream err = new ByteArrayOutputStream();
+        int code = command.run(args.toArray(String[]::new), print(out), print(err));
+        String console = out.toString(StandardCharsets.UTF_8);
+        assertEquals(0, code, err.toString(StandardCharsets.UTF_8) + console);
+        return console;
+    }
+
     static PrintStream print(ByteArrayOutputStream bytes) {
         return new PrintStream(bytes, true, StandardCharsets.UTF_8);
     }

@@ -6,8 +6,6 @@ import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
-import java.io.ByteArrayOutputStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -59,11 +57,7 @@ class DiscreteColumnsTest {
         List<String> args = new ArrayList<>(List.of(input.toString(), "--integer", "AGE", "--noise", "BMI=1",
                 "--out", out.toString()));
         args.addAll(List.of(OwnTableFilesTest.FAST));
-        ByteArrayOutputStream o = new ByteArrayOutputStream();
-        ByteArrayOutputStream e = new ByteArrayOutputStream();
-        int code = Demo.run(args.toArray(String[]::new), CommandAssertions.print(o), CommandAssertions.print(e));
-        console = o.toString(StandardCharsets.UTF_8);
-        assertEquals(0, code, e.toString(StandardCharsets.UTF_8) + console);
+        console = CommandAssertions.assertRuns(Demo::run, args);
     }
 
     @Test

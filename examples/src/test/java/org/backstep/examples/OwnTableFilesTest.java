@@ -6,8 +6,6 @@ import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
-import java.io.ByteArrayOutputStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -82,11 +80,7 @@ class OwnTableFilesTest {
         List<String> args = new ArrayList<>(List.of(input.toString(), "--binary", "SEX", "--out", out.toString(),
                 "--noise", "BMI=0.5,BP=2", "--compare", batch.toString()));
         args.addAll(List.of(FAST));
-        ByteArrayOutputStream o = new ByteArrayOutputStream();
-        ByteArrayOutputStream e = new ByteArrayOutputStream();
-        int code = Demo.run(args.toArray(String[]::new), CommandAssertions.print(o), CommandAssertions.print(e));
-        console = o.toString(StandardCharsets.UTF_8);
-        assertEquals(0, code, e.toString(StandardCharsets.UTF_8) + console);
+        console = CommandAssertions.assertRuns(Demo::run, args);
     }
 
     @Test
