@@ -12,8 +12,11 @@ import org.backstep.io.AtomicFiles;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 
+import org.apache.commons.csv.CSVFormat;
+
 import java.io.BufferedReader;
 import java.io.IOException;
+import java.io.UncheckedIOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -39,6 +42,9 @@ import java.util.Set;
  * without ".0"); a missing cell is an empty cell; an infinite score or surprisal is "Infinity".
  */
 final class ResultFiles {
+
+    /** The files' CSV dialect: commas, minimal quoting, "\n" after each record. */
+    private static final CSVFormat FORMAT = CSVFormat.DEFAULT.builder().setRecordSeparator('\n').build();
 
     static final String COMPLETED = "completed.csv";
     static final String SYNTHETIC = "synthetic.csv";
@@ -414,20 +420,13 @@ final class ResultFiles {
         return Double.toString(v);
     }
 
+    /** One record, quoted where RFC 4180 needs it (commons-csv, as {@code CsvTables.writer()} writes). */
     private static void row(StringBuilder out, List<String> cells) {
-        for (int k = 0; k < cells.size(); k++) {
-            if (k > 0) {
-                out.append(',');
-            }
-            out.append(quote(cells.get(k)));
+        try {
+            FORMAT.printRecord(out, cells.toArray());
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);      // a StringBuilder does not throw
         }
-        out.append('\n');
-    }
-
-    /** A cell quoted when it holds a comma, a quote, a line break or surrounding white space (RFC 4180). */
-    static String quote(String cell) {
-        boolean plain = cell.equals(cell.strip()) && cell.chars().noneMatch(c -> c == ',' || c == '"' || c == '\n' || c == '\r');
-        return plain ? cell : "\"" + cell.replace("\"", "\"\"") + "\"";
     }
 
     private static void write(Path file, StringBuilder text) throws IOException {
