@@ -38,7 +38,6 @@ import org.backstep.report.SampleCheck;
 import org.backstep.report.StepPlan;
 import org.backstep.report.Surprisal;
 import org.backstep.schedule.Require;
-import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
 import org.backstep.training.EpochRecord;
@@ -46,7 +45,6 @@ import org.backstep.training.Provenance;
 
 import java.io.IOException;
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
 import java.util.stream.IntStream;
@@ -313,19 +311,7 @@ public final class DiffusionModel {
     public FlowLikelihood flowLikelihood(Table records, FlowOptions how) {
         Require.notNull("how", how);
         checkComplete(records, "records");
-        List<String> discrete = new ArrayList<>();
-        for (int j : transform().modelledContinuous()) {
-            if (records.kind(j) == ColumnKind.INTEGER) {
-                discrete.add(transform().names().get(j));
-            }
-        }
-        IntStream.concat(IntStream.of(transform().modelledBinary()), IntStream.of(transform().modelledCategorical()))
-                .forEach(j -> discrete.add(transform().names().get(j)));
-        if (!discrete.isEmpty()) {
-            throw new IllegalArgumentException("records: the model diffuses " + discrete.size() + " binary, integer or"
-                    + " categorical column(s) " + discrete + "; the flow likelihood covers continuous columns only (the"
-                    + " ODE needs a density): use bound(records, seed) for this model");
-        }
+        ProbabilityFlow.requireContinuousOnly(transform(), "records: ");
         ProbabilityFlow flow = new ProbabilityFlow(engine.parts(), how.relativeTolerance(), how.absoluteTolerance());
         float[] x = engine.modelSpace(records);
         ProbabilityFlow.Result r = flow.evaluate(x, records.rows(), options().threads());

@@ -120,20 +120,10 @@ class IrisCategoricalTest {
 
         double[] posterior(double[] z) {
             double[] l = new double[3];
-            double max = Double.NEGATIVE_INFINITY;
             for (int c = 0; c < 3; c++) {
                 l[c] = logJoint(z, c);
-                max = Math.max(max, l[c]);
             }
-            double sum = 0;
-            for (int c = 0; c < 3; c++) {
-                l[c] = Math.exp(l[c] - max);
-                sum += l[c];
-            }
-            for (int c = 0; c < 3; c++) {
-                l[c] /= sum;
-            }
-            return l;
+            return Logistic.softmax(l);
         }
     }
 

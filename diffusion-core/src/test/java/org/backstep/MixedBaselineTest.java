@@ -150,15 +150,13 @@ class MixedBaselineTest {
         Table records = containers(1500, 21);
         double[] with = model.bound(records, BoundOptions.exact(), 5).nats();
         double[] without = plain.bound(records, BoundOptions.exact(), 5).nats();
-        double mean = 0.0;
-        double sq = 0.0;
+        double[] diff = new double[with.length];
         for (int r = 0; r < with.length; r++) {
-            double diff = with[r] - without[r];
-            mean += diff;
-            sq += diff * diff;
+            diff[r] = with[r] - without[r];
         }
-        mean /= with.length;
-        double sd = Math.sqrt(Math.max(0.0, sq / with.length - mean * mean));
+        // mean and sample sd by commons-math3's StatUtils
+        double mean = org.apache.commons.math3.stat.StatUtils.mean(diff);
+        double sd = Math.sqrt(org.apache.commons.math3.stat.StatUtils.variance(diff));
         double se = sd / Math.sqrt(with.length);
         assertTrue(Math.abs(mean) < 4.0 * se + 1e-9, "mean difference " + mean + " nats, standard error " + se);
         assertTrue(sd > 0.0, "the control variate changes the draws' noise");

@@ -108,8 +108,8 @@ public final class SampleQuality {
         }
         for (int j = 0; j < categories.length; j++) {
             int c = numeric + j;
-            double[] p = shares(a, c, categories[j], "a");
-            double[] q = shares(b, c, categories[j], "b");
+            double[] p = shares(a, c, categories[j]);
+            double[] q = shares(b, c, categories[j]);
             double tv = 0.0;
             for (int k = 0; k < p.length; k++) {
                 tv += Math.abs(p[k] - q[k]);
@@ -160,7 +160,7 @@ public final class SampleQuality {
         return out;
     }
 
-    private static double[] shares(double[][] rows, int c, int k, String name) {
+    private static double[] shares(double[][] rows, int c, int k) {
         double[] p = new double[k];
         for (int i = 0; i < rows.length; i++) {
             p[index(rows[i][c], k, i, c)] += 1.0 / rows.length;

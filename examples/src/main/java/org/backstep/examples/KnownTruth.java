@@ -45,7 +45,7 @@ final class KnownTruth {
             }
         }
         Table masked = truth.withRows(hidden);
-        Imputation imp = model.impute(masked, Defaults.imputation().withDraws(MainJob.IMPUTATION_DRAWS).withLevel(0.9), c.seed());
+        Imputation imp = model.impute(masked, Defaults.imputation().withDraws(MainJob.IMPUTATION_DRAWS).withLevel(RowResults.LEVEL), c.seed());
         double se = 0;
         double seMean = 0;
         int covered = 0;
@@ -95,7 +95,7 @@ final class KnownTruth {
         o.put("categoryTrueShare", trueShare / Math.max(1, hiddenCats));
         o.put("categoryAccuracyMostFrequent", rightByMostFrequent / (double) Math.max(1, hiddenCats));
         o.put("draws", MainJob.IMPUTATION_DRAWS);
-        o.put("level", 0.9);
+        o.put("level", RowResults.LEVEL);
         o.put("rmseInColumnSd", rmse);
         o.put("rmseColumnMeanInColumnSd", rmseMean);
         o.put("coverage90", covered / (double) Math.max(1, hiddenCount));

@@ -377,7 +377,8 @@ final class Report {
             c.add(String.format(Locale.ROOT, "<b>Imputation intervals are too narrow:</b> they cover %s of the hidden truths, against %s "
                     + "for a perfect model; treat them as too confident.", pct(coverage, 1), pct(perfect, 1)));
         }
-        if (denoising.path("rmseAfterInNoiseSd").asDouble() >= denoising.path("rmseBeforeInNoiseSd").asDouble()) {
+        if (denoising.path("cells").asInt() > 0
+                && denoising.path("rmseAfterInNoiseSd").asDouble() >= denoising.path("rmseBeforeInNoiseSd").asDouble()) {
             c.add("<b>Denoising did not help:</b> the readings are no closer to the truth after it than before.");
         }
         if (samples.path("energyPValue").asDouble() < SIGNIFICANCE) {

@@ -153,9 +153,9 @@ final class ScreenComparison {
         ArrayNode out = a.putArray("detectors");
         Map<String, List<org.backstep.report.RocPoint>> curves = new LinkedHashMap<>();
         for (Detectors.Scores d : detectors) {
+            double threshold = Stats.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE);
             AnomalyScreen s = d == detectors.get(0) ? screen : new AnomalyScreen(ThresholdRule.quantile(MainJob.SCREEN_QUANTILE),
-                    Stats.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE), d.heldOut(), d.screened(),
-                    AnomalyScreen.flaggedAt(d.screened(), Stats.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE)), List.of(),
+                    threshold, d.heldOut(), d.screened(), AnomalyScreen.flaggedAt(d.screened(), threshold), List.of(),
                     Surprisal.none(table.names()));
             int tp = 0;
             int[] caught = new int[kinds.size()];
@@ -229,22 +229,21 @@ final class ScreenComparison {
             console.println("   No fault was caught, so no column was blamed.");
             return;
         }
-        int[] rows = caught;
         // the screen's own figures (it ranks the columns of every flagged row): no second estimate
         org.backstep.report.Surprisal sur = screen.surprisal();
         int first = 0;
         Map<String, int[]> byKind = new java.util.TreeMap<>();
-        for (int i = 0; i < rows.length; i++) {
-            String injected = c.faultColumns()[scoredIndex[rows[i]]];
-            boolean hit = sur.rankedForRow(rows[i]).get(0).column().equals(injected);
+        for (int i = 0; i < caught.length; i++) {
+            String injected = c.faultColumns()[scoredIndex[caught[i]]];
+            boolean hit = sur.rankedForRow(caught[i]).get(0).column().equals(injected);
             first += hit ? 1 : 0;
-            String kind = c.faultKinds() == null ? "fault" : c.faultKinds()[scoredIndex[rows[i]]];
+            String kind = c.faultKinds() == null ? "fault" : c.faultKinds()[scoredIndex[caught[i]]];
             int[] k = byKind.computeIfAbsent(kind, x -> new int[2]);
             k[0]++;
             k[1] += hit ? 1 : 0;
         }
-        double share = first / (double) rows.length;
-        b.put("attributed", rows.length);
+        double share = first / (double) caught.length;
+        b.put("attributed", caught.length);
         b.put("injectedColumnFirst", first);
         b.put("share", share);
         ArrayNode bk = b.putArray("byKind");
@@ -256,8 +255,8 @@ final class ScreenComparison {
             o.put("injectedColumnFirst", v[1]);
             kinds.append(String.format(Locale.ROOT, "%s%s %d of %d", kinds.length() == 0 ? "" : ", ", k, v[1], v[0]));
         });
-        console.printf(Locale.ROOT, "   Columns to blame: of the %d caught fault rows, the injected column ranks first by surprisal"
-                        + " in %d (%.0f%%): %s%n", rows.length, first, 100 * share, kinds);
+        console.printf(Locale.ROOT, "   Columns to blame: of the %d caught fault caught, the injected column ranks first by surprisal"
+                        + " in %d (%.0f%%): %s%n", caught.length, first, 100 * share, kinds);
     }
 
     /** Lines of at most {@code width} characters, broken at spaces. */

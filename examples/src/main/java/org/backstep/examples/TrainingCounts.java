@@ -15,13 +15,12 @@ import java.util.Locale;
  * @param trained rows trained on ({@link Provenance#trainingRows()})
  * @param trainedWithGaps of them, the rows with a missing cell, filled by stochastic EM
  * @param filledCells the missing cells of those rows
- * @param refills how many times over the run the filled cells were drawn again from the model (the run's note)
+ * @param refills how many times over the run the filled cells were drawn again from the model
  * @param checkpoint complete checkpoint rows ({@link Provenance#checkpointRows()})
  * @param notUsed the rest of the training part: see {@link #NOT_USED}
- * @param gapNote the provenance's sentence on the rows with gaps and how they were used, or "" when none had gaps
  */
 record TrainingCounts(int partWithGaps, int trained, int trainedWithGaps, int filledCells, int refills, int checkpoint,
-                      int notUsed, String gapNote) {
+                      int notUsed) {
 
     /** What the rows not used are. */
     static final String NOT_USED = "checkpoint rows with a missing cell, since a bound needs every cell, and rows the"
@@ -41,12 +40,8 @@ record TrainingCounts(int partWithGaps, int trained, int trainedWithGaps, int fi
             throw new IllegalStateException("the model's provenance does not record its rows with gaps (a model file"
                     + " written before format 4 recorded them)");
         }
-        // the provenance's own sentence on the rows with gaps, quoted by the report
-        String prefix = provenance.rowsWithGaps() + " of " + trained + " training rows had a missing cell";
-        String note = provenance.rowsWithGaps() == 0 ? ""
-                : provenance.notes().stream().filter(n -> n.startsWith(prefix)).findFirst().orElse("");
         return new TrainingCounts(part.incompleteRowIndices().length, trained, provenance.rowsWithGaps(),
-                provenance.filledCells(), provenance.refills(), checkpoint, part.rows() - trained - checkpoint, note);
+                provenance.filledCells(), provenance.refills(), checkpoint, part.rows() - trained - checkpoint);
     }
 
     /** @return "trained on N of the P rows of the training part, ..." with how the rows with a missing cell were used */

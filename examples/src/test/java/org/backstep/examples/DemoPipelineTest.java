@@ -136,6 +136,10 @@ class DemoPipelineTest {
         // the fleet has a categorical column (alarm_code): denoising holds it as observed and cleans the readings
         JsonNode den = s.path("denoising");
         assertTrue(den.path("cells").asInt() > 0, den.toString());
+        assertFinite(den, "rmseBeforeInNoiseSd");
+        assertFinite(den, "rmseAfterInNoiseSd");
+        assertTrue(den.path("startStep").asInt() >= 1 && den.path("startStep").asInt() <= STEPS);
+        // common practice, no source: a posterior mean given the known noise is closer than the noisy reading
         assertTrue(den.path("rmseAfterInNoiseSd").asDouble() < den.path("rmseBeforeInNoiseSd").asDouble(), den.toString());
         assertTrue(imp.path("hiddenCategoryCells").asInt() > 0, imp.toString());
         assertUnit(imp, "categoryAccuracy");

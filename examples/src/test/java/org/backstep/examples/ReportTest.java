@@ -37,6 +37,11 @@ class ReportTest {
                 samples(0.01, 0.2));
         // the screen, the intervals, the denoising, the energy test, the memorization share
         assertEquals(5, c.size(), c.toString());
+        // a table without a continuous column denoises no reading: no caution that denoising did not help
+        // (common practice, no source)
+        ObjectNode none = denoising(0.0, 0.0).put("cells", 0);
+        assertEquals(4, Report.cautions(bound(-2.0, 2.0, -1.5), anomalies, imputation(0.60, 0.81), none, samples(0.01, 0.2))
+                .size());
     }
 
     @Test
@@ -57,7 +62,7 @@ class ReportTest {
     }
 
     private static ObjectNode denoising(double before, double after) {
-        return JSON.createObjectNode().put("rmseBeforeInNoiseSd", before).put("rmseAfterInNoiseSd", after);
+        return JSON.createObjectNode().put("cells", 100).put("rmseBeforeInNoiseSd", before).put("rmseAfterInNoiseSd", after);
     }
 
     private static ObjectNode samples(double p, double closer) {

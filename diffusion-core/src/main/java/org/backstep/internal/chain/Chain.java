@@ -444,7 +444,7 @@ public final class Chain {
      * @param j the categorical column
      * @param into K entries, overwritten
      */
-    void logitsInto(float[] out, int oo, int j, double[] into) {
+    public void logitsInto(float[] out, int oo, int j, double[] into) {
         int at = oo + catLogits[j];
         for (int c = 0; c < into.length; c++) {
             into[c] = out[at + c];
@@ -452,7 +452,7 @@ public final class Chain {
     }
 
     /** @return a buffer per categorical column for its logits */
-    double[][] logitBuffers() {
+    public double[][] logitBuffers() {
         double[][] b = new double[dk][];
         for (int j = 0; j < dk; j++) {
             b[j] = new double[categories[j]];

@@ -237,16 +237,16 @@ public final class ReverseRun {
             }
             for (int j = 0; j < chain.dk; j++) {
                 int at = o + chain.discreteEnd + j;
+                float y = known[at];
+                if (!Float.isNaN(y) && k == 1) {
+                    x[at] = y;      // r_0 is the point mass at y
+                    rng.nextDouble();
+                    continue;
+                }
                 chain.logitsInto(out, oo, j, catLogits[j]);
                 org.backstep.posterior.CategoricalDiffusion q = chain.catDiffusion[j];
                 double[] lp = q.reverseLogProbabilities(k, (int) x[at], catLogits[j]);
-                float y = known[at];
                 if (!Float.isNaN(y)) {
-                    if (k == 1) {
-                        x[at] = y;      // r_0 is the point mass at y
-                        rng.nextDouble();
-                        continue;
-                    }
                     for (int cat = 0; cat < lp.length; cat++) {
                         lp[cat] += q.logMarginal(k - 1, (int) y, cat);   // times q(x_{k-1} | x_0 = y)
                     }

@@ -76,13 +76,28 @@ public final class ScoringRange {
      */
     public static List<CellNote> unscorable(Table records, TableTransform transform, double limit) {
         List<CellNote> out = new ArrayList<>();
+        // per categorical column, which of the records' category indices the training table lacked
+        // (worked out once per column, not per cell: K can be in the thousands)
+        java.util.Map<String, List<String>> trained = transform.categories();
+        boolean[][] unknown = new boolean[records.columns()][];
+        for (int c = 0; c < records.columns(); c++) {
+            List<String> known = trained.get(records.name(c));
+            if (records.kind(c) == ColumnKind.CATEGORICAL && known != null) {
+                java.util.Set<String> knownSet = new java.util.HashSet<>(known);
+                List<String> labels = records.categories(c);
+                unknown[c] = new boolean[labels.size()];
+                for (int k = 0; k < labels.size(); k++) {
+                    unknown[c][k] = !knownSet.contains(labels.get(k));
+                }
+            }
+        }
         for (int r = 0; r < records.rows(); r++) {
             for (int c = 0; c < records.columns(); c++) {
                 double x = records.get(r, c);
                 if (!Double.isNaN(x) && records.kind(c) == ColumnKind.CATEGORICAL) {
-                    String label = records.label(r, c);
-                    List<String> known = transform.categories().get(records.name(c));
-                    if (known != null && !known.contains(label)) {
+                    if (unknown[c] != null && unknown[c][(int) x]) {
+                        String label = records.label(r, c);
+                        List<String> known = trained.get(records.name(c));
                         out.add(CellNote.of(r, records.name(c), x, CellNote.Kind.OUTSIDE_SUPPORT,
                                 "the category '" + label + "' is not among the " + known.size() + " categories of the"
                                         + " training table, so the model gives it probability zero; the record scores"

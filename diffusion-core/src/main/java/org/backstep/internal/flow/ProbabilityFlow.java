@@ -8,11 +8,16 @@ import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.Parallel;
 import org.backstep.schedule.NoiseSchedule;
+import org.backstep.table.ColumnKind;
+import org.backstep.table.TableTransform;
 import org.nd4j.linalg.api.buffer.DataType;
 import org.nd4j.linalg.api.ndarray.INDArray;
 import org.nd4j.linalg.factory.Nd4j;
 
 import java.nio.FloatBuffer;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.stream.IntStream;
 
 /**
  * The exact log-likelihood of records under the probability-flow ODE of a model's continuous
@@ -92,16 +97,40 @@ public final class ProbabilityFlow {
      * @param parts the model's parts; every diffused column must be continuous
      * @param relativeTolerance the integrator's relative tolerance
      * @param absoluteTolerance the integrator's absolute tolerance (model-space units and nats)
-     * @throws IllegalArgumentException if the model diffuses binary columns, or a step's log SNR is
+     * @throws IllegalArgumentException if the model diffuses binary, integer or categorical columns, or a step's log SNR is
      *     not finite
      */
+    /**
+     * Refuses a model with a binary, integer or categorical column, naming them: the ODE needs a
+     * density, and such a column has a probability mass.
+     *
+     * @param transform the model's transform
+     * @param prefix put before the message (the name of the caller's argument, or "")
+     * @throws IllegalArgumentException naming the columns
+     */
+    public static void requireContinuousOnly(TableTransform transform, String prefix) {
+        List<String> discrete = new ArrayList<>();
+        for (int j : transform.modelledContinuous()) {
+            if (transform.kinds().get(j) == ColumnKind.INTEGER) {
+                discrete.add(transform.names().get(j));
+            }
+        }
+        IntStream.concat(IntStream.of(transform.modelledBinary()), IntStream.of(transform.modelledCategorical()))
+                .forEach(j -> discrete.add(transform.names().get(j)));
+        if (!discrete.isEmpty()) {
+            throw new IllegalArgumentException(prefix + "the model diffuses " + discrete.size() + " binary, integer or"
+                    + " categorical column(s) " + discrete + "; the flow likelihood covers continuous columns only (the"
+                    + " ODE needs a density): use bound(records, seed) for this model");
+        }
+    }
+
     public ProbabilityFlow(ModelParts parts, double relativeTolerance, double absoluteTolerance) {
         this.estimator = parts.estimator();
+        requireContinuousOnly(parts.transform(), "");
         this.dc = parts.transform().modelledContinuous().length;
-        int db = parts.transform().modelledBinary().length;
-        if (db > 0 || dc == 0) {
-            throw new IllegalArgumentException("the model diffuses " + dc + " continuous and " + db
-                    + " binary columns; the flow likelihood needs continuous columns only");
+        if (dc == 0) {
+            throw new IllegalArgumentException("the model diffuses no continuous column; the flow likelihood needs"
+                    + " continuous columns");
         }
         this.trace = EpsilonTrace.of(parts);
         this.outputs = estimator.outputs();

@@ -59,6 +59,7 @@ public final class StepPlanner {
         }
         Table held = qualityRows(heldOut);
         double[][] heldModel = model.transform().toModelSpace(held);
+        double[][] heldOneHot = oneHot(model, heldModel);
         List<StepPlan.Row> rows = new ArrayList<>();
         warmUp(model, held.rows(), SamplingPlan.ancestral(ks[0]), seed);
         for (int k : ks) {
@@ -66,7 +67,7 @@ public final class StepPlanner {
             double perDimension = bound.meanNats() / bound.dimensions();
             Quality q;
             try {
-                q = Quality.measure(model, held.rows(), heldModel, SamplingPlan.ancestral(k), seed + k, seed);
+                q = Quality.measure(model, held.rows(), heldModel, heldOneHot, SamplingPlan.ancestral(k), seed + k, seed);
             } catch (IllegalStateException e) {     // the chain left the float range (ReverseRun)
                 LOG.info("step plan: the sampling chain of {} steps diverged: {}", k, e.getMessage());
                 rows.add(new StepPlan.Row(k, perDimension, Double.NaN, Double.NaN, Double.NaN, Double.NaN, true, Double.NaN));
@@ -174,8 +175,8 @@ public final class StepPlanner {
         double standardError = bound.standardErrorOfMean() / d;
         Quality q;
         try {
-            q = Quality.measure(model, held.rows(), model.transform().toModelSpace(held), SamplingPlan.ancestral(),
-                    seed + t, seed);
+            double[][] heldModel = model.transform().toModelSpace(held);
+            q = Quality.measure(model, held.rows(), heldModel, oneHot(model, heldModel), SamplingPlan.ancestral(), seed + t, seed);
         } catch (IllegalStateException e) {     // the chain left the float range (ReverseRun)
             LOG.info("training plan: the sampling chain of T = {} diverged: {}", t, e.getMessage());
             return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
@@ -183,6 +184,12 @@ public final class StepPlanner {
         }
         return new TrainingPlan.Row(t, fitted.updates(), fitted.epochs(), fitted.updateSeconds(), perDimension,
                 standardError, q.energyDistance(), q.pValue(), q.maxKs(), q.millisPer1000(), false, q.check().shareBeyond());
+    }
+
+    /** Model-space rows with their categorical columns one-hot, as the energy test sees them. */
+    private static double[][] oneHot(Engine model, double[][] modelRows) {
+        int[] categories = model.transform().modelledCategories();
+        return SampleQuality.oneHot(modelRows, modelRows[0].length - categories.length, categories);
     }
 
     /** At most {@link #QUALITY_ROWS} rows of {@code table}, spread evenly over it. */
@@ -215,7 +222,7 @@ public final class StepPlanner {
          * Draws and scores the samples, with their check against the training range; throws
          * IllegalStateException if the chain leaves the float range.
          */
-        static Quality measure(Engine model, int rows, double[][] heldModel, SamplingPlan plan,
+        static Quality measure(Engine model, int rows, double[][] heldModel, double[][] heldOneHot, SamplingPlan plan,
                                long sampleSeed, long testSeed) {
             long start = System.nanoTime();
             CheckedSample drawn = model.sampleChecked(rows, plan, sampleSeed);
@@ -226,8 +233,7 @@ public final class StepPlanner {
             // (a category index's order is arbitrary); numbers as they are
             int[] categories = model.transform().modelledCategories();
             int numeric = sampleModel[0].length - categories.length;
-            EnergyTest energy = EnergyTest.run(SampleQuality.oneHot(sampleModel, numeric, categories),
-                    SampleQuality.oneHot(heldModel, numeric, categories), PERMUTATIONS, testSeed);
+            EnergyTest energy = EnergyTest.run(oneHot(model, sampleModel), heldOneHot, PERMUTATIONS, testSeed);
             double maxKs = Arrays.stream(SampleQuality.columnDistances(sampleModel, heldModel, numeric, categories))
                     .max().orElse(0.0);
             return new Quality(energy.energyDistance(), energy.pValue(), maxKs, millis, drawn.check());

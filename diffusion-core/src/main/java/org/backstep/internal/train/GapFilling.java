@@ -183,15 +183,6 @@ final class GapFilling {
             if (observed == n) {
                 continue;
             }
-            double mean = sum / observed;        // observed > 0: the column transform needs an observed cell
-            double squares = 0.0;
-            for (int r = 0; r < n; r++) {
-                float v = x0[r * d + j];
-                if (!Float.isNaN(v)) {
-                    squares += (v - mean) * (v - mean);
-                }
-            }
-            double sd = Math.sqrt(squares / observed);
             if (j >= categoricalFrom) {
                 float[] seen = new float[observed];
                 for (int r = 0, m = 0; r < n; r++) {
@@ -208,6 +199,15 @@ final class GapFilling {
                 }
                 continue;
             }
+            double mean = sum / observed;        // observed > 0: the column transform needs an observed cell
+            double squares = 0.0;
+            for (int r = 0; r < n; r++) {
+                float v = x0[r * d + j];
+                if (!Float.isNaN(v)) {
+                    squares += (v - mean) * (v - mean);
+                }
+            }
+            double sd = Math.sqrt(squares / observed);
             for (int i : rows) {
                 int at = i * d + j;
                 if (Float.isNaN(x0[at])) {

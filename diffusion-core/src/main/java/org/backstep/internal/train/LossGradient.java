@@ -93,12 +93,8 @@ final class LossGradient implements ParallelStep.LossGradient {
         double[] partials = new double[2];
         int d = dc + db + dk;
         int[] cats = chain.categories();
-        double[][] logits = new double[dk][];
-        double[][] gradient = new double[dk][];
-        for (int j = 0; j < dk; j++) {
-            logits[j] = new double[cats[j]];
-            gradient[j] = new double[cats[j]];
-        }
+        double[][] logits = chain.logitBuffers();
+        double[][] gradient = chain.logitBuffers();
         if (baseline != null) {
             // epsilon-hat and v are the closed form plus the network's output: d loss / d output is
             // unchanged. The closed form reads the continuous cells of the model-space x_t, the
@@ -171,9 +167,7 @@ final class LossGradient implements ParallelStep.LossGradient {
                     continue;
                 }
                 int first = chain.categoricalLogitOffset(j);
-                for (int c = 0; c < cats[j]; c++) {
-                    logits[j][c] = out[oo + first + c];
-                }
+                chain.logitsInto(out, oo, j, logits[j]);
                 double term = BoundTerms.categorical(chain, s, j, (int) x0[at], (int) xt[at], logits[j], gradient[j]);
                 bound += term;
                 rowLoss += steps * term;

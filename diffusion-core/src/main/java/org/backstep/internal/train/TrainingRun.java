@@ -153,7 +153,7 @@ public final class TrainingRun implements AutoCloseable {
         baseline = GaussianBaseline.fit(options.baseline(), x0, n, d, dc, options.continuousSchedule());
         learned = options.variance() == ReverseVariance.LEARNED;
         net = ReverseNetwork.create(shape, steps, options.seed(), baseline != null);
-        chain = Chain.of(options, transform, new NetworkEstimator(net, baseline, learned));
+        chain = chainOver(net);
 
         batch = Math.min(options.batchSize(), n);
         batchesPerEpoch = n / batch;
@@ -290,7 +290,7 @@ public final class TrainingRun implements AutoCloseable {
         if (xv != null && (due || last)) {
             float[] avg = ema.average();
             ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
-            Chain evalChain = Chain.of(options, transform, new NetworkEstimator(averaged, baseline, learned));
+            Chain evalChain = chainOver(averaged);
             BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
                     options.seed() + 1, options.threads());
             double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
@@ -331,7 +331,7 @@ public final class TrainingRun implements AutoCloseable {
      */
     private void refillGaps() {
         ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, ema.average());
-        Chain averagedChain = Chain.of(options, transform, new NetworkEstimator(averaged, baseline, learned));
+        Chain averagedChain = chainOver(averaged);
         gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills);
         refills++;
     }
@@ -380,6 +380,11 @@ public final class TrainingRun implements AutoCloseable {
         return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, baseline, provenance,
                 ModelRange.of(x0, n, d, dc)), step,
                 step / (double) batchesPerEpoch, updateNanos / 1e9);
+    }
+
+    /** The training chain over the given weights, with the run's closed-form part (if any). */
+    private Chain chainOver(ReverseNetwork weights) {
+        return Chain.of(options, transform, new NetworkEstimator(weights, baseline, learned));
     }
 
     /** Releases the worker threads; idempotent. */
