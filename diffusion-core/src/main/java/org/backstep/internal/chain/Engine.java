@@ -127,15 +127,15 @@ public final class Engine {
             BoundEvaluator.Result r = rowSeeds == null
                     ? BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), seed, threads)
                     : BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), rowSeeds, threads);
-            return BoundReport.of(BoundReport.Method.MONTE_CARLO, chain.steps, how.draws(), chain.d, r.continuous,
-                    r.binary, logJacobian, r.standardError, r.perStepMean);
+            return BoundReport.sampled(chain.steps, how.draws(), chain.d,
+                    new BoundReport.RecordNats(r.continuous, r.binary, logJacobian), r.standardError);
         }
         Chain c = chainOf(how.steps());
         BoundEvaluator.Result r = rowSeeds == null
                 ? BoundEvaluator.exact(c, x, rows, seed, threads)
                 : BoundEvaluator.exact(c, x, rows, rowSeeds, threads);
-        return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary, logJacobian,
-                r.standardError, r.perStepMean);
+        return BoundReport.exact(c.steps, c.d, new BoundReport.RecordNats(r.continuous, r.binary, logJacobian),
+                r.perStepMean);
     }
 
     /**
