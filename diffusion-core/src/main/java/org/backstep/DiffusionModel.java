@@ -641,7 +641,8 @@ public final class DiffusionModel {
      * comes from a generator seeded by {@code rowSeeds[i]} and k alone, the draws
      * {@code impute(recordI, how, rowSeeds[i])} makes on a one-record table. So a record's draws
      * depend only on its seed, not on the other records, their order or the batch size, while the
-     * network sees the records in batches (one-record calls cost about 15 times as much per record;
+     * network sees the records in batches (one-record calls cost about 7 times the CPU time per record
+     * for imputation and 9 for denoising, measured through Spark on a shared machine;
      * {@code diffusion-bench/results/spark-rowjobs.txt}). For a distributed job whose rows carry a
      * stable key: seed each row from the key, and any partitioning gives the same draws. The figures agree with the one-record call's to the float32 network's
      * rounding, not bit for bit: OpenBLAS's sgemm rounds a row's products differently with its place
