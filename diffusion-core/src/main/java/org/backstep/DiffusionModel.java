@@ -547,6 +547,30 @@ public final class DiffusionModel {
     }
 
     /**
+     * Synthetic records by the given plan, one per seed: record i is drawn from a generator seeded
+     * by {@code rowSeeds[i]} alone, the record {@code sample(1, plan, rowSeeds[i])} draws, so a
+     * record does not depend on the other seeds, their order or the batch size (for a distributed
+     * job: seed record i from the job's seed and i, and any partitioning draws the same records). The records agree with the one-record calls' to the float32 network's
+     * rounding, not bit for bit (see {@link #impute(Table, ImputationOptions, long[])}).
+     *
+     * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
+     *
+     * @param plan sampler, steps and eta
+     * @param rowSeeds one seed per record, at least one; count x columns at most {@link Limits#MAX_CELLS} (not modified)
+     * @return a table with the training columns, in original units
+     * @throws IllegalArgumentException naming an empty or too long seed array, or a step count above T
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Table sample(SamplingPlan plan, long[] rowSeeds) {
+        Require.notNull("rowSeeds", rowSeeds);
+        Require.atLeast("rowSeeds length", rowSeeds.length, 1);
+        Limits.checkCells("count x columns of the sample", rowSeeds.length, transform().names().size());
+        Require.notNull("plan", plan);
+        Require.inRange("steps", plan.steps(), 0, steps());
+        return engine.sampleChecked(plan, rowSeeds.clone()).table();
+    }
+
+    /**
      * Synthetic records by the given plan, as {@link #sample(int, SamplingPlan, long)} draws them,
      * with the check of how far they strayed: the share of rows with a value beyond
      * {@link SampleCheck#BOUND_WIDTHS} widths of the training range in model space (see
@@ -612,6 +636,50 @@ public final class DiffusionModel {
         return Imputer.impute(engine, records, how, seed);
     }
 
+    /**
+     * {@link #impute(Table, ImputationOptions, long)} with a seed per record: draw k of record i
+     * comes from a generator seeded by {@code rowSeeds[i]} and k alone, the draws
+     * {@code impute(recordI, how, rowSeeds[i])} makes on a one-record table. So a record's draws
+     * depend only on its seed, not on the other records, their order or the batch size, while the
+     * network sees the records in batches (one-record calls cost about 7 times the CPU time per record
+     * for imputation and 9 for denoising, measured through Spark on a shared machine;
+     * {@code diffusion-bench/results/spark-rowjobs.txt}). For a distributed job whose rows carry a
+     * stable key: seed each row from the key, and any partitioning gives the same draws. The figures agree with the one-record call's to the float32 network's
+     * rounding, not bit for bit: OpenBLAS's sgemm rounds a row's products differently with its place
+     * in the matrix (its kernels treat a matrix's edges apart; measured up to 2e-6 nats on a bound,
+     * and unchanged with -XX:-UseSuperWord, so not in Java). The chain carries such a difference
+     * forward: a continuous draw moves by about float32 rounding times the chain's gain, and a
+     * binary or categorical draw (a uniform u against a probability p) takes the other value only
+     * when u lies within that rounding of p's threshold, on average once in some 10^6 such draws;
+     * after it the record's chain follows another path (tests hold the agreement, see
+     * {@code RowSeedJobsTest}).
+     *
+     * <p>Caution: imputed values are not measurements.
+     *
+     * @param records records with the training columns; NaN marks a missing cell
+     * @param how the settings
+     * @param rowSeeds one seed per record (not modified)
+     * @return the k completions, the per-cell mean and the interval
+     * @throws IllegalArgumentException naming a column mismatch, or a seed count other than the
+     *     record count
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Imputation impute(Table records, ImputationOptions how, long[] rowSeeds) {
+        Require.notNull("how", how);
+        checkColumns(records, "records");
+        checkRowSeeds(rowSeeds, records.rows());
+        Limits.checkCells("draws x rows x columns of the imputation", how.draws(), records.rows(), records.columns());
+        return Imputer.impute(engine, records, how, rowSeeds.clone());
+    }
+
+    private static void checkRowSeeds(long[] rowSeeds, int rows) {
+        Require.notNull("rowSeeds", rowSeeds);
+        if (rowSeeds.length != rows) {
+            throw new IllegalArgumentException("rowSeeds has " + rowSeeds.length + " seeds; expected "
+                    + rows + " (one per record)");
+        }
+    }
+
     // ------------------------------------------------------------------ denoising
 
     /**
@@ -641,6 +709,41 @@ public final class DiffusionModel {
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public Denoising denoise(Table readings, DenoisingOptions how, long seed) {
+        checkDenoising(readings, how);
+        return Denoiser.denoise(engine, readings, how, seed);
+    }
+
+    /**
+     * {@link #denoise(Table, DenoisingOptions, long)} with a seed per record: draw k of record i
+     * comes from a generator seeded by {@code rowSeeds[i]} and k alone, the draws
+     * {@code denoise(recordI, how, rowSeeds[i])} makes on a one-record table, so a record's draws do
+     * not depend on the other records while the network sees them in batches. The figures agree with the one-record call's to the float32 network's
+     * rounding, not bit for bit: OpenBLAS's sgemm rounds a row's products differently with its place
+     * in the matrix (its kernels treat a matrix's edges apart; measured up to 2e-6 nats on a bound,
+     * and unchanged with -XX:-UseSuperWord, so not in Java). The chain carries such a difference
+     * forward: a continuous draw moves by about float32 rounding times the chain's gain, and a
+     * binary or categorical draw (a uniform u against a probability p) takes the other value only
+     * when u lies within that rounding of p's threshold, on average once in some 10^6 such draws;
+     * after it the record's chain follows another path (tests hold the agreement, see
+     * {@code RowSeedJobsTest}).
+     *
+     * <p>Caution: denoised values are estimates, not measurements.
+     *
+     * @param readings complete noisy records with the training columns
+     * @param how the noise of each column in original units, the draws and the most steps
+     * @param rowSeeds one seed per record (not modified)
+     * @return posterior mean and spread per cell
+     * @throws IllegalArgumentException as {@link #denoise(Table, DenoisingOptions, long)}, or naming a
+     *     seed count other than the record count
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public Denoising denoise(Table readings, DenoisingOptions how, long[] rowSeeds) {
+        checkDenoising(readings, how);
+        checkRowSeeds(rowSeeds, readings.rows());
+        return Denoiser.denoise(engine, readings, how, rowSeeds.clone());
+    }
+
+    private void checkDenoising(Table readings, DenoisingOptions how) {
         Require.notNull("how", how);
         checkComplete(readings, "readings");
         double[] noise = how.noiseSd();
@@ -652,7 +755,6 @@ public final class DiffusionModel {
                         + " category you distrust instead, with the cell missing)");
             }
         }
-        return Denoiser.denoise(engine, readings, how, seed);
     }
 
     // ------------------------------------------------------------------ planning

@@ -46,8 +46,9 @@ import org.backstep.report.DriftReport;
  * broadcast to each executor once); each executor JVM loads the model once, keyed by the SHA-256 of
  * the bytes ({@code ExecutorModels}), whatever the number of tasks. Rows stay in their partitions;
  * each partition is read in batches of {@code batchRows} rows, each row with its own random stream
- * ({@link RowSeeds}), on {@code spark.task.cpus} threads; scoring sends a batch to the core as one
- * matrix, imputation, denoising and a flagged row's surprisal one row per call.
+ * ({@link RowSeeds}), on {@code spark.task.cpus} threads; scoring, imputation and denoising send a
+ * batch to the core as matrices (each record with its own seed), a flagged row's surprisal one row
+ * per call.
  *
  * <p>Saved with Spark ML's writer: the folder holds Spark's {@code metadata} (every Param) and the
  * Backstep model file, {@value #MODEL_FILE}, byte for byte.
@@ -182,7 +183,7 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
     private ColumnMatch match(StructType schema) {
         DiffusionModel m = model();
         return ColumnMatch.of(schema, getOrDefault(inputCols()), CoreCalls.names(m), CoreCalls.kinds(m),
-                getOrDefault(rowKeyCol()));
+                CoreCalls.categories(m), getOrDefault(rowKeyCol()));
     }
 
     @Override
@@ -260,30 +261,58 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
     /** The rows' model cells as a table and their common-random-number scores, computed on the executors. */
     private Object[] commonScores(Dataset<?> rows, String name) {
         List<String> names = CoreCalls.names(model());
+        List<org.backstep.table.ColumnKind> kinds = CoreCalls.kinds(model());
         RowJob job = job(rows.schema(), RowJob.Kind.COMMON);
         String scoreCol = "backstep_score";
-        List<Row> got = rows.toDF().mapPartitions(job, Encoders.row(RowJob.commonSchema(names, scoreCol))).collectAsList();
+        List<Row> got = rows.toDF().mapPartitions(job, Encoders.row(RowJob.commonSchema(names, kinds, scoreCol)))
+                .collectAsList();
         if (got.size() < 2) {
             throw new IllegalArgumentException(name + " has " + got.size() + " rows; expected at least 2");
         }
         int d = names.size();
         double[][] cells = new double[got.size()][d];
         double[] scores = new double[got.size()];
+        // a categorical column's labels: the model's, then those it does not know, in order of first appearance
+        java.util.Map<String, List<String>> categories = new java.util.HashMap<>();
+        java.util.List<java.util.Map<String, Integer>> index = new java.util.ArrayList<>();
+        for (int j = 0; j < d; j++) {
+            java.util.Map<String, Integer> at = new java.util.HashMap<>();
+            if (kinds.get(j) == org.backstep.table.ColumnKind.CATEGORICAL) {
+                List<String> labels = new java.util.ArrayList<>(CoreCalls.categories(model()).get(names.get(j)));
+                for (int k = 0; k < labels.size(); k++) {
+                    at.put(labels.get(k), k);
+                }
+                categories.put(names.get(j), labels);
+            }
+            index.add(at);
+        }
         for (int i = 0; i < got.size(); i++) {
             Row r = got.get(i);
             for (int j = 0; j < d; j++) {
-                cells[i][j] = r.getDouble(j);
+                if (kinds.get(j) == org.backstep.table.ColumnKind.CATEGORICAL) {
+                    List<String> labels = categories.get(names.get(j));
+                    cells[i][j] = index.get(j).computeIfAbsent(r.getString(j), l -> {
+                        labels.add(l);
+                        return labels.size() - 1;
+                    });
+                } else {
+                    cells[i][j] = r.getDouble(j);
+                }
             }
             scores[i] = r.getDouble(d);
         }
-        return new Object[] {org.backstep.table.Table.of(names, CoreCalls.kinds(model()), cells), scores};
+        return new Object[] {org.backstep.table.Table.of(names, kinds, categories, cells), scores};
     }
 
     /**
-     * Synthetic rows by ancestral sampling through all T steps, spread over partitions: partition p
-     * draws its share in slices of {@code batchRows} rows, each seeded from {@code seed}, p and the
-     * slice (see {@code SampleJob}). The same seed, count and partition count give the same rows.
-     * Columns: the model's, as doubles (binary columns 0 or 1).
+     * Synthetic rows by ancestral sampling through all T steps, spread over partitions: row i of
+     * the {@code count} (partition p draws a contiguous share, in slices of {@code batchRows} rows)
+     * is drawn from its own seed {@link RowSeeds#ofKey(long, long) RowSeeds.ofKey}(seed, i), so the
+     * same seed and count give the same rows whatever the partition count and slice size (to the
+     * float32 network's rounding; row i equals the core's
+     * {@code model.sample(1, SamplingPlan.ancestral(), RowSeeds.ofKey(seed, i))}). Columns: the
+     * model's; continuous and binary columns as doubles (binary 0 or 1), integer columns as longs,
+     * categorical columns as their labels.
      *
      * <p>Caution: synthetic rows are not measurements and can reproduce training rows.
      *
@@ -305,8 +334,11 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
             throw new IllegalArgumentException("batchRows is " + slice + "; expected at least 1");
         }
         List<String> names = CoreCalls.names(model());
-        StructType schema = new StructType(names.stream()
-                .map(n -> DataTypes.createStructField(n, DataTypes.DoubleType, false)).toArray(StructField[]::new));
+        List<org.backstep.table.ColumnKind> kinds = CoreCalls.kinds(model());
+        StructType schema = new StructType();
+        for (int j = 0; j < names.size(); j++) {
+            schema = schema.add(DataTypes.createStructField(names.get(j), SampleJob.cellType(kinds.get(j)), false));
+        }
         return spark.range(0, partitions, 1, partitions).as(Encoders.LONG())
                 .mapPartitions(new SampleJob(broadcast(spark), sha256, count, partitions, seed, slice), Encoders.row(schema));
     }

@@ -18,10 +18,11 @@ import org.apache.spark.ml.param.StringArrayParam;
  * threshold, a flag ({@link #flagCol()}: the bound is above the threshold, or NaN);
  * {@code "impute"} appends, per model column {@code c}, {@code c_mean}, {@code c_lower} and
  * {@code c_upper}: the mean and central interval at {@link #level()} of {@link #draws()} draws of
- * each missing cell given the observed ones (observed cells repeat their value);
+ * each missing cell given the observed ones (observed cells repeat their value; a categorical
+ * column's most frequent label of the draws, as a string, in all three);
  * {@code "denoise"} appends {@code c_denoised} and {@code c_sd}: the posterior mean and spread of
  * each cell of readings with Gaussian noise of standard deviation {@link #noiseSd()} (original
- * units, one per model column); {@code "attribute"} scores and flags as {@code "score"} (the model
+ * units, one per model column; 0 for a categorical column, which keeps its label); {@code "attribute"} scores and flags as {@code "score"} (the model
  * needs a threshold) and, for each flagged row, appends which columns make it unusual: the
  * conditional surprisal -log p(x_j | x_-j) of every model column in nats, model space
  * ({@link #surprisalCol()}, in the model's column order, NaN for a missing cell; the core's

@@ -3,7 +3,11 @@ package org.backstep.spark;
 import java.io.Serializable;
 import java.math.BigDecimal;
 import java.util.Arrays;
+import java.util.ArrayList;
+import java.util.HashMap;
 import java.util.List;
+import java.util.Locale;
+import java.util.Map;
 
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.types.BooleanType;
@@ -18,12 +22,16 @@ import org.apache.spark.sql.types.ShortType;
 import org.apache.spark.sql.types.StringType;
 import org.apache.spark.sql.types.StructType;
 import org.backstep.table.ColumnKind;
+import org.backstep.table.Table;
 
 /**
  * Where the model's columns sit in a DataFrame's rows, checked by name and type, and the reading of
  * one row's cells as doubles. A continuous column may be any numeric type (double, float, int, long,
- * short, byte, decimal); a binary column a boolean, or a numeric type holding 0 and 1. A null cell
- * and a NaN are a missing cell. The optional row key column is an integer or a string.
+ * short, byte, decimal); a binary column a boolean, or a numeric type holding 0 and 1; an integer
+ * column an integral type (long, int, short, byte) within +-2^52; a categorical column a string
+ * column of labels, read as the index of the label among the model's ({@code Table.categories}).
+ * A label the model's training table did not have reads as {@link #UNSEEN}. A null cell and a NaN
+ * are a missing cell. The optional row key column is an integer or a string.
  */
 final class ColumnMatch implements Serializable {
 
@@ -35,14 +43,48 @@ final class ColumnMatch implements Serializable {
     private final int keyIndex;          // -1: the row's content is its key
     private final boolean stringKey;
     private final String keyCol;
+    private final String[] modelNames;
+    private final List<List<String>> labels;                 // per column: the model's labels, or null
+    private final List<Map<String, Integer>> labelIndex;     // per column: label -> index, or null
 
-    private ColumnMatch(String[] inputCols, ColumnKind[] kinds, int[] index, int keyIndex, boolean stringKey, String keyCol) {
+    /** The cell of a categorical label the model does not know (its training table did not have it). */
+    static final double UNSEEN = -1.0;
+
+    /** The largest magnitude of an integer cell (Table's rule: whole numbers within +-2^52). */
+    private static final long MAX_INTEGER = 1L << 52;
+
+    private ColumnMatch(String[] inputCols, ColumnKind[] kinds, int[] index, int keyIndex, boolean stringKey, String keyCol,
+                        String[] modelNames, List<List<String>> labels) {
         this.inputCols = inputCols;
         this.kinds = kinds;
         this.index = index;
         this.keyIndex = keyIndex;
         this.stringKey = stringKey;
         this.keyCol = keyCol;
+        this.modelNames = modelNames;
+        this.labels = labels;
+        this.labelIndex = new ArrayList<>();
+        for (List<String> l : labels) {
+            Map<String, Integer> m = null;
+            if (l != null) {
+                m = new HashMap<>();
+                for (int k = 0; k < l.size(); k++) {
+                    m.put(l.get(k), k);
+                }
+            }
+            labelIndex.add(m);
+        }
+    }
+
+    /**
+     * {@link #of(StructType, String[], List, List, Map, String)} for a model without categorical
+     * columns.
+     *
+     * @throws IllegalArgumentException naming the missing or mistyped column, or a categorical kind
+     */
+    static ColumnMatch of(StructType schema, String[] inputCols, List<String> modelNames, List<ColumnKind> modelKinds,
+                          String keyCol) {
+        return of(schema, inputCols, modelNames, modelKinds, Map.of(), keyCol);
     }
 
     /**
@@ -52,12 +94,13 @@ final class ColumnMatch implements Serializable {
      * @param inputCols the DataFrame's column for each model column, in the model's order
      * @param modelNames the model's column names (for messages)
      * @param modelKinds the model's column kinds
+     * @param categories the labels of each of the model's categorical columns, by model column name
      * @param keyCol the row key column, or "" for none
      * @return the match
      * @throws IllegalArgumentException naming the missing or mistyped column
      */
     static ColumnMatch of(StructType schema, String[] inputCols, List<String> modelNames, List<ColumnKind> modelKinds,
-                          String keyCol) {
+                          Map<String, List<String>> categories, String keyCol) {
         if (inputCols.length != modelNames.size()) {
             throw new IllegalArgumentException("inputCols has " + inputCols.length + " columns " + Arrays.toString(inputCols)
                     + "; the model has " + modelNames.size() + " " + modelNames);
@@ -76,12 +119,30 @@ final class ColumnMatch implements Serializable {
             kinds[j] = modelKinds.get(j);
             DataType t = schema.fields()[index[j]].dataType();
             boolean numeric = isNumeric(t);
-            boolean ok = kinds[j] == ColumnKind.BINARY ? numeric || t instanceof BooleanType : numeric;
+            boolean ok = switch (kinds[j]) {
+                case BINARY -> numeric || t instanceof BooleanType;
+                case INTEGER -> isIntegral(t);
+                case CATEGORICAL -> t instanceof StringType;
+                default -> numeric;
+            };
             if (!ok) {
                 throw new IllegalArgumentException("column '" + col + "'" + role + " has type " + t.simpleString()
-                        + "; the model's " + kinds[j].name().toLowerCase() + " column needs "
-                        + (kinds[j] == ColumnKind.BINARY ? "a boolean or a numeric type holding 0 and 1" : "a numeric type"));
+                        + "; the model's " + kinds[j].name().toLowerCase(Locale.ROOT) + " column needs "
+                        + switch (kinds[j]) {
+                            case BINARY -> "a boolean or a numeric type holding 0 and 1";
+                            case INTEGER -> "an integral type (long, int, short or byte)";
+                            case CATEGORICAL -> "a string column of its labels";
+                            default -> "a numeric type";
+                        });
             }
+            if (kinds[j] == ColumnKind.CATEGORICAL && categories.get(modelNames.get(j)) == null) {
+                throw new IllegalArgumentException("the model's categorical column '" + modelNames.get(j)
+                        + "' has no labels given");
+            }
+        }
+        List<List<String>> labels = new ArrayList<>();
+        for (int j = 0; j < inputCols.length; j++) {
+            labels.add(kinds[j] == ColumnKind.CATEGORICAL ? List.copyOf(categories.get(modelNames.get(j))) : null);
         }
         int keyIndex = -1;
         boolean stringKey = false;
@@ -98,7 +159,12 @@ final class ColumnMatch implements Serializable {
                         + "; expected an integer type or string");
             }
         }
-        return new ColumnMatch(inputCols.clone(), kinds, index, keyIndex, stringKey, keyCol);
+        return new ColumnMatch(inputCols.clone(), kinds, index, keyIndex, stringKey, keyCol,
+                modelNames.toArray(String[]::new), labels);
+    }
+
+    private static boolean isIntegral(DataType t) {
+        return t instanceof IntegerType || t instanceof LongType || t instanceof ShortType || t instanceof ByteType;
     }
 
     private static boolean isNumeric(DataType t) {
@@ -132,6 +198,17 @@ final class ColumnMatch implements Serializable {
             double d;
             if (v == null) {
                 d = Double.NaN;
+            } else if (kinds[j] == ColumnKind.CATEGORICAL) {
+                Integer k = labelIndex.get(j).get((String) v);
+                x[j] = k == null ? UNSEEN : k;
+                continue;
+            } else if (kinds[j] == ColumnKind.INTEGER) {
+                long n = ((Number) v).longValue();
+                if (n > MAX_INTEGER || n < -MAX_INTEGER) {
+                    throw new IllegalArgumentException(where.describe(this, row) + ", column '" + inputCols[j] + "' is " + n
+                            + "; the model's integer column holds whole numbers within +-2^52");
+                }
+                d = n;
             } else if (v instanceof Boolean b) {
                 d = b ? 1.0 : 0.0;
             } else if (v instanceof BigDecimal bd) {
@@ -150,6 +227,101 @@ final class ColumnMatch implements Serializable {
             x[j] = d == 0.0 ? 0.0 : d;     // -0.0 as 0.0, as Table stores it
         }
         return x;
+    }
+
+    /** @return the row's cell of model column j as the DataFrame holds it */
+    Object raw(Row row, int j) {
+        return row.get(index[j]);
+    }
+
+    /** @return the model's kind of model column j */
+    ColumnKind kind(int j) {
+        return kinds[j];
+    }
+
+    /** @return the label of category index k of model column j (a categorical column) */
+    String label(int j, int k) {
+        return labels.get(j).get(k);
+    }
+
+    /**
+     * @param cells a row's cells from {@link #cells(Row, RowName)}
+     * @return the first model column holding a label the model does not know, or -1
+     */
+    int unseenColumn(double[] cells) {
+        for (int j = 0; j < cells.length; j++) {
+            if (kinds[j] == ColumnKind.CATEGORICAL && cells[j] == UNSEEN) {
+                return j;
+            }
+        }
+        return -1;
+    }
+
+    /**
+     * The refusal of a row whose categorical cell holds a label the model does not know.
+     *
+     * @param row the row
+     * @param where how to name it
+     * @param j the column ({@link #unseenColumn})
+     * @param job what refuses it, e.g. "imputation"
+     * @return the exception, naming the row's key (or place), the column and the label
+     */
+    IllegalArgumentException unseen(Row row, RowName where, int j, String job) {
+        List<String> known = labels.get(j);
+        return new IllegalArgumentException(where.describe(this, row) + ", column '" + inputCols[j] + "' holds the label '"
+                + row.get(index[j]) + "', which is not among the " + known.size() + " labels of the model's column '"
+                + modelNames[j] + "' " + (known.size() <= 20 ? known : known.subList(0, 20) + "...")
+                + "; the model gives it probability zero and " + job + " cannot condition on it (scoring gives such a"
+                + " row +infinity)");
+    }
+
+    /**
+     * The table of some rows' cells for the core, with each categorical column's labels: the
+     * model's, then, in order of first appearance, the labels of these rows that the model does not
+     * know (so that the core names them; it scores such a row +infinity in a screen).
+     *
+     * @param names the model's column names
+     * @param rows the rows (for the labels of unseen cells)
+     * @param cells their cells from {@link #cells(Row, RowName)}, in the same order (not modified)
+     * @param where how to name row i, for a label the core cannot hold (blank, or with white space at an end)
+     * @return the table
+     */
+    Table table(List<String> names, List<Row> rows, double[][] cells, java.util.function.IntFunction<RowName> where) {
+        Map<String, List<String>> cats = new HashMap<>();
+        double[][] x = cells;
+        for (int j = 0; j < kinds.length; j++) {
+            if (kinds[j] != ColumnKind.CATEGORICAL) {
+                continue;
+            }
+            List<String> all = new ArrayList<>(labels.get(j));
+            Map<String, Integer> extra = new HashMap<>();
+            for (int i = 0; i < cells.length; i++) {
+                if (cells[i][j] != UNSEEN) {
+                    continue;
+                }
+                String label = (String) rows.get(i).get(index[j]);
+                if (label.isBlank() || !label.strip().equals(label)) {
+                    throw new IllegalArgumentException(where.apply(i).describe(this, rows.get(i)) + ", column '"
+                            + inputCols[j] + "' holds the label '" + label + "', which is blank or has white space at"
+                            + " an end; labels are matched as they are written");
+                }
+                if (x == cells) {
+                    x = new double[cells.length][];
+                    for (int r = 0; r < cells.length; r++) {
+                        x[r] = cells[r].clone();
+                    }
+                }
+                Integer k = extra.get(label);
+                if (k == null) {
+                    k = all.size();
+                    all.add(label);
+                    extra.put(label, k);
+                }
+                x[i][j] = k;
+            }
+            cats.put(names.get(j), all);
+        }
+        return Table.of(names, List.of(kinds), cats, x);
     }
 
     /**

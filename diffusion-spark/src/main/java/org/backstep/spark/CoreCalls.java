@@ -4,6 +4,7 @@ import org.backstep.Defaults;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.ImputationOptions;
+import org.backstep.option.SamplingPlan;
 import org.backstep.option.SurprisalOptions;
 import org.backstep.report.DriftReport;
 import org.backstep.report.Surprisal;
@@ -24,9 +25,9 @@ import org.backstep.table.Table;
  * Every call this module makes into diffusion-core, in one place, so that a change of the core's
  * job signatures is met here only. Scoring runs on batches of records, each record with its own
  * seed ({@link DiffusionModel#bound(Table, BoundOptions, long[])}), and so does the scoring for
- * drift (common random numbers, {@link DiffusionModel#screeningScores}); imputation, denoising
- * and the surprisal of a flagged row run on one record per call (the core takes one seed per call
- * for those; flagged rows are few).
+ * drift (common random numbers, {@link DiffusionModel#screeningScores}), imputation, denoising and
+ * sampling (each record from its own seed); the surprisal of a flagged row runs on one record per
+ * call (the core takes one seed per call for it; flagged rows are few).
  */
 final class CoreCalls {
 
@@ -77,19 +78,30 @@ final class CoreCalls {
         return SurprisalOptions.FEWEST_DRAWS;
     }
 
-    /** {@link DiffusionModel#impute(Table, ImputationOptions, long)} of one record, at the default steps, rounds and method. */
-    static Imputation impute(DiffusionModel model, Table oneRow, int draws, double level, long seed) {
-        return model.impute(oneRow, Defaults.imputation().withDraws(draws).withLevel(level), seed);
+    /**
+     * {@link DiffusionModel#impute(Table, ImputationOptions, long[])}: a batch of records, record i
+     * drawing from its own seed, at the default steps, rounds and method.
+     */
+    static Imputation impute(DiffusionModel model, Table rows, int draws, double level, long[] rowSeeds) {
+        return model.impute(rows, Defaults.imputation().withDraws(draws).withLevel(level), rowSeeds);
     }
 
-    /** {@link DiffusionModel#denoise(Table, DenoisingOptions, long)} of one record. */
-    static Denoising denoise(DiffusionModel model, Table oneRow, double[] noiseSd, int draws, long seed) {
-        return model.denoise(oneRow, Defaults.denoising(noiseSd).withDraws(draws), seed);
+    /** {@link DiffusionModel#denoise(Table, DenoisingOptions, long[])}: a batch of records, record i drawing from its own seed. */
+    static Denoising denoise(DiffusionModel model, Table rows, double[] noiseSd, int draws, long[] rowSeeds) {
+        return model.denoise(rows, Defaults.denoising(noiseSd).withDraws(draws), rowSeeds);
     }
 
-    /** {@link DiffusionModel#sample(int, long)}: ancestral sampling through all T steps. */
-    static Table sample(DiffusionModel model, int count, long seed) {
-        return model.sample(count, seed);
+    /**
+     * {@link DiffusionModel#sample(SamplingPlan, long[])}: ancestral sampling through all T steps,
+     * record i from its own seed.
+     */
+    static Table sample(DiffusionModel model, long[] rowSeeds) {
+        return model.sample(SamplingPlan.ancestral(), rowSeeds);
+    }
+
+    /** @return the labels of each categorical column of the training table, by column name */
+    static java.util.Map<String, List<String>> categories(DiffusionModel model) {
+        return model.transform().categories();
     }
 
     /** Fits a model by the core's builder with the given settings (0 or an empty array: the core's default). */

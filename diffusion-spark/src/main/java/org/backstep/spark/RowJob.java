@@ -2,16 +2,20 @@ package org.backstep.spark;
 
 import java.io.Serializable;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.Iterator;
 import java.util.List;
 import java.util.Locale;
 import java.util.NoSuchElementException;
+import java.util.function.IntFunction;
+import java.util.stream.IntStream;
 
 import org.apache.spark.TaskContext;
 import org.apache.spark.api.java.function.MapPartitionsFunction;
 import org.apache.spark.broadcast.Broadcast;
 import org.apache.spark.sql.Row;
 import org.apache.spark.sql.RowFactory;
+import org.apache.spark.sql.types.DataType;
 import org.apache.spark.sql.types.DataTypes;
 import org.apache.spark.sql.types.StructField;
 import org.apache.spark.sql.types.StructType;
@@ -25,16 +29,18 @@ import org.backstep.table.Table;
 /**
  * One job over the rows of a DataFrame, run per partition: the rows are read in batches of
  * {@code batchRows}, each row's random stream is seeded from the job's seed and the row's key
- * ({@link RowSeeds}), on the task's cores. Scoring sends each batch to the core as one table (in
- * slices of at most {@value #SLICE_ROWS} rows, one per task core), each record drawing from its own
- * seed, so a row's score does not depend on the rows beside it (to the network's float rounding);
- * imputation, denoising and the surprisal of a flagged row send one record per call. Output rows
+ * ({@link RowSeeds}), on the task's cores. Scoring, imputation and denoising send each batch to the
+ * core as tables (slices of at most {@value #SLICE_ROWS} rows, one per task core at least), each
+ * record drawing from its own seed, so a row's results do not depend on the rows beside it (to the
+ * network's float rounding: see the core's per-record-seed calls); the surprisal of a flagged row
+ * sends one record per call. Output rows
  * are the input rows with the job's columns appended; for {@link Kind#COMMON}, the model's cells
  * and the score only.
  */
 final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
 
     private static final long serialVersionUID = 1L;
+    private static final org.slf4j.Logger LOG = org.slf4j.LoggerFactory.getLogger(RowJob.class);
 
     /** The jobs a {@link BackstepModel} runs on rows. */
     enum Kind {
@@ -128,20 +134,26 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
             }
             case IMPUTE -> {
                 for (int j = 0; j < match.columns(); j++) {
-                    f.add(DataTypes.createStructField(match.inputCol(j) + MEAN, DataTypes.DoubleType, false));
-                    f.add(DataTypes.createStructField(match.inputCol(j) + LOWER, DataTypes.DoubleType, false));
-                    f.add(DataTypes.createStructField(match.inputCol(j) + UPPER, DataTypes.DoubleType, false));
+                    DataType t = cellType(match.kind(j));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + MEAN, t, false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + LOWER, t, false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + UPPER, t, false));
                 }
             }
             case DENOISE -> {
                 for (int j = 0; j < match.columns(); j++) {
-                    f.add(DataTypes.createStructField(match.inputCol(j) + DENOISED, DataTypes.DoubleType, false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + DENOISED, cellType(match.kind(j)), false));
                     f.add(DataTypes.createStructField(match.inputCol(j) + SD, DataTypes.DoubleType, false));
                 }
             }
             default -> throw new IllegalStateException(kind.name());
         }
         return f;
+    }
+
+    /** @return the type of a job's cell of a column of this kind: a categorical column's label as a string, else a double */
+    static DataType cellType(ColumnKind kind) {
+        return kind == ColumnKind.CATEGORICAL ? DataTypes.StringType : DataTypes.DoubleType;
     }
 
     /**
@@ -267,43 +279,94 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         };
     }
 
-    /** The job's output rows of one batch, into {@code done}. */
+    /**
+     * The job's output rows of one batch, into {@code done}: the batch's rows are read, checked and
+     * seeded, then sent to the core in slices of at most {@value #SLICE_ROWS} rows (one slice per
+     * task core at least), each record drawing from its own seed, and the results appended.
+     * Scoring and attribution give a row with a label the model does not know +infinity (the
+     * model gives it probability zero; the core's screen does the same) without a core call;
+     * imputation and denoising refuse it, naming the row, column and label.
+     */
     private void runBatch(DiffusionModel model, List<String> names, List<ColumnKind> kinds, List<Row> batch,
                           int partition, long first, int cpus, Row[] done) {
         int b = batch.size();
-        if (kind == Kind.IMPUTE || kind == Kind.DENOISE) {
-            TaskThreads.forEach(b, cpus, i -> {
-                Row row = batch.get(i);
-                ColumnMatch.RowName where = new ColumnMatch.RowName(partition, first + i);
-                done[i] = append(row, run(model, names, kinds, row, where));
-            });
-            return;
-        }
+        IntFunction<ColumnMatch.RowName> where = i -> new ColumnMatch.RowName(partition, first + i);
         double[][] cells = new double[b][];
         long[] seeds = new long[b];
+        boolean[] unseen = new boolean[b];
+        String job = switch (kind) {
+            case COMMON -> "drift";
+            case IMPUTE -> "imputation";
+            case DENOISE -> "denoising";
+            default -> "scoring";
+        };
         for (int i = 0; i < b; i++) {
             Row row = batch.get(i);
-            ColumnMatch.RowName where = new ColumnMatch.RowName(partition, first + i);
-            cells[i] = match.cells(row, where);
-            requireComplete(cells[i], row, where, kind == Kind.COMMON ? "drift" : "scoring");
-            seeds[i] = match.rowSeed(seed, row, cells[i], where);
+            cells[i] = match.cells(row, where.apply(i));
+            int u = match.unseenColumn(cells[i]);
+            if (u >= 0 && (kind == Kind.IMPUTE || kind == Kind.DENOISE)) {
+                throw match.unseen(row, where.apply(i), u, job);
+            }
+            unseen[i] = u >= 0;
+            if (kind != Kind.IMPUTE) {
+                requireComplete(cells[i], row, where.apply(i), job);
+            }
+            seeds[i] = match.rowSeed(seed, row, cells[i], where.apply(i));
         }
+        // the rows sent to the core: all, but for scoring those whose labels the model knows
+        int[] sent = IntStream.range(0, b).filter(i -> kind == Kind.COMMON || !unseen[i]).toArray();
+        if (sent.length < b && kind != Kind.COMMON) {
+            int i = IntStream.range(0, b).filter(r -> unseen[r]).findFirst().orElseThrow();
+            LOG.warn("{} row(s) of this batch score +infinity: a categorical label the model does not know; first: {}",
+                    b - sent.length, match.unseen(batch.get(i), where.apply(i), match.unseenColumn(cells[i]), job).getMessage());
+        }
+        int m = sent.length;
         double[] nats = new double[b];
-        int slices = Math.max(Math.min(cpus, b), (b + SLICE_ROWS - 1) / SLICE_ROWS);
+        Arrays.fill(nats, Double.POSITIVE_INFINITY);
+        Object[][] values = new Object[b][];
+        int slices = m == 0 ? 0 : Math.max(Math.min(cpus, m), (m + SLICE_ROWS - 1) / SLICE_ROWS);
         TaskThreads.forEach(slices, cpus, k -> {
-            int from = (int) ((long) b * k / slices);
-            int to = (int) ((long) b * (k + 1) / slices);
-            Table t = Table.of(names, kinds, java.util.Arrays.copyOfRange(cells, from, to));
-            double[] s = kind == Kind.COMMON ? CoreCalls.commonScores(model, t, scoreDraws, seed)
-                    : CoreCalls.score(model, t, scoreDraws, java.util.Arrays.copyOfRange(seeds, from, to));
-            System.arraycopy(s, 0, nats, from, to - from);
+            int[] idx = Arrays.copyOfRange(sent, (int) ((long) m * k / slices), (int) ((long) m * (k + 1) / slices));
+            List<Row> rows = new ArrayList<>(idx.length);
+            double[][] c = new double[idx.length][];
+            long[] s = new long[idx.length];
+            for (int i = 0; i < idx.length; i++) {
+                rows.add(batch.get(idx[i]));
+                c[i] = cells[idx[i]];
+                s[i] = seeds[idx[i]];
+            }
+            Table t = match.table(names, rows, c, i -> where.apply(idx[i]));
+            switch (kind) {
+                case COMMON -> copyTo(CoreCalls.commonScores(model, t, scoreDraws, seed), idx, nats);
+                case SCORE, ATTRIBUTE -> copyTo(CoreCalls.score(model, t, scoreDraws, s), idx, nats);
+                case IMPUTE -> {
+                    Imputation imp = CoreCalls.impute(model, t, draws, level, s);
+                    for (int i = 0; i < idx.length; i++) {
+                        values[idx[i]] = imputed(imp, i);
+                    }
+                }
+                case DENOISE -> {
+                    Denoising den = CoreCalls.denoise(model, t, noiseSd, draws, s);
+                    for (int i = 0; i < idx.length; i++) {
+                        values[idx[i]] = denoised(den, i);
+                    }
+                }
+                default -> throw new IllegalStateException(kind.name());
+            }
         });
         switch (kind) {
+            case IMPUTE, DENOISE -> {
+                for (int i = 0; i < b; i++) {
+                    done[i] = append(batch.get(i), values[i]);
+                }
+            }
             case COMMON -> {
                 for (int i = 0; i < b; i++) {
                     Object[] v = new Object[cells[i].length + 1];
                     for (int j = 0; j < cells[i].length; j++) {
-                        v[j] = cells[i][j];
+                        v[j] = match.kind(j) != ColumnKind.CATEGORICAL ? (Object) cells[i][j]
+                                : cells[i][j] == ColumnMatch.UNSEEN ? match.raw(batch.get(i), j)
+                                : match.label(j, (int) cells[i][j]);
                     }
                     v[cells[i].length] = nats[i];
                     done[i] = RowFactory.create(v);
@@ -319,11 +382,26 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
                 boolean flagged = !(nats[i] <= threshold);
                 Object[] v = {nats[i], flagged, new String[0], new double[0]};
                 if (flagged) {
-                    Surprisal sp = CoreCalls.surprisal(model, Table.of(names, kinds, new double[][] {cells[i]}),
-                            surprisal[0], surprisal[1], surprisal[2], seeds[i]);
-                    v[3] = sp.nats()[0];
-                    v[2] = sp.ranked(0).stream().limit(culprits)
-                            .map(c -> match.inputCol(names.indexOf(c.column()))).toArray(String[]::new);
+                    // a label the model does not know: that cell missing for the surprisal of the others, and +infinity
+                    double[] x = cells[i].clone();
+                    for (int j = 0; j < x.length; j++) {
+                        if (match.kind(j) == ColumnKind.CATEGORICAL && x[j] == ColumnMatch.UNSEEN) {
+                            x[j] = Double.NaN;
+                        }
+                    }
+                    Surprisal sp = CoreCalls.surprisal(model, match.table(names, List.of(batch.get(i)), new double[][] {x},
+                            r -> where.apply(i)), surprisal[0], surprisal[1], surprisal[2], seeds[i]);
+                    double[] nat = sp.nats()[0].clone();
+                    List<String> ranked = new ArrayList<>();
+                    for (int j = 0; j < x.length; j++) {
+                        if (Double.isNaN(x[j]) && !Double.isNaN(cells[i][j])) {
+                            nat[j] = Double.POSITIVE_INFINITY;
+                            ranked.add(match.inputCol(j));
+                        }
+                    }
+                    sp.ranked(0).stream().map(c -> match.inputCol(names.indexOf(c.column()))).forEach(ranked::add);
+                    v[3] = nat;
+                    v[2] = ranked.stream().limit(culprits).toArray(String[]::new);
                 }
                 done[i] = append(batch.get(i), v);
             });
@@ -331,11 +409,45 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         }
     }
 
-    /** The schema of {@link Kind#COMMON}'s rows: the model's columns as doubles, then the score. */
-    static StructType commonSchema(List<String> names, String scoreCol) {
+    private static void copyTo(double[] part, int[] idx, double[] into) {
+        for (int i = 0; i < idx.length; i++) {
+            into[idx[i]] = part[i];
+        }
+    }
+
+    /** A model cell of column j as the DataFrame gets it: a categorical column's label, else the number. */
+    private Object cellOut(int j, double v) {
+        return match.kind(j) == ColumnKind.CATEGORICAL ? match.label(j, (int) Math.rint(v)) : (Object) v;
+    }
+
+    /** Mean, lower and upper of each column of record i of an imputation (observed cells repeat their value). */
+    private Object[] imputed(Imputation imp, int i) {
+        int d = match.columns();
+        Object[] v = new Object[3 * d];
+        for (int j = 0; j < d; j++) {
+            v[3 * j] = cellOut(j, imp.mean().get(i, j));
+            v[3 * j + 1] = cellOut(j, imp.lower().get(i, j));
+            v[3 * j + 2] = cellOut(j, imp.upper().get(i, j));
+        }
+        return v;
+    }
+
+    /** Denoised mean and spread of each column of record i. */
+    private Object[] denoised(Denoising den, int i) {
+        int d = match.columns();
+        Object[] v = new Object[2 * d];
+        for (int j = 0; j < d; j++) {
+            v[2 * j] = cellOut(j, den.mean().get(i, j));
+            v[2 * j + 1] = den.standardDeviation().get(i, j);
+        }
+        return v;
+    }
+
+    /** The schema of {@link Kind#COMMON}'s rows: the model's columns (doubles; a categorical column's labels), then the score. */
+    static StructType commonSchema(List<String> names, List<ColumnKind> kinds, String scoreCol) {
         StructType s = new StructType();
-        for (String n : names) {
-            s = s.add(DataTypes.createStructField(n, DataTypes.DoubleType, false));
+        for (int j = 0; j < names.size(); j++) {
+            s = s.add(DataTypes.createStructField(names.get(j), cellType(kinds.get(j)), false));
         }
         return s.add(DataTypes.createStructField(scoreCol, DataTypes.DoubleType, false));
     }
@@ -347,42 +459,6 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         }
         System.arraycopy(added, 0, v, row.size(), added.length);
         return RowFactory.create(v);
-    }
-
-    /** The job's values for one row (impute, denoise). */
-    private Object[] run(DiffusionModel model, List<String> names, List<ColumnKind> kinds, Row row,
-                         ColumnMatch.RowName where) {
-        double[] cells = match.cells(row, where);
-        long rowSeed = match.rowSeed(seed, row, cells, where);
-        int d = cells.length;
-        switch (kind) {
-            case IMPUTE -> {
-                Object[] v = new Object[3 * d];
-                boolean missing = false;
-                for (double c : cells) {
-                    missing |= Double.isNaN(c);
-                }
-                Imputation imp = missing
-                        ? CoreCalls.impute(model, Table.of(names, kinds, new double[][] {cells}), draws, level, rowSeed) : null;
-                for (int j = 0; j < d; j++) {
-                    v[3 * j] = imp == null ? cells[j] : imp.mean().get(0, j);
-                    v[3 * j + 1] = imp == null ? cells[j] : imp.lower().get(0, j);
-                    v[3 * j + 2] = imp == null ? cells[j] : imp.upper().get(0, j);
-                }
-                return v;
-            }
-            case DENOISE -> {
-                requireComplete(cells, row, where, "denoising");
-                Denoising den = CoreCalls.denoise(model, Table.of(names, kinds, new double[][] {cells}), noiseSd, draws, rowSeed);
-                Object[] v = new Object[2 * d];
-                for (int j = 0; j < d; j++) {
-                    v[2 * j] = den.mean().get(0, j);
-                    v[2 * j + 1] = den.standardDeviation().get(0, j);
-                }
-                return v;
-            }
-            default -> throw new IllegalStateException(kind.name());
-        }
     }
 
     private void requireComplete(double[] cells, Row row, ColumnMatch.RowName where, String job) {

@@ -8,8 +8,9 @@ import java.nio.charset.StandardCharsets;
  * the job's seed, the row's key and its cells: not on the partitioning, the order of rows, or
  * which other rows are in the DataFrame. To reproduce a row in one JVM, call the core's job on a
  * one-row table with the seed this class gives, e.g.
- * {@code model.bound(oneRowTable, RowSeeds.ofKey(seed, 17L))} (a score computed in a batch agrees
- * with it to the float32 network's rounding; imputation, denoising and surprisal to the last bit).
+ * {@code model.bound(oneRowTable, RowSeeds.ofKey(seed, 17L))} (a score, imputation or denoising
+ * computed in a batch agrees with it to the float32 network's rounding; a flagged row's surprisal
+ * to the last bit). Row i of a synthetic sample draws from {@code ofKey(seed, i)}.
  *
  * <p>Formulas: the key's 64-bit hash h is the key itself for integer keys, and FNV-1a 64 (Fowler,
  * Noll, Vo; offset basis 0xcbf29ce484222325, prime 0x100000001b3) over the UTF-8 bytes of a string
@@ -63,18 +64,6 @@ public final class RowSeeds {
             }
         }
         return fromHash(seed, h);
-    }
-
-    /**
-     * The seed of slice {@code slice} of partition {@code partition} of a sampling job.
-     *
-     * @param seed the job's seed
-     * @param partition the partition index
-     * @param slice the slice index within the partition
-     * @return the slice's seed
-     */
-    static long ofSlice(long seed, int partition, int slice) {
-        return fromHash(fromHash(seed, partition), slice);
     }
 
     private static long fromHash(long seed, long h) {

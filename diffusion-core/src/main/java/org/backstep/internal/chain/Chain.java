@@ -373,18 +373,21 @@ public final class Chain {
         return predict(ws, x, ws.stepBuf);
     }
 
-    /** Fills x (rows x D) with draws of the prior: N(0, 1) for continuous cells, Bernoulli(1/2) for binary ones. */
-    void drawPrior(float[] x, int rows, SplittableRandom rng) {
+    /**
+     * Fills x (rows x D) with draws of the prior: N(0, 1) for continuous cells, Bernoulli(1/2) for
+     * binary ones; row r from {@code rng[r]} (entries may repeat: one generator for every row).
+     */
+    void drawPrior(float[] x, int rows, SplittableRandom[] rng) {
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             for (int j = 0; j < dc; j++) {
-                x[o + j] = (float) rng.nextGaussian();
+                x[o + j] = (float) rng[r].nextGaussian();
             }
             for (int j = dc; j < discreteEnd; j++) {
-                x[o + j] = rng.nextDouble() < 0.5 ? 1f : 0f;
+                x[o + j] = rng[r].nextDouble() < 0.5 ? 1f : 0f;
             }
             for (int j = 0; j < dk; j++) {
-                x[o + discreteEnd + j] = catDiffusion[j].priorDraw(rng.nextDouble());
+                x[o + discreteEnd + j] = catDiffusion[j].priorDraw(rng[r].nextDouble());
             }
         }
     }

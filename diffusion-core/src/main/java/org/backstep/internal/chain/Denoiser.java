@@ -32,6 +32,27 @@ public final class Denoiser {
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public static Denoising denoise(Engine engine, Table readings, DenoisingOptions how, long seed) {
+        return denoise(engine, readings, how, seed, null);
+    }
+
+    /**
+     * {@link #denoise(Engine, Table, DenoisingOptions, long)} with a seed per record: draw k of
+     * record i is made from {@link Parallel#random}(rowSeeds[i] + 1,000,003 k, 0), as a one-record
+     * table seeded with rowSeeds[i] draws it, so a record's draws do not depend on the other records.
+     *
+     * @param engine the model's engine
+     * @param readings complete noisy records with the training columns
+     * @param how the per-column noise (original units), draws and the most chain steps
+     * @param rowSeeds one seed per record (length checked by the caller; not modified)
+     * @return posterior mean and spread per cell
+     * @throws IllegalArgumentException as the one-seed form
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public static Denoising denoise(Engine engine, Table readings, DenoisingOptions how, long[] rowSeeds) {
+        return denoise(engine, readings, how, 0L, rowSeeds);
+    }
+
+    private static Denoising denoise(Engine engine, Table readings, DenoisingOptions how, long seed, long[] rowSeeds) {
         double[] noiseSd = how.noiseSd();
         if (noiseSd.length != readings.columns()) {
             throw new IllegalArgumentException("noiseSd has " + noiseSd.length + " entries; expected one per column, "
@@ -89,11 +110,12 @@ public final class Denoiser {
         double[][] sum = new double[rows][cols];
         double[][] sumSq = new double[rows][cols];
         for (int k = 0; k < how.draws(); k++) {
-            float[] all = Parallel.fillChunks(rows, d, engine.threads(), seed + 1_000_003L * k, (from, n, rng, x) -> {
+            long offset = rowSeeds == null ? seed + 1_000_003L * k : 1_000_003L * k;
+            float[] all = Parallel.fillChunks(rows, d, engine.threads(), offset, rowSeeds, (from, n, rng, x) -> {
                 float[] kn = BoundEvaluator.slice(known, from, n, d);
                 for (int r = 0; r < n; r++) {
                     for (int j = 0; j < c.dc; j++) {
-                        double extra = Math.sqrt(Math.max(0.0, startLevel - s2[j])) * rng.nextGaussian();
+                        double extra = Math.sqrt(Math.max(0.0, startLevel - s2[j])) * rng[r].nextGaussian();
                         x[r * d + j] = (float) (sqrtAbar * (z[(from + r) * d + j] + extra));
                     }
                 }

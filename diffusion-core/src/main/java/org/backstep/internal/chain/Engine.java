@@ -150,8 +150,25 @@ public final class Engine {
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public CheckedSample sampleChecked(int count, SamplingPlan plan, long seed) {
+        return sampleChecked(count, plan, seed, null);
+    }
+
+    /**
+     * {@link #sampleChecked(int, SamplingPlan, long)} with a seed per record: record i draws as the
+     * only record of a one-record sample seeded with {@code rowSeeds[i]} does.
+     *
+     * @param plan the sampler, steps and eta
+     * @param rowSeeds one seed per record, at least one (not modified)
+     * @return the records in original units and the check
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public CheckedSample sampleChecked(SamplingPlan plan, long[] rowSeeds) {
+        return sampleChecked(rowSeeds.length, plan, 0L, rowSeeds);
+    }
+
+    private CheckedSample sampleChecked(int count, SamplingPlan plan, long seed, long[] rowSeeds) {
         Chain c = chainOf(plan.steps());
-        float[] all = Parallel.fillChunks(count, c.d, threads, seed, (from, n, rng, x) -> {
+        float[] all = Parallel.fillChunks(count, c.d, threads, seed, rowSeeds, (from, n, rng, x) -> {
             c.drawPrior(x, n, rng);
             ReverseRun.run(c, x, n, c.steps, null, 1, plan.kind(), plan.eta(), rng);
         });

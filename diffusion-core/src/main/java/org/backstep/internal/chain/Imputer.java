@@ -32,16 +32,45 @@ public final class Imputer {
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public static Imputation impute(Engine engine, Table records, ImputationOptions how, long seed) {
+        return impute(engine, records, how, seed, null);
+    }
+
+    /**
+     * {@link #impute(Engine, Table, ImputationOptions, long)} with a seed per record: draw k of
+     * record i is made from {@link Parallel#random}(rowSeeds[i] + 1,000,003 k, 0), as a one-record
+     * table seeded with rowSeeds[i] draws it, so a record's draws do not depend on the other records.
+     *
+     * @param engine the model's engine
+     * @param records records with the training columns; NaN marks a missing cell
+     * @param how draws, level, steps, rounds and method (steps capped at T)
+     * @param rowSeeds one seed per record (length checked by the caller; not modified)
+     * @return the draws, the mean and the interval
+     * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
+     */
+    public static Imputation impute(Engine engine, Table records, ImputationOptions how, long[] rowSeeds) {
+        return impute(engine, records, how, 0L, rowSeeds);
+    }
+
+    private static Imputation impute(Engine engine, Table records, ImputationOptions how, long seed, long[] rowSeeds) {
         int rows = records.rows();
         int[] todo = records.incompleteRowIndices();
         int n = todo.length;
+        long[] todoSeeds = null;
+        if (rowSeeds != null) {
+            todoSeeds = new long[n];
+            for (int r = 0; r < n; r++) {
+                todoSeeds[r] = rowSeeds[todo[r]];
+            }
+        }
         records = engine.transform().aligned(records);
         float[] known = n == 0 ? new float[0] : engine.modelSpace(records.selectRows(todo));
         Chain c = engine.chainOf(Math.min(how.steps(), engine.steps()));
         List<Table> tables = new ArrayList<>();
         for (int k = 0; k < how.draws(); k++) {
             long drawSeed = seed + 1_000_003L * k;
-            float[] all = drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), drawSeed);
+            float[] all = rowSeeds == null
+                    ? drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), drawSeed)
+                    : drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), 1_000_003L * k, todoSeeds);
             double[][] completed = records.toArray();
             if (n > 0) {
                 Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, n, c.d));
@@ -121,7 +150,17 @@ public final class Imputer {
      */
     public static float[] drawGiven(Chain chain, float[] known, int rows, int rounds, Conditioning method,
                                     int threads, long seed) {
-        return Parallel.fillChunks(rows, chain.d, threads, seed, (from, m, rng, x) -> {
+        return drawGiven(chain, known, rows, rounds, method, threads, seed, null);
+    }
+
+    /**
+     * {@link #drawGiven(Chain, float[], int, int, Conditioning, int, long)} with a seed per row when
+     * {@code rowSeeds} is not null: row i draws from {@link Parallel#random}(rowSeeds[i] + seed, 0)
+     * ({@link Parallel#fillChunks(int, int, int, long, long[], Parallel.ChunkBody)}).
+     */
+    static float[] drawGiven(Chain chain, float[] known, int rows, int rounds, Conditioning method,
+                             int threads, long seed, long[] rowSeeds) {
+        return Parallel.fillChunks(rows, chain.d, threads, seed, rowSeeds, (from, m, rng, x) -> {
             float[] kn = BoundEvaluator.slice(known, from, m, chain.d);
             chain.drawPrior(x, m, rng);
             ReverseRun.replaceKnown(chain, x, kn, m, chain.steps, rng);

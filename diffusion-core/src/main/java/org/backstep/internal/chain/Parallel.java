@@ -128,10 +128,12 @@ public final class Parallel {
         /**
          * @param from the chunk's first row
          * @param rows rows in the chunk
-         * @param rng the chunk's generator ({@link #random(long, long)} of the job's seed and the chunk)
+         * @param rng the generator of each row of the chunk: with a job seed, one generator for
+         *     every row ({@link #random(long, long)} of the job's seed and the chunk); with a seed per
+         *     row, row r's own ({@link #random(long, long)} of its seed plus the job's offset, and 0)
          * @param x rows x D, zero on entry; fill it
          */
-        void fill(int from, int rows, SplittableRandom rng, float[] x);
+        void fill(int from, int rows, SplittableRandom[] rng, float[] x);
     }
 
     /**
@@ -149,12 +151,39 @@ public final class Parallel {
      * @return rows x D, row-major
      */
     public static float[] fillChunks(int rows, int d, int threads, long seed, ChunkBody body) {
+        return fillChunks(rows, d, threads, seed, null, body);
+    }
+
+    /**
+     * {@link #fillChunks(int, int, int, long, ChunkBody)}, with a seed per row when
+     * {@code rowSeeds} is not null: row i draws from {@link #random(long, long)}(rowSeeds[i] +
+     * offset, 0), the generator of the only chunk of a one-row job seeded with rowSeeds[i] + offset,
+     * so its draws do not depend on the other rows, their order or the chunking (a job's draw k
+     * passes its per-draw offset, e.g. 1,000,003 k, as the one-seed form adds it to the job's seed).
+     *
+     * @param rows rows to produce
+     * @param d values per row
+     * @param threads threads to use, at least 1
+     * @param offset the job's seed, or with row seeds the offset added to each
+     * @param rowSeeds one seed per row, or null for the job's seed (not modified)
+     * @param body the work of one chunk
+     * @return rows x D, row-major
+     */
+    public static float[] fillChunks(int rows, int d, int threads, long offset, long[] rowSeeds, ChunkBody body) {
         float[] all = new float[Math.multiplyExact(rows, d)];
         forEachChunk(chunks(rows), threads, chunk -> {
             int from = chunk * CHUNK_ROWS;
             int n = Math.min(CHUNK_ROWS, rows - from);
             float[] x = new float[n * d];
-            body.fill(from, n, random(seed, chunk), x);
+            SplittableRandom[] rng = new SplittableRandom[n];
+            if (rowSeeds == null) {
+                java.util.Arrays.fill(rng, random(offset, chunk));
+            } else {
+                for (int r = 0; r < n; r++) {
+                    rng[r] = random(rowSeeds[from + r] + offset, 0);
+                }
+            }
+            body.fill(from, n, rng, x);
             System.arraycopy(x, 0, all, from * d, n * d);
         });
         return all;

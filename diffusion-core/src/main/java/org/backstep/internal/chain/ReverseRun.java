@@ -39,12 +39,19 @@ public final class ReverseRun {
      * @param rng the chunk's generator
      */
     static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
-                    double eta, SplittableRandom rng) {
+                    double eta, SplittableRandom[] rng) {
         run(chain, x, rows, from, known, rounds, kind, eta, Conditioning.REPLACEMENT, rng);
     }
 
+    /** @return an array of {@code rows} entries, each {@code rng} (the chunk's one generator for every row) */
+    static SplittableRandom[] sameForEveryRow(SplittableRandom rng, int rows) {
+        SplittableRandom[] all = new SplittableRandom[rows];
+        java.util.Arrays.fill(all, rng);
+        return all;
+    }
+
     /**
-     * As {@link #run(Chain, float[], int, int, float[], int, SamplerKind, double, SplittableRandom)},
+     * As {@link #run(Chain, float[], int, int, float[], int, SamplerKind, double, SplittableRandom[])},
      * with the known cells held by the given method.
      *
      * @param chain the chain
@@ -60,6 +67,29 @@ public final class ReverseRun {
      */
     public static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
                     double eta, Conditioning conditioning, SplittableRandom rng) {
+        run(chain, x, rows, from, known, rounds, kind, eta, conditioning, sameForEveryRow(rng, rows));
+    }
+
+    /**
+     * As {@link #run(Chain, float[], int, int, float[], int, SamplerKind, double, Conditioning, SplittableRandom)},
+     * row r drawing from {@code rng[r]}. Every draw of a row is made in that row's loop, in the
+     * same order whatever the generators, so an array holding one generator for every row draws as
+     * the one-generator form does, and with a generator per row, a row's draws do not depend on the
+     * other rows of the chunk.
+     *
+     * @param chain the chain
+     * @param x rows x D, the state at step {@code from}; modified in place and left at x_0
+     * @param rows rows in the chunk
+     * @param from the chain step to start at
+     * @param known rows x D model-space values of known cells, NaN where unknown; null for none; not modified
+     * @param rounds resampling rounds per step, at least 1
+     * @param kind the sampler
+     * @param eta the implicit sampler's eta
+     * @param conditioning how known cells are held
+     * @param rng one generator per row (entries may repeat; each advanced)
+     */
+    public static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
+                           double eta, Conditioning conditioning, SplittableRandom[] rng) {
         boolean product = known != null && conditioning == Conditioning.KERNEL_PRODUCT;
         if (product && kind != SamplerKind.ANCESTRAL) {
             throw new IllegalArgumentException("kind is " + kind + "; the kernel product conditioning needs "
@@ -104,7 +134,7 @@ public final class ReverseRun {
      * @param k the step, 1..K
      * @param rng the chunk's generator (advanced)
      */
-    static void ancestralStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, SplittableRandom rng) {
+    static void ancestralStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, SplittableRandom[] rng) {
         StepKernel kernel = new StepKernel(chain, k);
         double[][] logits = chain.logitBuffers();
         int d = chain.d;
@@ -116,15 +146,15 @@ public final class ReverseRun {
                 double mean = kernel.mean(x[o + j], out[oo + j]);
                 double next = mean;
                 if (kernel.noise) {
-                    next = mean + kernel.sd(out, oo, j) * rng.nextGaussian();
+                    next = mean + kernel.sd(out, oo, j) * rng[r].nextGaussian();
                 }
                 if (!Float.isFinite((float) next)) {
                     throw diverged(chain, k, j, next);
                 }
                 x[o + j] = (float) next;
             }
-            binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng);
-            categoricalStepInPlace(chain, x, out, o, oo, k, logits, rng);
+            binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng[r]);
+            categoricalStepInPlace(chain, x, out, o, oo, k, logits, rng[r]);
         }
     }
 
@@ -189,7 +219,7 @@ public final class ReverseRun {
      * @param rng the chunk's generator (advanced)
      */
     static void productStepInPlace(Chain chain, float[] x, float[] out, float[] known, int rows, int k,
-                                   SplittableRandom rng) {
+                                   SplittableRandom[] rng) {
         StepKernel kernel = new StepKernel(chain, k);
         int d = chain.d;
         int dc = chain.dc;
@@ -207,7 +237,7 @@ public final class ReverseRun {
                 double next = mean;
                 if (kernel.noise) {
                     double sd = kernel.sd(out, oo, j);
-                    double z = rng.nextGaussian();
+                    double z = rng[r].nextGaussian();
                     if (Float.isNaN(y)) {
                         next = mean + sd * z;
                     } else {
@@ -233,14 +263,14 @@ public final class ReverseRun {
                 float y = known[o + j];
                 double p1 = Float.isNaN(y) ? chain.binaryReverseOne(k, x[o + j], pOne)
                         : productBinaryOne(chain, k, x[o + j], pOne, y);
-                x[o + j] = rng.nextDouble() < p1 ? 1f : 0f;
+                x[o + j] = rng[r].nextDouble() < p1 ? 1f : 0f;
             }
             for (int j = 0; j < chain.dk; j++) {
                 int at = o + chain.discreteEnd + j;
                 float y = known[at];
                 if (!Float.isNaN(y) && k == 1) {
                     x[at] = y;      // r_0 is the point mass at y
-                    rng.nextDouble();
+                    rng[r].nextDouble();
                     continue;
                 }
                 chain.logitsInto(out, oo, j, catLogits[j]);
@@ -251,7 +281,7 @@ public final class ReverseRun {
                         lp[cat] += q.logMarginal(k - 1, (int) y, cat);   // times q(x_{k-1} | x_0 = y)
                     }
                 }
-                x[at] = org.backstep.posterior.CategoricalDiffusion.draw(lp, rng.nextDouble());
+                x[at] = org.backstep.posterior.CategoricalDiffusion.draw(lp, rng[r].nextDouble());
             }
         }
     }
@@ -331,7 +361,7 @@ public final class ReverseRun {
      * @param rng the chunk's generator (advanced)
      */
     static void implicitStepInPlace(Chain chain, float[] x, float[] out, int rows, int k, double eta,
-                                    SplittableRandom rng) {
+                                    SplittableRandom[] rng) {
         int d = chain.d;
         int dc = chain.dc;
         int outputs = chain.outputs;
@@ -352,14 +382,14 @@ public final class ReverseRun {
             for (int j = 0; j < dc; j++) {
                 double eh = out[oo + j];
                 double x0h = (x[o + j] - sqrtOneMinusAbar * eh) / sqrtAbar;
-                double next = sqrtAbarPrev * x0h + dir * eh + (noise ? sigma * rng.nextGaussian() : 0.0);
+                double next = sqrtAbarPrev * x0h + dir * eh + (noise ? sigma * rng[r].nextGaussian() : 0.0);
                 if (!Float.isFinite((float) next)) {
                     throw diverged(chain, k, j, next);
                 }
                 x[o + j] = (float) next;
             }
-            binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng);
-            categoricalStepInPlace(chain, x, out, o, oo, k, logits, rng);
+            binaryStepInPlace(chain, x, out, o, oo + chain.logitOffset, k, rng[r]);
+            categoricalStepInPlace(chain, x, out, o, oo, k, logits, rng[r]);
         }
     }
 
@@ -404,7 +434,7 @@ public final class ReverseRun {
     }
 
     /** Known cells get a fresh draw of q(x_s | x_0 = observed); at s = 0 the observed value itself. */
-    static void replaceKnown(Chain chain, float[] x, float[] known, int rows, int s, SplittableRandom rng) {
+    static void replaceKnown(Chain chain, float[] x, float[] known, int rows, int s, SplittableRandom[] rng) {
         int d = chain.d;
         for (int r = 0; r < rows; r++) {
             int o = r * d;
@@ -416,33 +446,33 @@ public final class ReverseRun {
                 if (s == 0) {
                     x[o + j] = v;
                 } else if (j < chain.dc) {
-                    x[o + j] = chain.diffusedContinuous(s, v, rng.nextGaussian());
+                    x[o + j] = chain.diffusedContinuous(s, v, rng[r].nextGaussian());
                 } else {
-                    x[o + j] = chain.diffusedDiscrete(j, s, v, rng.nextDouble());
+                    x[o + j] = chain.diffusedDiscrete(j, s, v, rng[r].nextDouble());
                 }
             }
         }
     }
 
     /** x_k ~ q(x_k | x_{k-1}): Gaussian N(sqrt(alpha_k) x, beta_k); binary kept with 1 - beta_k, else Bernoulli(1/2). */
-    static void forwardOneStep(Chain chain, float[] x, int rows, int k, SplittableRandom rng) {
+    static void forwardOneStep(Chain chain, float[] x, int rows, int k, SplittableRandom[] rng) {
         int d = chain.d;
         double sb = Math.sqrt(chain.beta[k]);
         double binBeta = chain.binary.beta(k);
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             for (int j = 0; j < chain.dc; j++) {
-                x[o + j] = (float) (chain.sqrtAlpha[k] * x[o + j] + sb * rng.nextGaussian());
+                x[o + j] = (float) (chain.sqrtAlpha[k] * x[o + j] + sb * rng[r].nextGaussian());
             }
             for (int j = chain.dc; j < chain.discreteEnd; j++) {
-                if (rng.nextDouble() < binBeta) {
-                    x[o + j] = rng.nextDouble() < 0.5 ? 1f : 0f;
+                if (rng[r].nextDouble() < binBeta) {
+                    x[o + j] = rng[r].nextDouble() < 0.5 ? 1f : 0f;
                 }
             }
             for (int j = 0; j < chain.dk; j++) {
                 // q(x_k | x_{k-1}) = Cat((1 - beta_k) x_{k-1} + beta_k / K): redrawn uniformly with beta_k
-                if (rng.nextDouble() < binBeta) {
-                    x[o + chain.discreteEnd + j] = chain.catDiffusion[j].priorDraw(rng.nextDouble());
+                if (rng[r].nextDouble() < binBeta) {
+                    x[o + chain.discreteEnd + j] = chain.catDiffusion[j].priorDraw(rng[r].nextDouble());
                 }
             }
         }
