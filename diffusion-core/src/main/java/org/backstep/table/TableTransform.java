@@ -25,6 +25,8 @@ import org.backstep.schedule.Require;
  * </ul>
  * The population (divide by n) standard deviation matches the project's fixed data split
  * (test resources {@code data/SOURCES.md}).
+ * {@link #fromStatistics} builds the same transforms by the same rule from {@link ColumnStatistics}
+ * computed elsewhere (over a table too large for one JVM), without the rows.
  *
  * <p><b>Model space</b> has the modelled continuous columns (not CONSTANT) first, transformed, then
  * the binary columns unchanged, then the categorical columns with two or more categories as their

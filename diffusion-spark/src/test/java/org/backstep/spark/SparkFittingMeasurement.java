@@ -46,7 +46,10 @@ import org.nd4j.linalg.factory.Nd4j;
  * use the same gradient code ({@code GradientShare}, internal), the same Adam, the same initial
  * weights, minibatch and learning rate, and the same column transforms (computed over the whole
  * table by {@link WholeTableStatistics}); they differ in where the gradient is computed and in
- * which rows a minibatch may hold. Every {@code EVERY} steps the Monte Carlo bound of the current
+ * which rows a minibatch may hold. A third run times (b)'s Spark job with no gradient work (the
+ * overhead of a step's job alone). The runs take turns, steps/{@value #EVERY_PARTS} steps each
+ * (A B C A B C ...), so that a busy spell of the shared machine falls on all of them alike; after
+ * each turn the Monte Carlo bound of each run's current
  * weights is taken on held-out rows (not in the table; common random numbers), outside the step
  * times. Also timed: the core's own trainer ({@code Trainer.fit} with the transforms given) on the
  * largest sample, to show that the driver loop of (a) runs at the core's pace.
@@ -61,7 +64,7 @@ public final class SparkFittingMeasurement {
     static final int PARTITIONS = 2;
     static final int HELD_OUT = 2_000;
     static final int DRAWS = 8;
-    static final int EVERY_PARTS = 8;
+    static final int EVERY_PARTS = 12;
 
     /** The options and transforms the executors' shares are built with (local mode: this JVM). */
     static final class Config {
@@ -118,7 +121,7 @@ public final class SparkFittingMeasurement {
         return spark.createDataFrame(rdd, schema());
     }
 
-    /** A run's record: mean step seconds, and the bound at each evaluation. */
+    /** A run's record: its step seconds, and the bound at each evaluation. */
     record Run(String name, long rows, double setupSeconds, double[] stepSeconds, double[] bounds, int every) {
         double meanStep() {
             return Arrays.stream(stepSeconds).average().orElse(Double.NaN);
@@ -147,83 +150,150 @@ public final class SparkFittingMeasurement {
         return p.toFloatVector();
     }
 
-    /** (a): minibatches drawn from the sample on the driver, gradient on 2 threads, as the core's trainer. */
-    private Run onDriver(FitOptions options, TableTransform transform, Table sample, double collectSeconds, int steps,
-                         float[] heldOut, long rows) {
-        float[] x = GradientShare.modelRows(transform, sample);
-        int d = transform.modelColumns();
-        int n = sample.rows();
-        int every = Math.max(1, steps / EVERY_PARTS);
-        float[] w = GradientShare.initialWeights(options, transform);
-        AdamOptimizer adam = GradientShare.optimizer(options, transform);
-        double[] times = new double[steps];
-        List<Double> bounds = new ArrayList<>();
-        bounds.add(GradientShare.bound(options, transform, w, heldOut, HELD_OUT, DRAWS, 77L, 2));
-        SplittableRandom rng = new SplittableRandom(options.seed());
-        float[] batch = new float[BATCH * d];
-        try (GradientShare share = GradientShare.of(options, transform, BATCH, BATCH, 2)) {
-            for (int s = 0; s < steps; s++) {
+    /** One way of training, advanced a few steps at a time so that the ways take turns on the machine. */
+    abstract static class Way {
+        final String name;
+        final long rows;
+        final FitOptions options;
+        final TableTransform transform;
+        final int total;
+        double setup;
+        float[] w;
+        final AdamOptimizer adam;
+        final double[] times;
+        final List<Double> bounds = new ArrayList<>();
+        int done;
+
+        Way(String name, long rows, FitOptions options, TableTransform transform, int total) {
+            this.name = name;
+            this.rows = rows;
+            this.options = options;
+            this.transform = transform;
+            this.total = total;
+            this.w = GradientShare.initialWeights(options, transform);
+            this.adam = GradientShare.optimizer(options, transform);
+            this.times = new double[total];
+        }
+
+        abstract float[] gradient(int step);
+
+        void advance(int count) {
+            for (int i = 0; i < count && done < total; i++, done++) {
                 long t0 = System.nanoTime();
-                for (int r = 0; r < BATCH; r++) {
-                    System.arraycopy(x, rng.nextInt(n) * d, batch, r * d, d);
-                }
-                float[] g = new float[w.length];
-                share.addGradientInPlace(w, batch, rng.nextLong(), g);
-                w = step(adam, w, g, options.learningRateSchedule().rate(options.learningRate(), s, steps));
-                times[s] = (System.nanoTime() - t0) / 1e9;
-                if ((s + 1) % every == 0) {
-                    bounds.add(GradientShare.bound(options, transform, w, heldOut, HELD_OUT, DRAWS, 77L, 2));
-                }
+                float[] g = gradient(done);
+                w = step(adam, w, g, options.learningRateSchedule().rate(options.learningRate(), done, total));
+                times[done] = (System.nanoTime() - t0) / 1e9;
             }
         }
-        return new Run("(a) sample of " + n + " on the driver", rows, collectSeconds, times,
-                bounds.stream().mapToDouble(Double::doubleValue).toArray(), every);
+
+        void evaluate(float[] heldOut) {
+            bounds.add(GradientShare.bound(options, transform, w, heldOut, HELD_OUT, DRAWS, 77L, 2));
+        }
+
+        Run run(int every) {
+            return new Run(name, rows, setup, times, bounds.stream().mapToDouble(Double::doubleValue).toArray(), every);
+        }
+
+        void close() {
+        }
     }
 
-    /** (b): each step a Spark job: broadcast weights, a share's gradient per partition, treeAggregate, Adam on the driver. */
-    private Run dataParallel(SparkSession spark, Dataset<Row> frame, FitOptions options, TableTransform transform,
-                             int steps, float[] heldOut, long rows) {
-        JavaSparkContext jsc = JavaSparkContext.fromSparkContext(spark.sparkContext());
-        Config.options = options;
-        Config.transform = transform;
-        Config.generation++;
-        int d = transform.modelColumns();
-        String[] cols = SparkScoringBenchmark.names().toArray(String[]::new);
-        ColumnMatch match = ColumnMatch.of(frame.schema(), cols, List.of(cols), transform.kinds(), "");
-        long t0 = System.nanoTime();
-        JavaRDD<float[]> blocks = frame.javaRDD().mapPartitions((Iterator<Row> it) -> {
-            List<double[]> cells = new ArrayList<>();
-            ColumnMatch.RowName where = new ColumnMatch.RowName(TaskContext.getPartitionId(), -1);
-            while (it.hasNext()) {
-                cells.add(match.cells(it.next(), where));
+    /** (a): minibatches drawn from the sample on the driver, gradient on 2 threads, as the core's trainer. */
+    static final class OnDriver extends Way {
+        private final float[] x;
+        private final int n;
+        private final int d;
+        private final SplittableRandom rng;
+        private final float[] batch;
+        private final GradientShare share;
+
+        OnDriver(FitOptions options, TableTransform transform, Table sample, double collectSeconds, int total,
+                 long rows) {
+            super("(a) sample of " + sample.rows() + " on the driver", rows, options, transform, total);
+            setup = collectSeconds;
+            x = GradientShare.modelRows(transform, sample);
+            d = transform.modelColumns();
+            n = sample.rows();
+            rng = new SplittableRandom(options.seed());
+            batch = new float[BATCH * d];
+            share = GradientShare.of(options, transform, BATCH, BATCH, 2);
+        }
+
+        @Override
+        float[] gradient(int step) {
+            for (int r = 0; r < BATCH; r++) {
+                System.arraycopy(x, rng.nextInt(n) * d, batch, r * d, d);
             }
-            TableTransform here = Config.transform;     // local mode: this JVM's (a cluster would broadcast it once)
-            Table t = Table.of(List.of(cols), here.kinds(), cells.toArray(double[][]::new));
-            return List.of(GradientShare.modelRows(here, t)).iterator();
-        }).cache();
-        long cached = blocks.map(b -> (long) b.length).reduce(Long::sum) / d;
-        double setup = (System.nanoTime() - t0) / 1e9;
-        int every = Math.max(1, steps / EVERY_PARTS);
-        int share = BATCH / PARTITIONS;
-        float[] w = GradientShare.initialWeights(options, transform);
-        AdamOptimizer adam = GradientShare.optimizer(options, transform);
-        double[] times = new double[steps];
-        List<Double> bounds = new ArrayList<>();
-        bounds.add(GradientShare.bound(options, transform, w, heldOut, HELD_OUT, DRAWS, 77L, 2));
-        int length = w.length;
-        for (int s = 0; s < steps; s++) {
-            long s0 = System.nanoTime();
+            float[] g = new float[w.length];
+            share.addGradientInPlace(w, batch, rng.nextLong(), g);
+            return g;
+        }
+
+        @Override
+        void close() {
+            share.close();
+        }
+    }
+
+    /**
+     * (b): each step a Spark job: broadcast the weights, the gradient of a share per partition,
+     * treeAggregate, Adam on the driver. With {@code work} false, the same job without the
+     * gradient (each partition returns zeros): the overhead of a step's job alone.
+     */
+    static final class DataParallel extends Way {
+        private final JavaSparkContext jsc;
+        private final JavaRDD<float[]> blocks;
+        private final boolean work;
+
+        DataParallel(SparkSession spark, Dataset<Row> frame, FitOptions options, TableTransform transform, int total,
+                     long rows, boolean work) {
+            super(work ? "(b) data-parallel over all rows" : "(b) its Spark job alone, no gradient", rows, options,
+                    transform, total);
+            this.work = work;
+            jsc = JavaSparkContext.fromSparkContext(spark.sparkContext());
+            Config.options = options;
+            Config.transform = transform;
+            Config.generation++;
+            int d = transform.modelColumns();
+            String[] cols = SparkScoringBenchmark.names().toArray(String[]::new);
+            ColumnMatch match = ColumnMatch.of(frame.schema(), cols, List.of(cols), transform.kinds(), "");
+            long t0 = System.nanoTime();
+            blocks = frame.javaRDD().mapPartitions((Iterator<Row> it) -> {
+                List<double[]> cells = new ArrayList<>();
+                ColumnMatch.RowName where = new ColumnMatch.RowName(TaskContext.getPartitionId(), -1);
+                while (it.hasNext()) {
+                    cells.add(match.cells(it.next(), where));
+                }
+                TableTransform here = Config.transform;     // local mode: this JVM's (a cluster would broadcast it once)
+                Table t = Table.of(List.of(cols), here.kinds(), cells.toArray(double[][]::new));
+                return List.of(GradientShare.modelRows(here, t)).iterator();
+            }).cache();
+            long cached = blocks.map(b -> (long) b.length).reduce(Long::sum) / d;
+            if (cached != rows) {
+                throw new IllegalStateException("cached " + cached + " rows of " + rows);
+            }
+            setup = (System.nanoTime() - t0) / 1e9;
+        }
+
+        @Override
+        float[] gradient(int step) {
             Broadcast<float[]> weights = jsc.broadcast(w);
-            long seed = options.seed() * 1_000_003L + s;
-            float[] g = blocks.treeAggregate(new float[length], (acc, block) -> {
+            long seed = options.seed() * 1_000_003L + step;
+            int d = transform.modelColumns();
+            int share = BATCH / PARTITIONS;
+            boolean compute = work;
+            float[] g = blocks.treeAggregate(new float[w.length], (acc, block) -> {
+                float[] current = weights.value();
+                if (!compute) {
+                    return acc;
+                }
                 int n = block.length / d;
-                long mine = seed * 31 + TaskContext.getPartitionId();
-                SplittableRandom rng = new SplittableRandom(mine);
+                SplittableRandom rng = new SplittableRandom(seed * 31 + TaskContext.getPartitionId());
                 float[] rowsOf = new float[share * d];
                 for (int r = 0; r < share; r++) {
                     System.arraycopy(block, rng.nextInt(n) * d, rowsOf, r * d, d);
                 }
-                Config.share(share).addGradientInPlace(weights.value(), rowsOf, rng.nextLong(), acc);
+                Config.share(share).addGradientInPlace(current, rowsOf, rng.nextLong(), acc);
                 return acc;
             }, (a, b) -> {
                 for (int i = 0; i < a.length; i++) {
@@ -231,16 +301,35 @@ public final class SparkFittingMeasurement {
                 }
                 return a;
             }, 2);
-            w = step(adam, w, g, options.learningRateSchedule().rate(options.learningRate(), s, steps));
             weights.destroy();
-            times[s] = (System.nanoTime() - s0) / 1e9;
-            if ((s + 1) % every == 0) {
-                bounds.add(GradientShare.bound(options, transform, w, heldOut, HELD_OUT, DRAWS, 77L, 2));
+            return g;
+        }
+
+        @Override
+        void close() {
+            blocks.unpersist();
+        }
+    }
+
+    /** Runs the ways in turns, {@code every} steps each, evaluating all of them after each turn. */
+    private static List<Run> inTurns(List<Way> ways, int steps, int every, float[] heldOut) {
+        for (Way w : ways) {
+            w.evaluate(heldOut);
+        }
+        for (int done = 0; done < steps; done += every) {
+            for (Way w : ways) {
+                w.advance(every);
+            }
+            for (Way w : ways) {
+                w.evaluate(heldOut);
             }
         }
-        blocks.unpersist();
-        return new Run("(b) data-parallel over " + cached + " rows", rows, setup, times,
-                bounds.stream().mapToDouble(Double::doubleValue).toArray(), every);
+        List<Run> runs = new ArrayList<>();
+        for (Way w : ways) {
+            w.close();
+            runs.add(w.run(every));
+        }
+        return runs;
     }
 
     private static Table sample(Dataset<Row> frame, long rows, int size) {
@@ -326,7 +415,7 @@ public final class SparkFittingMeasurement {
             FitOptions options = options(hidden);
             line("table of %,d rows: the transforms over every row (two passes of exact sums) took %.2f s", rows,
                     statSeconds);
-            List<Run> runs = new ArrayList<>();
+            List<Way> ways = new ArrayList<>();
             for (int size : new int[] {10_000, 100_000}) {
                 if (size > rows) {
                     continue;
@@ -334,19 +423,26 @@ public final class SparkFittingMeasurement {
                 long c0 = System.nanoTime();
                 Table sample = sample(frame, rows, size);
                 double collect = (System.nanoTime() - c0) / 1e9;
-                runs.add(onDriver(options, transform, sample, collect, steps, heldOut, rows));
+                ways.add(new OnDriver(options, transform, sample, collect, steps, rows));
             }
-            runs.add(dataParallel(spark, frame, options, transform, steps, heldOut, rows));
+            ways.add(new DataParallel(spark, frame, options, transform, steps, rows, true));
+            ways.add(new DataParallel(spark, frame, options, transform, steps, rows, false));
+            int every = Math.max(1, steps / EVERY_PARTS);
+            List<Run> runs = inTurns(ways, steps, every, heldOut);
             table(runs);
             all.addAll(runs);
             line("");
         }
 
         // ratios and the steps and time to a bound every run reaches
-        double target = all.stream().mapToDouble(r -> r.bounds()[r.bounds().length - 1]).max().orElseThrow();
+        double target = all.stream().filter(r -> !r.name().contains("alone"))
+                .mapToDouble(r -> r.bounds()[r.bounds().length - 1]).max().orElseThrow();
         line("target: %.3f nats per row, the worst final bound of the runs above (every run reaches it)", target);
         line("%-44s %10s %14s %16s", "run", "table rows", "steps to target", "seconds to target");
         for (Run r : all) {
+            if (r.name().contains("alone")) {
+                continue;
+            }
             int s = r.stepsTo(target);
             line("%-44s %,10d %14d %16.1f", r.name(), r.rows(), s, r.setupSeconds() + s * r.meanStep());
         }
@@ -354,10 +450,13 @@ public final class SparkFittingMeasurement {
         for (long rows : sizes) {
             Run driver = all.stream().filter(r -> r.rows() == rows && r.name().startsWith("(a)")).reduce((x, y) -> y)
                     .orElseThrow();
-            Run spread = all.stream().filter(r -> r.rows() == rows && r.name().startsWith("(b)")).findFirst().orElseThrow();
-            line("table of %,d rows: (b) / (a) time per step %.1f (mean), %.1f (median); (b) - (a) = %.1f ms per step",
-                    rows, spread.meanStep() / driver.meanStep(), spread.medianStep() / driver.medianStep(),
-                    1e3 * (spread.medianStep() - driver.medianStep()));
+            Run spread = all.stream().filter(r -> r.rows() == rows && r.name().startsWith("(b) data")).findFirst()
+                    .orElseThrow();
+            Run job = all.stream().filter(r -> r.rows() == rows && r.name().contains("alone")).findFirst().orElseThrow();
+            line("table of %,d rows: (b) / (a) time per step %.1f (mean), %.1f (median); (b) - (a) = %.1f ms per step"
+                    + " (median); the job alone %.1f ms (median)", rows, spread.meanStep() / driver.meanStep(),
+                    spread.medianStep() / driver.medianStep(), 1e3 * (spread.medianStep() - driver.medianStep()),
+                    1e3 * job.medianStep());
         }
 
         // the core's own trainer on the largest sample, for the pace of (a)'s loop
@@ -379,12 +478,11 @@ public final class SparkFittingMeasurement {
             line("time per step, hidden %s (the core's default network), %d steps each (evaluations outside the times):",
                     Arrays.toString(timingHidden), timingSteps);
             FitOptions big = options(timingHidden);
-            List<Run> timing = new ArrayList<>();
-            timing.add(onDriver(big, transform, sample, 0, timingSteps, Arrays.copyOf(
-                    GradientShare.modelRows(transform, SparkScoringBenchmark.table(rows, HELD_OUT)), HELD_OUT
-                    * transform.modelColumns()), rows));
-            timing.add(dataParallel(spark, frame, big, transform, timingSteps, GradientShare.modelRows(transform,
-                    SparkScoringBenchmark.table(rows, HELD_OUT)), rows));
+            List<Way> timingWays = new ArrayList<>();
+            timingWays.add(new OnDriver(big, transform, sample, 0, timingSteps, rows));
+            timingWays.add(new DataParallel(spark, frame, big, transform, timingSteps, rows, true));
+            List<Run> timing = inTurns(timingWays, timingSteps, Math.max(1, timingSteps / 4), GradientShare.modelRows(
+                    transform, SparkScoringBenchmark.table(rows, HELD_OUT)));
             table(timing);
             line("hidden %s: (b) / (a) time per step %.1f (median); (b) - (a) = %.1f ms per step",
                     Arrays.toString(timingHidden), timing.get(1).medianStep() / timing.get(0).medianStep(),
