@@ -59,6 +59,26 @@ class GivenTransformTest {
     }
 
     @Test
+    void categoriesAreMatchedToTheTransformsLabelsByText() {
+        // common practice, no source: the table lists its labels as first seen, the transform sorted
+        double[][] x = new double[40][];
+        for (int i = 0; i < x.length; i++) {
+            x[i] = new double[] {Math.sin(0.9 * i), i % 3};
+        }
+        List<String> names = List.of("a", "code");
+        List<ColumnKind> kinds = List.of(ColumnKind.CONTINUOUS, ColumnKind.CATEGORICAL);
+        Table t = Table.of(names, kinds, Map.of("code", List.of("R2", "E1", "OK")), x);
+        TableTransform sorted = TableTransform.fromStatistics(names, kinds, Map.of("code", List.of("E1", "OK", "R2")),
+                Set.of(), Map.of("a", new ColumnStatistics(40, 0, -1.0, 1.0, 0.0, 0.7)));
+        DiffusionModel m = small().fit(t, sorted);
+        assertEquals(List.of("E1", "OK", "R2"), m.transform().categories().get("code"));
+        TableTransform unknown = TableTransform.fromStatistics(names, kinds, Map.of("code", List.of("E1", "OK")),
+                Set.of(), Map.of("a", new ColumnStatistics(40, 0, -1.0, 1.0, 0.0, 0.7)));
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> small().fit(t, unknown));
+        assertTrue(e.getMessage().contains("R2"), e.getMessage());
+    }
+
+    @Test
     void refusesATransformOfOtherColumnsOrOtherLogColumns() {
         Table t = rows();
         TableTransform other = TableTransform.fit(t.selectColumns("a", "b"), Set.of());
