@@ -17,7 +17,9 @@ import org.backstep.training.TrainingListener;
 import org.backstep.option.StepInput;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.schedule.Require;
+import org.backstep.table.ColumnTransform;
 import org.backstep.table.Table;
+import org.backstep.table.TableTransform;
 
 import java.util.LinkedHashSet;
 import java.util.List;
@@ -377,6 +379,47 @@ public final class Backstep {
             FitOptions options = options();
             Require.notNull("training", training);
             return DiffusionModel.of(Trainer.fit(options, training, null, listener, stopRequested, null).parts());
+        }
+
+        /**
+         * Validates every option and fits on the training rows with column transforms given, not
+         * fitted on those rows: for a table too large for one JVM, the transforms come from
+         * statistics over all of its rows ({@link TableTransform#fromStatistics}) and the network is
+         * trained on a sample of them. Everything else is as {@link #fit(Table)} (checkpoint rows
+         * drawn from {@code training}, rows with gaps trained on, unscorable rows left out with a
+         * note); the provenance notes that the transforms were given.
+         *
+         * @param training the rows to train on, with the transform's column names and kinds;
+         *     categorical cells are matched to the transform's labels by text
+         * @param transform the column transforms, e.g. from {@link TableTransform#fromStatistics};
+         *     its log-scale columns must be the builder's {@link #logColumns(String...)}
+         * @return the fitted model
+         * @throws IllegalArgumentException naming the first bad option, a column whose name or kind
+         *     differs from the transform's, a log column on one side only, a label the transform
+         *     does not know, or the table's problem
+         */
+        public DiffusionModel fit(Table training, TableTransform transform) {
+            FitOptions options = options();
+            Require.notNull("training", training);
+            Require.notNull("transform", transform);
+            if (!training.names().equals(transform.names()) || !training.kinds().equals(transform.kinds())) {
+                throw new IllegalArgumentException("training has columns " + training.names() + " " + training.kinds()
+                        + "; the transform has " + transform.names() + " " + transform.kinds());
+            }
+            Set<String> logScale = new LinkedHashSet<>();
+            for (int c = 0; c < transform.names().size(); c++) {
+                if (transform.transform(c).kind() == ColumnTransform.Kind.LOG_STANDARDIZE) {
+                    logScale.add(transform.names().get(c));
+                }
+            }
+            Set<String> asked = new LinkedHashSet<>(options.logColumns());
+            asked.removeIf(name -> transform.names().contains(name)
+                    && transform.transform(transform.names().indexOf(name)).kind() == ColumnTransform.Kind.CONSTANT);
+            if (!logScale.equals(asked)) {
+                throw new IllegalArgumentException("logColumns is " + options.logColumns() + " but the transform models "
+                        + logScale + " on the log scale; expected the same columns (a constant column has no scale)");
+            }
+            return DiffusionModel.of(Trainer.fit(options, training, null, transform, listener, stopRequested, null).parts());
         }
 
         /**

@@ -25,6 +25,8 @@ import org.backstep.schedule.Require;
  * </ul>
  * The population (divide by n) standard deviation matches the project's fixed data split
  * (test resources {@code data/SOURCES.md}).
+ * {@link #fromStatistics} builds the same transforms by the same rule from {@link ColumnStatistics}
+ * computed elsewhere (over a table too large for one JVM), without the rows.
  *
  * <p><b>Model space</b> has the modelled continuous columns (not CONSTANT) first, transformed, then
  * the binary columns unchanged, then the categorical columns with two or more categories as their
@@ -170,10 +172,6 @@ public final class TableTransform {
                 continue;
             }
             boolean whole = training.kind(c) == ColumnKind.INTEGER;
-            if (whole && java.util.Arrays.stream(training.column(c)).filter(v -> !Double.isNaN(v)).min()
-                    .orElse(-1.0) >= 0.0) {
-                lowest.put(name, 0L);      // counts: the support starts at 0
-            }
             boolean log = logColumns.contains(name);
             double[] col = training.column(c);
             double[] observed = new double[col.length];
@@ -193,35 +191,133 @@ public final class TableTransform {
                 throw new IllegalArgumentException("column '" + name + "' has no observed cell in the "
                         + training.rows() + " training rows; expected at least one to fit its transform");
             }
-            if (n < col.length) {
-                fitNotes.add("column '" + name + "' has " + (col.length - n) + " of " + col.length
-                        + " training cells missing; its transform was fitted on the other " + n);
-            }
             observed = Arrays.copyOf(observed, n);
-            if (!hasTwoDistinct(observed)) {
-                transforms.add(ColumnTransform.constant(observed[0]));
-                continue;
-            }
-            if (scores && !whole) {
+            if (scores && !whole && hasTwoDistinct(observed)) {
+                fitNotes.addAll(missingNote(name, n, col.length - n));
                 double h = bandwidthMultiple * ColumnTransform.silvermanBandwidth(observed);
                 transforms.add(ColumnTransform.normalScores(observed, h));
                 continue;
             }
+            double min = observed[0];
+            double max = observed[0];
+            for (double v : observed) {
+                min = Math.min(min, v);
+                max = Math.max(max, v);
+            }
+            double[] y = observed;
             if (log) {
+                y = new double[n];
                 for (int i = 0; i < n; i++) {
-                    observed[i] = Math.log(observed[i]);
+                    y[i] = Math.log(observed[i]);
                 }
             }
-            double mean = mean(observed);
-            double sd = Math.sqrt(populationVariance(observed, mean));
-            if (sd == 0.0) {
-                transforms.add(ColumnTransform.constant(log ? Math.exp(mean) : mean));
-                continue;
-            }
-            transforms.add(log ? ColumnTransform.logStandardize(mean, sd) : ColumnTransform.standardize(mean, sd));
+            double mean = mean(y);
+            double sd = Math.sqrt(populationVariance(y, mean));
+            transforms.add(columnOf(name, whole, log, new ColumnStatistics(n, col.length - n, min, max, mean, sd),
+                    lowest, fitNotes));
         }
         return new TableTransform(Table.Layout.of(training.names(), training.kinds(), training.categories()), transforms,
                 fitNotes, lowest);
+    }
+
+    /**
+     * Builds the transforms from statistics of the columns computed elsewhere (for instance by a
+     * distributed engine's aggregates over every row of a table too large for one JVM), by the same
+     * rule as {@link #fit(Table, Set)}: binary columns IDENTITY; a categorical column IDENTITY over
+     * its labels, or CONSTANT at index 0 with one label; a continuous or integer column CONSTANT at
+     * its value when {@code min == max}, else STANDARDIZE (LOG_STANDARDIZE for a log column) with
+     * the statistics' mean and population standard deviation, or CONSTANT at the mean (exp of the
+     * mean for a log column) when that deviation is 0. An integer column whose smallest value is at
+     * least 0 counts from 0 ({@link #lowest()}). A column with missing cells gets a note.
+     *
+     * <p>The result equals {@code fit(table, logColumns)} when the statistics are those of
+     * {@code table}'s observed cells exactly, categories and their order included; statistics
+     * computed in another order of summation differ in the last bits.
+     *
+     * @param names the column names (not modified)
+     * @param kinds one kind per column (not modified)
+     * @param categories the labels of each categorical column, in index order (not modified)
+     * @param logColumns names of continuous columns modelled on the log scale; may be empty (not modified)
+     * @param statistics the statistics of every continuous and integer column by name, and of no
+     *     other column; for a log column, {@code mean} and {@code sd} are those of log x (not modified)
+     * @return the transforms
+     * @throws IllegalArgumentException naming the column: a missing or extra statistics entry, a
+     *     log column that is not continuous or whose smallest value is not above 0, or a bad layout
+     */
+    public static TableTransform fromStatistics(List<String> names, List<ColumnKind> kinds,
+            java.util.Map<String, List<String>> categories, Set<String> logColumns,
+            java.util.Map<String, ColumnStatistics> statistics) {
+        Require.notNull("categories", categories);
+        Require.notNull("logColumns", logColumns);
+        Require.notNull("statistics", statistics);
+        Table.Layout layout = Table.Layout.of(names, kinds, categories);
+        for (String name : logColumns) {
+            Integer at = layout.index.get(name);
+            if (at == null || layout.kinds.get(at) != ColumnKind.CONTINUOUS) {
+                throw new IllegalArgumentException("log column '" + name + "' is "
+                        + (at == null ? "not a column of " + layout.names : layout.kinds.get(at).toString())
+                        + "; expected a CONTINUOUS column");
+            }
+        }
+        for (String name : statistics.keySet()) {
+            Integer at = layout.index.get(name);
+            if (at == null || (layout.kinds.get(at) != ColumnKind.CONTINUOUS && layout.kinds.get(at) != ColumnKind.INTEGER)) {
+                throw new IllegalArgumentException("statistics has an entry for '" + name + "', which is "
+                        + (at == null ? "not a column of " + layout.names : layout.kinds.get(at).toString())
+                        + "; expected entries for the CONTINUOUS and INTEGER columns only");
+            }
+        }
+        List<ColumnTransform> transforms = new ArrayList<>(layout.names.size());
+        List<String> fitNotes = new ArrayList<>();
+        java.util.Map<String, Long> lowest = new java.util.LinkedHashMap<>();
+        for (int c = 0; c < layout.names.size(); c++) {
+            String name = layout.names.get(c);
+            ColumnKind kind = layout.kinds.get(c);
+            if (kind == ColumnKind.BINARY) {
+                transforms.add(ColumnTransform.identity());
+            } else if (kind == ColumnKind.CATEGORICAL) {
+                transforms.add(layout.categories.get(c).size() == 1 ? ColumnTransform.constant(0.0)
+                        : ColumnTransform.identity());
+            } else {
+                ColumnStatistics s = statistics.get(name);
+                if (s == null) {
+                    throw new IllegalArgumentException("statistics has no entry for the " + kind + " column '" + name
+                            + "'; expected one for every CONTINUOUS and INTEGER column");
+                }
+                boolean log = logColumns.contains(name);
+                if (log && !(s.min() > 0)) {
+                    throw new IllegalArgumentException("column '" + name + "' has the smallest value " + s.min()
+                            + "; a log column needs every training value above 0");
+                }
+                transforms.add(columnOf(name, kind == ColumnKind.INTEGER, log, s, lowest, fitNotes));
+            }
+        }
+        return new TableTransform(layout, transforms, fitNotes, lowest);
+    }
+
+    /**
+     * The one rule from a continuous or integer column's statistics to its transform, shared by
+     * {@link #fit(Table, Set)} and {@link #fromStatistics}; records the column's lowest value and
+     * its note on missing cells.
+     */
+    private static ColumnTransform columnOf(String name, boolean whole, boolean log, ColumnStatistics s,
+            java.util.Map<String, Long> lowest, List<String> fitNotes) {
+        if (whole && s.min() >= 0.0) {
+            lowest.put(name, 0L);      // counts: the support starts at 0
+        }
+        fitNotes.addAll(missingNote(name, s.observed(), s.missing()));
+        if (s.min() == s.max()) {
+            return ColumnTransform.constant(s.min());
+        }
+        if (s.sd() == 0.0) {
+            return ColumnTransform.constant(log ? Math.exp(s.mean()) : s.mean());
+        }
+        return log ? ColumnTransform.logStandardize(s.mean(), s.sd()) : ColumnTransform.standardize(s.mean(), s.sd());
+    }
+
+    private static List<String> missingNote(String name, long observed, long missing) {
+        return missing == 0 ? List.of() : List.of("column '" + name + "' has " + missing + " of " + (observed + missing)
+                + " training cells missing; its transform was fitted on the other " + observed);
     }
 
     /**

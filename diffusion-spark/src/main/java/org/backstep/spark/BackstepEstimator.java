@@ -29,16 +29,18 @@ import org.backstep.table.Table;
  * Fits a Backstep model to a DataFrame, as a Spark ML Estimator whose {@link #fit(Dataset)} returns
  * a {@link BackstepModel} (a Transformer), with the job Params of {@link BackstepParams} passed on.
  *
- * <p>How it fits: a uniform sample of at most {@link #sampleRows()} rows is collected to the
- * driver, and the core fits there ({@code Backstep.builder()...fit(Table)}), so the column
- * transforms (means and scales) and the network both come from the sample. Which rows: row i is
+ * <p>How it fits: the column transforms (means and population standard deviations of the
+ * continuous columns, or of their logarithms for {@link #logCols()}; constant columns; the
+ * binary columns' 0/1 check) are computed over every row of the DataFrame on the executors, by
+ * exact sums that do not depend on the partitioning ({@link WholeTableStatistics}). Then a uniform
+ * sample of at most {@link #sampleRows()} rows is collected to the driver, and the core trains the
+ * network there with those transforms ({@code Backstep.builder()...fit(Table, TableTransform)}).
+ * Training on the driver, not by data-parallel training over the executors, is measured in
+ * {@code diffusion-bench/results/spark-fitting.txt} (README, "On Apache Spark"). Which rows: row i is
  * taken when its sampling key (its seed from {@link RowSeeds}, from {@link #seed()} and the row key
  * or cells, mixed once more by SplitMix64) falls below {@code 2^64 * min(1, 1.2 * sampleRows / rows)}
  * as an unsigned number, and the taken rows are ordered by that key and cut at {@code sampleRows}. Every row is taken or not by its own key, so
- * the sample and the fitted model do not depend on the partitioning. Why not fit over the whole
- * DataFrame: the core fits a {@code Table} in one JVM; it takes no transforms computed elsewhere
- * and no gradients from other machines, so whole-table aggregates or data-parallel training would
- * need new core API (see the README's Spark section).
+ * the sample and the fitted model do not depend on the partitioning.
  *
  * <p>Column kinds: boolean columns and the columns named in {@link #binaryCols()} are binary, the
  * other input columns continuous. Without {@link BackstepParams#inputCols()}, every numeric or
@@ -68,6 +70,7 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
     private final IntParam epochs;
     private final StringArrayParam binaryCols;
     private final DoubleParam screenQuantile;
+    private final StringArrayParam logCols;
 
     /** An estimator with default Params. */
     public BackstepEstimator() {
@@ -85,6 +88,9 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         binaryCols = new StringArrayParam(this, "binaryCols", "numeric input columns holding 0 and 1, modelled as binary");
         screenQuantile = new DoubleParam(this, "screenQuantile",
                 "q in (0, 1): hold out every fifth sampled row and set the threshold at the q-quantile of their scores; NaN: no threshold");
+        logCols = new StringArrayParam(this, "logCols",
+                "continuous input columns modelled on the log scale (every value above 0)");
+        setDefault(logCols, new String[0]);
         setDefault(sampleRows, (Object) 100_000);
         setDefault(steps, (Object) 0);
         setDefault(hidden, new int[0]);
@@ -132,6 +138,17 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
     /** @return the Param: the screening quantile, NaN for none */
     public DoubleParam screenQuantile() {
         return screenQuantile;
+    }
+
+    /** @return the Param: continuous columns modelled on the log scale */
+    public StringArrayParam logCols() {
+        return logCols;
+    }
+
+    /** @param cols continuous input columns modelled on the log scale, each value above 0 @return this */
+    public BackstepEstimator setLogCols(String... cols) {
+        set(logCols, cols.clone());
+        return this;
     }
 
     /** @param rows the most rows collected to the driver, at least 2 @return this */
@@ -235,8 +252,18 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         List<String> names = Arrays.asList(cols);
         ColumnMatch match = ColumnMatch.of(schema, cols, names, kinds, getOrDefault(rowKeyCol()));
         long seed = (Long) getOrDefault(seed());
+        java.util.Set<String> logs = new java.util.LinkedHashSet<>(Arrays.asList(getOrDefault(logCols)));
+        for (String l : logs) {
+            int at = names.indexOf(l);
+            if (at < 0 || kinds.get(at) != ColumnKind.CONTINUOUS) {
+                throw new IllegalArgumentException("logCols names '" + l + "', which is not a continuous input column "
+                        + names);
+            }
+        }
 
-        long total = dataset.count();
+        WholeTableStatistics.Result whole = WholeTableStatistics.of(dataset.toDF(), cols, names, kinds, logs,
+                getOrDefault(rowKeyCol()));
+        long total = whole.rows();
         if (total < 2) {
             throw new IllegalArgumentException("the DataFrame has " + total + " rows; expected at least 2 to fit on");
         }
@@ -267,8 +294,8 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         Table sample = Table.of(names, kinds, x);
 
         Table training = Double.isNaN(q) ? sample : sample.filterRows(i -> i % 5 != 0);
-        DiffusionModel model = CoreCalls.fit(training, (Integer) getOrDefault(steps), getOrDefault(hidden),
-                (Integer) getOrDefault(epochs), seed);
+        DiffusionModel model = CoreCalls.fit(training, whole.transform(), (Integer) getOrDefault(steps),
+                getOrDefault(hidden), (Integer) getOrDefault(epochs), logs, seed);
         BackstepModel fitted = new BackstepModel(uid, CoreCalls.toBytes(model));
         copyValues(fitted, ParamMap.empty());
         fitted.setInputCols(cols);

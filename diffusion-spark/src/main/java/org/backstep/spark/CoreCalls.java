@@ -20,6 +20,7 @@ import org.backstep.report.Denoising;
 import org.backstep.report.Imputation;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
+import org.backstep.table.TableTransform;
 
 /**
  * Every call this module makes into diffusion-core, in one place, so that a change of the core's
@@ -104,9 +105,13 @@ final class CoreCalls {
         return model.transform().categories();
     }
 
-    /** Fits a model by the core's builder with the given settings (0 or an empty array: the core's default). */
-    static DiffusionModel fit(Table training, int steps, int[] hidden, int epochs, long seed) {
-        Backstep.Builder b = Backstep.builder().seed(seed);
+    /**
+     * Fits a model by the core's builder with the given settings (0 or an empty array: the core's
+     * default) and the given column transforms ({@link Backstep.Builder#fit(Table, TableTransform)}).
+     */
+    static DiffusionModel fit(Table training, TableTransform transform, int steps, int[] hidden, int epochs,
+                              java.util.Set<String> logColumns, long seed) {
+        Backstep.Builder b = Backstep.builder().seed(seed).logColumns(logColumns.toArray(String[]::new));
         if (steps > 0) {
             b.steps(steps);
         }
@@ -116,7 +121,7 @@ final class CoreCalls {
         if (epochs > 0) {
             b.epochs(epochs);
         }
-        return b.fit(training);
+        return b.fit(training, transform);
     }
 
     /** @return the training table's column names, in order */

@@ -55,6 +55,15 @@ final class LossGradient implements ParallelStep.LossGradient {
     private boolean[] filled;
 
     LossGradient(Chain chain, FitOptions options, int batch, GaussianBaseline baseline) {
+        this(chain, options, batch, baseline, batch);
+    }
+
+    /**
+     * A loss over {@code rows} rows that are a share of a minibatch of {@code meanOver} rows: each
+     * row weighs 1/(meanOver D), so that the shares' gradients sum to the minibatch's
+     * ({@link GradientShare}).
+     */
+    LossGradient(Chain chain, FitOptions options, int rows, GaussianBaseline baseline, int meanOver) {
         this.chain = chain;
         this.baseline = baseline;
         this.loss = options.loss();
@@ -66,8 +75,8 @@ final class LossGradient implements ParallelStep.LossGradient {
         this.outputs = chain.outputs();
         this.logitOffset = chain.logitOffset();
         this.steps = chain.steps();
-        this.rowBound = new double[batch];
-        this.batch = batch;
+        this.rowBound = new double[rows];
+        this.batch = meanOver;
     }
 
     /**

@@ -4,6 +4,7 @@ import org.backstep.internal.chain.ModelParts;
 import org.backstep.option.FitOptions;
 import org.backstep.option.TrainingBudget;
 import org.backstep.table.Table;
+import org.backstep.table.TableTransform;
 import org.backstep.training.TrainingListener;
 
 import java.util.function.BooleanSupplier;
@@ -43,7 +44,19 @@ public final class Trainer {
      */
     public static Fitted fit(FitOptions options, Table table, Table checkpointRows, TrainingListener listener,
                              BooleanSupplier stop, TrainingBudget budget) {
-        try (TrainingRun run = new TrainingRun(options, table, checkpointRows, listener, stop, budget)) {
+        return fit(options, table, checkpointRows, null, listener, stop, budget);
+    }
+
+    /**
+     * Fits as {@link #fit(FitOptions, Table, Table, TrainingListener, BooleanSupplier, TrainingBudget)},
+     * with the given column transforms instead of transforms fitted on the table.
+     *
+     * @param transform the column transforms, with the table's names and kinds, or null to fit them
+     * @return the parts and the cost
+     */
+    public static Fitted fit(FitOptions options, Table table, Table checkpointRows, TableTransform transform,
+                             TrainingListener listener, BooleanSupplier stop, TrainingBudget budget) {
+        try (TrainingRun run = new TrainingRun(options, table, checkpointRows, transform, listener, stop, budget)) {
             run.advance(Long.MAX_VALUE);
             return run.finish();
         }

@@ -44,16 +44,21 @@ final class TrainingRows {
     final List<String> notes = new ArrayList<>();
     /** The training rows with a gap and how they are filled, or null when every training row is complete. */
     final GapFilling gaps;
+    /** The transforms the caller gave, or null to fit them. */
+    private final TableTransform given;
 
     /**
      * @param options the fit's options
      * @param table the table given to the fit
      * @param checkpointRows rows to choose the kept weights on, or null to split them off the table
+     * @param given the column transforms to use, or null to fit them on {@code table}; given ones
+     *     must have the table's names and kinds (checked by the caller)
      * @throws IllegalArgumentException naming a bad log column or a column without an observed
      *     training cell, or if fewer than 2 training rows (with an observed cell) remain, or if every
      *     column is constant
      */
-    TrainingRows(FitOptions options, Table table, Table checkpointRows) {
+    TrainingRows(FitOptions options, Table table, Table checkpointRows, TableTransform given) {
+        this.given = given;
         for (String name : options.logColumns()) {
             if (!table.names().contains(name)) {
                 throw new IllegalArgumentException("logColumns names '" + name + "', which is not a column of the table "
@@ -154,7 +159,11 @@ final class TrainingRows {
     }
 
     private TableTransform fitTransform(Table rows, FitOptions options) {
-        TableTransform t = TableTransform.fit(rows, options.logColumns());
+        if (given != null) {
+            notes.add("column transforms given by the caller (computed elsewhere, e.g. over a whole distributed"
+                    + " table), not fitted on these " + rows.rows() + " rows");
+        }
+        TableTransform t = given != null ? given : TableTransform.fit(rows, options.logColumns());
         notes.addAll(t.notes());
         if (t.modelColumns() == 0) {
             throw new IllegalArgumentException("the table has no column to diffuse: every column is constant");

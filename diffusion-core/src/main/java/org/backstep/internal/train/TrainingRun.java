@@ -131,11 +131,27 @@ public final class TrainingRun implements AutoCloseable {
      */
     public TrainingRun(FitOptions options, Table table, Table checkpointRows, TrainingListener listener,
                        BooleanSupplier stop, TrainingBudget budget) {
+        this(options, table, checkpointRows, null, listener, stop, budget);
+    }
+
+    /**
+     * Prepares the rows with the given column transforms instead of fitting them on the table.
+     *
+     * @param options validated options
+     * @param table the table given to the fit
+     * @param checkpointRows rows to choose the kept weights on, or null to split them off the table
+     * @param givenTransform the column transforms, with the table's names and kinds, or null to fit them
+     * @param listener hears the progress
+     * @param stop asked after every update whether to stop
+     * @param budget as {@link #TrainingRun(FitOptions, Table, Table, TrainingListener, BooleanSupplier, TrainingBudget)}
+     */
+    public TrainingRun(FitOptions options, Table table, Table checkpointRows, TableTransform givenTransform,
+                       TrainingListener listener, BooleanSupplier stop, TrainingBudget budget) {
         this.options = options;
         this.table = table;
         this.listener = listener;
         this.stop = stop;
-        TrainingRows prepared = new TrainingRows(options, table, checkpointRows);
+        TrainingRows prepared = new TrainingRows(options, table, checkpointRows, givenTransform);
         notes.addAll(prepared.notes);
         transform = prepared.transform;
         dc = prepared.dc;
