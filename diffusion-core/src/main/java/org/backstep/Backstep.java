@@ -218,7 +218,7 @@ public final class Backstep {
             return this;
         }
 
-        /** Decoupled weight decay (AdamW); default {@link Defaults#WEIGHT_DECAY}. @param decay at least 0 @return this */
+        /** Decoupled weight decay (AdamW, Loshchilov &amp; Hutter 2019, algorithm 2 with eta_t = 1: each update takes the share lambda off every weight); default {@link Defaults#WEIGHT_DECAY}. @param decay lambda, in [0, 1) @return this */
         public Builder weightDecay(double decay) {
             this.weightDecay = decay;
             return this;

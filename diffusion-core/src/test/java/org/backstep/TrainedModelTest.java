@@ -192,6 +192,7 @@ class TrainedModelTest {
         assertMessage("SIMPLE", () -> small().loss(TrainingLoss.SIMPLE).variance(ReverseVariance.LEARNED).listener(l).fit(t));
         assertMessage("checkpointFraction", () -> small().checkpointFraction(0.95).listener(l).fit(t));
         assertMessage("emaDecay", () -> small().emaDecay(1.0).listener(l).fit(t));
+        assertMessage("weightDecay", () -> small().weightDecay(1.0).listener(l).fit(t));
         assertMessage("threads", () -> small().threads(0).listener(l).fit(t));
         assertMessage("logColumns", () -> small().logColumns("nope").listener(l).fit(t));
         assertEquals(0, heard.get(), "no training happened");

@@ -27,7 +27,7 @@ import java.util.Set;
  * @param adamBeta1 Adam's beta_1
  * @param adamBeta2 Adam's beta_2
  * @param adamEpsilon Adam's epsilon
- * @param weightDecay the decoupled weight decay
+ * @param weightDecay the decoupled weight decay lambda, the share of each weight taken off per update, in [0, 1)
  * @param emaDecay the decay of the weights' moving average
  * @param batchSize rows per minibatch
  * @param epochs passes over the training rows; 0 means ceil(trainingSteps / minibatches per epoch)
@@ -102,7 +102,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
         checkMoment("adam beta1", adamBeta1);
         checkMoment("adam beta2", adamBeta2);
         Require.positive("adam epsilon", adamEpsilon);
-        Require.nonNegative("weightDecay", weightDecay);
+        checkMoment("weightDecay", weightDecay);   // a share of each weight taken per update (AdamW): below 1
         checkMoment("emaDecay", emaDecay);
         Require.atLeast("batchSize", batchSize, 1);
         Require.atLeast("trainingSteps", trainingSteps, 1);
