@@ -125,6 +125,49 @@ public final class BoundEvaluator {
      */
     public static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, TermDraws plan,
                                int threads) {
+        return exact(chain, x0, rows, seed, rowSeeds, plan, null, threads);
+    }
+
+    /**
+     * The spread of each term over its draws: per step t, the root mean square over the rows of
+     * the sample standard deviation of one draw's term (continuous with the control variate where
+     * the estimator has a closed-form part, plus discrete), from {@code pilot} independent draws
+     * per term. A term's share of a row's variance is its square; the allocation of draws that
+     * minimizes the variance of the sum at a fixed total is K_t proportional to it (Neyman
+     * allocation, Cochran 1977, "Sampling Techniques", section 5.5).
+     *
+     * @param pilot independent draws per term, at least 2
+     * @return index 1..T: each step's spread (index 0, the prior, is exact: 0)
+     */
+    public static double[] termSpread(Chain chain, float[] x0, int rows, int pilot, long seed, int threads) {
+        return termSpread(chain, x0, rows, pilot, 0, seed, threads);
+    }
+
+    /**
+     * {@link #termSpread(Chain, float[], int, int, long, int)} of the terms with the linearized
+     * control variate ({@link LinearizedTerms}) at steps 1..linearized.
+     */
+    public static double[] termSpread(Chain chain, float[] x0, int rows, int pilot, int linearized, long seed,
+                                      int threads) {
+        if (pilot < 2) {
+            throw new IllegalArgumentException("pilot is " + pilot + "; a spread needs at least 2 draws");
+        }
+        double[][] perChunk = new double[Parallel.chunks(rows)][chain.steps + 1];
+        exact(chain, x0, rows, seed, null, TermDraws.uniform(TermDraws.Kind.INDEPENDENT, pilot, chain.steps)
+                .linearizedUpTo(linearized), perChunk, threads);
+        double[] spread = new double[chain.steps + 1];
+        for (int s = 1; s <= chain.steps; s++) {
+            double total = 0.0;
+            for (double[] chunk : perChunk) {
+                total += chunk[s];
+            }
+            spread[s] = Math.sqrt(total / rows);
+        }
+        return spread;
+    }
+
+    private static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, TermDraws plan,
+                                double[][] perChunkVariance, int threads) {
         Result res = new Result(rows, chain.steps, true);
         int chunks = Parallel.chunks(rows);
         double[][] perChunkSteps = new double[chunks][chain.steps + 1];
@@ -156,8 +199,11 @@ public final class BoundEvaluator {
             double[] noise = new double[d];
             double[] cont = new double[n];
             double[] bin = new double[n];
-            double[] linCont = controlled ? new double[most * n] : null;
-            double[] expected = controlled ? new double[n] : null;
+            boolean linearizing = chain.dc > 0 && plan.linearizes(1);
+            LinearizedTerms linear = linearizing ? new LinearizedTerms(chain, n) : null;
+            double[] eps = linearizing ? new double[most * n * chain.dc] : null;
+            double[] linCont = controlled || linearizing ? new double[most * n] : null;
+            double[] expected = controlled || linearizing ? new double[n] : null;
             float[] lin = controlled ? new float[most * n * chain.outputs] : null;
             int[] src = controlled ? new int[most * n] : null;
             BoundTerms.priorRows(chain, ch.x, n, cont, bin);
@@ -167,14 +213,18 @@ public final class BoundEvaluator {
                 int m = k * n;
                 java.util.Arrays.fill(ch.k, 0, m, s);
                 for (int r = 0; r < n; r++) {
-                    plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise);
+                    plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise, eps);
                 }
-                Chain.Workspace ws = spaces.computeIfAbsent(k, chain::workspace);
+                Chain.Workspace ws = spaces.computeIfAbsent(k, kk -> chain.workspace(kk * n));
                 float[] out = chain.predictAtStep(ws, ch.xt, s);
                 java.util.Arrays.fill(ch.stepCont, 0, m, 0.0);
                 java.util.Arrays.fill(ch.stepBin, 0, m, 0.0);
                 BoundTerms.rowTerms(chain, xs, ch.xt, out, m, ch.k, ch.stepCont, ch.stepBin);
-                if (controlled) {
+                boolean linearStep = linearizing && plan.linearizes(s);
+                boolean subtract = controlled || linearStep;
+                if (linearStep) {
+                    linear.control(s, ch.x, k, eps, linCont, expected);
+                } else if (controlled) {
                     java.util.Arrays.fill(src, 0, m, chain.source[s]);
                     java.util.Arrays.fill(lin, 0, m * chain.outputs, 0f);
                     baseline.addInPlace(ch.xt, d, src, lin, chain.outputs, m, learned);
@@ -195,12 +245,22 @@ public final class BoundEvaluator {
                     double termBin = 0.0;
                     for (int i = 0; i < k; i++) {
                         int at = i * n + r;
-                        termCont += controlled ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
+                        termCont += subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
                         termBin += ch.stepBin[at];
                     }
                     termCont /= k;
                     termBin /= k;
-                    if (controlled) {
+                    if (perChunkVariance != null && k > 1) {
+                        double mean = termCont + termBin;
+                        double squares = 0.0;
+                        for (int i = 0; i < k; i++) {
+                            int at = i * n + r;
+                            double one = (subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at]) + ch.stepBin[at];
+                            squares += (one - mean) * (one - mean);
+                        }
+                        perChunkVariance[c][s] += squares / (k - 1);
+                    }
+                    if (subtract) {
                         termCont += expected[r];
                     }
                     cont[r] += termCont;
@@ -210,7 +270,7 @@ public final class BoundEvaluator {
                     stepSum += termCont + termBin;
                 }
                 // the two forms of the step's sum kept from the two former paths (same bits)
-                perChunkSteps[c][s] = controlled ? stepSum : sumCont + sumBin;
+                perChunkSteps[c][s] = subtract ? stepSum : sumCont + sumBin;
             }
             System.arraycopy(cont, 0, res.continuous, ch.from, n);
             System.arraycopy(bin, 0, res.binary, ch.from, n);

@@ -39,10 +39,29 @@ public final class TermDraws {
 
     final Kind kind;
     private final int[] perStep;   // index 1..steps
+    private final int linearized;  // steps 1..linearized take the control variate of LinearizedTerms
 
-    private TermDraws(Kind kind, int[] perStep) {
+    private TermDraws(Kind kind, int[] perStep, int linearized) {
         this.kind = kind;
         this.perStep = perStep;
+        this.linearized = linearized;
+    }
+
+    /**
+     * @param upTo the last step whose continuous terms take the linearized control variate
+     *     ({@link LinearizedTerms}), 0 for none
+     * @return a copy of this plan with it
+     */
+    public TermDraws linearizedUpTo(int upTo) {
+        if (upTo < 0) {
+            throw new IllegalArgumentException("linearized steps is " + upTo + "; at least 0");
+        }
+        return new TermDraws(kind, perStep, Math.min(upTo, perStep.length - 1));
+    }
+
+    /** @return whether step s takes the linearized control variate */
+    boolean linearizes(int s) {
+        return s <= linearized;
     }
 
     /** @return the historical plan: one independent draw per term */
@@ -62,7 +81,7 @@ public final class TermDraws {
         }
         int[] per = new int[steps + 1];
         Arrays.fill(per, 1, steps + 1, k);
-        return new TermDraws(kind, per);
+        return new TermDraws(kind, per, 0);
     }
 
     /**
@@ -76,7 +95,7 @@ public final class TermDraws {
                 throw new IllegalArgumentException("draws at step " + s + " is " + perStep[s] + "; at least 1");
             }
         }
-        return new TermDraws(kind, perStep.clone());
+        return new TermDraws(kind, perStep.clone(), 0);
     }
 
     /** @return the draws of step s */
@@ -104,7 +123,7 @@ public final class TermDraws {
 
     /** @return true for one independent draw at every step (the historical bound, same bits) */
     boolean isSingle() {
-        return kind == Kind.INDEPENDENT && most() == 1;
+        return kind == Kind.INDEPENDENT && most() == 1 && linearized == 0;
     }
 
     /**
@@ -137,9 +156,10 @@ public final class TermDraws {
      * @param rng the row's generator
      * @param xt (k rows) x D, written at the replicas of row r
      * @param noise D scratch entries
+     * @param eps null, or (k rows) x Dc: written with each replica's continuous noise
      */
     void fillReplicas(Chain chain, float[] x0, int rows, int r, int s, int k, double[][] sobol, SplittableRandom rng,
-                      float[] xt, double[] noise) {
+                      float[] xt, double[] noise, double[] eps) {
         int d = chain.d;
         int dc = chain.dc;
         int o = r * d;
@@ -152,7 +172,7 @@ public final class TermDraws {
                     for (int j = dc; j < d; j++) {
                         noise[j] = rng.nextDouble();
                     }
-                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, false);
+                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, false, eps, (i * rows + r) * dc);
                 }
             }
             case ANTITHETIC -> {
@@ -166,7 +186,7 @@ public final class TermDraws {
                             noise[j] = rng.nextDouble();
                         }
                     }
-                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, mirror);
+                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, mirror, eps, (i * rows + r) * dc);
                 }
             }
             case SHIFTED_SOBOL -> {
@@ -181,16 +201,21 @@ public final class TermDraws {
                         u = u >= 1.0 ? u - 1.0 : u;
                         noise[j] = j < dc ? normalQuantile(u) : u;
                     }
-                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, false);
+                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, false, eps, (i * rows + r) * dc);
                 }
             }
             default -> throw new IllegalStateException("unknown kind " + kind);
         }
     }
 
-    private static void put(Chain chain, float[] x0, int o, int s, double[] noise, float[] xt, int to, boolean mirror) {
+    private static void put(Chain chain, float[] x0, int o, int s, double[] noise, float[] xt, int to, boolean mirror,
+                            double[] eps, int eo) {
         for (int j = 0; j < chain.dc; j++) {
-            xt[to + j] = chain.diffusedContinuous(s, x0[o + j], mirror ? -noise[j] : noise[j]);
+            double e = mirror ? -noise[j] : noise[j];
+            xt[to + j] = chain.diffusedContinuous(s, x0[o + j], e);
+            if (eps != null) {
+                eps[eo + j] = e;
+            }
         }
         for (int j = chain.dc; j < chain.d; j++) {
             xt[to + j] = chain.diffusedDiscrete(j, s, x0[o + j], mirror ? 1.0 - noise[j] : noise[j]);
