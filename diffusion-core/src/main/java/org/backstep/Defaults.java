@@ -234,9 +234,37 @@ public final class Defaults {
      */
     public static final double FLOW_ABSOLUTE_TOLERANCE = 1e-5;
 
-    /** @return the exact bound over all T steps, what {@link DiffusionModel#bound(Table, long)} computes */
+    /**
+     * @return the exact bound over all T steps, one draw of x_t per term, what
+     *     {@link DiffusionModel#bound(Table, long)} computes. It stays the default because the steady
+     *     bound ({@link #steadyBound()}) costs 17 + 2 Dc times as much (Dc continuous columns: 25 times on
+     *     iris, 77 on breast_cancer); its noise is 2 to 6 nats per record on default fits
+     *     (diffusion-bench/results/score-variance.txt), which a mean over many records averages away.
+     */
     public static BoundOptions bound() {
         return BoundOptions.exact();
+    }
+
+    /**
+     * Draws of x_t per term of the steady bound ({@link BoundOptions#steady}: shifted Sobol points and
+     * the linearized control variate). Measured (diffusion-bench/results/score-variance.txt, default
+     * fits of SOURCES.md's split, per-record sd over 5 bound seeds (3 on diabetes), test rows):
+     * <pre>
+     *   table                  one draw   linearized, K = 1   K = 4    K = 16
+     *   iris                   2.16       0.30                0.16     0.073
+     *   breast_cancer          5.79       0.39                0.18     0.076
+     *   diabetes w/o SEX       3.30       0.21                -        0.038
+     *   iris, whitened+N(0,I)  0.93       0.38                0.18     0.092
+     * </pre>
+     * The noise falls about as 1/K (faster than Monte Carlo's 1/sqrt(K)). K = 16 is the smallest
+     * power of two that brings every table within 0.1 nats per record; 0.05 everywhere needs K of
+     * about 64. Cost per record and step: K + 2 Dc + 1 network evaluations.
+     */
+    public static final int STEADY_TERM_DRAWS = 16;
+
+    /** @return the steady exact bound with {@link #STEADY_TERM_DRAWS} draws per term */
+    public static BoundOptions steadyBound() {
+        return BoundOptions.steady(STEADY_TERM_DRAWS);
     }
 
     /**

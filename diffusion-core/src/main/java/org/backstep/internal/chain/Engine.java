@@ -131,9 +131,7 @@ public final class Engine {
                     r.binary, logJacobian, r.standardError, r.perStepMean);
         }
         Chain c = chainOf(how.steps());
-        BoundEvaluator.Result r = rowSeeds == null
-                ? BoundEvaluator.exact(c, x, rows, seed, threads)
-                : BoundEvaluator.exact(c, x, rows, rowSeeds, threads);
+        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, rows, seed, rowSeeds, TermDraws.of(how, c.steps), threads);
         return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, r.continuous, r.binary, logJacobian,
                 r.standardError, r.perStepMean);
     }

@@ -13,13 +13,16 @@ import org.backstep.option.ReverseVariance;
  * </pre>
  * (u_i the i-th continuous unit vector, the discrete cells at x_0's values; 2 Dc + 1 evaluations of
  * the estimator per row and step), so that the mean difference and the log variance are affine in e,
- * diff_j = a_j + b_j.e and lv_j = lv0_j + l_j.e, and
+ * diff_j = a_j + b_j.e and lv_j = lv0_j + l_j.e, the precision exp(-lv_j) taken to first order,
+ * exp(-lv0_j) (1 - l_j.e), so that Q is a polynomial in e (all its moments finite: the exponential
+ * itself, unclamped, put rare huge values in Q that the draws seldom see), and
  * <pre>
- *   Q_j(e)  = 1/2 (lv_j - log beta-tilde + (beta-tilde + diff_j^2) exp(-lv_j) - 1)       (k &gt; 1)
- *   E[Q_j]  = 1/2 (lv0_j - log beta-tilde + exp(-lv0_j + |l_j|^2/2) (beta-tilde + (a_j - b_j.l_j)^2 + |b_j|^2) - 1)
+ *   Q_j(e)  = 1/2 (lv_j - log beta-tilde + (beta-tilde + diff_j^2) exp(-lv0_j) (1 - l_j.e) - 1)       (k &gt; 1)
+ *   E[Q_j]  = 1/2 (lv0_j - log beta-tilde + exp(-lv0_j) (beta-tilde + a_j^2 + |b_j|^2 - 2 a_j b_j.l_j) - 1)
  * </pre>
- * (and at k = 1 the decoder's 1/2 (log 2 pi + lv_j + diff_j^2 exp(-lv_j))), by tilting the standard
- * normal: E[f(e) exp(-l.e)] = exp(|l|^2/2) E[f(e - l)] (common practice, no source). The term is
+ * (and at k = 1 the decoder's 1/2 (log 2 pi + lv_j + diff_j^2 exp(-lv0_j) (1 - l_j.e))), by the
+ * moments of the standard normal, E[e] = 0, E[e e'] = I, odd third moments zero (common practice,
+ * no source). The term is
  * then taken as L(e) - Q(e) + E[Q]: the same expectation whatever the secants (any Q whose mean is
  * known keeps the estimate unbiased; Glasserman 2003, "Monte Carlo Methods in Financial
  * Engineering", section 4.1), and little noise where the estimator is close to affine over the
@@ -103,7 +106,6 @@ final class LinearizedTerms {
                 double xbar = (float) (sa * x0[o + j]);
                 double a = c0 * x0[o + j] + diag * xbar + g * h;
                 double bb = 0.0;
-                double ll = 0.0;
                 double bl = 0.0;
                 for (int i = 0; i < dc; i++) {
                     int plus = ((1 + 2 * i) * n + r) * outputs;
@@ -112,13 +114,12 @@ final class LinearizedTerms {
                     bj[i] = g * gji + (i == j ? diag * so : 0.0);
                     lj[i] = learned ? slope * 0.5 * (out[plus + dc + j] - out[minus + dc + j]) : 0.0;
                     bb += bj[i] * bj[i];
-                    ll += lj[i] * lj[i];
                     bl += bj[i] * lj[i];
                 }
-                double shifted = a - bl;
-                double scale = Math.exp(-lv0 + 0.5 * ll);
-                e0 += k == 1 ? 0.5 * (BoundTerms.LOG_2PI + lv0 + scale * (shifted * shifted + bb))
-                        : 0.5 * (lv0 - lq + scale * (expLq + shifted * shifted + bb) - 1.0);
+                double p0 = Math.exp(-lv0);
+                double second = a * a + bb - 2.0 * a * bl;
+                e0 += k == 1 ? 0.5 * (BoundTerms.LOG_2PI + lv0 + p0 * second)
+                        : 0.5 * (lv0 - lq + p0 * (expLq + second) - 1.0);
                 for (int rep = 0; rep < reps; rep++) {
                     int at = rep * n + r;
                     int eo = at * dc;
@@ -130,7 +131,7 @@ final class LinearizedTerms {
                     }
                     double diff = a + be;
                     double lv = lv0 + le;
-                    double precision = Math.exp(-lv);
+                    double precision = p0 * (1.0 - le);
                     q[at] += k == 1 ? 0.5 * (BoundTerms.LOG_2PI + lv + diff * diff * precision)
                             : 0.5 * (lv - lq + (expLq + diff * diff) * precision - 1.0);
                 }

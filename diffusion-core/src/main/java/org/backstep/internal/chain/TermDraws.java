@@ -64,6 +64,21 @@ public final class TermDraws {
         return s <= linearized;
     }
 
+    /**
+     * The plan of an exact bound's options: K = termDraws at every step, independent draws for
+     * K = 1 (the historical stream), shifted Sobol points for K &gt; 1, the linearized control
+     * variate at every step when asked.
+     *
+     * @param how exact bound options
+     * @param steps the chain's steps
+     * @return the plan
+     */
+    public static TermDraws of(org.backstep.option.BoundOptions how, int steps) {
+        int k = how.termDraws();
+        TermDraws plan = uniform(k == 1 ? Kind.INDEPENDENT : Kind.SHIFTED_SOBOL, k, steps);
+        return how.linearized() ? plan.linearizedUpTo(steps) : plan;
+    }
+
     /** @return the historical plan: one independent draw per term */
     public static TermDraws single(int steps) {
         return uniform(Kind.INDEPENDENT, 1, steps);
