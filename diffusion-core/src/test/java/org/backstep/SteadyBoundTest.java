@@ -173,6 +173,18 @@ class SteadyBoundTest {
     private static final double FLOAT_NATS = 1e-3;
 
     @Test
+    void aScreenScoresEachRecordAsItScoresAlone() {
+        // a screen's steady scores: every record draws the same points (common random numbers), so a
+        // record's score does not depend on the other records (up to the float32 network's place
+        // rounding, RowSeedBoundTest.PLACE_ROUNDING); common practice, no source
+        double[] all = model.screeningScores(records, BoundOptions.steady(4), 3);
+        for (int i = 0; i < 5; i++) {
+            double one = model.screeningScores(records.selectRows(new int[] {i}), BoundOptions.steady(4), 3)[0];
+            assertEquals(one, all[i], RowSeedBoundTest.PLACE_ROUNDING * Math.max(1.0, Math.abs(one)), "record " + i);
+        }
+    }
+
+    @Test
     void aSampledBoundRefusesTermDraws() {
         assertThrows(IllegalArgumentException.class, () -> new BoundOptions(true, 0, 4, 2, false));
         assertThrows(IllegalArgumentException.class, () -> BoundOptions.steady(0));
