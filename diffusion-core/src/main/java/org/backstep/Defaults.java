@@ -249,9 +249,39 @@ public final class Defaults {
      */
     public static final double FLOW_ABSOLUTE_TOLERANCE = 1e-5;
 
-    /** @return the exact bound over all T steps, what {@link DiffusionModel#bound(Table, long)} computes */
+    /**
+     * @return the exact bound over all T steps, one draw of x_t per term, what
+     *     {@link DiffusionModel#bound(Table, long)} computes. It stays the default because the steady
+     *     bound ({@link #steadyBound()}) costs 15 to 83 times the CPU time (iris, diabetes 50,
+     *     breast_cancer 83: 65 + 2 Dc evaluations per record and step against 1); its noise, 2 to 6
+     *     nats per record on default fits (diffusion-bench/results/score-variance.txt), averages away
+     *     in a mean over many records.
+     */
     public static BoundOptions bound() {
         return BoundOptions.exact();
+    }
+
+    /**
+     * Draws of x_t per term of the steady bound ({@link BoundOptions#steady}: shifted Sobol points and
+     * the linearized control variate). Measured (diffusion-bench/results/score-variance.txt, default
+     * fits of SOURCES.md's split, test rows, per-record sd over 3 bound seeds, one run on a quiet
+     * machine; CPU per record against the one-draw bound's in the same run):
+     * <pre>
+     *   table                  one draw   linearized, K = 1   K = 16          K = 64
+     *   iris                   1.89       0.31 (x3.9)         0.072 (x7.2)    0.024 (x15.5)
+     *   breast_cancer          5.75       0.40 (x33)          0.079 (x44)     0.036 (x83)
+     *   diabetes w/o SEX       3.30       0.21 (x13.5)        0.038 (x21)     0.019 (x50)
+     * </pre>
+     * The noise falls about as 1/K beyond the control variate (faster than Monte Carlo's
+     * 1/sqrt(K)); K = 64 is the smallest power of two below issue 11's 0.05 nats per record on the
+     * three tables with continuous columns. A table of binary columns alone gets no control variate
+     * (digits_binary: see the results file). Cost per record and step: K + 2 Dc + 1 network evaluations.
+     */
+    public static final int STEADY_TERM_DRAWS = 64;
+
+    /** @return the steady exact bound with {@link #STEADY_TERM_DRAWS} draws per term */
+    public static BoundOptions steadyBound() {
+        return BoundOptions.steady(STEADY_TERM_DRAWS);
     }
 
     /**

@@ -54,7 +54,7 @@ class RowSeedBoundTest {
     @Test
     void aBatchGivesEachRecordTheDrawsOfItsOneRecordCall() {
         for (BoundOptions how : new BoundOptions[] {BoundOptions.exact(), BoundOptions.sampled(4),
-                BoundOptions.exactStrided(5)}) {
+                BoundOptions.exactStrided(5), BoundOptions.steady(4)}) {
             BoundReport batch = model.bound(records, how, seeds);
             for (int i = 0; i < records.rows(); i++) {
                 Table record = records.selectRows(new int[] {i});

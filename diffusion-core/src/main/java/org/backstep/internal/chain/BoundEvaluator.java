@@ -53,7 +53,7 @@ public final class BoundEvaluator {
         final double[] stepCont;
         final double[] stepBin;
 
-        Chunk(Chain chain, float[] x0, int rows, int c, long seed, long[] rowSeeds) {
+        Chunk(Chain chain, float[] x0, int rows, int c, long seed, long[] rowSeeds, int replicas) {
             this.chain = chain;
             from = c * Parallel.CHUNK_ROWS;
             n = Math.min(Parallel.CHUNK_ROWS, rows - from);
@@ -66,11 +66,11 @@ public final class BoundEvaluator {
                     rng[r] = Parallel.random(rowSeeds[from + r], 0);
                 }
             }
-            ws = chain.workspace(n);
-            xt = new float[n * chain.d];
-            k = new int[n];
-            stepCont = new double[n];
-            stepBin = new double[n];
+            ws = chain.workspace(replicas * n);
+            xt = new float[replicas * n * chain.d];
+            k = new int[replicas * n];
+            stepCont = new double[replicas * n];
+            stepBin = new double[replicas * n];
         }
 
         /** The bound terms of x_t at the steps in k, given the estimator's output, into stepCont and stepBin. */
@@ -86,7 +86,7 @@ public final class BoundEvaluator {
      * closed-form part ({@link GaussianBaseline}), each continuous term is taken with that part as
      * a control variate: L(x_t) - L_lin(x_t) + E[L_lin], where L_lin is the term of the
      * zero-correction model (the baseline alone) on the same x_t and E[L_lin] its expectation over
-     * x_t in closed form ({@link BoundTerms#expectedBaselineRows}). The expectation is the same
+     * x_t in closed form ({@link BoundTerms.BaselineExpectation}). The expectation is the same
      * bound; only the noise of the draw changes, and it vanishes where the network's correction
      * does. The control variate draws nothing of its own, so a row's draws are those of the plain
      * bound (and, with a seed per row, those of a one-row table). An integer column's decoder term
@@ -101,7 +101,7 @@ public final class BoundEvaluator {
      * @return per record, the terms
      */
     public static Result exact(Chain chain, float[] x0, int rows, long seed, int threads) {
-        return exact(chain, x0, rows, seed, null, threads);
+        return exact(chain, x0, rows, seed, null, TermDraws.single(chain.steps), threads);
     }
 
     /**
@@ -109,88 +109,168 @@ public final class BoundEvaluator {
      * table seeded with rowSeeds[r] does.
      */
     public static Result exact(Chain chain, float[] x0, int rows, long[] rowSeeds, int threads) {
-        return exact(chain, x0, rows, 0L, rowSeeds, threads);
+        return exact(chain, x0, rows, 0L, rowSeeds, TermDraws.single(chain.steps), threads);
     }
 
-    private static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, int threads) {
-        GaussianBaseline baseline = chain.estimator.baseline();
-        if (baseline != null && baseline.continuousColumns() > 0) {
-            return exactWithControlVariate(chain, baseline, x0, rows, seed, rowSeeds, threads);
+    /**
+     * The exact bound with K_t draws of x_t at step t by the plan's point set, each term the mean of
+     * its draws ({@link TermDraws}; one independent draw per term gives the bits of
+     * {@link #exact(Chain, float[], int, long, int)}), the control variate as there. Row r's draws
+     * come from its generator (the chunk's with one seed, its own with a seed per row), all of
+     * step t's draws before step t + 1's.
+     *
+     * @param seed the seed of the draws, read when rowSeeds is null
+     * @param rowSeeds null, or a seed per row
+     * @param plan the draws per term
+     */
+    public static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, TermDraws plan,
+                               int threads) {
+        return exact(chain, x0, rows, seed, rowSeeds, plan, null, threads);
+    }
+
+    /**
+     * The spread of each term over its draws: per step t, the root mean square over the rows of
+     * the sample standard deviation of one draw's term (continuous with the control variate where
+     * the estimator has a closed-form part, plus discrete), from {@code pilot} independent draws
+     * per term. A term's share of a row's variance is its square; the allocation of draws that
+     * minimizes the variance of the sum at a fixed total is K_t proportional to it (Neyman
+     * allocation, Cochran 1977, "Sampling Techniques", section 5.5).
+     *
+     * @param pilot independent draws per term, at least 2
+     * @return index 1..T: each step's spread (index 0, the prior, is exact: 0)
+     */
+    public static double[] termSpread(Chain chain, float[] x0, int rows, int pilot, long seed, int threads) {
+        return termSpread(chain, x0, rows, pilot, 0, seed, threads);
+    }
+
+    /**
+     * {@link #termSpread(Chain, float[], int, int, long, int)} of the terms with the linearized
+     * control variate ({@link LinearizedTerms}) at steps 1..linearized.
+     */
+    public static double[] termSpread(Chain chain, float[] x0, int rows, int pilot, int linearized, long seed,
+                                      int threads) {
+        if (pilot < 2) {
+            throw new IllegalArgumentException("pilot is " + pilot + "; a spread needs at least 2 draws");
         }
-        Result res = new Result(rows, chain.steps, true);
-        int chunks = Parallel.chunks(rows);
-        double[][] perChunkSteps = new double[chunks][chain.steps + 1];
-        Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
-            int n = ch.n;
-            double[] cont = new double[n];
-            double[] bin = new double[n];
-            BoundTerms.priorRows(chain, ch.x, n, cont, bin);
-            perChunkSteps[c][0] = sum(cont) + sum(bin);
-            for (int s = 1; s <= chain.steps; s++) {
-                java.util.Arrays.fill(ch.k, s);
-                chain.diffuse(ch.x, n, ch.k, ch.xt, null, ch.rng);
-                ch.stepTerms(chain.predictAtStep(ch.ws, ch.xt, s));
-                for (int r = 0; r < n; r++) {
-                    cont[r] += ch.stepCont[r];
-                    bin[r] += ch.stepBin[r];
-                }
-                perChunkSteps[c][s] = sum(ch.stepCont) + sum(ch.stepBin);
-            }
-            System.arraycopy(cont, 0, res.continuous, ch.from, n);
-            System.arraycopy(bin, 0, res.binary, ch.from, n);
-        });
-        perStepMeans(res, perChunkSteps, rows);
-        return res;
-    }
-
-    private static Result exactWithControlVariate(Chain chain, GaussianBaseline baseline, float[] x0, int rows, long seed,
-                                                  long[] rowSeeds, int threads) {
-        Result res = new Result(rows, chain.steps, true);
-        int chunks = Parallel.chunks(rows);
-        double[][] perChunkSteps = new double[chunks][chain.steps + 1];
-        boolean learned = chain.variance == org.backstep.option.ReverseVariance.LEARNED;
-        double[][][] gains = new double[chain.steps + 1][][];
-        double[][] vs = new double[chain.steps + 1][];
+        double[][] perChunk = new double[Parallel.chunks(rows)][chain.steps + 1];
+        exact(chain, x0, rows, seed, null, TermDraws.uniform(TermDraws.Kind.INDEPENDENT, pilot, chain.steps)
+                .linearizedUpTo(linearized), perChunk, threads);
+        double[] spread = new double[chain.steps + 1];
         for (int s = 1; s <= chain.steps; s++) {
-            gains[s] = baseline.gain(chain.source[s]);
-            vs[s] = baseline.v(chain.source[s]);
+            double total = 0.0;
+            for (double[] chunk : perChunk) {
+                total += chunk[s];
+            }
+            spread[s] = Math.sqrt(total / rows);
         }
+        return spread;
+    }
+
+    private static Result exact(Chain chain, float[] x0, int rows, long seed, long[] rowSeeds, TermDraws plan,
+                                double[][] perChunkVariance, int threads) {
+        Result res = new Result(rows, chain.steps, true);
+        int chunks = Parallel.chunks(rows);
+        double[][] perChunkSteps = new double[chunks][chain.steps + 1];
+        GaussianBaseline baseline = chain.estimator.baseline();
+        boolean controlled = baseline != null && baseline.continuousColumns() > 0;
+        boolean learned = chain.variance == org.backstep.option.ReverseVariance.LEARNED;
+        BoundTerms.BaselineExpectation[] expectation = new BoundTerms.BaselineExpectation[chain.steps + 1];
+        if (controlled) {
+            for (int s = 1; s <= chain.steps; s++) {
+                expectation[s] = new BoundTerms.BaselineExpectation(chain, s, baseline.gain(chain.source[s]),
+                        baseline.v(chain.source[s]), baseline.meanView());
+            }
+        }
+        int most = plan.most();
+        double[][] sobol = plan.kind == TermDraws.Kind.SHIFTED_SOBOL ? TermDraws.sobolPoints(most, chain.d) : null;
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds, most);
             int n = ch.n;
+            int d = chain.d;
+            float[] xs = ch.x;
+            if (most > 1) {
+                xs = new float[most * n * d];
+                for (int i = 0; i < most; i++) {
+                    System.arraycopy(ch.x, 0, xs, i * n * d, n * d);
+                }
+            }
+            java.util.Map<Integer, Chain.Workspace> spaces = new java.util.HashMap<>();
+            spaces.put(most, ch.ws);
+            double[] noise = new double[d];
             double[] cont = new double[n];
             double[] bin = new double[n];
-            double[] linCont = new double[n];
-            double[] linBin = new double[n];
-            double[] expected = new double[n];
-            float[] lin = new float[n * chain.outputs];
-            int[] src = new int[n];
+            boolean linearizing = chain.dc > 0 && plan.linearizes(1);
+            LinearizedTerms linear = linearizing ? new LinearizedTerms(chain, n) : null;
+            double[] eps = linearizing ? new double[most * n * chain.dc] : null;
+            double[] linCont = controlled || linearizing ? new double[most * n] : null;
+            double[] expected = controlled || linearizing ? new double[n] : null;
+            float[] lin = controlled ? new float[most * n * chain.outputs] : null;
+            int[] src = controlled ? new int[most * n] : null;
             BoundTerms.priorRows(chain, ch.x, n, cont, bin);
             perChunkSteps[c][0] = sum(cont) + sum(bin);
             for (int s = 1; s <= chain.steps; s++) {
-                java.util.Arrays.fill(ch.k, s);
-                java.util.Arrays.fill(src, chain.source[s]);
-                chain.diffuse(ch.x, n, ch.k, ch.xt, null, ch.rng);
-                ch.stepTerms(chain.predictAtStep(ch.ws, ch.xt, s));
-                java.util.Arrays.fill(lin, 0f);
-                baseline.addInPlace(ch.xt, chain.d, src, lin, chain.outputs, n, learned);
-                java.util.Arrays.fill(linCont, 0.0);
-                BoundTerms.rowTerms(chain, ch.x, ch.xt, lin, n, ch.k, linCont, linBin);
-                if (s == 1) {
-                    // integer columns' decoder terms are taken as drawn (expectedBaselineRows leaves them out)
-                    BoundTerms.subtractDiscretizedDecoderRows(chain, ch.x, ch.xt, lin, n, linCont);
+                int k = plan.at(s);
+                int m = k * n;
+                java.util.Arrays.fill(ch.k, 0, m, s);
+                for (int r = 0; r < n; r++) {
+                    plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise, eps);
                 }
-                java.util.Arrays.fill(expected, 0.0);
-                BoundTerms.expectedBaselineRows(chain, s, gains[s], vs[s], baseline.meanView(), ch.x, n, expected);
+                Chain.Workspace ws = spaces.computeIfAbsent(k, kk -> chain.workspace(kk * n));
+                float[] out = chain.predictAtStep(ws, ch.xt, s);
+                java.util.Arrays.fill(ch.stepCont, 0, m, 0.0);
+                java.util.Arrays.fill(ch.stepBin, 0, m, 0.0);
+                BoundTerms.rowTerms(chain, xs, ch.xt, out, m, ch.k, ch.stepCont, ch.stepBin);
+                boolean linearStep = linearizing && plan.linearizes(s);
+                boolean subtract = controlled || linearStep;
+                if (linearStep) {
+                    linear.control(s, ch.x, k, eps, linCont, expected);
+                } else if (controlled) {
+                    java.util.Arrays.fill(src, 0, m, chain.source[s]);
+                    java.util.Arrays.fill(lin, 0, m * chain.outputs, 0f);
+                    baseline.addInPlace(ch.xt, d, src, lin, chain.outputs, m, learned);
+                    java.util.Arrays.fill(linCont, 0, m, 0.0);
+                    BoundTerms.rowContinuousTerms(chain, xs, ch.xt, lin, m, ch.k, linCont);
+                    if (s == 1) {
+                        // integer columns' decoder terms are taken as drawn (BaselineExpectation leaves them out)
+                        BoundTerms.subtractDiscretizedDecoderRows(chain, xs, ch.xt, lin, m, linCont);
+                    }
+                    java.util.Arrays.fill(expected, 0.0);
+                    expectation[s].addRows(ch.x, n, expected);
+                }
+                double sumCont = 0.0;
+                double sumBin = 0.0;
                 double stepSum = 0.0;
                 for (int r = 0; r < n; r++) {
-                    double term = ch.stepCont[r] - linCont[r] + expected[r];
-                    cont[r] += term;
-                    bin[r] += ch.stepBin[r];
-                    stepSum += term + ch.stepBin[r];
+                    double termCont = 0.0;
+                    double termBin = 0.0;
+                    for (int i = 0; i < k; i++) {
+                        int at = i * n + r;
+                        termCont += subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
+                        termBin += ch.stepBin[at];
+                    }
+                    termCont /= k;
+                    termBin /= k;
+                    if (perChunkVariance != null && k > 1) {
+                        double mean = termCont + termBin;
+                        double squares = 0.0;
+                        for (int i = 0; i < k; i++) {
+                            int at = i * n + r;
+                            double one = (subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at]) + ch.stepBin[at];
+                            squares += (one - mean) * (one - mean);
+                        }
+                        perChunkVariance[c][s] += squares / (k - 1);
+                    }
+                    if (subtract) {
+                        termCont += expected[r];
+                    }
+                    cont[r] += termCont;
+                    bin[r] += termBin;
+                    sumCont += termCont;
+                    sumBin += termBin;
+                    stepSum += termCont + termBin;
                 }
-                perChunkSteps[c][s] = stepSum;
+                // the two forms of the step's sum kept from the two former paths (same bits)
+                perChunkSteps[c][s] = subtract ? stepSum : sumCont + sumBin;
             }
             System.arraycopy(cont, 0, res.continuous, ch.from, n);
             System.arraycopy(bin, 0, res.binary, ch.from, n);
@@ -228,7 +308,7 @@ public final class BoundEvaluator {
         int chunks = Parallel.chunks(rows);
         double scale = chain.steps - 1;
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds);
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds, 1);
             int n = ch.n;
             int from = ch.from;
             int[] k = ch.k;

@@ -225,9 +225,9 @@ public final class BoundTerms {
 
     /**
      * The expectation over x_k ~ q(x_k | x_0) of the continuous cells' term L_{k-1} of the model
-     * whose network outputs zero (the baseline alone), per row, added into {@code out}. The
-     * baseline's epsilon-hat is linear, A (x_k - sqrt(abar_k) m), so the difference of the means
-     * in {@link #continuous} is linear in the noise e of x_k = sqrt(abar_k) x_0 + sqrt(1 - abar_k) e:
+     * whose network outputs zero (the baseline alone), per row. The baseline's epsilon-hat is
+     * linear, A (x_k - sqrt(abar_k) m), so the difference of the means in {@link #continuous} is
+     * linear in the noise e of x_k = sqrt(abar_k) x_0 + sqrt(1 - abar_k) e:
      * <pre>
      *   diff = mq - mp = a + sqrt(1 - abar_k) M e,   M = (ct - 1/sqrt(alpha_k)) I + g A,  g = epsCoef_k / sqrt(alpha_k)
      *   a    = (c0 + (ct - 1/sqrt(alpha_k)) sqrt(abar_k)) x_0 + g sqrt(abar_k) A (x_0 - m)
@@ -235,59 +235,110 @@ public final class BoundTerms {
      * </pre>
      * with (c0, ct) the posterior mean's coefficients for k &gt; 1, and the decoder's diff = x_0 - mp
      * at k = 1 (c0 = 1, ct = 0); the variance terms do not depend on x_k. (Gaussian expectation of
-     * a quadratic; common practice, no source.)
-     *
-     * @param gain A at the chain step's source step ({@link GaussianBaseline#gain})
-     * @param v the baseline's v per column at that source step
+     * a quadratic; common practice, no source.) What does not depend on the row (the noise part,
+     * the log variances and their exponentials) is computed once per step, at construction.
      */
-    static void expectedBaselineRows(Chain c, int k, double[][] gain, double[] v, double[] m, float[] x0, int rows,
-                                     double[] out) {
-        int dc = c.dc;
-        double sa = c.sqrtAbar[k];
-        double so2 = 1.0 - sa * sa;
-        double g = c.epsCoef[k] / c.sqrtAlpha[k];
-        double c0 = k == 1 ? 1.0 : c.coefX0[k];
-        double ct = k == 1 ? 0.0 : c.coefXt[k];
-        double diag = ct - 1.0 / c.sqrtAlpha[k];
-        double[] noise = new double[dc];
-        double[] lv = new double[dc];
-        for (int j = 0; j < dc; j++) {
-            double ss = 0.0;
-            for (int i = 0; i < dc; i++) {
-                double mji = g * gain[j][i] + (i == j ? diag : 0.0);
-                ss += mji * mji;
-            }
-            noise[j] = so2 * ss;
-            lv[j] = c.reverseLogVariance(k, c.variance == ReverseVariance.LEARNED ? v[j] : 0.0);
-        }
-        double lq = c.logVarClipped[k];
-        double[] centred = new double[dc];
-        boolean[] skip = new boolean[dc];
-        for (int j = 0; j < dc; j++) {
-            // an integer column's decoder is a discretized Gaussian's mass: not this expectation
-            skip[j] = k == 1 && c.decoders[j] != null;
-        }
-        for (int r = 0; r < rows; r++) {
-            int o = r * c.d;
-            for (int i = 0; i < dc; i++) {
-                centred[i] = x0[o + i] - m[i];
-            }
-            double total = 0.0;
+    static final class BaselineExpectation {
+        private final Chain c;
+        private final int k;
+        private final double[][] gain;
+        private final double[] m;
+        private final double sa;
+        private final double g;
+        private final double c0;
+        private final double diag;
+        private final double[] noise;
+        private final double[] lv;
+        private final double[] precision;
+        private final boolean[] skip;
+        private final double lq;
+        private final double expLq;
+
+        /**
+         * @param k the chain step
+         * @param gain A at the chain step's source step ({@link GaussianBaseline#gain})
+         * @param v the baseline's v per column at that source step
+         * @param m the baseline's mean
+         */
+        BaselineExpectation(Chain c, int k, double[][] gain, double[] v, double[] m) {
+            this.c = c;
+            this.k = k;
+            this.gain = gain;
+            this.m = m;
+            int dc = c.dc;
+            sa = c.sqrtAbar[k];
+            double so2 = 1.0 - sa * sa;
+            g = c.epsCoef[k] / c.sqrtAlpha[k];
+            c0 = k == 1 ? 1.0 : c.coefX0[k];
+            double ct = k == 1 ? 0.0 : c.coefXt[k];
+            diag = ct - 1.0 / c.sqrtAlpha[k];
+            noise = new double[dc];
+            lv = new double[dc];
+            precision = new double[dc];
+            skip = new boolean[dc];
             for (int j = 0; j < dc; j++) {
-                if (skip[j]) {
-                    continue;
-                }
-                double ax = 0.0;
+                double ss = 0.0;
                 for (int i = 0; i < dc; i++) {
-                    ax += gain[j][i] * centred[i];
+                    double mji = g * gain[j][i] + (i == j ? diag : 0.0);
+                    ss += mji * mji;
                 }
-                double a = (c0 + diag * sa) * x0[o + j] + g * sa * ax;
-                double e2 = a * a + noise[j];
-                double precision = Math.exp(-lv[j]);
-                total += k == 1 ? 0.5 * (LOG_2PI + lv[j] + e2 * precision)
-                        : 0.5 * (lv[j] - lq + (Math.exp(lq) + e2) * precision - 1.0);
+                noise[j] = so2 * ss;
+                lv[j] = c.reverseLogVariance(k, c.variance == ReverseVariance.LEARNED ? v[j] : 0.0);
+                precision[j] = Math.exp(-lv[j]);
+                // an integer column's decoder is a discretized Gaussian's mass: not this expectation
+                skip[j] = k == 1 && c.decoders[j] != null;
             }
-            out[r] += total;
+            lq = c.logVarClipped[k];
+            expLq = Math.exp(lq);
+        }
+
+        /** Adds each row's expectation into {@code out} (length rows). */
+        void addRows(float[] x0, int rows, double[] out) {
+            int dc = c.dc;
+            double[] centred = new double[dc];
+            for (int r = 0; r < rows; r++) {
+                int o = r * c.d;
+                for (int i = 0; i < dc; i++) {
+                    centred[i] = x0[o + i] - m[i];
+                }
+                double total = 0.0;
+                for (int j = 0; j < dc; j++) {
+                    if (skip[j]) {
+                        continue;
+                    }
+                    double ax = 0.0;
+                    for (int i = 0; i < dc; i++) {
+                        ax += gain[j][i] * centred[i];
+                    }
+                    double a = (c0 + diag * sa) * x0[o + j] + g * sa * ax;
+                    double e2 = a * a + noise[j];
+                    total += k == 1 ? 0.5 * (LOG_2PI + lv[j] + e2 * precision[j])
+                            : 0.5 * (lv[j] - lq + (expLq + e2) * precision[j] - 1.0);
+                }
+                out[r] += total;
+            }
+        }
+    }
+
+    /**
+     * The continuous cells' part of {@link #rowTerms}: the terms of step k for every row, summed
+     * over the continuous cells, added into contOut (the same sums, cell by cell, as rowTerms's).
+     */
+    static void rowContinuousTerms(Chain c, float[] x0, float[] xt, float[] out, int rows, int[] k, double[] contOut) {
+        int dc = c.dc;
+        int d = c.d;
+        int outputs = c.outputs;
+        boolean learned = c.variance == ReverseVariance.LEARNED;
+        for (int r = 0; r < rows; r++) {
+            int s = k[r];
+            int o = r * d;
+            int oo = r * outputs;
+            double cont = 0.0;
+            for (int j = 0; j < dc; j++) {
+                double v = learned ? out[oo + dc + j] : 0.0;
+                cont += continuousCell(c, s, j, x0[o + j], xt[o + j], out[oo + j], v, null);
+            }
+            contOut[r] += cont;
         }
     }
 

@@ -131,9 +131,7 @@ public final class Engine {
                     new BoundReport.RecordNats(r.continuous, r.binary, logJacobian), r.standardError);
         }
         Chain c = chainOf(how.steps());
-        BoundEvaluator.Result r = rowSeeds == null
-                ? BoundEvaluator.exact(c, x, rows, seed, threads)
-                : BoundEvaluator.exact(c, x, rows, rowSeeds, threads);
+        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, rows, seed, rowSeeds, TermDraws.of(how, c.steps), threads);
         return BoundReport.exact(c.steps, c.d, new BoundReport.RecordNats(r.continuous, r.binary, logJacobian),
                 r.perStepMean);
     }

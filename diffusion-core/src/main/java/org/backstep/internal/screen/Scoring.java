@@ -1,10 +1,12 @@
 package org.backstep.internal.screen;
 
+import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
 import org.backstep.internal.chain.CommonNoiseBound;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.chain.ScoringRange;
+import org.backstep.internal.chain.TermDraws;
 import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.FlowOptions;
@@ -143,9 +145,26 @@ public final class Scoring {
         return flow.evaluate(engine.modelSpace(records), records.rows(), engine.parts().options().threads()).nats;
     }
 
-    /** The bound with common random numbers of complete, scorable records. */
+    /**
+     * The bound with common random numbers of complete, scorable records. An exact bound with
+     * several draws per term or the linearized control variate ({@link BoundOptions#steady}) gives
+     * every record the same seed, so that every record draws the same points (common random numbers
+     * again, and a record's score does not depend on the other records).
+     */
     static double[] bound(Engine engine, Table records, BoundOptions how, long seed) {
         float[] x = engine.modelSpace(records);
+        if (!how.sampled() && (how.termDraws() > 1 || how.linearized())) {
+            Chain c = engine.chainOf(how.steps());
+            long[] same = new long[records.rows()];
+            java.util.Arrays.fill(same, seed);
+            BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), 0L, same, TermDraws.of(how, c.steps()),
+                    engine.parts().options().threads());
+            double[] nats = new double[records.rows()];
+            for (int i = 0; i < nats.length; i++) {
+                nats[i] = r.continuous[i] + r.binary[i];
+            }
+            return nats;
+        }
         Chain c = how.sampled() ? engine.chain() : engine.chainOf(how.steps());
         int draws = how.sampled() ? Math.min(how.draws(), engine.steps()) : 0;
         return CommonNoiseBound.bound(c, x, records.rows(), draws, seed, engine.parts().options().threads());
