@@ -316,7 +316,7 @@ public final class DiffusionModel {
         float[] x = engine.modelSpace(records);
         ProbabilityFlow.Result r = flow.evaluate(x, records.rows(), options().threads());
         return FlowLikelihood.of(engine.chain().continuousColumns(), how.relativeTolerance(), how.absoluteTolerance(),
-                r.nats, r.prior, transform().logJacobian(records), r.evaluations);
+                engine.standardizedNats(r.nats.clone()), r.prior, transform().logJacobian(records), r.evaluations);
     }
 
     /**

@@ -140,7 +140,8 @@ public final class Scoring {
      */
     static double[] flow(Engine engine, Table records, FlowOptions how) {
         ProbabilityFlow flow = new ProbabilityFlow(engine.parts(), how.relativeTolerance(), how.absoluteTolerance());
-        return flow.evaluate(engine.modelSpace(records), records.rows(), engine.parts().options().threads()).nats;
+        return engine.standardizedNats(
+                flow.evaluate(engine.modelSpace(records), records.rows(), engine.parts().options().threads()).nats);
     }
 
     /** The bound with common random numbers of complete, scorable records. */
@@ -148,6 +149,7 @@ public final class Scoring {
         float[] x = engine.modelSpace(records);
         Chain c = how.sampled() ? engine.chain() : engine.chainOf(how.steps());
         int draws = how.sampled() ? Math.min(how.draws(), engine.steps()) : 0;
-        return CommonNoiseBound.bound(c, x, records.rows(), draws, seed, engine.parts().options().threads());
+        return engine.standardizedNats(
+                CommonNoiseBound.bound(c, x, records.rows(), draws, seed, engine.parts().options().threads()));
     }
 }

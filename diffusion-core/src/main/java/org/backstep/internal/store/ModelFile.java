@@ -203,6 +203,9 @@ public final class ModelFile {
         opts.put("seed", o.seed());
         opts.put("threads", o.threads());
         opts.put("baseline", o.baseline().name());
+        if (o.coordinates() != org.backstep.option.Coordinates.STANDARDIZED) {
+            opts.put("coordinates", o.coordinates().name());
+        }
 
         ArrayNode cols = root.putArray("columns");
         TableTransform tr = model.transform();
@@ -244,6 +247,22 @@ public final class ModelFile {
             for (double v : model.range().max()) {
                 hi.add(v);
             }
+        }
+        if (model.whitening() != null) {
+            org.backstep.table.Whitening wh = model.whitening();
+            ObjectNode g = root.putObject("whitening");
+            ArrayNode mean = g.putArray("mean");
+            for (double v : wh.mean()) {
+                mean.add(v);
+            }
+            ArrayNode cov = g.putArray("covariance");
+            for (double[] row : wh.covariance()) {
+                ArrayNode r = cov.addArray();
+                for (double v : row) {
+                    r.add(v);
+                }
+            }
+            g.put("shrinkage", wh.shrinkage());
         }
         GaussianBaseline gb = model.baseline();
         if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN) {
@@ -340,8 +359,9 @@ public final class ModelFile {
                 };
                 boolean learned = m.options.variance() == ReverseVariance.LEARNED;
                 return m.range == null ? new ModelParts(m.options, m.transform, network,
-                        new NetworkEstimator(network, baseline, learned), m.provenance)
-                        : ModelParts.ofNetwork(m.options, m.transform, network, baseline, m.provenance, m.range);
+                        new NetworkEstimator(network, baseline, learned), m.provenance, m.whitening)
+                        : ModelParts.ofNetwork(m.options, m.transform, network, baseline, m.provenance, m.range,
+                                m.whitening);
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(MANIFEST, "inconsistent content: " + e.getMessage(), e);
             }
@@ -357,7 +377,7 @@ public final class ModelFile {
     /** The manifest's content, every field checked; the network is not built yet. */
     private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
                             Provenance provenance, double[] baselineMean, double[][] baselineCovariance,
-                            double baselineShrinkage) {
+                            double baselineShrinkage, org.backstep.table.Whitening whitening) {
     }
 
     private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
@@ -397,7 +417,11 @@ public final class ModelFile {
                     JsonFields.whole(JsonFields.field(o, "seed", opt), opt + ".seed", Long.MIN_VALUE, Long.MAX_VALUE),
                     int32(o, opt, "threads", 1, Limits.MAX_THREADS),
                     // optional within version 4 (a file without it was written before the option existed)
-                    version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE);
+                    version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE,
+                    // optional within version 4, as baseline: absent reads as STANDARDIZED, what older releases did
+                    version >= 4 && o.has("coordinates")
+                            ? constant(o, opt, "coordinates", org.backstep.option.Coordinates.class)
+                            : org.backstep.option.Coordinates.STANDARDIZED);
         } catch (IllegalArgumentException e) {
             // the builder's own validation refused them
             throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);
@@ -540,9 +564,39 @@ public final class ModelFile {
                 throw new ModelFileException(gw, e.getMessage(), e);
             }
         }
+        org.backstep.table.Whitening whitening = null;
+        int whitened = org.backstep.internal.chain.Chain.whitenedColumns(transform).length;
+        boolean wants = options.coordinates() == org.backstep.option.Coordinates.WHITENED && whitened > 0;
+        if (root.has("whitening") != wants) {
+            throw new ModelFileException(MANIFEST + " whitening", (wants ? "absent" : "present")
+                    + ", but the model's coordinates are " + options.coordinates() + " over " + whitened
+                    + " real continuous columns; a WHITENED model of such columns has one, no other model does");
+        }
+        if (wants) {
+            String ww = MANIFEST + " whitening";
+            JsonNode g = JsonFields.object(root.get("whitening"), ww);
+            JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", ww), ww + ".mean", whitened, whitened);
+            JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", ww), ww + ".covariance", whitened, whitened);
+            double[] wm = new double[whitened];
+            double[][] wc = new double[whitened][whitened];
+            for (int i = 0; i < whitened; i++) {
+                wm[i] = JsonFields.number(mean.get(i), ww + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
+                JsonNode row = JsonFields.array(cov.get(i), ww + ".covariance[" + i + "]", whitened, whitened);
+                for (int j = 0; j < whitened; j++) {
+                    wc[i][j] = JsonFields.number(row.get(j), ww + ".covariance[" + i + "][" + j + "]",
+                            -Float.MAX_VALUE, Float.MAX_VALUE);
+                }
+            }
+            double shrink = JsonFields.number(JsonFields.field(g, "shrinkage", ww), ww + ".shrinkage", 0.0, 1.0);
+            try {
+                whitening = org.backstep.table.Whitening.of(wm, wc, shrink);
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(ww, e.getMessage(), e);
+            }
+        }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
         return new Manifest(options, transform, shape, range, provenance, baselineMean, baselineCovariance,
-                baselineShrinkage);
+                baselineShrinkage, whitening);
     }
 
     private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {
