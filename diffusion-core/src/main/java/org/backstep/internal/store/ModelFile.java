@@ -56,7 +56,7 @@ import java.util.zip.ZipFile;
 import java.util.zip.ZipOutputStream;
 
 /**
- * The Backstep model file, format version 4 (versions 1 to 3 still load): a zip container of
+ * The Backstep model file, format version 4, or 5 for a whitened model (versions 1 to 3 still load): a zip container of
  * exactly three entries.
  * <pre>
  *   model.json        the manifest: format name and version, every fit option, both schedules'
@@ -78,7 +78,13 @@ import java.util.zip.ZipOutputStream;
  * did) and, when that option is {@code FITTED_GAUSSIAN}, the object {@code gaussianBaseline} with
  * the fitted {@code mean}, {@code covariance} (rows) and {@code shrinkage} of the continuous model
  * columns (continuous and integer); the per-step factors are recomputed from them and the schedule
- * on load.
+ * on load. Version 5 is version 4 plus, for a model fitted with coordinates {@code WHITENED}, the
+ * option {@code coordinates} and (when the model has real continuous columns) the object
+ * {@code whitening} with the {@code mean}, the shrunk {@code covariance} (rows) and the Ledoit-Wolf
+ * {@code shrinkage} of those columns in standardized model space; W = covariance^(-1/2) is recomputed
+ * from them on load (the same eigendecomposition, so the same W). Only such a model is written as
+ * version 5 ({@link #NEWEST_VERSION}), so that an older release refuses it by its version rather
+ * than ignore the keys and run it in standardized coordinates; every other model is version 4.
  * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
@@ -111,6 +117,13 @@ public final class ModelFile {
 
     public static final String FORMAT = "backstep-model";
     public static final int VERSION = 4;
+    /**
+     * The version written for a model fitted with coordinates WHITENED (version 4 plus the option
+     * {@code coordinates} and the object {@code whitening}), and the newest this release reads: a
+     * release that reads only up to version 4 refuses such a file by its version instead of running it
+     * in standardized coordinates. Every other model is written as {@link #VERSION}.
+     */
+    public static final int NEWEST_VERSION = 5;
     /** The oldest version this release reads. */
     public static final int OLDEST_VERSION = 1;
     public static final String MANIFEST = "model.json";
@@ -169,7 +182,7 @@ public final class ModelFile {
         FitOptions o = model.options();
         ObjectNode root = JSON.createObjectNode();
         root.put("format", FORMAT);
-        root.put("formatVersion", VERSION);
+        root.put("formatVersion", o.coordinates() == org.backstep.option.Coordinates.WHITENED ? NEWEST_VERSION : VERSION);
         ObjectNode opts = root.putObject("options");
         opts.set("continuousSchedule", schedule(o.continuousSchedule()));
         opts.set("binarySchedule", schedule(o.binarySchedule()));
@@ -330,9 +343,9 @@ public final class ModelFile {
             }
             int version = JsonFields.int32(JsonFields.field(root, "formatVersion", MANIFEST), MANIFEST + " formatVersion",
                     Integer.MIN_VALUE, Integer.MAX_VALUE);
-            if (version < OLDEST_VERSION || version > VERSION) {
+            if (version < OLDEST_VERSION || version > NEWEST_VERSION) {
                 throw new ModelFileException(MANIFEST + " formatVersion", "version " + version
-                        + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + VERSION);
+                        + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + NEWEST_VERSION);
             }
             Manifest m = readManifest(root, version);
             long bytes = 4 * m.shape.parameterCount();
@@ -418,8 +431,8 @@ public final class ModelFile {
                     int32(o, opt, "threads", 1, Limits.MAX_THREADS),
                     // optional within version 4 (a file without it was written before the option existed)
                     version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE,
-                    // optional within version 4, as baseline: absent reads as STANDARDIZED, what older releases did
-                    version >= 4 && o.has("coordinates")
+                    // version 5 only (a whitened model): absent reads as STANDARDIZED, what older releases did
+                    version >= 5 && o.has("coordinates")
                             ? constant(o, opt, "coordinates", org.backstep.option.Coordinates.class)
                             : org.backstep.option.Coordinates.STANDARDIZED);
         } catch (IllegalArgumentException e) {

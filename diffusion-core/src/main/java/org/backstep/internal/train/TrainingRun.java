@@ -295,7 +295,9 @@ public final class TrainingRun implements AutoCloseable {
             Chain evalChain = chainOver(averaged);
             BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
                     options.seed() + 1, options.threads());
-            double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
+            // minus log|det W| of a whitened chain: the history's bound is in the standardized space too
+            double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv
+                    - evalChain.logDeterminant();
             bound = OptionalDouble.of(mean);
             lastBound = bound;
             if (bestWeights == null || mean < bestBound || Double.isNaN(bestBound)) {
