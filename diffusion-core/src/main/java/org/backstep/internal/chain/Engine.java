@@ -170,6 +170,9 @@ public final class Engine {
         BoundEvaluator.Result r = rowSeeds == null
                 ? BoundEvaluator.exact(c, x, rows, seed, threads)
                 : BoundEvaluator.exact(c, x, rows, rowSeeds, threads);
+        if (r.perStepMean.length > 1) {
+            r.perStepMean[1] -= c.logDeterminant();   // the decoder term L_0 carries the change of variables
+        }
         return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, standardizedNats(r.continuous), r.binary,
                 logJacobian, r.standardError, r.perStepMean);
     }
