@@ -2,7 +2,7 @@ package org.backstep;
 
 import org.backstep.report.BoundReport;
 
-/** Test access to {@link BoundReport}'s package-private constructor, for tests in other packages. */
+/** Bound reports for tests, built by {@link BoundReport}'s factories with zero log-Jacobians. */
 public final class BoundReports {
 
     private BoundReports() {
@@ -19,8 +19,8 @@ public final class BoundReports {
      * @return the report
      */
     public static BoundReport exact(int steps, int dimensions, double[] continuous, double[] binary, double[] perStep) {
-        return BoundReport.of(BoundReport.Method.EXACT, steps, steps, dimensions, continuous.clone(), binary.clone(),
-                new double[continuous.length], new double[continuous.length], perStep.clone());
+        return BoundReport.exact(steps, dimensions, new BoundReport.RecordNats(continuous, binary,
+                new double[continuous.length]), perStep);
     }
 
     /**
@@ -32,7 +32,7 @@ public final class BoundReports {
      * @return the report
      */
     public static BoundReport monteCarlo(int steps, int draws, double[] continuous) {
-        return BoundReport.of(BoundReport.Method.MONTE_CARLO, steps, draws, 1, continuous.clone(),
-                new double[continuous.length], new double[continuous.length], new double[continuous.length], new double[0]);
+        return BoundReport.sampled(steps, draws, 1, new BoundReport.RecordNats(continuous, new double[continuous.length],
+                new double[continuous.length]), new double[continuous.length]);
     }
 }

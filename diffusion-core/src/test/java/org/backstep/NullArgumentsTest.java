@@ -134,6 +134,8 @@ class NullArgumentsTest {
         samples.put(JsonNode.class, () -> org.backstep.training.ProvenanceJson.write(provenance));
         samples.put(ObjectNode.class, () -> JsonNodeFactory.instance.objectNode());
         samples.put(BoundReport.class, () -> bound);
+        samples.put(BoundReport.RecordNats.class, () -> new BoundReport.RecordNats(new double[3], new double[3], new double[3]));
+        samples.put(boolean[].class, () -> new boolean[] {true, false, false});
         samples.put(SampleCheck.class, () -> new SampleCheck(3, 0, 0.0, 10.0, "none"));
         samples.put(CheckedSample.class, () -> new CheckedSample(table, new SampleCheck(3, 0, 0.0, 10.0, "none")));
         samples.put(StepPlan.Row.class, () -> stepRow);

@@ -220,20 +220,19 @@ public record AnomalyScreen(ThresholdRule rule, double threshold, double[] heldO
     /**
      * The area under {@link #roc(int[])}: the probability that a faulty record scores above a
      * normal one, ties counting half (the Mann-Whitney statistic U over n_fault n_normal; Hanley
-     * &amp; McNeil 1982, "The meaning and use of the area under a ROC curve").
+     * &amp; McNeil 1982, "The meaning and use of the area under a ROC curve"), by {@link RocArea}.
      *
-     * @param faultRows the rows known to be faulty
+     * @param faultRows the rows known to be faulty (the others are normal)
      * @return the area, in [0, 1]
+     * @throws IllegalArgumentException if a row is out of range, or either class is empty
      */
     public double rocArea(int[] faultRows) {
-        List<RocPoint> pts = roc(faultRows);
-        double area = 0.0;
-        for (int k = 1; k < pts.size(); k++) {
-            RocPoint a = pts.get(k - 1);
-            RocPoint b = pts.get(k);
-            area += (b.falsePositiveRate() - a.falsePositiveRate()) * (a.truePositiveRate() + b.truePositiveRate()) / 2;
+        boolean[] fault = labels(faultRows);
+        boolean[] normal = new boolean[fault.length];
+        for (int i = 0; i < fault.length; i++) {
+            normal[i] = !fault[i];
         }
-        return area;
+        return RocArea.of(scores, fault, normal);
     }
 
     private boolean[] labels(int[] faultRows) {

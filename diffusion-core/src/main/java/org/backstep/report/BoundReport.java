@@ -1,5 +1,6 @@
 package org.backstep.report;
 
+import java.util.Arrays;
 import java.util.Locale;
 
 /**
@@ -35,48 +36,127 @@ public final class BoundReport {
     private final double[] standardError;
     private final double[] perStep;
 
-    private BoundReport(Method method, int steps, int draws, int dimensions, double[] continuous, double[] binary,
-                double[] logJacobian, double[] standardError, double[] perStep) {
+    /** Takes the arrays as they are: the factories copy them. */
+    private BoundReport(Method method, int steps, int draws, int dimensions, RecordNats records, double[] standardError,
+                double[] perStep) {
+        org.backstep.schedule.Require.atLeast("dimensions", dimensions, 1);
         this.method = method;
         this.steps = steps;
         this.draws = draws;
         this.dimensions = dimensions;
-        this.continuous = continuous;
-        this.binary = binary;
-        this.logJacobian = logJacobian;
+        this.continuous = records.continuous;
+        this.binary = records.binary;
+        this.logJacobian = records.logJacobian;
         this.standardError = standardError;
         this.perStep = perStep;
     }
 
     /**
-     * A report from its parts (the library builds these in {@code DiffusionModel.bound}; tools that
-     * assemble or reload reports use this). Arrays are copied.
+     * Per record, the parts of its bound, in nats: one value per record in each array, in row order.
      *
-     * @param method how the bound was computed
-     * @param steps T of the chain, at least 1
-     * @param draws steps drawn per record (T for the exact bound), at least 1
-     * @param dimensions D, the number of diffused columns, at least 1
-     * @param continuous per record, the continuous columns' part in nats, model space (not modified)
-     * @param binary per record, the binary columns' part in nats (not modified)
-     * @param logJacobian per record, sum_j log|dz_j/dx_j| of the column transforms (not modified)
-     * @param standardError per record, the Monte Carlo standard error (0 for exact) (not modified)
-     * @param perStep the mean over records of each term, L_0 first (not modified)
-     * @return the report
+     * @param continuous the continuous columns' part, model space
+     * @param binary the binary (and categorical) columns' part
+     * @param logJacobian sum_j log|dz_j/dx_j| of the column transforms, which turns the model-space
+     *     bound into the bound in original units ({@link BoundReport#natsOriginalUnits()})
      */
-    public static BoundReport of(Method method, int steps, int draws, int dimensions, double[] continuous,
-            double[] binary, double[] logJacobian, double[] standardError, double[] perStep) {
-        org.backstep.schedule.Require.notNull("method", method);
+    public record RecordNats(double[] continuous, double[] binary, double[] logJacobian) {
+
+        /**
+         * Validates and copies the arrays (not modified).
+         *
+         * @throws IllegalArgumentException if an array is null or their lengths differ
+         */
+        public RecordNats {
+            org.backstep.schedule.Require.notNull("continuous", continuous);
+            int n = continuous.length;
+            sameLength("binary", binary, n);
+            sameLength("logJacobian", logJacobian, n);
+            continuous = continuous.clone();
+            binary = binary.clone();
+            logJacobian = logJacobian.clone();
+        }
+
+        /** @return a copy of the continuous part */
+        @Override
+        public double[] continuous() {
+            return continuous.clone();
+        }
+
+        /** @return a copy of the binary part */
+        @Override
+        public double[] binary() {
+            return binary.clone();
+        }
+
+        /** @return a copy of the log-Jacobians */
+        @Override
+        public double[] logJacobian() {
+            return logJacobian.clone();
+        }
+
+        /** @return the number of records */
+        public int records() {
+            return continuous.length;
+        }
+
+        @Override
+        public boolean equals(Object o) {
+            return o instanceof RecordNats r && Arrays.equals(continuous, r.continuous) && Arrays.equals(binary, r.binary)
+                    && Arrays.equals(logJacobian, r.logJacobian);
+        }
+
+        @Override
+        public int hashCode() {
+            return 31 * (31 * Arrays.hashCode(continuous) + Arrays.hashCode(binary)) + Arrays.hashCode(logJacobian);
+        }
+
+        @Override
+        public String toString() {
+            return "RecordNats[" + continuous.length + " records]";
+        }
+    }
+
+    /**
+     * The exact bound: all T terms of the chain, one draw of x_t per term, so no Monte Carlo
+     * standard error (the library builds these in {@code DiffusionModel.bound}; tools that assemble
+     * or reload reports use this).
+     *
+     * @param steps T of the chain (of the strided chain, for a strided bound), at least 1
+     * @param dimensions D, the number of diffused columns, at least 1
+     * @param records per record, the parts of its bound
+     * @param perStep the mean over records of each term, index 0 the prior term L_T, index t the term
+     *     L_{t-1} of step t (copied, not modified)
+     * @return the report, its method {@link Method#EXACT} and its draws T
+     * @throws IllegalArgumentException naming an argument that is null or below 1
+     */
+    public static BoundReport exact(int steps, int dimensions, RecordNats records, double[] perStep) {
+        org.backstep.schedule.Require.atLeast("steps", steps, 1);
+        org.backstep.schedule.Require.notNull("records", records);
+        org.backstep.schedule.Require.notNull("perStep", perStep);
+        return new BoundReport(Method.EXACT, steps, steps, dimensions, records, new double[records.records()],
+                perStep.clone());
+    }
+
+    /**
+     * The sampled bound: per record, {@code draws} of the T steps drawn uniformly, the terms scaled
+     * to an unbiased estimate with its standard error; no per-step breakdown.
+     *
+     * @param steps T of the chain, at least 1
+     * @param draws steps drawn per record, at least 1
+     * @param dimensions D, the number of diffused columns, at least 1
+     * @param records per record, the parts of its bound
+     * @param standardErrors per record, the Monte Carlo standard error of its bound (copied, not modified)
+     * @return the report, its method {@link Method#MONTE_CARLO}
+     * @throws IllegalArgumentException naming an argument that is null or below 1, or standardErrors
+     *     whose length is not the number of records
+     */
+    public static BoundReport sampled(int steps, int draws, int dimensions, RecordNats records, double[] standardErrors) {
         org.backstep.schedule.Require.atLeast("steps", steps, 1);
         org.backstep.schedule.Require.atLeast("draws", draws, 1);
-        org.backstep.schedule.Require.atLeast("dimensions", dimensions, 1);
-        org.backstep.schedule.Require.notNull("continuous", continuous);
-        int n = continuous.length;
-        sameLength("binary", binary, n);
-        sameLength("logJacobian", logJacobian, n);
-        sameLength("standardError", standardError, n);
-        org.backstep.schedule.Require.notNull("perStep", perStep);
-        return new BoundReport(method, steps, draws, dimensions, continuous.clone(), binary.clone(),
-                logJacobian.clone(), standardError.clone(), perStep.clone());
+        org.backstep.schedule.Require.notNull("records", records);
+        sameLength("standardErrors", standardErrors, records.records());
+        return new BoundReport(Method.MONTE_CARLO, steps, draws, dimensions, records, standardErrors.clone(),
+                new double[0]);
     }
 
     private static void sameLength(String name, double[] values, int records) {

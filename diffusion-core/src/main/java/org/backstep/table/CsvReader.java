@@ -46,8 +46,7 @@ import org.backstep.schedule.Require;
  */
 public final class CsvReader {
 
-    static final CsvReader DEFAULT = new CsvReader("", Set.of(), Set.of(), true, ',', false, Set.of(), false,
-            Set.of(), false);
+    static final CsvReader DEFAULT = new CsvReader(new Fields());
 
     /**
      * Cells per block of the growing store for streams: 256 KiB of doubles, under half of G1's
@@ -82,8 +81,7 @@ public final class CsvReader {
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, continuous, "continuous");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
-                inferCategories, set, inferIntegers);
+        return with(f -> f.integer = set);
     }
 
     /**
@@ -92,8 +90,7 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferIntegers(boolean infer) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
-                inferCategories, integer, infer);
+        return with(f -> f.inferIntegers = infer);
     }
 
     /** @return the columns declared integer (unmodifiable) */
@@ -106,19 +103,54 @@ public final class CsvReader {
         return inferIntegers;
     }
 
-    private CsvReader(String missingToken, Set<String> binary, Set<String> continuous, boolean inferKinds,
-            char delimiter, boolean allowEmptyColumns, Set<String> categorical, boolean inferCategories,
-            Set<String> integer, boolean inferIntegers) {
-        this.integer = integer;
-        this.inferIntegers = inferIntegers;
-        this.categorical = categorical;
-        this.inferCategories = inferCategories;
-        this.missingToken = missingToken;
-        this.binary = binary;
-        this.continuous = continuous;
-        this.inferKinds = inferKinds;
-        this.delimiter = delimiter;
-        this.allowEmptyColumns = allowEmptyColumns;
+    private CsvReader(Fields f) {
+        this.missingToken = f.missingToken;
+        this.binary = f.binary;
+        this.continuous = f.continuous;
+        this.inferKinds = f.inferKinds;
+        this.delimiter = f.delimiter;
+        this.allowEmptyColumns = f.allowEmptyColumns;
+        this.categorical = f.categorical;
+        this.inferCategories = f.inferCategories;
+        this.integer = f.integer;
+        this.inferIntegers = f.inferIntegers;
+    }
+
+    /** The options with some of them changed: every wither is one call of this copy. */
+    private CsvReader with(java.util.function.Consumer<Fields> change) {
+        Fields f = new Fields(this);
+        change.accept(f);
+        return new CsvReader(f);
+    }
+
+    /** The options as plain fields, filled with the defaults, for {@link #with} to change before they are frozen. */
+    private static final class Fields {
+        String missingToken = "";
+        Set<String> binary = Set.of();
+        Set<String> continuous = Set.of();
+        boolean inferKinds = true;
+        char delimiter = ',';
+        boolean allowEmptyColumns;
+        Set<String> categorical = Set.of();
+        boolean inferCategories;
+        Set<String> integer = Set.of();
+        boolean inferIntegers;
+
+        Fields() {
+        }
+
+        Fields(CsvReader r) {
+            missingToken = r.missingToken;
+            binary = r.binary;
+            continuous = r.continuous;
+            inferKinds = r.inferKinds;
+            delimiter = r.delimiter;
+            allowEmptyColumns = r.allowEmptyColumns;
+            categorical = r.categorical;
+            inferCategories = r.inferCategories;
+            integer = r.integer;
+            inferIntegers = r.inferIntegers;
+        }
     }
 
     /**
@@ -128,9 +160,8 @@ public final class CsvReader {
      * @throws IllegalArgumentException if null or with leading or trailing white space
      */
     public CsvReader missingToken(String token) {
-        return new CsvReader(CsvTables.checkToken(token), binary, continuous, inferKinds, delimiter,
-                allowEmptyColumns, categorical,
-                inferCategories, integer, inferIntegers);
+        String checked = CsvTables.checkToken(token);
+        return with(f -> f.missingToken = checked);
     }
 
     /**
@@ -145,8 +176,7 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("binary columns", columns);
         CsvTables.checkDisjoint(set, continuous, "continuous");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, set, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
-                inferCategories, integer, inferIntegers);
+        return with(f -> f.binary = set);
     }
 
     /**
@@ -161,8 +191,7 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("continuous columns", columns);
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, categorical, "categorical");
-        return new CsvReader(missingToken, binary, set, inferKinds, delimiter, allowEmptyColumns, categorical,
-                inferCategories, integer, inferIntegers);
+        return with(f -> f.continuous = set);
     }
 
     /**
@@ -170,8 +199,7 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferKinds(boolean infer) {
-        return new CsvReader(missingToken, binary, continuous, infer, delimiter, allowEmptyColumns, categorical,
-                inferCategories, integer, inferIntegers);
+        return with(f -> f.inferKinds = infer);
     }
 
     /**
@@ -181,9 +209,8 @@ public final class CsvReader {
      *     character that can be part of a number
      */
     public CsvReader delimiter(char separator) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, CsvTables.checkDelimiter(separator),
-                allowEmptyColumns, categorical,
-                inferCategories, integer, inferIntegers);
+        char checked = CsvTables.checkDelimiter(separator);
+        return with(f -> f.delimiter = checked);
     }
 
     /**
@@ -195,8 +222,7 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader allowEmptyColumns(boolean allow) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allow, categorical,
-                inferCategories, integer, inferIntegers);
+        return with(f -> f.allowEmptyColumns = allow);
     }
 
     /**
@@ -213,8 +239,7 @@ public final class CsvReader {
         Set<String> set = CsvTables.nameSet("categorical columns", columns);
         CsvTables.checkDisjoint(set, binary, "binary");
         CsvTables.checkDisjoint(set, continuous, "continuous");
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, set,
-                inferCategories, integer, inferIntegers);
+        return with(f -> f.categorical = set);
     }
 
     /**
@@ -225,8 +250,7 @@ public final class CsvReader {
      * @return new options
      */
     public CsvReader inferCategories(boolean infer) {
-        return new CsvReader(missingToken, binary, continuous, inferKinds, delimiter, allowEmptyColumns, categorical,
-                infer, integer, inferIntegers);
+        return with(f -> f.inferCategories = infer);
     }
 
     /** @return the columns declared categorical (unmodifiable) */
@@ -282,33 +306,130 @@ public final class CsvReader {
      * @throws OutOfMemoryError naming the table's size if the heap cannot hold it
      */
     public Table read(Path file) throws IOException, TableFormatException {
+        return readFile(file, false).table();
+    }
+
+    /**
+     * Reads a UTF-8 CSV file as {@link #read(Path)} does, and keeps the line of the file on which
+     * each row's record starts, so that a result can name a row by the line a text editor shows
+     * (1-based, the header's line counted; lines end at "\n", "\r\n" or "\r"; the empty lines that
+     * reading skips are counted; a line break inside a quoted cell belongs to its record). It costs 8
+     * bytes per row beside the table.
+     *
+     * @param file the file
+     * @return the table and the line of each row
+     * @throws IOException if the file cannot be read, or changed between the two passes
+     * @throws TableFormatException listing every problem of the content, the file's path as its source
+     * @throws OutOfMemoryError naming the table's size if the heap cannot hold it
+     */
+    public TableWithLines readWithLines(Path file) throws IOException, TableFormatException {
+        Read read = readFile(file, true);
+        return new TableWithLines(read.table(), read.lines());
+    }
+
+    /**
+     * A table read from a CSV file, with the line of the file on which each row starts
+     * ({@link CsvReader#readWithLines(Path)}).
+     *
+     * @param table the table
+     * @param lines per row, the 1-based line of the file on which the row's record starts, ascending
+     */
+    public record TableWithLines(Table table, long[] lines) {
+
+        /**
+         * Validates and copies the lines.
+         *
+         * @throws IllegalArgumentException if there is not one line per row, or the lines are not
+         *     at least 2 (the header is on line 1 or later) and strictly ascending
+         */
+        public TableWithLines {
+            Require.notNull("table", table);
+            lines = Require.notNull("lines", lines).clone();
+            if (lines.length != table.rows()) {
+                throw new IllegalArgumentException("lines has length " + lines.length + "; expected " + table.rows()
+                        + ", one per row of the table");
+            }
+            for (int i = 0; i < lines.length; i++) {
+                long earlier = i == 0 ? 1 : lines[i - 1];
+                if (lines[i] <= earlier) {
+                    throw new IllegalArgumentException("the line of row " + i + " is " + lines[i] + "; expected more than "
+                            + earlier + (i == 0 ? ", the header's line at the earliest" : ", the line of row " + (i - 1)));
+                }
+            }
+        }
+
+        /** @return a copy of the lines, one per row */
+        @Override
+        public long[] lines() {
+            return lines.clone();
+        }
+
+        /**
+         * @param row a row of the table, 0-based
+         * @return the 1-based line of the file on which it starts
+         * @throws IllegalArgumentException if the row is out of range
+         */
+        public long line(int row) {
+            Require.inRange("row", row, 0, lines.length - 1);
+            return lines[row];
+        }
+
+        @Override
+        public boolean equals(Object o) {
+            return o instanceof TableWithLines t && table.equals(t.table) && java.util.Arrays.equals(lines, t.lines);
+        }
+
+        @Override
+        public int hashCode() {
+            return 31 * table.hashCode() + java.util.Arrays.hashCode(lines);
+        }
+
+        @Override
+        public String toString() {
+            return "TableWithLines[" + table.rows() + " rows x " + table.columns() + " columns, lines "
+                    + (lines.length == 0 ? "none" : lines[0] + ".." + lines[lines.length - 1]) + "]";
+        }
+    }
+
+    /** What a read gives: the table and, when asked for, each row's line (else null); the lines are not copied. */
+    private record Read(Table table, long[] lines) {
+    }
+
+    /** Reads a file, keeping each row's line when asked. */
+    private Read readFile(Path file, boolean withLines) throws IOException, TableFormatException {
         Require.notNull("file", file);
         String source = file.toString();
         if (!Files.isRegularFile(file)) {
             try (InputStream in = Files.newInputStream(file)) {
-                return read(in, source);
+                return readOnce(CsvText.ofBytes(in), source, withLines);
             }
         }
         CsvScan.Scanned first;
         try (InputStream in = Files.newInputStream(file)) {
-            first = CsvScan.run(this, CsvText.ofBytes(in), source, row -> { });
+            first = CsvScan.run(this, CsvText.ofBytes(in), source, (row, line) -> { });
         }
         if (!first.textColumns().isEmpty()) {
             // the columns found to hold text are read again as declared categorical ones
             Set<String> all = new java.util.LinkedHashSet<>(categorical);
             all.addAll(first.textColumns());
-            CsvReader declared = new CsvReader(missingToken, binary, continuous, inferKinds, delimiter,
-                    allowEmptyColumns, java.util.Collections.unmodifiableSet(all), false, integer, inferIntegers);
-            return declared.read(file);
+            CsvReader declared = with(f -> {
+                f.categorical = java.util.Collections.unmodifiableSet(all);
+                f.inferCategories = false;
+            });
+            return declared.readFile(file, withLines);
         }
         int columns = first.names().size();
         double[] cells = allocate((long) first.rows() * columns, source);
+        long[] lines = withLines ? new long[first.rows()] : null;
         int[] stored = new int[1];
         CsvScan.Scanned second;
         try (InputStream in = Files.newInputStream(file)) {
-            second = CsvScan.run(this, CsvText.ofBytes(in), source, row -> {
+            second = CsvScan.run(this, CsvText.ofBytes(in), source, (row, line) -> {
                 if (stored[0] < first.rows()) {
                     System.arraycopy(row, 0, cells, stored[0] * columns, columns);
+                    if (lines != null) {
+                        lines[stored[0]] = line;
+                    }
                 }
                 stored[0]++;
             });
@@ -319,7 +440,7 @@ public final class CsvReader {
                 || second.rows() != first.rows() || !second.categories().equals(first.categories())) {
             throw changed(source, null);
         }
-        return Table.Layout.of(first.names(), first.kinds(), first.categories()).adopt(first.rows(), cells);
+        return new Read(Table.Layout.of(first.names(), first.kinds(), first.categories()).adopt(first.rows(), cells), lines);
     }
 
     /**
@@ -335,7 +456,7 @@ public final class CsvReader {
     public Table read(InputStream in, String sourceName) throws IOException, TableFormatException {
         Require.notNull("in", in);
         Require.notNull("sourceName", sourceName);
-        return readOnce(CsvText.ofBytes(in), sourceName);
+        return readOnce(CsvText.ofBytes(in), sourceName, false).table();
     }
 
     /**
@@ -351,11 +472,11 @@ public final class CsvReader {
     public Table read(java.io.Reader in, String sourceName) throws IOException, TableFormatException {
         Require.notNull("in", in);
         Require.notNull("sourceName", sourceName);
-        return readOnce(CsvText.ofChars(in), sourceName);
+        return readOnce(CsvText.ofChars(in), sourceName, false).table();
     }
 
-    private Table readOnce(CsvText text, String source) throws IOException, TableFormatException {
-        Blocks blocks = new Blocks(source);
+    private Read readOnce(CsvText text, String source, boolean withLines) throws IOException, TableFormatException {
+        Blocks blocks = new Blocks(source, withLines);
         CsvScan.Scanned s = CsvScan.run(this, text, source, blocks);
         if (!s.textColumns().isEmpty()) {
             List<TableFormatException.Problem> found = new ArrayList<>();
@@ -366,7 +487,8 @@ public final class CsvReader {
             }
             throw new TableFormatException(source, found, 0);
         }
-        return Table.Layout.of(s.names(), s.kinds(), s.categories()).adopt(s.rows(), blocks.join());
+        return new Read(Table.Layout.of(s.names(), s.kinds(), s.categories()).adopt(s.rows(), blocks.join()),
+                blocks.lines());
     }
 
     private static double[] allocate(long cells, String source) {
@@ -393,13 +515,23 @@ public final class CsvReader {
         private double[] current;
         private int used;  // cells used in the current block
         private long cells;
+        private long[] lines;  // per stored row, its line; null when not asked for
+        private int rows;
 
-        Blocks(String source) {
+        Blocks(String source, boolean withLines) {
             this.source = source;
+            this.lines = withLines ? new long[16] : null;
         }
 
         @Override
-        public void add(double[] row) {
+        public void add(double[] row, long line) {
+            if (lines != null) {
+                if (rows == lines.length) {
+                    lines = java.util.Arrays.copyOf(lines, lines.length * 2);
+                }
+                lines[rows] = line;
+            }
+            rows++;
             if (current == null || used + row.length > current.length) {
                 try {
                     current = new double[Math.max(BLOCK_CELLS / row.length, 1) * row.length];
@@ -432,6 +564,11 @@ public final class CsvReader {
             }
             current = null;
             return out;
+        }
+
+        /** The line of each stored row, or null when not asked for. */
+        long[] lines() {
+            return lines == null ? null : java.util.Arrays.copyOf(lines, rows);
         }
     }
 

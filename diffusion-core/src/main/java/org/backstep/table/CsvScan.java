@@ -43,8 +43,13 @@ final class CsvScan {
 
     /** Where the rows of a pass go. */
     interface RowStore {
-        /** Takes one row of cells (NaN for missing); the array is reused by the caller. */
-        void add(double[] row);
+        /**
+         * Takes one row of cells (NaN for missing); the array is reused by the caller.
+         *
+         * @param row the cells
+         * @param line the 1-based line of the source on which the row's record starts
+         */
+        void add(double[] row, long line);
     }
 
     /** The outcome of a pass without problems. */
@@ -114,7 +119,7 @@ final class CsvScan {
                     CSVRecord record = records.next();
                     long line = text.recordLine(record.getCharacterPosition());
                     if (readRow(record, line, row) && !problems.any()) {
-                        store.add(row);
+                        store.add(row, line);
                     }
                     finishedLines = parser.getCurrentLineNumber();
                     text.recordEnded(finishedLines);

@@ -18,8 +18,8 @@ class BoundReportTest {
         double[] continuous = {1.0, 2.0};
         double[] binary = {0.5, 0.25};
         double[] logJacobian = {0.1, -0.2};
-        BoundReport report = BoundReport.of(BoundReport.Method.EXACT, 10, 10, 3, continuous, binary, logJacobian,
-                new double[2], new double[10]);
+        BoundReport report = BoundReport.exact(10, 3, new BoundReport.RecordNats(continuous, binary, logJacobian),
+                new double[11]);
         continuous[0] = 99;
         // common practice, no source: values handed in are copied
         assertArrayEquals(new double[] {1.5, 2.25}, report.nats(), IDENTITY);
@@ -32,11 +32,30 @@ class BoundReportTest {
     @Test
     void mismatchedLengthsAreRefusedByName() {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
-                () -> BoundReport.of(BoundReport.Method.EXACT, 10, 10, 3, new double[2], new double[3],
-                        new double[2], new double[2], new double[10]));
+                () -> new BoundReport.RecordNats(new double[2], new double[3], new double[2]));
         assertTrue(e.getMessage().contains("binary"), e.getMessage());
-        assertTrue(assertThrows(IllegalArgumentException.class,
-                () -> BoundReport.of(null, 10, 10, 3, new double[2], new double[2], new double[2], new double[2],
-                        new double[10])).getMessage().contains("method"));
+        BoundReport.RecordNats two = new BoundReport.RecordNats(new double[2], new double[2], new double[2]);
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> BoundReport.sampled(10, 4, 3, two, new double[3]))
+                .getMessage().contains("standardErrors has length 3"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> BoundReport.exact(10, 0, two, new double[11]))
+                .getMessage().contains("dimensions"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> BoundReport.exact(10, 3, null, new double[11]))
+                .getMessage().contains("records"));
+    }
+
+    @Test
+    void eachFactorySaysHowTheBoundWasComputed() {
+        BoundReport.RecordNats two = new BoundReport.RecordNats(new double[] {1, 2}, new double[2], new double[2]);
+        BoundReport exact = BoundReport.exact(10, 3, two, new double[11]);
+        // Ho et al. 2020, eq. 5: the exact bound sums all T terms, with no sampling error
+        assertEquals(BoundReport.Method.EXACT, exact.method());
+        assertEquals(10, exact.draws());
+        assertArrayEquals(new double[2], exact.standardErrors(), 0.0);
+        BoundReport sampled = BoundReport.sampled(10, 4, 3, two, new double[] {0.1, 0.2});
+        // common practice, no source: a sampled bound keeps its draws and standard errors, and no per-step means
+        assertEquals(BoundReport.Method.MONTE_CARLO, sampled.method());
+        assertEquals(4, sampled.draws());
+        assertArrayEquals(new double[] {0.1, 0.2}, sampled.standardErrors(), 0.0);
+        assertEquals(0, sampled.perStepMean().length);
     }
 }

@@ -209,6 +209,64 @@ class CsvTablesTest {
     }
 
     @Test
+    void eachRowKeepsTheLineItStartsOn(@TempDir Path dir) throws Exception {
+        Path file = dir.resolve("lines.csv");
+        // header line 1; a row on 2; empty line 3; a row on 4 whose quoted cell runs to line 5; CRLF; an
+        // empty line 6; a row on 7; the last with a text cell, so that the categorical column is found
+        // by the first pass and the file read again (the lines must survive that)
+        Files.writeString(file, "\uFEFFa,b,c\n1,2,x\n\n\"3\n\",4,y\r\n\r\n5,6,z", StandardCharsets.UTF_8);
+        CsvReader.TableWithLines read = CsvTables.reader().inferCategories(true).readWithLines(file);
+        // hand-counted from the text above (common practice, no source): lines as an editor shows them
+        assertEquals(List.of(2L, 4L, 7L), java.util.Arrays.stream(read.lines()).boxed().toList());
+        assertEquals(7L, read.line(2));
+        assertEquals(CsvTables.reader().inferCategories(true).read(file), read.table());
+        assertEquals(ColumnKind.CATEGORICAL, read.table().kind(2));
+    }
+
+    @Test
+    void aPipeKeepsItsRowsLinesInOnePass(@TempDir Path dir) throws Exception {
+        Path pipe = dir.resolve("rows.pipe");
+        org.junit.jupiter.api.Assumptions.assumeTrue(new ProcessBuilder("mkfifo", pipe.toString()).start().waitFor() == 0,
+                "mkfifo is not available");
+        StringBuilder csv = new StringBuilder("a\n");
+        for (int i = 0; i < 40; i++) {
+            csv.append(i % 3 == 0 ? "\n" : "").append(i).append('\n');    // an empty line before every third row
+        }
+        Thread writer = new Thread(() -> {
+            try {
+                Files.writeString(pipe, csv, StandardCharsets.UTF_8);
+            } catch (IOException e) {
+                throw new java.io.UncheckedIOException(e);
+            }
+        });
+        writer.start();
+        long[] lines = CsvTables.reader().readWithLines(pipe).lines();
+        writer.join();
+        // common practice, no source: row i follows the header (line 1), i rows and ceil((i + 1) / 3) empty lines
+        for (int i = 0; i < 40; i++) {
+            assertEquals(2 + i + (i / 3 + 1), lines[i], "row " + i);
+        }
+    }
+
+    @Test
+    void linesThatDoNotFitTheTableAreRefused() throws Exception {
+        Table t = read(CsvTables.reader(), "a\n1\n2\n");
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> new CsvReader.TableWithLines(t, new long[] {2}))
+                .getMessage().contains("one per row"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> new CsvReader.TableWithLines(t, new long[] {3, 3}))
+                .getMessage().contains("the line of row 1 is 3"));
+        assertTrue(assertThrows(IllegalArgumentException.class, () -> new CsvReader.TableWithLines(t, new long[] {1, 3}))
+                .getMessage().contains("the line of row 0 is 1"));
+        long[] given = {2, 3};
+        CsvReader.TableWithLines kept = new CsvReader.TableWithLines(t, given);
+        given[0] = 99;
+        // common practice, no source: arrays in are copied, arrays out are copies
+        assertEquals(2L, kept.lines()[0]);
+        kept.lines()[1] = 99;
+        assertEquals(3L, kept.line(1));
+    }
+
+    @Test
     void headerProblemsAreReported() {
         TableFormatException e = refused(CsvTables.reader().binary("valve"), "a,,a, b \n1,2,3,4\n");
         // common practice, no source: blank and repeated names, and a declared column the header lacks

@@ -38,8 +38,11 @@ public final class Baselines {
      * @param oneGaussian mean NLL of the one-Gaussian baseline, nats per record
      * @param mixture mean NLL of the mixture, nats per record
      * @param components the mixture's component count
+     * @param mixtureFitted the mixture fitted on all training rows' continuous columns, or null when
+     *     one component was picked or there is no continuous column (then the mixture is the one Gaussian)
      */
-    public record Result(double oneGaussian, double mixture, int components) {
+    public record Result(double oneGaussian, double mixture, int components,
+                         MixtureMultivariateNormalDistribution mixtureFitted) {
     }
 
     /**
@@ -57,7 +60,7 @@ public final class Baselines {
         System.arraycopy(cats, 0, labels, labels.length - cats.length, cats.length);
         double bern = categoryNll(train, test, dc, labels);
         if (dc == 0) {
-            return new Result(bern, bern, 0);
+            return new Result(bern, bern, 0, null);
         }
         double[][] ct = continuous(train, dc);
         double[][] cs = continuous(test, dc);
@@ -81,8 +84,9 @@ public final class Baselines {
                 // a singular or degenerate fit at this k: not a candidate
             }
         }
-        double mix = bestK == 1 ? gauss : mixtureNll(ct, cs, bestK);
-        return new Result(gauss + bern, mix + bern, bestK);
+        MixtureMultivariateNormalDistribution fitted = bestK == 1 ? null : fitMixture(ct, bestK);
+        double mix = bestK == 1 ? gauss : mixtureNll(fitted, cs);
+        return new Result(gauss + bern, mix + bern, bestK, fitted);
     }
 
     /** Mean NLL of test rows under the maximum-likelihood Gaussian of the training rows. */
@@ -104,7 +108,11 @@ public final class Baselines {
     }
 
     static double mixtureNll(double[][] train, double[][] test, int k) {
-        MixtureMultivariateNormalDistribution m = fitMixture(train, k);
+        return mixtureNll(fitMixture(train, k), test);
+    }
+
+    /** Mean NLL of test rows under a mixture (each density floored at the smallest normal double). */
+    static double mixtureNll(MixtureMultivariateNormalDistribution m, double[][] test) {
         double s = 0;
         for (double[] r : test) {
             s -= Math.log(Math.max(m.density(r), Double.MIN_NORMAL));

@@ -46,16 +46,15 @@ final class CommandTables {
      * numbers. Inference: a column holding any text that is not a number (and not the missing token)
      * is read as categorical even when undeclared, since it could not be read otherwise, with a note
      * naming it; a column of whole numbers stays continuous unless declared integer (a measurement
-     * rounded to whole units is not a count), with a note suggesting {@code --integer}.
+     * rounded to whole units is not a count), with a note suggesting {@code --integer}. The file is
+     * read once, keeping the line each row starts on (its header is read again only when the reader
+     * refuses the file, to name the option of a declared column the header lacks).
      *
+     * @return the table, and per row the line of the file it starts on
      * @throws Command.UsageError naming the option when a declared column is not in the file's header
      */
-    static Table csv(Path file, String missing, List<String> binary, List<String> categorical, List<String> integer,
-                     PrintStream out) throws IOException, TableFormatException {
-        List<String> header = header(file);
-        check("--binary", binary, header);
-        check("--categorical", categorical, header);
-        check("--integer", integer, header);
+    static CsvReader.TableWithLines csv(Path file, String missing, List<String> binary, List<String> categorical,
+                                        List<String> integer, PrintStream out) throws IOException, TableFormatException {
         CsvReader reader = CsvTables.reader().missingToken(missing).inferCategories(true);
         if (!binary.isEmpty()) {
             reader = reader.binary(binary.toArray(String[]::new));
@@ -66,7 +65,17 @@ final class CommandTables {
         if (!integer.isEmpty()) {
             reader = reader.integer(integer.toArray(String[]::new));
         }
-        Table table = reader.read(file);
+        CsvReader.TableWithLines read;
+        try {
+            read = reader.readWithLines(file);
+        } catch (TableFormatException e) {
+            List<String> header = header(file);
+            check("--binary", binary, header);
+            check("--categorical", categorical, header);
+            check("--integer", integer, header);
+            throw e;
+        }
+        Table table = read.table();
         out.printf(Locale.ROOT, "Table %s: %d rows x %d columns%n", file, table.rows(), table.columns());
         for (int j = 0; j < table.columns(); j++) {
             String name = table.name(j);
@@ -81,7 +90,7 @@ final class CommandTables {
                         + " declare it with --integer %s%n", name, name);
             }
         }
-        return table;
+        return read;
     }
 
     /** The names in the header line of a CSV file (comma-separated, quoting as RFC 4180). */

@@ -5,6 +5,7 @@ import org.backstep.examples.fleet.Telemetry;
 import org.backstep.table.TableFormatException;
 
 import org.backstep.table.ColumnKind;
+import org.backstep.table.CsvReader;
 import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
 
@@ -69,8 +70,8 @@ public final class Demo {
             config = MainJob.Config.of(FleetTables.cells(t), s).withTruth(FleetTables.truth(t), t.faultRows())
                     .withFaultKinds(FleetTables.faultKinds(t), FleetTables.faultColumns(t));
         } else {
-            Table table = CommandTables.csv(s.file(), s.missing, s.binary, s.categorical, s.integer, pre);
-            config = MainJob.Config.of(table, s).withLines(ResultFiles.recordLines(s.file(), table.rows()));
+            CsvReader.TableWithLines read = CommandTables.csv(s.file(), s.missing, s.binary, s.categorical, s.integer, pre);
+            config = MainJob.Config.of(read.table(), s).withLines(read.lines());
         }
         checkNoise(config.table(), s.noise);
         if (s.compare != null) {

@@ -1,6 +1,5 @@
 package org.backstep.examples;
 
-import org.apache.commons.math3.distribution.MixtureMultivariateNormalDistribution;
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.linear.Array2DRowRealMatrix;
 import org.apache.commons.math3.linear.CholeskyDecomposition;
@@ -24,10 +23,10 @@ import java.util.List;
  *       training mean m under the training covariance S (all columns); for Gaussian rows it follows
  *       the chi-squared distribution with as many degrees of freedom as columns (Johnson &amp;
  *       Wichern, "Applied Multivariate Statistical Analysis", result 4.7; cited from memory).</li>
- *   <li>{@link #mixture}: the negative log-density under a Gaussian mixture with full covariances
- *       fitted by expectation-maximization (commons-math3, as {@link Baselines} fits it) on the
- *       continuous columns, plus independent Bernoulli terms for the binary columns (add-one
- *       smoothing), the baseline of the held-out bound used as a detector.</li>
+ *   <li>{@link #mixture}: the negative log-density under the Gaussian mixture with full covariances
+ *       that {@link Baselines} fitted by expectation-maximization (commons-math3) on the same rows'
+ *       continuous columns (reused, not fitted again), plus independent Bernoulli terms for the
+ *       binary columns (add-one smoothing), the baseline of the held-out bound used as a detector.</li>
  *   <li>{@link #nearest}: the Euclidean distance to the k-th nearest training row (k = 5), the
  *       row itself left out when it is a training row (Ramaswamy, Rastogi &amp; Shim 2000,
  *       "Efficient algorithms for mining outliers from large data sets").</li>
@@ -73,10 +72,12 @@ final class Detectors {
      * @param held held-out rows
      * @param screened rows to screen
      * @param dc the number of continuous columns
-     * @param components the mixture's component count (as {@link Baselines} picked it)
+     * @param base the baselines fitted on the same training rows: their mixture of the continuous
+     *     columns is used as fitted, or, with one component, a Gaussian fitted here
      * @return negative log-densities, nats
      */
-    static Scores mixture(double[][] train, double[][] held, double[][] screened, int dc, int components) {
+    static Scores mixture(double[][] train, double[][] held, double[][] screened, int dc, Baselines.Result base) {
+        int components = base.components();
         double[] p = new double[train[0].length];
         for (int j = dc; j < p.length; j++) {
             double ones = 1;
@@ -93,8 +94,7 @@ final class Detectors {
                 parts.add(Gaussian.fit(ct));
                 logWeights.add(0.0);
             } else {
-                MixtureMultivariateNormalDistribution m = Baselines.fitMixture(ct, components);
-                for (Pair<Double, MultivariateNormalDistribution> c : m.getComponents()) {
+                for (Pair<Double, MultivariateNormalDistribution> c : base.mixtureFitted().getComponents()) {
                     parts.add(new Gaussian(c.getSecond().getMeans(), c.getSecond().getCovariances().getData()));
                     logWeights.add(Math.log(c.getFirst()));
                 }
@@ -235,53 +235,6 @@ final class Detectors {
             }
         }
         return lo;
-    }
-
-    /**
-     * The area under the ROC curve of one class against another: the probability that a row of
-     * {@code positive} scores above a row of {@code negative}, ties counting half (the Mann-Whitney
-     * statistic over n_positive n_negative; Hanley &amp; McNeil 1982), by ranks: O(n log n).
-     *
-     * @param scores every row's score
-     * @param positive the rows of the class expected to score high
-     * @param negative the rows of the class expected to score low (rows in neither are left out)
-     * @return the area, in [0, 1]
-     */
-    static double area(double[] scores, boolean[] positive, boolean[] negative) {
-        int n = 0;
-        for (int i = 0; i < scores.length; i++) {
-            n += positive[i] || negative[i] ? 1 : 0;
-        }
-        Integer[] order = new Integer[n];
-        int m = 0;
-        for (int i = 0; i < scores.length; i++) {
-            if (positive[i] || negative[i]) {
-                order[m++] = i;
-            }
-        }
-        Arrays.sort(order, (a, b) -> Double.compare(scores[a], scores[b]));
-        double rankSum = 0;
-        long pos = 0;
-        int i = 0;
-        while (i < n) {
-            int j = i;
-            while (j < n && scores[order[j]] == scores[order[i]]) {
-                j++;
-            }
-            double midRank = (i + 1 + j) / 2.0;           // ranks i+1..j share their mean
-            for (int k = i; k < j; k++) {
-                if (positive[order[k]]) {
-                    rankSum += midRank;
-                    pos++;
-                }
-            }
-            i = j;
-        }
-        long neg = n - pos;
-        if (pos == 0 || neg == 0) {
-            throw new IllegalArgumentException(pos + " positive and " + neg + " negative rows; an area needs both");
-        }
-        return (rankSum - pos * (pos + 1) / 2.0) / ((double) pos * neg);
     }
 
     private static double[] map(double[][] rows, java.util.function.ToDoubleFunction<double[]> f) {

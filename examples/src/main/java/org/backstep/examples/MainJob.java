@@ -19,6 +19,7 @@ import org.backstep.report.StepPlan;
 import org.backstep.io.AtomicFiles;
 import org.backstep.plot.Charts;
 import org.backstep.table.ColumnKind;
+import org.backstep.table.CsvReader;
 import org.backstep.table.CsvTables;
 import org.backstep.table.Table;
 import org.backstep.table.TableFormatException;
@@ -64,7 +65,7 @@ public final class MainJob {
      * @param tolerance the step-count planner's tolerance, nats per dimension
      * @param noiseSd per column, the sensor noise to add and remove in the denoising step (original units), or null for 25% of each column's sd
      * @param lines per row, the 1-based line of the input file it starts on (header line 1), or null for
-     *     the table.csv the job writes (row i on line i + 2)
+     *     the table.csv the job writes (the lines its CSV round trip reads back)
      * @param noise the sensor noise of some continuous columns given by the user (original units), in
      *     the order given: their readings are denoised into denoised.csv; empty for none
      * @param compare a new batch with the table's columns to test for drift against the held-out rows, or null
@@ -73,7 +74,7 @@ public final class MainJob {
      * @param faultColumns per row, the column the fault was injected into (null outside faults), or null
      */
     public record Config(Table table, Table truth, boolean[] faults, Path out, int trainSteps, int epochs, int[] hidden,
-                         long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd, int[] lines,
+                         long seed, int holdout, int[] sampleSteps, double tolerance, double[] noiseSd, long[] lines,
                          Map<String, Double> noise, Table compare, String compareName,
                          String[] faultKinds, String[] faultColumns) {
 
@@ -108,7 +109,7 @@ public final class MainJob {
         }
 
         /** The same, with each row's line in the input file. */
-        Config withLines(int[] lines) {
+        Config withLines(long[] lines) {
             return new Config(table, truth, faults, out, trainSteps, epochs, hidden, seed, holdout, sampleSteps, tolerance, noiseSd,
                     lines, noise, compare, compareName, faultKinds, faultColumns);
         }
@@ -158,8 +159,10 @@ public final class MainJob {
         List<String> categorical = namesOf(c.table(), ColumnKind.CATEGORICAL);
         List<String> integer = namesOf(c.table(), ColumnKind.INTEGER);
         List<String> continuous = namesOf(c.table(), ColumnKind.CONTINUOUS);
-        Table table = CsvTables.reader().binary(binary.toArray(String[]::new)).categorical(categorical.toArray(String[]::new))
-                .integer(integer.toArray(String[]::new)).continuous(continuous.toArray(String[]::new)).read(csv);
+        CsvReader.TableWithLines readBack = CsvTables.reader().binary(binary.toArray(String[]::new))
+                .categorical(categorical.toArray(String[]::new)).integer(integer.toArray(String[]::new))
+                .continuous(continuous.toArray(String[]::new)).readWithLines(csv);
+        Table table = readBack.table();
         for (String name : categorical) {
             // the file keeps labels, not their order: the labels are put back in the table's order
             table = table.recode(name, c.table().categories(c.table().indexOf(name)));
@@ -233,9 +236,9 @@ public final class MainJob {
 
         // 2. Held-out bound against baselines
         BoundReport bound = model.bound(heldComplete, c.seed());
-        double[][] trainModel = model.transform().toModelSpace(trainComplete);
-        double[][] heldModel = model.transform().toModelSpace(heldComplete);
-        Baselines.Result base = Baselines.fit(model.transform(), trainModel, heldModel, c.seed());
+        ModelRows modelRows = ModelRows.of(model.transform(), table, c.holdout());
+        double[][] trainModel = modelRows.train();
+        Baselines.Result base = Baselines.fit(model.transform(), trainModel, modelRows.held(), c.seed());
         console.printf(Locale.ROOT, "2. Held-out negative log-likelihood, nats per record in model space (%d complete held-out rows; lower is better):%n",
                 heldComplete.rows());
         console.printf(Locale.ROOT, "   diffusion bound %.3f (+/- %.3f; %.4f bits per dimension) | one Gaussian %.3f | Gaussian mixture, %d components, %.3f%n",
@@ -258,7 +261,7 @@ public final class MainJob {
         mark = stage(stages, "bound", mark);
 
         // 3. Anomaly screen
-        AnomalyScreen screened = screen(model, table, heldComplete, c, console, summary, charts);
+        AnomalyScreen screened = screen(model, table, heldComplete, modelRows, base, c, console, summary, charts);
         mark = stage(stages, "screen", mark);
 
         // 4. Imputation of cells hidden on purpose
@@ -304,7 +307,8 @@ public final class MainJob {
         mark = stage(stages, "planner", mark);
 
         // 8. Results row by row, in files; drift against a second batch
-        RowResults.write(model, table, held, screened, samples, c, console, summary);
+        RowResults.write(model, table, c.lines() != null ? c.lines() : readBack.lines(), held, screened, samples, c, console,
+                summary);
         mark = stage(stages, "files", mark);
 
         // 9. Report folder
@@ -320,6 +324,32 @@ public final class MainJob {
                 c.out().resolve("report.html").toAbsolutePath(), PlanFiles.STEP_PLAN_CSV, PlanFiles.STEP_PLAN_PNG,
                 summary.get("seconds").asDouble());
         return summary;
+    }
+
+    /**
+     * The table's complete rows in model space, converted once: all of them (the rows the screen
+     * scores), and among them those of the training part and of the held-out part (row i is held out
+     * when i % holdout == 0), in table order.
+     *
+     * @param index the complete rows' indices in the table, ascending
+     * @param all per complete row, its values in model space
+     * @param trainIndex the indices of the complete rows of the training part
+     * @param train their values in model space
+     * @param held the values of the complete held-out rows in model space
+     */
+    record ModelRows(int[] index, double[][] all, int[] trainIndex, double[][] train, double[][] held) {
+
+        static ModelRows of(org.backstep.table.TableTransform transform, Table table, int holdout) {
+            int[] index = table.completeRowIndices();
+            double[][] all = transform.toModelSpace(table.selectRows(index));
+            List<double[]> train = new ArrayList<>();
+            List<double[]> held = new ArrayList<>();
+            for (int k = 0; k < index.length; k++) {
+                (index[k] % holdout != 0 ? train : held).add(all[k]);
+            }
+            int[] trainIndex = java.util.Arrays.stream(index).filter(i -> i % holdout != 0).toArray();
+            return new ModelRows(index, all, trainIndex, train.toArray(double[][]::new), held.toArray(double[][]::new));
+        }
     }
 
     /** The names of the table's columns of one kind, in table order. */
@@ -340,8 +370,9 @@ public final class MainJob {
         return now;
     }
 
-    private static AnomalyScreen screen(DiffusionModel model, Table table, Table heldComplete, Config c, PrintStream console,
-                               ObjectNode summary, Map<String, String> charts) throws IOException {
+    private static AnomalyScreen screen(DiffusionModel model, Table table, Table heldComplete, ModelRows modelRows,
+                                        Baselines.Result base, Config c, PrintStream console, ObjectNode summary,
+                                        Map<String, String> charts) throws IOException {
         Table scoredRows = table.completeRows();
         int[] scoredIndex = table.completeRowIndices();
         AnomalyScreen screen = model.screen(heldComplete, scoredRows, Defaults.screening().withQuantile(SCREEN_QUANTILE), c.seed());
@@ -376,8 +407,7 @@ public final class MainJob {
                             + "(%d fault rows, %.1f%% of the screened rows)%n",
                     precision, recall, faultsScored, 100 * baseRate);
             if (faultsScored > 0 && faultsScored < scoredIndex.length) {
-                ScreenComparison.compare(model, table, scoredRows, scoredIndex, heldComplete, screen, c, console, summary, a,
-                        charts);
+                ScreenComparison.compare(model, table.names(), modelRows, base, screen, c, console, a, charts);
                 ScreenComparison.blame(model, scoredRows, scoredIndex, screen, c, console, a);
             }
         }

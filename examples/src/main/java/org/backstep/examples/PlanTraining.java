@@ -63,7 +63,7 @@ public final class PlanTraining {
 
     private static void execute(Settings s, PrintStream out) throws IOException, TableFormatException {
         Table table = s.file() == null ? FleetTables.cells(CommandTables.inventedFleet(s.containers, s.days, s.seed, out))
-                : CommandTables.csv(s.file(), s.missing, s.binary, s.categorical, s.integer, out);
+                : CommandTables.csv(s.file(), s.missing, s.binary, s.categorical, s.integer, out).table();
         Table train = table.filterRows(i -> i % s.holdout != 0);
         Table held = table.filterRows(i -> i % s.holdout == 0);
         TrainingBudget budget = s.updates > 0 ? TrainingBudget.updates(s.updates)

@@ -14,11 +14,9 @@ import org.backstep.table.Table;
 
 import org.apache.commons.csv.CSVFormat;
 
-import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Arrays;
@@ -36,7 +34,8 @@ import java.util.Set;
  *
  * <p>Rows of the input are named by {@value #LINE}: the 1-based line of the input CSV file on which
  * the row starts, the header being line 1, so that the line a text editor shows is the row; empty
- * lines, which the reader skips, are counted (the demo's input file is the table.csv it writes).
+ * lines, which the reader skips, are counted (the demo's input file is the table.csv it writes). The
+ * lines are the CSV reader's own ({@code CsvReader.readWithLines}).
  *
  * <p>Numbers are written in the shortest form that reads back to the same double (whole numbers
  * without ".0"); a missing cell is an empty cell; an infinite score or surprisal is "Infinity".
@@ -65,68 +64,6 @@ final class ResultFiles {
     static final double EXACT_SHARE = 1e-6;
 
     private ResultFiles() {
-    }
-
-    // ------------------------------------------------------------------ line numbers
-
-    /**
-     * The line of the input file each data row starts on, 1-based, the header being line 1: lines
-     * end at "\n", "\r\n" or "\r", as the CSV reader reads them; an empty line starts no row; a line
-     * break inside a quoted cell does not start one either.
-     *
-     * @param csv the file the table was read from
-     * @param rows the table's rows
-     * @return per row, its line
-     * @throws IOException if the file cannot be read
-     * @throws IllegalStateException if the file holds a different number of rows than the table
-     */
-    static int[] recordLines(Path csv, int rows) throws IOException {
-        List<Integer> starts = new ArrayList<>();
-        try (BufferedReader r = Files.newBufferedReader(csv, StandardCharsets.UTF_8)) {
-            int line = 1;
-            boolean quoted = false;
-            boolean lineStart = true;
-            boolean first = true;
-            int ch;
-            while ((ch = r.read()) != -1) {
-                if (first) {
-                    first = false;
-                    if (ch == '\uFEFF') {
-                        continue;
-                    }
-                }
-                if (ch == '\n' || ch == '\r') {
-                    if (ch == '\r') {
-                        r.mark(1);
-                        if (r.read() != '\n') {
-                            r.reset();
-                        }
-                    }
-                    line++;
-                    lineStart = !quoted;
-                    continue;
-                }
-                if (lineStart) {
-                    starts.add(line);
-                    lineStart = false;
-                }
-                if (ch == '"') {
-                    quoted = !quoted;
-                }
-            }
-        }
-        if (starts.size() != rows + 1) {
-            throw new IllegalStateException(csv + " has " + (starts.size() - 1) + " rows below its header by its lines, but "
-                    + rows + " were read");
-        }
-        return starts.subList(1, starts.size()).stream().mapToInt(Integer::intValue).toArray();
-    }
-
-    /** @return the lines of a table written with a header and one line per row: row i is on line i + 2 */
-    static int[] plainLines(int rows) {
-        int[] lines = new int[rows];
-        Arrays.setAll(lines, i -> i + 2);
-        return lines;
     }
 
     // ------------------------------------------------------------------ completed.csv
@@ -158,7 +95,7 @@ final class ResultFiles {
      * @param level the imputation's interval level (for the names of the interval columns)
      * @return what was written
      */
-    static Completed completed(Path dir, Table table, int[] lines, int[] incomplete, Imputation imputation, double level)
+    static Completed completed(Path dir, Table table, long[] lines, int[] incomplete, Imputation imputation, double level)
             throws IOException {
         int cols = table.columns();
         boolean[] gappy = new boolean[cols];
@@ -194,7 +131,7 @@ final class ResultFiles {
             List<String> cells = new ArrayList<>();
             List<String> names = new ArrayList<>();
             List<String> intervals = new ArrayList<>();
-            cells.add(Integer.toString(lines[i]));
+            cells.add(Long.toString(lines[i]));
             for (int j = 0; j < cols; j++) {
                 double v = table.get(i, j);
                 boolean missing = Double.isNaN(v);
@@ -298,7 +235,7 @@ final class ResultFiles {
      * @param denoising the denoising of {@code table.selectRows(rows)}
      * @param noise the columns with a given noise
      */
-    static void denoised(Path dir, Table table, int[] lines, int[] rows, Denoising denoising, Map<String, Double> noise)
+    static void denoised(Path dir, Table table, long[] lines, int[] rows, Denoising denoising, Map<String, Double> noise)
             throws IOException {
         Set<String> taken = new HashSet<>(table.names());
         List<String> header = new ArrayList<>();
@@ -316,7 +253,7 @@ final class ResultFiles {
         for (int k = 0; k < rows.length; k++) {
             int i = rows[k];
             List<String> cells = new ArrayList<>();
-            cells.add(Integer.toString(lines[i]));
+            cells.add(Long.toString(lines[i]));
             for (int j = 0; j < table.columns(); j++) {
                 cells.add(noisy.contains(j) ? number(denoising.mean().get(k, j))
                         : table.kind(j) == ColumnKind.CATEGORICAL ? table.label(i, j) : number(table.get(i, j)));
@@ -340,7 +277,7 @@ final class ResultFiles {
      * @param screened per screened row, its row in the input table
      * @return the rows that have surprisal figures
      */
-    static int scores(Path dir, AnomalyScreen screen, int[] screened, int[] lines) throws IOException {
+    static int scores(Path dir, AnomalyScreen screen, int[] screened, long[] lines) throws IOException {
         List<String> header = new ArrayList<>(List.of(LINE, "score_nats", "flagged"));
         for (int k = 1; k <= BLAMED_COLUMNS; k++) {
             header.add("column_" + k);
@@ -357,7 +294,7 @@ final class ResultFiles {
         row(out, header);
         int withFigures = 0;
         for (int i = 0; i < scores.length; i++) {
-            List<String> cells = new ArrayList<>(List.of(Integer.toString(lines[screened[i]]), number(scores[i]),
+            List<String> cells = new ArrayList<>(List.of(Long.toString(lines[screened[i]]), number(scores[i]),
                     flagged[i] ? "1" : "0"));
             int at = surprisal.indexOf(i);
             List<ColumnSurprisal> ranked = at >= 0 ? surprisal.ranked(at) : List.of();

@@ -35,13 +35,13 @@ final class RowResults {
     /**
      * @param model the fitted model
      * @param table the input table
+     * @param lines per row of the table, the line of its file it starts on (the input file, or table.csv)
      * @param held its held-out rows (the reference batch of the drift tests)
      * @param screen the screen of step 3
      * @param samples the synthetic rows of step 6
      */
-    static void write(DiffusionModel model, Table table, Table held, AnomalyScreen screen, Table samples, MainJob.Config c,
+    static void write(DiffusionModel model, Table table, long[] lines, Table held, AnomalyScreen screen, Table samples, MainJob.Config c,
                       PrintStream console, ObjectNode summary) throws IOException {
-        int[] lines = c.lines() != null ? c.lines() : ResultFiles.plainLines(table.rows());
         ObjectNode files = summary.putObject("files");
         console.printf(Locale.ROOT, "8. Results row by row, in %s (column '%s': the row's line in %s, the header being line 1):%n",
                 c.out(), ResultFiles.LINE, c.lines() == null ? "table.csv" : "the input file");

@@ -6,6 +6,7 @@ import org.backstep.DiffusionModel;
 import org.backstep.option.ThresholdRule;
 import org.backstep.plot.Charts;
 import org.backstep.report.AnomalyScreen;
+import org.backstep.report.RocArea;
 import org.backstep.report.Surprisal;
 import org.backstep.table.Table;
 
@@ -81,14 +82,19 @@ final class ScreenComparison {
      * The same screen by classical detectors (Detectors), fitted on the same training rows in model
      * space and thresholded at the same quantile of their held-out scores: flagged rows, precision,
      * recall, the area under the ROC curve, recall per fault kind; and the ROC chart.
+     *
+     * @param names the table's column names
+     * @param rows the table's complete rows in model space (the screened rows, all of them)
+     * @param base the baselines of step 2, whose mixture the mixture detector reuses
      */
-    static void compare(DiffusionModel model, Table table, Table scoredRows, int[] scoredIndex, Table heldComplete,
-                                AnomalyScreen screen, MainJob.Config c, PrintStream console, ObjectNode summary, ObjectNode a,
-                                Map<String, String> charts) throws IOException {
-        int[] trainIndex = java.util.Arrays.stream(scoredIndex).filter(i -> i % c.holdout() != 0).toArray();
-        double[][] trainM = model.transform().toModelSpace(table.selectRows(trainIndex));
-        double[][] heldM = model.transform().toModelSpace(heldComplete);
-        double[][] scoredM = model.transform().toModelSpace(scoredRows);
+    static void compare(DiffusionModel model, List<String> names, MainJob.ModelRows rows, Baselines.Result base,
+                        AnomalyScreen screen, MainJob.Config c, PrintStream console, ObjectNode a,
+                        Map<String, String> charts) throws IOException {
+        int[] scoredIndex = rows.index();
+        int[] trainIndex = rows.trainIndex();
+        double[][] trainM = rows.train();
+        double[][] heldM = rows.held();
+        double[][] scoredM = rows.all();
         int[] cats = model.transform().modelledCategories();
         if (cats.length > 0) {
             // a category's index is no number: each categorical column enters the detectors as 0/1 indicators
@@ -101,11 +107,10 @@ final class ScreenComparison {
                     + " independent)");
         }
         int dc = model.transform().modelledContinuous().length;
-        int components = summary.path("heldOutBound").path("mixtureComponents").asInt(1);
         List<Detectors.Scores> detectors = new ArrayList<>();
         detectors.add(new Detectors.Scores("Backstep (diffusion bound)", screen.heldOutScores(), screen.scores()));
         detectors.add(Detectors.mahalanobis(trainM, heldM, scoredM));
-        detectors.add(Detectors.mixture(trainM, heldM, scoredM, dc, components));
+        detectors.add(Detectors.mixture(trainM, heldM, scoredM, dc, base));
         detectors.add(Detectors.nearest(trainM, trainIndex, heldM, scoredM, scoredIndex));
         if (dc > 0) {
             detectors.add(Detectors.range(trainM, heldM, scoredM, dc));
@@ -156,7 +161,7 @@ final class ScreenComparison {
             double threshold = Stats.quantile(d.heldOut(), MainJob.SCREEN_QUANTILE);
             AnomalyScreen s = d == detectors.get(0) ? screen : new AnomalyScreen(ThresholdRule.quantile(MainJob.SCREEN_QUANTILE),
                     threshold, d.heldOut(), d.screened(), AnomalyScreen.flaggedAt(d.screened(), threshold), List.of(),
-                    Surprisal.none(table.names()));
+                    Surprisal.none(names));
             int tp = 0;
             int[] caught = new int[kinds.size()];
             for (int f : s.flagged()) {
@@ -191,7 +196,7 @@ final class ScreenComparison {
                         ofKind[f] = c.faultKinds()[scoredIndex[f]].equals(kind);
                     }
                     double kindRecall = caught[k] / (double) kindRows[k];
-                    double kindArea = Detectors.area(d.screened(), ofKind, normal);
+                    double kindArea = RocArea.of(d.screened(), ofKind, normal);
                     ObjectNode bk = byKind.addObject();
                     bk.put("kind", kind);
                     bk.put("rows", kindRows[k]);

@@ -114,34 +114,6 @@ class DetectorsTest {
         assertTrue(maha.screened()[1] < mahaThreshold);
     }
 
-    /**
-     * The rank form of the area equals the trapezoid area under AnomalyScreen's ROC curve (both
-     * the Mann-Whitney statistic, Hanley &amp; McNeil 1982), ties included; and one case by hand.
-     */
-    @Test
-    void areaByRanksIsTheAreaUnderTheRocCurve() {
-        Well19937c rng = new Well19937c(9);
-        double[] scores = new double[300];
-        boolean[] pos = new boolean[300];
-        boolean[] neg = new boolean[300];
-        java.util.List<Integer> faults = new java.util.ArrayList<>();
-        for (int i = 0; i < scores.length; i++) {
-            pos[i] = i % 7 == 0;
-            neg[i] = !pos[i];
-            scores[i] = Math.round(4 * (rng.nextGaussian() + (pos[i] ? 1.0 : 0.0))) / 4.0;   // rounded: ties
-            if (pos[i]) {
-                faults.add(i);
-            }
-        }
-        org.backstep.report.AnomalyScreen s = new org.backstep.report.AnomalyScreen(
-                org.backstep.option.ThresholdRule.quantile(0.99), 1.0, new double[] {0.0}, scores, new int[0], java.util.List.of(),
-                org.backstep.report.Surprisal.none(java.util.List.of("x")));
-        assertEquals(s.rocArea(faults.stream().mapToInt(Integer::intValue).toArray()), Detectors.area(scores, pos, neg), 1e-12);
-        // by hand: positives {2, 3}, negatives {1, 2}: pairs (2>1) 1, (2=2) 1/2, (3>1) 1, (3>2) 1: 3.5 / 4
-        assertEquals(0.875, Detectors.area(new double[] {2, 3, 1, 2}, new boolean[] {true, true, false, false},
-                new boolean[] {false, false, true, true}), 1e-12);
-    }
-
     /** Type 7 quantiles by hand (Hyndman &amp; Fan 1996, definition 7). */
     @Test
     void quantileInterpolatesBetweenOrderStatistics() {

@@ -1,7 +1,5 @@
 package org.backstep.examples;
 
-import org.backstep.table.CsvTables;
-import org.backstep.table.Table;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -24,7 +22,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
  */
 class DiscreteColumnsTest {
 
-    static final List<String> COLUMNS = List.of("AGE", "SEX", "BMI", "BP");
     static final Set<String> LABELS = Set.of("sex1", "sex2");
 
     @TempDir
@@ -36,23 +33,9 @@ class DiscreteColumnsTest {
 
     @BeforeAll
     static void runOnce() throws Exception {
-        Path source = JShellScriptsTest.basedir().resolve("../diffusion-core/src/test/resources/data/diabetes_raw.csv").normalize();
-        Table raw = CsvTables.reader().read(source);
-        StringBuilder text = new StringBuilder(String.join(",", COLUMNS)).append('\n');
-        for (int i = 0; i < raw.rows(); i++) {
-            String[] cells = {
-                ResultFiles.number(raw.get(i, raw.indexOf("AGE"))),
-                "sex" + ResultFiles.number(raw.get(i, raw.indexOf("SEX"))),
-                ResultFiles.number(raw.get(i, raw.indexOf("BMI"))),
-                ResultFiles.number(raw.get(i, raw.indexOf("BP")))};
-            if (i % 5 == 1) {
-                cells[(i / 5) % cells.length] = "";
-            }
-            text.append(String.join(",", cells)).append('\n');
-        }
-        dataRows = raw.rows();
-        input = dir.resolve("discrete.csv");
-        Files.writeString(input, text.toString());
+        DiabetesInput written = DiabetesInput.write(dir.resolve("discrete.csv"), v -> "sex" + ResultFiles.number(v), 5, 1, 0);
+        input = written.file();
+        dataRows = written.dataRows();
         out = dir.resolve("report");
         List<String> args = new ArrayList<>(List.of(input.toString(), "--integer", "AGE", "--noise", "BMI=1",
                 "--out", out.toString()));

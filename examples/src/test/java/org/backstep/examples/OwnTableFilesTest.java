@@ -1,7 +1,5 @@
 package org.backstep.examples;
 
-import org.backstep.table.CsvTables;
-import org.backstep.table.Table;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -35,7 +33,7 @@ class OwnTableFilesTest {
     static final int ROW_GAP = 6;
     /** An empty line is put before every EMPTY_EVERY-th data row (the reader skips it; the lines count it). */
     static final int EMPTY_EVERY = 50;
-    static final List<String> COLUMNS = List.of("AGE", "SEX", "BMI", "BP");
+    static final List<String> COLUMNS = DiabetesInput.COLUMNS;
 
     @TempDir
     static Path dir;
@@ -48,30 +46,11 @@ class OwnTableFilesTest {
 
     @BeforeAll
     static void runOnce() throws Exception {
-        Path source = JShellScriptsTest.basedir().resolve("../diffusion-core/src/test/resources/data/diabetes_raw.csv").normalize();
-        Table raw = CsvTables.reader().read(source);
-        StringBuilder text = new StringBuilder(String.join(",", COLUMNS)).append('\n');
-        int line = 1;
-        for (int i = 0; i < raw.rows(); i++) {
-            if (i > 0 && i % EMPTY_EVERY == 0) {
-                text.append('\n');
-                line++;
-            }
-            String[] cells = {
-                ResultFiles.number(raw.get(i, raw.indexOf("AGE"))),
-                ResultFiles.number(raw.get(i, raw.indexOf("SEX")) - 1),
-                ResultFiles.number(raw.get(i, raw.indexOf("BMI"))),
-                ResultFiles.number(raw.get(i, raw.indexOf("BP")))};
-            if (i % ROW_GAP == 0) {
-                cells[(i / ROW_GAP) % cells.length] = "";
-            }
-            text.append(String.join(",", cells)).append('\n');
-            line++;
-            LINES.put(line, cells);
-        }
-        dataRows = raw.rows();
-        input = dir.resolve("mine.csv");
-        Files.writeString(input, text.toString());
+        DiabetesInput written = DiabetesInput.write(dir.resolve("mine.csv"), v -> ResultFiles.number(v - 1), ROW_GAP, 0,
+                EMPTY_EVERY);
+        input = written.file();
+        dataRows = written.dataRows();
+        LINES.putAll(written.lines());
         // the batch to compare: the first 80 rows of the same data, complete
         Path batch = dir.resolve("batch.csv");
         Files.writeString(batch, String.join("\n", Files.readAllLines(input).stream().filter(l -> !l.isEmpty()
@@ -191,14 +170,6 @@ class OwnTableFilesTest {
         assertBad(new String[] {f, "--noise", "BMI"}, "--noise has 'BMI'; expected COL=SD");
         assertBad(new String[] {f, "--compare", dir.resolve("none.csv").toString()}, "--compare names no such file");
         assertBad(new String[] {f, "--compare", wrong.toString()}, "--compare " + wrong);
-    }
-
-    @Test
-    void recordLinesCountEmptyLinesAndQuotedLineBreaks(@TempDir Path d) throws Exception {
-        Path f = d.resolve("t.csv");
-        // header line 1; row on 2; empty line 3; a row on 4 whose quoted cell runs to line 5; CRLF; a row on 7
-        Files.writeString(f, "\uFEFFa,b\n1,2\n\n\"3\n\",4\r\n\r\n5,6");
-        assertEquals(List.of(2, 4, 7), java.util.Arrays.stream(ResultFiles.recordLines(f, 3)).boxed().toList());
     }
 
     private static void assertBad(String[] args, String expected) {

@@ -163,8 +163,8 @@ public final class Engine {
             BoundEvaluator.Result r = rowSeeds == null
                     ? BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), seed, threads)
                     : BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), rowSeeds, threads);
-            return BoundReport.of(BoundReport.Method.MONTE_CARLO, chain.steps, how.draws(), chain.d,
-                    standardizedNats(r.continuous), r.binary, logJacobian, r.standardError, r.perStepMean);
+            return BoundReport.sampled(chain.steps, how.draws(), chain.d,
+                    new BoundReport.RecordNats(standardizedNats(r.continuous), r.binary, logJacobian), r.standardError);
         }
         Chain c = chainOf(how.steps());
         BoundEvaluator.Result r = rowSeeds == null
@@ -173,8 +173,8 @@ public final class Engine {
         if (r.perStepMean.length > 1) {
             r.perStepMean[1] -= c.logDeterminant();   // the decoder term L_0 carries the change of variables
         }
-        return BoundReport.of(BoundReport.Method.EXACT, c.steps, c.steps, c.d, standardizedNats(r.continuous), r.binary,
-                logJacobian, r.standardError, r.perStepMean);
+        return BoundReport.exact(c.steps, c.d, new BoundReport.RecordNats(standardizedNats(r.continuous), r.binary,
+                logJacobian), r.perStepMean);
     }
 
     /**
