@@ -79,6 +79,7 @@ public final class Backstep {
         private StepInput stepInput = Defaults.STEP_INPUT;
         private ReverseVariance variance = Defaults.VARIANCE;
         private Baseline baseline = Defaults.BASELINE;
+        private org.backstep.option.Coordinates coordinates = Defaults.COORDINATES;
         private TrainingLoss loss = Defaults.LOSS;
         private double hybridWeight = Defaults.HYBRID_WEIGHT;
         private StepSampling stepSampling = Defaults.STEP_SAMPLING;
@@ -174,6 +175,24 @@ public final class Backstep {
         public Builder baseline(Baseline baseline) {
             Require.notNull("baseline", baseline);
             this.baseline = baseline;
+            return this;
+        }
+
+        /**
+         * The coordinates the continuous columns are diffused in (see
+         * {@link org.backstep.option.Coordinates}); default {@link Defaults#COORDINATES}.
+         * {@link org.backstep.option.Coordinates#WHITENED} runs the chain in z = W (y - m),
+         * W = Sigma^(-1/2) of the training rows' (shrunk) covariance (Kessy, Lewis &amp; Strimmer
+         * 2018), with log |det W| added to every bound so figures stay in the standardized space; it
+         * needs complete training rows. Best paired with {@link Baseline#STANDARD_NORMAL}, whose zero
+         * network is then the Gaussian fitted on the training rows.
+         *
+         * @param coordinates the choice
+         * @return this
+         */
+        public Builder coordinates(org.backstep.option.Coordinates coordinates) {
+            Require.notNull("coordinates", coordinates);
+            this.coordinates = coordinates;
             return this;
         }
 
@@ -359,7 +378,7 @@ public final class Backstep {
             return new FitOptions(cont, bin, hidden, embeddingSize, stepInput, variance, loss, hybridWeight,
                     stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
                     batchSize, epochs, trainingSteps, checkpointFraction, evaluateEvery, evaluations, checkpointDraws, patience,
-                    logColumns, seed, threads, baseline);
+                    logColumns, seed, threads, baseline, coordinates);
         }
 
         /**

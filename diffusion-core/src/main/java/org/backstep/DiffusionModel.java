@@ -316,7 +316,7 @@ public final class DiffusionModel {
         float[] x = engine.modelSpace(records);
         ProbabilityFlow.Result r = flow.evaluate(x, records.rows(), options().threads());
         return FlowLikelihood.of(engine.chain().continuousColumns(), how.relativeTolerance(), how.absoluteTolerance(),
-                r.nats, r.prior, transform().logJacobian(records), r.evaluations);
+                engine.standardizedNats(r.nats.clone()), r.prior, transform().logJacobian(records), r.evaluations);
     }
 
     /**
@@ -695,6 +695,14 @@ public final class DiffusionModel {
      * Every column is brought to the level of the noisiest one (in units of its scale), so a column
      * whose noise is far below the others' loses precision: denoise such groups of columns in
      * separate calls, passing a tiny noise for the others.
+     *
+     * <p>A model fitted with {@code Coordinates.WHITENED} runs its chain in z = W (y - m), where
+     * the forward noise is (1 - alpha-bar) Sigma in standardized units: its start t* is the first
+     * step whose level L covers the largest eigenvalue of W S W (S = diag(s_j^2)), and the reading
+     * is topped up by noise of covariance L Sigma - S, so that z_{t*} = sqrt(alpha-bar) W (y~ + extra - m)
+     * is exactly a draw of q(z_{t*} | z_0). The draws are then those of the posterior given a
+     * reading of noise L Sigma: with strongly correlated columns L is larger than the noisiest
+     * column's s_j^2, and more of what the reading says is lost than in standardized coordinates.
      *
      * <p>Caution: denoised values are estimates, not measurements.
      *

@@ -4,6 +4,7 @@ import org.backstep.internal.store.ModelFile;
 import org.backstep.internal.chain.Estimator;
 import org.backstep.internal.chain.GaussianBaseline;
 import org.backstep.option.Baseline;
+import org.backstep.option.Coordinates;
 import org.backstep.option.ReverseVariance;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.option.FitOptions;
@@ -108,7 +109,7 @@ class GoldenModelTest {
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
     @ParameterizedTest(name = "{0}")
-    @ValueSource(strings = {"model-v1", "model-v2", "model-v3", "model-v4", "model-v4-baseline"})
+    @ValueSource(strings = {"model-v1", "model-v2", "model-v3", "model-v4", "model-v4-baseline", "model-v5-whitened"})
     void goldenModelStillLoadsAndGivesTheSameNumbers(String golden) throws Exception {
         int version = versionOf(golden);
         String MODEL = model(golden);
@@ -120,12 +121,17 @@ class GoldenModelTest {
         assertEquals(new TreeSet<>(List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS, ModelFile.SUMS)), zipEntries(file),
                 "entries of the golden file");
         assertEquals(4, ModelFile.VERSION, "this test pins format versions 1 to 4; add a golden file for a new version");
+        assertEquals(5, ModelFile.NEWEST_VERSION, "this test pins version 5 (a whitened model); add a golden file for a new version");
         assertTrue(ModelFile.OLDEST_VERSION <= version, "version " + version + " must still load");
         assertEquals(version, expected.path("formatVersion").asInt());
 
         DiffusionModel model = DiffusionModel.load(file);
-        // the golden files were written before the provenance recorded its gap counts: read as not recorded
-        assertEquals(-1, model.provenance().rowsWithGaps(), "rowsWithGaps of a file without it");
+        // the golden files of versions 1 to 4 were written before the provenance recorded its gap counts:
+        // read as not recorded
+        assertEquals(version < 5 ? -1 : 0, model.provenance().rowsWithGaps(), "rowsWithGaps of the file");
+        // version 5: the whitened model (coordinates WHITENED with the N(0, I) part); older files are standardized
+        assertEquals(version >= 5 ? Coordinates.WHITENED : Coordinates.STANDARDIZED, model.options().coordinates());
+        assertEquals(version >= 5, model.parts().whitening() != null, "the whitening of the file");
 
         // options as the generator set them (common practice, no source: the file states how it was made)
         FitOptions o = model.options();
@@ -140,7 +146,8 @@ class GoldenModelTest {
         // older files have none
         JsonNode eo = expected.path("options");
         assertEquals(version >= 4 && eo.has("baseline") ? eo.path("baseline").asText() : "NONE", o.baseline().name());
-        assertEquals(golden.endsWith("-baseline"), o.baseline() != Baseline.NONE, "the baseline golden file has one");
+        assertEquals(golden.endsWith("-baseline") || golden.endsWith("-whitened"), o.baseline() != Baseline.NONE,
+                "the baseline and whitened golden files have one");
         assertEquals(List.of("supply_c", "return_c", "door_open"), model.transform().names());
         assertEquals(List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.BINARY), model.transform().kinds());
 
@@ -267,9 +274,31 @@ class GoldenModelTest {
         // the current version's two golden models: without and with the closed-form part
         regenerate(folder, "model-v" + ModelFile.VERSION, Baseline.NONE);
         regenerate(folder, "model-v" + ModelFile.VERSION + "-baseline", Baseline.FITTED_GAUSSIAN);
+        // version 5: a whitened model
+        regenerate(folder, "model-v" + ModelFile.NEWEST_VERSION + "-whitened", Baseline.STANDARD_NORMAL,
+                Coordinates.WHITENED);
+    }
+
+    /**
+     * Writes the golden files of the version-5 whitened model only (the older ones stay as released):
+     * {@code mvn -B -o -pl diffusion-schedules,diffusion-core test -Dtest=GoldenModelTest#regenerateWhitenedGoldenFile
+     * -Dbackstep.regenerateGolden=whitened}.
+     */
+    @Test
+    @EnabledIfSystemProperty(named = "backstep.regenerateGolden", matches = "whitened")
+    void regenerateWhitenedGoldenFile() throws Exception {
+        Path folder = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
+                .resolve("src/test/resources").resolve(FOLDER);
+        regenerate(folder, "model-v" + ModelFile.NEWEST_VERSION + "-whitened", Baseline.STANDARD_NORMAL,
+                Coordinates.WHITENED);
     }
 
     private static void regenerate(Path folder, String golden, Baseline baseline) throws Exception {
+        regenerate(folder, golden, baseline, Coordinates.STANDARDIZED);
+    }
+
+    private static void regenerate(Path folder, String golden, Baseline baseline, Coordinates coordinates)
+            throws Exception {
         String TRAINING = training(golden);
         String MODEL = model(golden);
         String EXPECTED = expected(golden);
@@ -281,7 +310,7 @@ class GoldenModelTest {
 
         DiffusionModel fitted = Backstep.builder().continuousSchedule(goldenSchedule()).hidden(16, 16)
                 .timeEmbedding(8, StepInput.EVERY_BLOCK).epochs(EPOCHS).batchSize(64).learningRate(3e-3)
-                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).baseline(baseline).fit(back);
+                .checkpointFraction(0.1).seed(FIT_SEED).threads(2).baseline(baseline).coordinates(coordinates).fit(back);
         Path modelFile = folder.resolve(MODEL);
         fitted.save(modelFile);
         DiffusionModel model = DiffusionModel.load(modelFile);
@@ -293,7 +322,7 @@ class GoldenModelTest {
         ObjectNode root = JSON.createObjectNode();
         root.put("about", "Figures of " + MODEL + " computed right after it was saved and loaded, by "
                 + "GoldenModelTest#regenerateGoldenFiles; see README.md in this folder.");
-        root.put("formatVersion", ModelFile.VERSION);
+        root.put("formatVersion", versionOf(golden));
         ObjectNode opts = root.putObject("options");
         opts.put("variance", model.options().variance().name());
         opts.put("loss", model.options().loss().name());

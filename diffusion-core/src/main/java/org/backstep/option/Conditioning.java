@@ -30,6 +30,17 @@ public enum Conditioning {
      * cancels in the average), which 3 resampling rounds mostly remove (0.93; 0.045 sd). Given an
      * observed binary cell, a continuous cell's imputed means moved only 0.49 of the way from the
      * overall mean to the exact conditional one (variance ratio 1.33).
+     *
+     * <p>In a model fitted with {@code Coordinates.WHITENED} the chain runs in z = W (y - m) and a
+     * whitened cell mixes every continuous column, so replacement works in y: at step s,
+     * x_s = sqrt(alpha-bar_s) m + W^-1 z_s; its observed cells o get a fresh draw of
+     * q(x_s^o | y^o) = sqrt(alpha-bar_s) y^o + sqrt(1 - alpha-bar_s) (W^-1 e)^o (the forward noise is
+     * (1 - alpha-bar_s) Sigma in y), its missing cells u move by the Gaussian regression on the change,
+     * x_s^u += Sigma_uo Sigma_oo^-1 (x_s^o,new - x_s^o,old) (for jointly Gaussian x_s, whose
+     * covariance is Sigma at every s for data N(m, Sigma), x_s^u - Sigma_uo Sigma_oo^-1 x_s^o is
+     * independent of x_s^o; Anderson 2003, theorem 2.5.1), and the row goes back to z. Measured on
+     * the exact model of 3-D Gaussian data (WhitenedCoordinatesTest): slope of the imputed on the exact
+     * conditional means within 0.05 of 1 without resampling rounds.
      */
     REPLACEMENT,
     /**

@@ -41,6 +41,7 @@ import java.util.Set;
  * @param seed the seed of every random draw
  * @param threads worker threads
  * @param baseline the closed-form part of the reverse model that the network corrects
+ * @param coordinates the coordinates the continuous columns are diffused in (standardized or whitened)
  */
 public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binarySchedule, int[] hidden,
                          int embeddingSize, StepInput stepInput, ReverseVariance variance,
@@ -48,7 +49,8 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                          double learningRate, LearningRateSchedule learningRateSchedule, double adamBeta1, double adamBeta2, double adamEpsilon,
                          double weightDecay, double emaDecay, int batchSize, int epochs, int trainingSteps,
                          double checkpointFraction, int evaluateEvery, int evaluations, int checkpointDraws, int patience,
-                         Set<String> logColumns, long seed, int threads, Baseline baseline) {
+                         Set<String> logColumns, long seed, int threads, Baseline baseline,
+                         Coordinates coordinates) {
 
     /**
      * Validates every option and copies the arrays and sets.
@@ -126,6 +128,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
         logColumns = Set.copyOf(logColumns);
         Require.inRange("threads", threads, 1, Limits.MAX_THREADS);
         Require.notNull("baseline", baseline);
+        Require.notNull("coordinates", coordinates);
     }
 
     /** A training schedule: full (not strided), T within the limit, every beta at least {@link Limits#MIN_BETA}. */
@@ -174,7 +177,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                 && Double.compare(checkpointFraction, f.checkpointFraction) == 0 && evaluateEvery == f.evaluateEvery
                 && evaluations == f.evaluations && checkpointDraws == f.checkpointDraws && patience == f.patience
                 && logColumns.equals(f.logColumns) && seed == f.seed && threads == f.threads
-                && baseline == f.baseline;
+                && baseline == f.baseline && coordinates == f.coordinates;
     }
 
     @Override
@@ -182,7 +185,8 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
         return java.util.Objects.hash(continuousSchedule, binarySchedule, Arrays.hashCode(hidden), embeddingSize,
                 stepInput, variance, loss, hybridWeight, stepSampling, learningRate, learningRateSchedule, adamBeta1,
                 adamBeta2, adamEpsilon, weightDecay, emaDecay, batchSize, epochs, trainingSteps, checkpointFraction,
-                evaluateEvery, evaluations, checkpointDraws, patience, logColumns, seed, threads, baseline);
+                evaluateEvery, evaluations, checkpointDraws, patience, logColumns, seed, threads, baseline,
+                coordinates);
     }
 
     @Override
@@ -196,6 +200,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                 + ", batchSize=" + batchSize + ", epochs=" + epochs + ", trainingSteps=" + trainingSteps + ", checkpointFraction=" + checkpointFraction
                 + ", evaluateEvery=" + evaluateEvery + ", evaluations=" + evaluations + ", checkpointDraws=" + checkpointDraws
                 + ", patience=" + patience + ", logColumns=" + new java.util.TreeSet<>(logColumns)
-                + ", seed=" + seed + ", threads=" + threads + ", baseline=" + baseline + "]";
+                + ", seed=" + seed + ", threads=" + threads + ", baseline=" + baseline
+                + ", coordinates=" + coordinates + "]";
     }
 }

@@ -227,7 +227,9 @@ public final class BoundReport {
 
     /**
      * @return the mean of each term over the records: index 0 the prior term L_T, index t the
-     *     term L_{t-1} of step t (index 1 is the decoder term L_0); empty for Monte Carlo
+     *     term L_{t-1} of step t (index 1 is the decoder term L_0); empty for Monte Carlo. For a
+     *     model fitted in whitened coordinates L_0 includes -log |det W|, so that the terms still
+     *     add up to the bound in the standardized space
      */
     public double[] perStepMean() {
         return perStep.clone();

@@ -34,15 +34,20 @@ public final class Whitening {
     public static final double SINGULAR_RATIO = 1e-12;
 
     private final double[] mean;
+    private final double[][] covariance;
     private final double[][] matrix;
     private final double[][] inverse;
     private final double logDeterminant;
+    private final double shrinkage;
 
-    private Whitening(double[] mean, double[][] matrix, double[][] inverse, double logDeterminant) {
+    private Whitening(double[] mean, double[][] covariance, double[][] matrix, double[][] inverse,
+                      double logDeterminant, double shrinkage) {
         this.mean = mean;
+        this.covariance = covariance;
         this.matrix = matrix;
         this.inverse = inverse;
         this.logDeterminant = logDeterminant;
+        this.shrinkage = shrinkage;
     }
 
     /**
@@ -92,7 +97,144 @@ public final class Whitening {
                 s[b][a] = s[a][b];
             }
         }
-        EigenDecomposition eigen = new EigenDecomposition(new Array2DRowRealMatrix(s, false));
+        return of(m, s, 0.0);
+    }
+
+    /**
+     * Fits m and W = S*^(-1/2) on complete rows, with S* the covariance shrunk toward a multiple of
+     * the identity by the estimate of Ledoit &amp; Wolf (2004, "A well-conditioned estimator for
+     * large-dimensional covariance matrices", J. Multivariate Analysis 88:365-411, lemmas 3.2-3.4 and
+     * section 3.3): with S the population covariance of n rows x_i - m in p columns, the norm
+     * ||A||^2 = tr(A A^T) / p, mu = tr(S) / p, delta^2 = ||S - mu I||^2,
+     * b^2 = min(delta^2, (1/n^2) sum_i ||(x_i - m)(x_i - m)^T - S||^2) and rho = b^2 / delta^2,
+     * S* = rho mu I + (1 - rho) S. The intensity rho is estimated from the rows (no tuning); S* is
+     * positive definite whenever rho &gt; 0, so near-collinear columns (rounding-level eigenvalues of
+     * S) do not make W divide by noise.
+     *
+     * @param rows n &gt;= 2 rows of d values each, no NaN or infinite value (not modified)
+     * @return the whitening of the shrunk covariance; {@link #shrinkage()} gives rho
+     * @throws IllegalArgumentException naming the row and column of a bad cell, a ragged row, or a
+     *     singular shrunk covariance (every column constant)
+     */
+    public static Whitening fitShrunk(double[][] rows) {
+        Require.notNull("rows", rows);
+        Require.atLeast("rows", rows.length, 2);
+        int d = rows[0] == null ? 0 : rows[0].length;
+        Require.atLeast("columns", d, 1);
+        int n = rows.length;
+        double[][] centred = new double[n][];
+        double[] m = new double[d];
+        double[][] columns = new double[d][n];
+        for (int r = 0; r < n; r++) {
+            if (rows[r] == null || rows[r].length != d) {
+                throw new IllegalArgumentException("rows[" + r + "] has " + (rows[r] == null ? "no array (null)"
+                        : rows[r].length + " values") + "; expected " + d);
+            }
+            for (int c = 0; c < d; c++) {
+                if (!Double.isFinite(rows[r][c])) {
+                    throw new IllegalArgumentException("rows[" + r + "][" + c + "] is " + rows[r][c]
+                            + "; expected a finite value (whitening needs complete rows)");
+                }
+                columns[c][r] = rows[r][c];
+            }
+        }
+        for (int c = 0; c < d; c++) {
+            m[c] = TableTransform.mean(columns[c]);
+        }
+        for (int r = 0; r < n; r++) {
+            centred[r] = new double[d];
+            for (int c = 0; c < d; c++) {
+                centred[r][c] = rows[r][c] - m[c];
+            }
+        }
+        double[][] s = new double[d][d];
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b <= a; b++) {
+                double sum = 0.0;
+                for (int r = 0; r < n; r++) {
+                    sum += centred[r][a] * centred[r][b];
+                }
+                s[a][b] = sum / n;
+                s[b][a] = s[a][b];
+            }
+        }
+        double mu = 0.0;
+        for (int a = 0; a < d; a++) {
+            mu += s[a][a];
+        }
+        mu /= d;
+        double delta2 = 0.0;
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b < d; b++) {
+                double e = s[a][b] - (a == b ? mu : 0.0);
+                delta2 += e * e;
+            }
+        }
+        delta2 /= d;
+        double bBar2 = 0.0;
+        for (int r = 0; r < n; r++) {
+            double sum = 0.0;
+            for (int a = 0; a < d; a++) {
+                for (int b = 0; b < d; b++) {
+                    double e = centred[r][a] * centred[r][b] - s[a][b];
+                    sum += e * e;
+                }
+            }
+            bBar2 += sum / d;
+        }
+        bBar2 /= (double) n * n;
+        double rho = delta2 > 0.0 ? Math.min(delta2, bBar2) / delta2 : 1.0;
+        double[][] shrunk = new double[d][d];
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b < d; b++) {
+                shrunk[a][b] = (1.0 - rho) * s[a][b] + (a == b ? rho * mu : 0.0);
+            }
+        }
+        return of(m, shrunk, rho);
+    }
+
+    /**
+     * The whitening of a given mean and covariance (a model file's, or a fit's), W = S^(-1/2) from
+     * the eigenvalues and eigenvectors of S.
+     *
+     * @param mean m, d finite values (copied)
+     * @param covariance S, d x d, symmetric positive definite (copied)
+     * @param shrinkage the shrinkage intensity S was made with, in [0, 1] (kept for the record)
+     * @return the whitening
+     * @throws IllegalArgumentException naming a bad value, an asymmetric S, or a singular one
+     */
+    public static Whitening of(double[] mean, double[][] covariance, double shrinkage) {
+        Require.notNull("mean", mean);
+        Require.notNull("covariance", covariance);
+        int d = mean.length;
+        Require.atLeast("columns", d, 1);
+        if (!(shrinkage >= 0.0 && shrinkage <= 1.0)) {
+            throw new IllegalArgumentException("shrinkage is " + shrinkage + "; expected a number in [0, 1]");
+        }
+        if (covariance.length != d) {
+            throw new IllegalArgumentException("covariance has " + covariance.length + " rows; expected " + d);
+        }
+        double[][] s = new double[d][];
+        for (int a = 0; a < d; a++) {
+            if (!Double.isFinite(mean[a])) {
+                throw new IllegalArgumentException("mean[" + a + "] is " + mean[a] + "; expected a finite value");
+            }
+            if (covariance[a] == null || covariance[a].length != d) {
+                throw new IllegalArgumentException("covariance[" + a + "] has " + (covariance[a] == null ? "no array"
+                        : covariance[a].length + " values") + "; expected " + d);
+            }
+            s[a] = covariance[a].clone();
+        }
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b < d; b++) {
+                if (!Double.isFinite(s[a][b]) || s[a][b] != s[b][a]) {
+                    throw new IllegalArgumentException("covariance[" + a + "][" + b + "] is " + s[a][b]
+                            + " and covariance[" + b + "][" + a + "] " + s[b][a] + "; expected a finite symmetric matrix");
+                }
+            }
+        }
+        double[] m = mean.clone();
+        EigenDecomposition eigen = new EigenDecomposition(new Array2DRowRealMatrix(s, true));
         double[] lambda = eigen.getRealEigenvalues();
         double largest = Arrays.stream(lambda).max().orElseThrow();
         double smallest = Arrays.stream(lambda).min().orElseThrow();
@@ -121,7 +263,22 @@ public final class Whitening {
                 wInv[a][b] = si;
             }
         }
-        return new Whitening(m, w, wInv, logDet);
+        return new Whitening(m, s, w, wInv, logDet, shrinkage);
+    }
+
+    /** @return S, the (shrunk) covariance W whitens, W^-2 (a copy) */
+    public double[][] covariance() {
+        return copy(covariance);
+    }
+
+    /** @return W^-1 = S^(1/2) (a copy) */
+    public double[][] inverseMatrix() {
+        return copy(inverse);
+    }
+
+    /** @return rho, the shrinkage intensity of the covariance toward mu I (0 for {@link #fit}) */
+    public double shrinkage() {
+        return shrinkage;
     }
 
     /** @return d, the number of columns whitened */

@@ -94,7 +94,7 @@ public final class GaussianCheck {
             for (long seed : seeds) {
                 Lever.Encoding enc = lever.fit(trainT);
                 long t0 = System.nanoTime();
-                DiffusionModel m = Backstep.builder().seed(seed).baseline(lever.baseline).fit(enc.encode(trainT));
+                DiffusionModel m = lever.builder(seed).fit(enc.encode(trainT));
                 seconds += (System.nanoTime() - t0) / 1e9;
                 double[] lj = enc.logJacobian(testT);
                 Table encTest = enc.encode(testT);

@@ -6,6 +6,7 @@ import java.util.List;
 import java.util.Set;
 
 import org.backstep.option.Baseline;
+import org.backstep.option.Coordinates;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
@@ -35,7 +36,13 @@ enum Lever {
      */
     WHITENED_STANDARD_NORMAL_PART("whitened+N(0,I) part", Baseline.STANDARD_NORMAL),
     /** The table as it is, fitted with the closed form of the fitted Gaussian (Baseline.FITTED_GAUSSIAN). */
-    FITTED_GAUSSIAN_PART("fitted Gaussian part", Baseline.FITTED_GAUSSIAN);
+    FITTED_GAUSSIAN_PART("fitted Gaussian part", Baseline.FITTED_GAUSSIAN),
+    /**
+     * The table as it is, fitted with the library's option coordinates WHITENED (the chain in the
+     * space whitened by the shrunk training covariance, log |det W| added by the library) and the
+     * N(0, I) part: what WHITENED_STANDARD_NORMAL_PART does outside the library, with imputation.
+     */
+    WHITENED_MODEL("whitened model+N(0,I) part", Baseline.STANDARD_NORMAL, Coordinates.WHITENED);
 
     /** The bandwidth of NORMAL_SCORES: Silverman's rule itself (no choice made on the test tables). */
     static final double BANDWIDTH_MULTIPLE = 1.0;
@@ -43,14 +50,26 @@ enum Lever {
     final String label;
     /** The closed-form part the lever fits Backstep with. */
     final Baseline baseline;
+    /** The coordinates the lever fits Backstep with. */
+    final Coordinates coordinates;
 
     Lever(String label) {
         this(label, Baseline.NONE);
     }
 
     Lever(String label, Baseline baseline) {
+        this(label, baseline, Coordinates.STANDARDIZED);
+    }
+
+    Lever(String label, Baseline baseline, Coordinates coordinates) {
         this.label = label;
         this.baseline = baseline;
+        this.coordinates = coordinates;
+    }
+
+    /** @return the builder of this lever's fit: the library's defaults with its baseline and coordinates */
+    org.backstep.Backstep.Builder builder(long seed) {
+        return org.backstep.Backstep.builder().seed(seed).baseline(baseline).coordinates(coordinates);
     }
 
     /**
@@ -61,7 +80,7 @@ enum Lever {
      */
     Encoding fit(Table train) {
         return switch (this) {
-            case DEFAULTS, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART -> new Encoding(this, null, null, train);
+            case DEFAULTS, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL -> new Encoding(this, null, null, train);
             case NORMAL_SCORES -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
             case WHITENED, NORMAL_SCORES_WHITENED, WHITENED_STANDARD_NORMAL_PART -> {
                 TableTransform columns = this != NORMAL_SCORES_WHITENED ? TableTransform.fit(train, Set.of())

@@ -165,7 +165,7 @@ public final class QualityBenchmark {
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
         long t0 = System.nanoTime();
-        DiffusionModel model = Backstep.builder().seed(seed).baseline(lever.baseline).fit(enc.encode(train));
+        DiffusionModel model = lever.builder(seed).fit(enc.encode(train));
         double fitSeconds = (System.nanoTime() - t0) / 1e9;
 
         // density, in SOURCES.md's space
@@ -267,7 +267,7 @@ public final class QualityBenchmark {
             Table normalTrain = split.normalTrain();
             Lever.Encoding encA = lever.fit(normalTrain);
             long a0 = System.nanoTime();
-            DiffusionModel ma = Backstep.builder().seed(seed).baseline(lever.baseline).fit(encA.encode(normalTrain));
+            DiffusionModel ma = lever.builder(seed).fit(encA.encode(normalTrain));
             anomalyFit = (System.nanoTime() - a0) / 1e9;
             Table screened = split.screened();
             int nn = split.screenedNormal();

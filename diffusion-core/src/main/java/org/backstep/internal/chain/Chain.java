@@ -49,6 +49,8 @@ public final class Chain {
     final ReverseVariance variance;
     final Estimator estimator;
     final int steps;
+    /** The whitened coordinates the chain runs in, or null for standardized ones; set once by {@link #of}. */
+    ChainCoordinates coordinates;
 
     // index k = 1..K (index 0 unused)
     final int[] source;
@@ -204,6 +206,36 @@ public final class Chain {
      */
     public static Chain of(org.backstep.option.FitOptions options, org.backstep.table.TableTransform transform,
                            Estimator estimator) {
+        return of(options, transform, estimator, null);
+    }
+
+    /**
+     * The full chain of a fit's options over the model space of a transform, run in the whitened
+     * coordinates of {@code whitening} when it is not null.
+     *
+     * @param whitening the whitening of the real continuous columns ({@link #whitenedColumns}), or null
+     * @return the chain
+     */
+    public static Chain of(org.backstep.option.FitOptions options, org.backstep.table.TableTransform transform,
+                           Estimator estimator, org.backstep.table.Whitening whitening) {
+        Chain c = plain(options, transform, estimator);
+        c.coordinates = whitening == null ? null : new ChainCoordinates(whitening, whitenedColumns(transform));
+        return c;
+    }
+
+    /**
+     * @param transform the column transforms
+     * @return the model columns a whitened chain whitens: the modelled continuous columns of kind
+     *     CONTINUOUS (integer columns keep their own axis for their decoder)
+     */
+    public static int[] whitenedColumns(org.backstep.table.TableTransform transform) {
+        int[] mc = transform.modelledContinuous();
+        return java.util.stream.IntStream.range(0, mc.length)
+                .filter(j -> transform.kinds().get(mc[j]) == org.backstep.table.ColumnKind.CONTINUOUS).toArray();
+    }
+
+    private static Chain plain(org.backstep.option.FitOptions options, org.backstep.table.TableTransform transform,
+                               Estimator estimator) {
         int[] mc = transform.modelledContinuous();
         org.backstep.posterior.DiscretizedGaussian[] decoders = new org.backstep.posterior.DiscretizedGaussian[mc.length];
         for (int j = 0; j < mc.length; j++) {
@@ -236,7 +268,33 @@ public final class Chain {
 
     /** The same estimator over the sub-schedules that keep the given steps of this chain. */
     public Chain subset(int[] keep) {
-        return new Chain(continuous.subset(keep), binary.subset(keep), dc, db, categories, decoders, variance, estimator);
+        Chain c = new Chain(continuous.subset(keep), binary.subset(keep), dc, db, categories, decoders, variance, estimator);
+        c.coordinates = coordinates;
+        return c;
+    }
+
+    /** @return log |det W| of a whitened chain (add it to a log density of z for one of y), 0 otherwise */
+    public double logDeterminant() {
+        return coordinates == null ? 0.0 : coordinates.logDeterminant();
+    }
+
+    /** @return true if the chain runs in whitened coordinates */
+    public boolean whitened() {
+        return coordinates != null;
+    }
+
+    /** Model-space (standardized) rows to the chain's coordinates, in place; identity unless whitened. */
+    public void toChain(float[] x, int rows) {
+        if (coordinates != null) {
+            coordinates.toChain(x, rows, d);
+        }
+    }
+
+    /** The chain's coordinates to model-space (standardized) rows, in place; identity unless whitened. */
+    public void fromChain(float[] x, int rows) {
+        if (coordinates != null) {
+            coordinates.fromChain(x, rows, d);
+        }
     }
 
     /** The same estimator over count evenly spaced steps (see {@link NoiseSchedule#strided(int)}). */

@@ -58,7 +58,7 @@ public final class Denoiser {
             throw new IllegalArgumentException("noiseSd has " + noiseSd.length + " entries; expected one per column, "
                     + readings.columns());
         }
-        float[] z = engine.modelSpace(readings);
+        float[] z = engine.standardized(readings);
         int[] cont = engine.transform().modelledContinuous();
         double[] s2 = new double[cont.length];
         double max = 0.0;
@@ -76,6 +76,42 @@ public final class Denoiser {
             }
             s2[j] = (sd / tr.scale()) * (sd / tr.scale());
             max = Math.max(max, s2[j]);
+        }
+        Chain full = engine.chain();
+        int[] wcols = full.whitened() ? full.coordinates.columns : new int[0];
+        double[][] wInv = null;
+        double[][] w = null;
+        double[] wm = null;
+        double[][] extraRoot = null;    // (L Sigma - S)^(1/2) of the whitened block, set once the start step is known
+        double[][] noiseW = null;       // W S W, the readings' noise in whitened coordinates
+        if (wcols.length > 0) {
+            // whitened columns: the noise n ~ N(0, S), S = diag(s_j^2), is W S W in z; the start level must cover
+            // its largest eigenvalue so that a topping-up of covariance L Sigma - S exists
+            w = full.coordinates.whitening.matrix();
+            wInv = full.coordinates.whitening.inverseMatrix();
+            wm = full.coordinates.whitening.mean();
+            int p = wcols.length;
+            noiseW = new double[p][p];
+            for (int a = 0; a < p; a++) {
+                for (int b = 0; b < p; b++) {
+                    double sum = 0.0;
+                    for (int k = 0; k < p; k++) {
+                        sum += w[a][k] * s2[wcols[k]] * w[k][b];
+                    }
+                    noiseW[a][b] = sum;
+                }
+            }
+            double top = java.util.Arrays.stream(new org.apache.commons.math3.linear.EigenDecomposition(
+                    new org.apache.commons.math3.linear.Array2DRowRealMatrix(noiseW, false)).getRealEigenvalues())
+                    .max().orElse(0.0);
+            // the non-whitened continuous columns (integer ones) keep their own s_j^2 in max
+            double plain = 0.0;
+            for (int j = 0; j < cont.length; j++) {
+                if (java.util.Arrays.binarySearch(wcols, j) < 0) {
+                    plain = Math.max(plain, s2[j]);
+                }
+            }
+            max = Math.max(plain, top);
         }
         NoiseSchedule schedule = engine.parts().options().continuousSchedule();
         int steps = engine.steps();
@@ -98,6 +134,22 @@ public final class Denoiser {
         }
         Chain c = engine.chain().subset(keep);
         double sqrtAbar = Math.sqrt(schedule.alphaBar(start));
+        if (wcols.length > 0) {
+            // extra ~ N(0, L Sigma - S) in y, so that y~ + extra has covariance L Sigma about y and
+            // z = sqrt(abar) W (y~ + extra - m) is exactly a draw of q(z_t* | z_0) (noise (1 - abar) I)
+            int p = wcols.length;
+            double[][] sigma = full.coordinates.whitening.covariance();
+            double[][] m = new double[p][p];
+            for (int a = 0; a < p; a++) {
+                for (int b = 0; b < p; b++) {
+                    m[a][b] = startLevel * sigma[a][b] - (a == b ? s2[wcols[a]] : 0.0);
+                }
+            }
+            extraRoot = symmetricRoot(m);
+        }
+        final double[][] root = extraRoot;
+        final double[][] wf = w;
+        final double[] mf = wm;
         int rows = readings.rows();
         int d = c.d;
         float[] known = new float[rows * d];
@@ -118,9 +170,13 @@ public final class Denoiser {
                         double extra = Math.sqrt(Math.max(0.0, startLevel - s2[j])) * rng[r].nextGaussian();
                         x[r * d + j] = (float) (sqrtAbar * (z[(from + r) * d + j] + extra));
                     }
+                    if (root != null) {
+                        whitenedStart(x, r * d, z, (from + r) * d, wcols, root, wf, mf, sqrtAbar, rng[r]);
+                    }
                 }
                 ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
                 ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, rng);
+                c.fromChain(x, n);
             });
             Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, rows, d));
             for (int i = 0; i < rows; i++) {
@@ -142,5 +198,51 @@ public final class Denoiser {
             }
         }
         return new Denoising(Imputer.withValues(readings, mean), Imputer.withValues(readings, sd), draws, start);
+    }
+
+    /**
+     * The whitened cells of one row at the start step: z = sqrt(abar) W (y~ + R e - m), R R^T =
+     * L Sigma - S, overwriting what the per-column start wrote there.
+     */
+    private static void whitenedStart(float[] x, int o, float[] readings, int ro, int[] cols, double[][] root,
+                                      double[][] w, double[] mean, double sqrtAbar, java.util.SplittableRandom rng) {
+        int p = cols.length;
+        double[] e = new double[p];
+        for (int a = 0; a < p; a++) {
+            e[a] = rng.nextGaussian();
+        }
+        double[] y = new double[p];
+        for (int a = 0; a < p; a++) {
+            double sum = readings[ro + cols[a]] - mean[a];
+            for (int b = 0; b < p; b++) {
+                sum += root[a][b] * e[b];
+            }
+            y[a] = sum;
+        }
+        for (int a = 0; a < p; a++) {
+            double sum = 0.0;
+            for (int b = 0; b < p; b++) {
+                sum += w[a][b] * y[b];
+            }
+            x[o + cols[a]] = (float) (sqrtAbar * sum);
+        }
+    }
+
+    /** The symmetric square root V diag(sqrt(max(0, lambda))) V^T of a symmetric matrix (eigenvalues below 0 are rounding). */
+    private static double[][] symmetricRoot(double[][] m) {
+        int p = m.length;
+        org.apache.commons.math3.linear.EigenDecomposition e = new org.apache.commons.math3.linear.EigenDecomposition(
+                new org.apache.commons.math3.linear.Array2DRowRealMatrix(m, false));
+        double[][] out = new double[p][p];
+        for (int k = 0; k < p; k++) {
+            double l = Math.sqrt(Math.max(0.0, e.getRealEigenvalue(k)));
+            double[] v = e.getEigenvector(k).toArray();
+            for (int a = 0; a < p; a++) {
+                for (int b = 0; b < p; b++) {
+                    out[a][b] += v[a] * l * v[b];
+                }
+            }
+        }
+        return out;
     }
 }

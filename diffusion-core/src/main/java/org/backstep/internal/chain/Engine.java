@@ -65,12 +65,48 @@ public final class Engine {
     }
 
     /**
-     * Records in model space as one row-major float array (rows x D), the layout every chain job takes.
+     * Records in the chain's coordinates as one row-major float array (rows x D), the layout every
+     * chain job takes: the standardized model space ({@link #standardized}), whitened when the chain
+     * is ({@link Chain#toChain}).
+     *
+     * @param records records with the training columns; missing cells stay NaN, but a whitened
+     *     model refuses a missing cell of a whitened column (such a row has no whitened value)
+     * @return rows x D
+     */
+    public float[] modelSpace(Table records) {
+        float[] x = standardized(records);
+        if (chain.whitened()) {
+            int d = chain.d;
+            int[] cols = Chain.whitenedColumns(parts.transform());
+            int[] cont = parts.transform().modelledContinuous();
+            for (int r = 0; r < records.rows(); r++) {
+                for (int j : cols) {
+                    if (Float.isNaN(x[r * d + j])) {
+                        throw new IllegalArgumentException("row " + r + ", column '" + records.name(cont[j])
+                                + "' is missing; the model was fitted with coordinates WHITENED, where a cell mixes"
+                                + " every continuous column, so this job needs complete rows");
+                    }
+                }
+            }
+            chain.toChain(x, records.rows());
+        }
+        return x;
+    }
+
+    /** @return log |det W| of a whitened model (added to log densities of the chain's coordinates), else 0 */
+    public double logDeterminant() {
+        return chain.logDeterminant();
+    }
+
+    /**
+     * Records in the standardized model space as one row-major float array (rows x D), never
+     * whitened: the space of every reported figure, and of the observed cells that imputation and
+     * denoising hold.
      *
      * @param records records with the training columns (missing cells stay NaN)
      * @return rows x D
      */
-    public float[] modelSpace(Table records) {
+    public float[] standardized(Table records) {
         float[] x = toFloat(parts.transform().toModelSpace(records));
         int d = chain.d;
         for (int i = 0; i < x.length; i++) {
@@ -128,12 +164,33 @@ public final class Engine {
                     ? BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), seed, threads)
                     : BoundEvaluator.monteCarlo(chain, x, rows, how.draws(), rowSeeds, threads);
             return BoundReport.sampled(chain.steps, how.draws(), chain.d,
-                    new BoundReport.RecordNats(r.continuous, r.binary, logJacobian), r.standardError);
+                    new BoundReport.RecordNats(standardizedNats(r.continuous), r.binary, logJacobian), r.standardError);
         }
         Chain c = chainOf(how.steps());
         BoundEvaluator.Result r = BoundEvaluator.exact(c, x, rows, seed, rowSeeds, TermDraws.of(how, c.steps), threads);
-        return BoundReport.exact(c.steps, c.d, new BoundReport.RecordNats(r.continuous, r.binary, logJacobian),
-                r.perStepMean);
+        if (r.perStepMean.length > 1) {
+            r.perStepMean[1] -= c.logDeterminant();   // the decoder term L_0 carries the change of variables
+        }
+        return BoundReport.exact(c.steps, c.d, new BoundReport.RecordNats(standardizedNats(r.continuous), r.binary,
+                logJacobian), r.perStepMean);
+    }
+
+    /**
+     * Per-record nats of the chain's coordinates to nats of the standardized model space: for a
+     * whitened chain -log p_y(y) = -log p_z(z) - log |det W| (the change of variables; Dinh et al.
+     * 2017, section 3.1); unchanged otherwise.
+     *
+     * @param nats per record, nats in the chain's coordinates (modified in place and returned)
+     * @return the same array
+     */
+    public double[] standardizedNats(double[] nats) {
+        double logDet = chain.logDeterminant();
+        if (logDet != 0.0) {
+            for (int i = 0; i < nats.length; i++) {
+                nats[i] -= logDet;
+            }
+        }
+        return nats;
     }
 
     /**
@@ -174,6 +231,7 @@ public final class Engine {
         if (check.diverged()) {
             LOG.warn("sampling with {} steps: {}", c.steps, check);
         }
+        c.fromChain(all, count);
         return new CheckedSample(parts.transform().fromModelSpace(toRows(all, count, c.d)), check);
     }
 

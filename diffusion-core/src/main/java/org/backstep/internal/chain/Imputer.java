@@ -63,7 +63,7 @@ public final class Imputer {
             }
         }
         records = engine.transform().aligned(records);
-        float[] known = n == 0 ? new float[0] : engine.modelSpace(records.selectRows(todo));
+        float[] known = n == 0 ? new float[0] : engine.standardized(records.selectRows(todo));
         Chain c = engine.chainOf(Math.min(how.steps(), engine.steps()));
         List<Table> tables = new ArrayList<>();
         for (int k = 0; k < how.draws(); k++) {
@@ -139,13 +139,15 @@ public final class Imputer {
      * jobs' {@link #impute} and the trainer's filling of training rows with gaps both call it.
      *
      * @param chain the chain to run (the full chain or a strided one)
-     * @param known rows x D model-space rows, NaN where a cell is missing; not modified
+     * @param known rows x D model-space rows (standardized, also for a whitened chain), NaN where a
+     *     cell is missing; not modified
      * @param rows rows in {@code known}
      * @param rounds resampling rounds per step, at least 1
      * @param method how the observed cells are held
      * @param threads threads to use, at least 1
      * @param seed the seed of the draw
-     * @return rows x D, the observed cells as given and the missing cells drawn
+     * @return rows x D model-space (standardized) rows, the observed cells as given and the missing
+     *     cells drawn
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */
     public static float[] drawGiven(Chain chain, float[] known, int rows, int rounds, Conditioning method,
@@ -165,6 +167,7 @@ public final class Imputer {
             chain.drawPrior(x, m, rng);
             ReverseRun.replaceKnown(chain, x, kn, m, chain.steps, rng);
             ReverseRun.run(chain, x, m, chain.steps, kn, rounds, SamplerKind.ANCESTRAL, 0.0, method, rng);
+            chain.fromChain(x, m);
         });
     }
 
@@ -204,8 +207,10 @@ public final class Imputer {
             float[] start = BoundEvaluator.slice(previous, first, m, chain.d);
             int[] k = new int[m];
             Arrays.fill(k, from);
+            chain.toChain(start, m);
             chain.diffuse(start, m, k, x, null, rng);
             ReverseRun.run(chain, x, m, from, kn, rounds, SamplerKind.ANCESTRAL, 0.0, method, rng);
+            chain.fromChain(x, m);
         });
     }
 

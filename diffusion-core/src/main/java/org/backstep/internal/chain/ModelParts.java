@@ -17,10 +17,12 @@ import org.backstep.training.Provenance;
  * @param network the trained network; null where the estimator is a supplied closed form (tests)
  * @param estimator what the chain asks for predictions: the network, or a closed form
  * @param provenance how the model was made
- * @param range the training rows' range in model space, which sampled rows are checked against
+ * @param range the training rows' range in the chain's coordinates, which sampled rows are checked against
+ * @param whitening the whitening of the real continuous columns the chain runs in
+ *     ({@code Coordinates.WHITENED}), or null for standardized coordinates
  */
 public record ModelParts(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
-                         Provenance provenance, ModelRange range) {
+                         Provenance provenance, ModelRange range, org.backstep.table.Whitening whitening) {
 
     /**
      * Checks that every part but the network is present, that each column transform lies within
@@ -42,6 +44,22 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
             throw new IllegalArgumentException("range covers " + range.width() + " model columns (" + range.continuous()
                     + " continuous); the transform diffuses " + d + " (" + dc + " continuous)");
         }
+        boolean wants = options.coordinates() == org.backstep.option.Coordinates.WHITENED;
+        int whitened = Chain.whitenedColumns(transform).length;
+        if (wants != (whitening != null) && !(wants && whitened == 0)) {
+            throw new IllegalArgumentException("coordinates is " + options.coordinates() + " but the parts have "
+                    + (whitening == null ? "no whitening" : "a whitening"));
+        }
+        if (whitening != null && whitening.dimensions() != whitened) {
+            throw new IllegalArgumentException("the whitening has " + whitening.dimensions() + " columns; the transform has "
+                    + whitened + " real continuous columns");
+        }
+    }
+
+    /** Parts in standardized coordinates (no whitening). */
+    public ModelParts(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
+                      Provenance provenance, ModelRange range) {
+        this(options, transform, network, estimator, provenance, range, null);
     }
 
     /**
@@ -51,6 +69,17 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
     public ModelParts(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
                       Provenance provenance) {
         this(options, transform, network, estimator, provenance, defaultRange(transform, provenance));
+    }
+
+    /**
+     * Parts whose range is not known (as the five-argument constructor), run in the coordinates of
+     * a whitening.
+     *
+     * @param whitening the whitening the chain runs in, or null
+     */
+    public ModelParts(FitOptions options, TableTransform transform, ReverseNetwork network, Estimator estimator,
+                      Provenance provenance, org.backstep.table.Whitening whitening) {
+        this(options, transform, network, estimator, provenance, defaultRange(transform, provenance), whitening);
     }
 
     private static ModelRange defaultRange(TableTransform transform, Provenance provenance) {
@@ -80,9 +109,19 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
      */
     public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
                                        GaussianBaseline baseline, Provenance provenance, ModelRange range) {
+        return ofNetwork(options, transform, network, baseline, provenance, range, null);
+    }
+
+    /**
+     * @param whitening the whitening the chain runs in, or null
+     * @return the parts of a model over that network, baseline and whitening
+     */
+    public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
+                                       GaussianBaseline baseline, Provenance provenance, ModelRange range,
+                                       org.backstep.table.Whitening whitening) {
         Require.notNull("network", network);
         return new ModelParts(options, transform, network, new NetworkEstimator(network, baseline,
-                options.variance() == org.backstep.option.ReverseVariance.LEARNED), provenance, range);
+                options.variance() == org.backstep.option.ReverseVariance.LEARNED), provenance, range, whitening);
     }
 
     /** @return the closed-form part of the estimator, or null when it has none */
@@ -92,6 +131,6 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
 
     /** @return the full reverse chain of these parts */
     public Chain chain() {
-        return Chain.of(options, transform, estimator);
+        return Chain.of(options, transform, estimator, whitening);
     }
 }

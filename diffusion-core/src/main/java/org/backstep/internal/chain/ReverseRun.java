@@ -91,6 +91,11 @@ public final class ReverseRun {
     public static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
                            double eta, Conditioning conditioning, SplittableRandom[] rng) {
         boolean product = known != null && conditioning == Conditioning.KERNEL_PRODUCT;
+        if (product && chain.coordinates != null) {
+            throw new IllegalArgumentException("conditioning is " + Conditioning.KERNEL_PRODUCT + "; a model fitted with"
+                    + " coordinates WHITENED holds observed cells by " + Conditioning.REPLACEMENT
+                    + " only (a whitened cell mixes every continuous column, so no kernel of an observed cell alone exists)");
+        }
         if (product && kind != SamplerKind.ANCESTRAL) {
             throw new IllegalArgumentException("kind is " + kind + "; the kernel product conditioning needs "
                     + SamplerKind.ANCESTRAL + " (the implicit sampler has no reverse kernel to multiply)");
@@ -433,14 +438,23 @@ public final class ReverseRun {
         }
     }
 
-    /** Known cells get a fresh draw of q(x_s | x_0 = observed); at s = 0 the observed value itself. */
+    /**
+     * Known cells get a fresh draw of q(x_s | x_0 = observed); at s = 0 the observed value itself.
+     * In a whitened chain the known values are standardized model-space cells and the whitened
+     * ones are replaced with the regression adjustment of {@link ChainCoordinates#replaceKnown}
+     * first; the other cells as in a plain chain.
+     */
     static void replaceKnown(Chain chain, float[] x, float[] known, int rows, int s, SplittableRandom[] rng) {
         int d = chain.d;
+        ChainCoordinates wc = chain.coordinates;
+        if (wc != null) {
+            wc.replaceKnown(chain, x, known, rows, s, rng);
+        }
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             for (int j = 0; j < d; j++) {
                 float v = known[o + j];
-                if (Float.isNaN(v)) {
+                if (Float.isNaN(v) || (wc != null && j < chain.dc && wc.whitens(j))) {
                     continue;
                 }
                 if (s == 0) {

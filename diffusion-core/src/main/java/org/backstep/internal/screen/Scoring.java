@@ -142,7 +142,8 @@ public final class Scoring {
      */
     static double[] flow(Engine engine, Table records, FlowOptions how) {
         ProbabilityFlow flow = new ProbabilityFlow(engine.parts(), how.relativeTolerance(), how.absoluteTolerance());
-        return flow.evaluate(engine.modelSpace(records), records.rows(), engine.parts().options().threads()).nats;
+        return engine.standardizedNats(
+                flow.evaluate(engine.modelSpace(records), records.rows(), engine.parts().options().threads()).nats);
     }
 
     /**
@@ -167,6 +168,7 @@ public final class Scoring {
         }
         Chain c = how.sampled() ? engine.chain() : engine.chainOf(how.steps());
         int draws = how.sampled() ? Math.min(how.draws(), engine.steps()) : 0;
-        return CommonNoiseBound.bound(c, x, records.rows(), draws, seed, engine.parts().options().threads());
+        return engine.standardizedNats(
+                CommonNoiseBound.bound(c, x, records.rows(), draws, seed, engine.parts().options().threads()));
     }
 }

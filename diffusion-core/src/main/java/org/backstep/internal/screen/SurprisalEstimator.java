@@ -84,7 +84,7 @@ public final class SurprisalEstimator {
         for (int j = 0; j < d; j++) {
             tableColumn[j] = j < dc ? mc[j] : j < dc + mb.length ? mb[j - dc] : mk[j - dc - mb.length];
         }
-        float[] x = engine.modelSpace(sub.withRows(cells));
+        float[] x = engine.standardized(sub.withRows(cells));
         // one target per observed modelled cell; each repeated K times with that cell unknown
         int targets = 0;
         for (int i = 0; i < n; i++) {

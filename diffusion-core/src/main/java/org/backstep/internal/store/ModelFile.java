@@ -56,7 +56,7 @@ import java.util.zip.ZipFile;
 import java.util.zip.ZipOutputStream;
 
 /**
- * The Backstep model file, format version 4 (versions 1 to 3 still load): a zip container of
+ * The Backstep model file, format version 4, or 5 for a whitened model (versions 1 to 3 still load): a zip container of
  * exactly three entries.
  * <pre>
  *   model.json        the manifest: format name and version, every fit option, both schedules'
@@ -78,7 +78,13 @@ import java.util.zip.ZipOutputStream;
  * did) and, when that option is {@code FITTED_GAUSSIAN}, the object {@code gaussianBaseline} with
  * the fitted {@code mean}, {@code covariance} (rows) and {@code shrinkage} of the continuous model
  * columns (continuous and integer); the per-step factors are recomputed from them and the schedule
- * on load.
+ * on load. Version 5 is version 4 plus, for a model fitted with coordinates {@code WHITENED}, the
+ * option {@code coordinates} and (when the model has real continuous columns) the object
+ * {@code whitening} with the {@code mean}, the shrunk {@code covariance} (rows) and the Ledoit-Wolf
+ * {@code shrinkage} of those columns in standardized model space; W = covariance^(-1/2) is recomputed
+ * from them on load (the same eigendecomposition, so the same W). Only such a model is written as
+ * version 5 ({@link #NEWEST_VERSION}), so that an older release refuses it by its version rather
+ * than ignore the keys and run it in standardized coordinates; every other model is version 4.
  * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
@@ -111,6 +117,13 @@ public final class ModelFile {
 
     public static final String FORMAT = "backstep-model";
     public static final int VERSION = 4;
+    /**
+     * The version written for a model fitted with coordinates WHITENED (version 4 plus the option
+     * {@code coordinates} and the object {@code whitening}), and the newest this release reads: a
+     * release that reads only up to version 4 refuses such a file by its version instead of running it
+     * in standardized coordinates. Every other model is written as {@link #VERSION}.
+     */
+    public static final int NEWEST_VERSION = 5;
     /** The oldest version this release reads. */
     public static final int OLDEST_VERSION = 1;
     public static final String MANIFEST = "model.json";
@@ -169,7 +182,7 @@ public final class ModelFile {
         FitOptions o = model.options();
         ObjectNode root = JSON.createObjectNode();
         root.put("format", FORMAT);
-        root.put("formatVersion", VERSION);
+        root.put("formatVersion", o.coordinates() == org.backstep.option.Coordinates.WHITENED ? NEWEST_VERSION : VERSION);
         ObjectNode opts = root.putObject("options");
         opts.set("continuousSchedule", schedule(o.continuousSchedule()));
         opts.set("binarySchedule", schedule(o.binarySchedule()));
@@ -203,6 +216,9 @@ public final class ModelFile {
         opts.put("seed", o.seed());
         opts.put("threads", o.threads());
         opts.put("baseline", o.baseline().name());
+        if (o.coordinates() != org.backstep.option.Coordinates.STANDARDIZED) {
+            opts.put("coordinates", o.coordinates().name());
+        }
 
         ArrayNode cols = root.putArray("columns");
         TableTransform tr = model.transform();
@@ -244,6 +260,22 @@ public final class ModelFile {
             for (double v : model.range().max()) {
                 hi.add(v);
             }
+        }
+        if (model.whitening() != null) {
+            org.backstep.table.Whitening wh = model.whitening();
+            ObjectNode g = root.putObject("whitening");
+            ArrayNode mean = g.putArray("mean");
+            for (double v : wh.mean()) {
+                mean.add(v);
+            }
+            ArrayNode cov = g.putArray("covariance");
+            for (double[] row : wh.covariance()) {
+                ArrayNode r = cov.addArray();
+                for (double v : row) {
+                    r.add(v);
+                }
+            }
+            g.put("shrinkage", wh.shrinkage());
         }
         GaussianBaseline gb = model.baseline();
         if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN) {
@@ -311,9 +343,9 @@ public final class ModelFile {
             }
             int version = JsonFields.int32(JsonFields.field(root, "formatVersion", MANIFEST), MANIFEST + " formatVersion",
                     Integer.MIN_VALUE, Integer.MAX_VALUE);
-            if (version < OLDEST_VERSION || version > VERSION) {
+            if (version < OLDEST_VERSION || version > NEWEST_VERSION) {
                 throw new ModelFileException(MANIFEST + " formatVersion", "version " + version
-                        + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + VERSION);
+                        + " is not known to this release, which reads versions " + OLDEST_VERSION + " to " + NEWEST_VERSION);
             }
             Manifest m = readManifest(root, version);
             long bytes = 4 * m.shape.parameterCount();
@@ -340,8 +372,9 @@ public final class ModelFile {
                 };
                 boolean learned = m.options.variance() == ReverseVariance.LEARNED;
                 return m.range == null ? new ModelParts(m.options, m.transform, network,
-                        new NetworkEstimator(network, baseline, learned), m.provenance)
-                        : ModelParts.ofNetwork(m.options, m.transform, network, baseline, m.provenance, m.range);
+                        new NetworkEstimator(network, baseline, learned), m.provenance, m.whitening)
+                        : ModelParts.ofNetwork(m.options, m.transform, network, baseline, m.provenance, m.range,
+                                m.whitening);
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(MANIFEST, "inconsistent content: " + e.getMessage(), e);
             }
@@ -357,7 +390,7 @@ public final class ModelFile {
     /** The manifest's content, every field checked; the network is not built yet. */
     private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
                             Provenance provenance, double[] baselineMean, double[][] baselineCovariance,
-                            double baselineShrinkage) {
+                            double baselineShrinkage, org.backstep.table.Whitening whitening) {
     }
 
     private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
@@ -397,7 +430,11 @@ public final class ModelFile {
                     JsonFields.whole(JsonFields.field(o, "seed", opt), opt + ".seed", Long.MIN_VALUE, Long.MAX_VALUE),
                     int32(o, opt, "threads", 1, Limits.MAX_THREADS),
                     // optional within version 4 (a file without it was written before the option existed)
-                    version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE);
+                    version >= 4 && o.has("baseline") ? constant(o, opt, "baseline", Baseline.class) : Baseline.NONE,
+                    // version 5 only (a whitened model): absent reads as STANDARDIZED, what older releases did
+                    version >= 5 && o.has("coordinates")
+                            ? constant(o, opt, "coordinates", org.backstep.option.Coordinates.class)
+                            : org.backstep.option.Coordinates.STANDARDIZED);
         } catch (IllegalArgumentException e) {
             // the builder's own validation refused them
             throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);
@@ -540,9 +577,39 @@ public final class ModelFile {
                 throw new ModelFileException(gw, e.getMessage(), e);
             }
         }
+        org.backstep.table.Whitening whitening = null;
+        int whitened = org.backstep.internal.chain.Chain.whitenedColumns(transform).length;
+        boolean wants = options.coordinates() == org.backstep.option.Coordinates.WHITENED && whitened > 0;
+        if (root.has("whitening") != wants) {
+            throw new ModelFileException(MANIFEST + " whitening", (wants ? "absent" : "present")
+                    + ", but the model's coordinates are " + options.coordinates() + " over " + whitened
+                    + " real continuous columns; a WHITENED model of such columns has one, no other model does");
+        }
+        if (wants) {
+            String ww = MANIFEST + " whitening";
+            JsonNode g = JsonFields.object(root.get("whitening"), ww);
+            JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", ww), ww + ".mean", whitened, whitened);
+            JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", ww), ww + ".covariance", whitened, whitened);
+            double[] wm = new double[whitened];
+            double[][] wc = new double[whitened][whitened];
+            for (int i = 0; i < whitened; i++) {
+                wm[i] = JsonFields.number(mean.get(i), ww + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
+                JsonNode row = JsonFields.array(cov.get(i), ww + ".covariance[" + i + "]", whitened, whitened);
+                for (int j = 0; j < whitened; j++) {
+                    wc[i][j] = JsonFields.number(row.get(j), ww + ".covariance[" + i + "][" + j + "]",
+                            -Float.MAX_VALUE, Float.MAX_VALUE);
+                }
+            }
+            double shrink = JsonFields.number(JsonFields.field(g, "shrinkage", ww), ww + ".shrinkage", 0.0, 1.0);
+            try {
+                whitening = org.backstep.table.Whitening.of(wm, wc, shrink);
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(ww, e.getMessage(), e);
+            }
+        }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
         return new Manifest(options, transform, shape, range, provenance, baselineMean, baselineCovariance,
-                baselineShrinkage);
+                baselineShrinkage, whitening);
     }
 
     private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {

@@ -1,5 +1,9 @@
 package org.backstep.internal.train;
 
+import org.backstep.internal.chain.Chain;
+import org.backstep.option.Coordinates;
+import org.backstep.table.Whitening;
+
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.ScoringRange;
 import org.backstep.option.FitOptions;
@@ -46,6 +50,12 @@ final class TrainingRows {
     final GapFilling gaps;
     /** The transforms the caller gave, or null to fit them. */
     private final TableTransform given;
+    /**
+     * The whitening of the real continuous columns (coordinates WHITENED), fitted on the training rows
+     * with Ledoit-Wolf shrinkage ({@link Whitening#fitShrunk}); x0 and the checkpoint rows are in its
+     * coordinates. Null for standardized coordinates or without a real continuous column.
+     */
+    final Whitening whitening;
 
     /**
      * @param options the fit's options
@@ -154,8 +164,51 @@ final class TrainingRows {
                         + held.rows() + " (a bound needs every cell of a row)");
             }
         }
+        Whitening fitted = null;
+        int[] whitened = Chain.whitenedColumns(transform);
+        if (options.coordinates() == Coordinates.WHITENED && whitened.length > 0) {
+            if (gaps != null) {
+                throw new IllegalArgumentException("coordinates is WHITENED, but " + gaps.rowCount() + " training rows have"
+                        + " a missing cell; a whitened cell mixes every continuous column, so the covariance and the"
+                        + " rows need complete rows: fit on the complete rows (Table.completeRows) or with coordinates"
+                        + " STANDARDIZED");
+            }
+            double[][] cells = new double[n][whitened.length];
+            int d = width();
+            for (int r = 0; r < n; r++) {
+                for (int a = 0; a < whitened.length; a++) {
+                    cells[r][a] = x0[r * d + whitened[a]];
+                }
+            }
+            fitted = Whitening.fitShrunk(cells);
+            notes.add("continuous columns whitened by the training covariance (" + whitened.length + " columns, "
+                    + "Ledoit-Wolf shrinkage " + String.format(java.util.Locale.ROOT, "%.4f", fitted.shrinkage())
+                    + ", log|det W| " + String.format(java.util.Locale.ROOT, "%.4f", fitted.logDeterminant()) + ")");
+        }
+        whitening = fitted;
+        if (fitted != null) {
+            whiten(fitted, whitened, x0, n);
+            if (heldRows != null) {
+                whiten(fitted, whitened, heldRows, heldCount);
+            }
+        }
         checkpoint = heldRows;
         checkpointCount = heldCount;
+    }
+
+    /** The whitened cells of rows x width() model-space rows to z = W (y - m), in place. */
+    private void whiten(Whitening w, int[] columns, float[] x, int rows) {
+        int d = width();
+        double[] y = new double[columns.length];
+        for (int r = 0; r < rows; r++) {
+            for (int a = 0; a < columns.length; a++) {
+                y[a] = x[r * d + columns[a]];
+            }
+            double[] z = w.whiten(y);
+            for (int a = 0; a < columns.length; a++) {
+                x[r * d + columns[a]] = (float) z[a];
+            }
+        }
     }
 
     private TableTransform fitTransform(Table rows, FitOptions options) {

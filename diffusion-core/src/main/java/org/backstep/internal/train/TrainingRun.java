@@ -71,6 +71,7 @@ public final class TrainingRun implements AutoCloseable {
     private final ReverseNetwork net;
     private final Chain chain;
     private final GaussianBaseline baseline;   // null without a closed-form part
+    private final org.backstep.table.Whitening whitening;   // null in standardized coordinates
     private final boolean learned;
     private final int batch;
     private final int batchesPerEpoch;
@@ -161,6 +162,7 @@ public final class TrainingRun implements AutoCloseable {
         xv = prepared.checkpoint;
         nv = prepared.checkpointCount;
         gaps = prepared.gaps;
+        whitening = prepared.whitening;
         d = prepared.width();
         steps = options.steps();
         int outputs = Chain.outputsOf(options.variance(), transform);
@@ -309,7 +311,9 @@ public final class TrainingRun implements AutoCloseable {
             Chain evalChain = chainOver(averaged);
             BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
                     options.seed() + 1, options.threads());
-            double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv;
+            // minus log|det W| of a whitened chain: the history's bound is in the standardized space too
+            double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv
+                    - evalChain.logDeterminant();
             bound = OptionalDouble.of(mean);
             lastBound = bound;
             if (bestWeights == null || mean < bestBound || Double.isNaN(bestBound)) {
@@ -394,13 +398,13 @@ public final class TrainingRun implements AutoCloseable {
                 Trainer.seconds(started),
                 history, notes);
         return new Trainer.Fitted(ModelParts.ofNetwork(options, transform, fitted, baseline, provenance,
-                ModelRange.of(x0, n, d, dc)), step,
+                ModelRange.of(x0, n, d, dc), whitening), step,
                 step / (double) batchesPerEpoch, updateNanos / 1e9);
     }
 
     /** The training chain over the given weights, with the run's closed-form part (if any). */
     private Chain chainOver(ReverseNetwork weights) {
-        return Chain.of(options, transform, new NetworkEstimator(weights, baseline, learned));
+        return Chain.of(options, transform, new NetworkEstimator(weights, baseline, learned), whitening);
     }
 
     /** Releases the worker threads; idempotent. */

@@ -1,0 +1,33 @@
+package org.backstep.option;
+
+/**
+ * The coordinates in which the continuous columns are diffused. The chain of every job (training,
+ * bound, sampling, imputation, denoising) runs in these coordinates; every figure a job reports is
+ * in the caller's standardized model space.
+ *
+ * <p>With y the standardized model-space cells of the CONTINUOUS columns (integer, binary and
+ * categorical columns are never whitened: an integer column's decoder needs its own axis), m their
+ * training mean and Sigma their training covariance shrunk toward a multiple of the identity by
+ * Ledoit &amp; Wolf's estimate of the intensity (2004, "A well-conditioned estimator for
+ * large-dimensional covariance matrices", J. Multivariate Analysis 88:365-411, section 3.3), the
+ * whitened coordinates are
+ * <pre>
+ *   z = W (y - m),   W = Sigma^(-1/2)   (symmetric "ZCA" whitening; Kessy, Lewis &amp; Strimmer 2018,
+ *                                        "Optimal Whitening and Decorrelation", section 3)
+ *   log p_y(y) = log p_z(z) + log |det W|   (the change of variables; Dinh et al. 2017, section 3.1)
+ * </pre>
+ * so bounds and likelihoods add log |det W| = -(1/2) log det Sigma back. With
+ * {@link Baseline#STANDARD_NORMAL} a zero network is then the Gaussian N(m, Sigma) fitted on the
+ * training rows. Imputation and denoising hold the observed cells in y while the chain runs in z by
+ * the regression-adjusted replacement of {@link Conditioning#REPLACEMENT} (see there).
+ */
+public enum Coordinates {
+    /** Each continuous column standardized on its own (format versions 1 to 4). */
+    STANDARDIZED,
+    /**
+     * The continuous columns whitened by the training covariance, z = Sigma^(-1/2) (y - m); needs
+     * complete training rows (a row with a gap has no whitened value) and more training rows than
+     * continuous columns.
+     */
+    WHITENED
+}
