@@ -261,10 +261,7 @@ public final class DiffusionModel {
         Require.notNull("rowSeeds", rowSeeds);
         Require.inRange("steps", how.steps(), 0, steps());
         checkComplete(records, "records");
-        if (rowSeeds.length != records.rows()) {
-            throw new IllegalArgumentException("rowSeeds has " + rowSeeds.length + " seeds; expected "
-                    + records.rows() + " (one per record)");
-        }
+        checkRowSeeds(rowSeeds, records.rows());
         return engine.bound(records, how, rowSeeds.clone());
     }
 
@@ -316,7 +313,7 @@ public final class DiffusionModel {
         float[] x = engine.modelSpace(records);
         ProbabilityFlow.Result r = flow.evaluate(x, records.rows(), options().threads());
         return FlowLikelihood.of(engine.chain().continuousColumns(), how.relativeTolerance(), how.absoluteTolerance(),
-                engine.standardizedNats(r.nats.clone()), r.prior, transform().logJacobian(records), r.evaluations);
+                engine.standardizedNats(r.nats), r.prior, transform().logJacobian(records), r.evaluations);
     }
 
     /**

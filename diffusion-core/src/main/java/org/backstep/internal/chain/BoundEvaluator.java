@@ -58,14 +58,8 @@ public final class BoundEvaluator {
             from = c * Parallel.CHUNK_ROWS;
             n = Math.min(Parallel.CHUNK_ROWS, rows - from);
             x = slice(x0, from, n, chain.d);
-            rng = new SplittableRandom[n];
-            if (rowSeeds == null) {
-                java.util.Arrays.fill(rng, Parallel.random(seed, c));
-            } else {
-                for (int r = 0; r < n; r++) {
-                    rng[r] = Parallel.random(rowSeeds[from + r], 0);
-                }
-            }
+            // with row seeds the job's seed is not read: row i draws from its own seed alone
+            rng = Parallel.generators(rowSeeds == null ? seed : 0L, rowSeeds, c, n);
             ws = chain.workspace(replicas * n);
             xt = new float[replicas * n * chain.d];
             k = new int[replicas * n];
@@ -182,6 +176,9 @@ public final class BoundEvaluator {
             }
         }
         int most = plan.most();
+        // each chunk holds its rows' replicas of x_t (and x_0 when most > 1): refused before any allocation
+        org.backstep.option.Limits.checkCells("termDraws x chunk rows x model-space columns of the bound's replicas",
+                most, Math.min(Parallel.CHUNK_ROWS, rows), chain.d);
         double[][] sobol = plan.kind == TermDraws.Kind.SHIFTED_SOBOL ? TermDraws.sobolPoints(most, chain.d) : null;
         Parallel.forEachChunk(chunks, threads, c -> {
             Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds, most);
@@ -197,6 +194,8 @@ public final class BoundEvaluator {
             java.util.Map<Integer, Chain.Workspace> spaces = new java.util.HashMap<>();
             spaces.put(most, ch.ws);
             double[] noise = new double[d];
+            double[] shift = plan.kind == TermDraws.Kind.SHIFTED_SOBOL ? new double[d] : null;
+            double[] replicaCont = perChunkVariance != null ? new double[most] : null;
             double[] cont = new double[n];
             double[] bin = new double[n];
             boolean linearizing = chain.dc > 0 && plan.linearizes(1);
@@ -213,7 +212,7 @@ public final class BoundEvaluator {
                 int m = k * n;
                 java.util.Arrays.fill(ch.k, 0, m, s);
                 for (int r = 0; r < n; r++) {
-                    plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise, eps);
+                    plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise, shift, eps);
                 }
                 Chain.Workspace ws = spaces.computeIfAbsent(k, kk -> chain.workspace(kk * n));
                 float[] out = chain.predictAtStep(ws, ch.xt, s);
@@ -245,7 +244,11 @@ public final class BoundEvaluator {
                     double termBin = 0.0;
                     for (int i = 0; i < k; i++) {
                         int at = i * n + r;
-                        termCont += subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
+                        double one = subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
+                        if (replicaCont != null) {
+                            replicaCont[i] = one;
+                        }
+                        termCont += one;
                         termBin += ch.stepBin[at];
                     }
                     termCont /= k;
@@ -254,8 +257,7 @@ public final class BoundEvaluator {
                         double mean = termCont + termBin;
                         double squares = 0.0;
                         for (int i = 0; i < k; i++) {
-                            int at = i * n + r;
-                            double one = (subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at]) + ch.stepBin[at];
+                            double one = replicaCont[i] + ch.stepBin[i * n + r];
                             squares += (one - mean) * (one - mean);
                         }
                         perChunkVariance[c][s] += squares / (k - 1);

@@ -194,20 +194,15 @@ public final class BoundTerms {
      */
     static void rowTerms(Chain c, float[] x0, float[] xt, float[] out, int rows, int[] k, double[] contOut,
                          double[] binOut) {
+        rowContinuousTerms(c, x0, xt, out, rows, k, contOut);
         int dc = c.dc;
         int d = c.d;
         int outputs = c.outputs;
-        boolean learned = c.variance == ReverseVariance.LEARNED;
         double[][] logits = c.logitBuffers();
         for (int r = 0; r < rows; r++) {
             int s = k[r];
             int o = r * d;
             int oo = r * outputs;
-            double cont = 0.0;
-            for (int j = 0; j < dc; j++) {
-                double v = learned ? out[oo + dc + j] : 0.0;
-                cont += continuousCell(c, s, j, x0[o + j], xt[o + j], out[oo + j], v, null);
-            }
             double bin = 0.0;
             for (int j = 0; j < c.db; j++) {
                 bin += binary(c, s, x0[o + dc + j] > 0.5f ? 1 : 0, xt[o + dc + j] > 0.5f ? 1 : 0,
@@ -218,7 +213,6 @@ public final class BoundTerms {
                 int at = o + c.discreteEnd + j;
                 bin += categorical(c, s, j, (int) x0[at], (int) xt[at], logits[j], null);
             }
-            contOut[r] += cont;
             binOut[r] += bin;
         }
     }
@@ -322,7 +316,7 @@ public final class BoundTerms {
 
     /**
      * The continuous cells' part of {@link #rowTerms}: the terms of step k for every row, summed
-     * over the continuous cells, added into contOut (the same sums, cell by cell, as rowTerms's).
+     * over the continuous cells, added into contOut (rowTerms's continuous half).
      */
     static void rowContinuousTerms(Chain c, float[] x0, float[] xt, float[] out, int rows, int[] k, double[] contOut) {
         int dc = c.dc;

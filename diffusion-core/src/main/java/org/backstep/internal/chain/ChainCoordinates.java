@@ -4,9 +4,11 @@ import java.util.Map;
 import java.util.SplittableRandom;
 import java.util.concurrent.ConcurrentHashMap;
 import org.apache.commons.math3.linear.Array2DRowRealMatrix;
+import org.apache.commons.math3.linear.ArrayRealVector;
 import org.apache.commons.math3.linear.CholeskyDecomposition;
 import org.apache.commons.math3.linear.DecompositionSolver;
 import org.apache.commons.math3.linear.RealMatrix;
+import org.apache.commons.math3.linear.RealVector;
 import org.backstep.schedule.Require;
 import org.backstep.table.Whitening;
 
@@ -126,14 +128,18 @@ final class ChainCoordinates {
         double sn = chain.sqrtOneMinusAbar[s];
         int[] obs = new int[p];
         double[] e = new double[p];
+        // buffers of the call: the right-hand side by count of observed cells (the solver needs its exact
+        // length), the key of a pattern, and the previous row's pattern and solver (rows often share one)
+        double[][] deltas = new double[p + 1][];
+        char[] key = new char[p];
+        int[] lastObs = new int[p];
+        int lastNo = -1;
+        DecompositionSolver last = null;
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             int no = 0;
-            StringBuilder key = new StringBuilder(p);
             for (int a = 0; a < p; a++) {
-                boolean seen = !Float.isNaN(known[o + columns[a]]);
-                key.append(seen ? '1' : '0');
-                if (seen) {
+                if (!Float.isNaN(known[o + columns[a]])) {
                     obs[no++] = a;
                 }
             }
@@ -145,7 +151,11 @@ final class ChainCoordinates {
                     e[a] = rng[r].nextGaussian();
                 }
             }
-            double[] delta = new double[no];
+            double[] delta = deltas[no];
+            if (delta == null) {
+                delta = new double[no];
+                deltas[no] = delta;
+            }
             for (int i = 0; i < no; i++) {
                 int a = obs[i];
                 double old = sa * mean[a];
@@ -159,12 +169,20 @@ final class ChainCoordinates {
                 double fresh = sa * known[o + columns[a]] + sn * noise;
                 delta[i] = fresh - old;
             }
-            double[] c = solver(key.toString(), obs, no).solve(new org.apache.commons.math3.linear.ArrayRealVector(delta,
-                    false)).toArray();
+            if (no != lastNo || !java.util.Arrays.equals(obs, 0, no, lastObs, 0, no)) {
+                java.util.Arrays.fill(key, '0');
+                for (int i = 0; i < no; i++) {
+                    key[obs[i]] = '1';
+                }
+                last = solver(new String(key), obs, no);
+                System.arraycopy(obs, 0, lastObs, 0, no);
+                lastNo = no;
+            }
+            RealVector c = last.solve(new ArrayRealVector(delta, false));
             for (int a = 0; a < p; a++) {
                 double sum = x[o + columns[a]];
                 for (int i = 0; i < no; i++) {
-                    sum += wInv[a][obs[i]] * c[i];
+                    sum += wInv[a][obs[i]] * c.getEntry(i);
                 }
                 x[o + columns[a]] = (float) sum;
             }

@@ -79,7 +79,6 @@ public final class Denoiser {
         }
         Chain full = engine.chain();
         int[] wcols = full.whitened() ? full.coordinates.columns : new int[0];
-        double[][] wInv = null;
         double[][] w = null;
         double[] wm = null;
         double[][] extraRoot = null;    // (L Sigma - S)^(1/2) of the whitened block, set once the start step is known
@@ -88,7 +87,6 @@ public final class Denoiser {
             // whitened columns: the noise n ~ N(0, S), S = diag(s_j^2), is W S W in z; the start level must cover
             // its largest eigenvalue so that a topping-up of covariance L Sigma - S exists
             w = full.coordinates.whitening.matrix();
-            wInv = full.coordinates.whitening.inverseMatrix();
             wm = full.coordinates.whitening.mean();
             int p = wcols.length;
             noiseW = new double[p][p];

@@ -77,7 +77,7 @@ public final class Engine {
         float[] x = standardized(records);
         if (chain.whitened()) {
             int d = chain.d;
-            int[] cols = Chain.whitenedColumns(parts.transform());
+            int[] cols = chain.coordinates.columns;
             int[] cont = parts.transform().modelledContinuous();
             for (int r = 0; r < records.rows(); r++) {
                 for (int j : cols) {

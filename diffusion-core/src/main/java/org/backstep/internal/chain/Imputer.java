@@ -68,9 +68,9 @@ public final class Imputer {
         List<Table> tables = new ArrayList<>();
         for (int k = 0; k < how.draws(); k++) {
             long drawSeed = seed + 1_000_003L * k;
-            float[] all = rowSeeds == null
-                    ? drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), drawSeed)
-                    : drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(), 1_000_003L * k, todoSeeds);
+            // todoSeeds is null without row seeds: the job's seed of draw k, else draw k's offset to each row's seed
+            float[] all = drawGiven(c, known, n, how.rounds(), how.method(), engine.threads(),
+                    rowSeeds == null ? drawSeed : 1_000_003L * k, todoSeeds);
             double[][] completed = records.toArray();
             if (n > 0) {
                 Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, n, c.d));

@@ -88,6 +88,9 @@ final class LinearizedTerms {
         double diag = ct - 1.0 / c.sqrtAlpha[k];
         double lq = c.logVarClipped[k];
         double expLq = Math.exp(lq);
+        // not learned: v = 0 and the reverse log-variance, its slope (0) and precision are the step's constants
+        double lvFixed = learned ? 0.0 : c.reverseLogVariance(k, 0.0);
+        double pFixed = learned ? 0.0 : Math.exp(-lvFixed);
         double[] bj = new double[dc];
         double[] lj = new double[dc];
         java.util.Arrays.fill(q, 0, reps * n, 0.0);
@@ -101,8 +104,8 @@ final class LinearizedTerms {
                 }
                 double h = out[ob + j];
                 double v0 = learned ? out[ob + dc + j] : 0.0;
-                double lv0 = c.reverseLogVariance(k, v0);
-                double slope = BoundTerms.logVariancePerV(c, k, v0);
+                double lv0 = learned ? c.reverseLogVariance(k, v0) : lvFixed;
+                double slope = learned ? BoundTerms.logVariancePerV(c, k, v0) : 0.0;
                 double xbar = (float) (sa * x0[o + j]);
                 double a = c0 * x0[o + j] + diag * xbar + g * h;
                 double bb = 0.0;
@@ -116,7 +119,7 @@ final class LinearizedTerms {
                     bb += bj[i] * bj[i];
                     bl += bj[i] * lj[i];
                 }
-                double p0 = Math.exp(-lv0);
+                double p0 = learned ? Math.exp(-lv0) : pFixed;
                 double second = a * a + bb - 2.0 * a * bl;
                 e0 += k == 1 ? 0.5 * (BoundTerms.LOG_2PI + lv0 + p0 * second)
                         : 0.5 * (lv0 - lq + p0 * (expLq + second) - 1.0);

@@ -175,17 +175,38 @@ public final class Parallel {
             int from = chunk * CHUNK_ROWS;
             int n = Math.min(CHUNK_ROWS, rows - from);
             float[] x = new float[n * d];
-            SplittableRandom[] rng = new SplittableRandom[n];
-            if (rowSeeds == null) {
-                java.util.Arrays.fill(rng, random(offset, chunk));
-            } else {
-                for (int r = 0; r < n; r++) {
-                    rng[r] = random(rowSeeds[from + r] + offset, 0);
-                }
-            }
-            body.fill(from, n, rng, x);
+            body.fill(from, n, generators(offset, rowSeeds, chunk, n), x);
             System.arraycopy(x, 0, all, from * d, n * d);
         });
+        return all;
+    }
+
+    /**
+     * The generators of chunk {@code chunk}'s n rows: without row seeds, {@link #random(long, long)}(offset,
+     * chunk) shared by every row; with them, row i's own {@link #random(long, long)}(rowSeeds[i] + offset, 0).
+     *
+     * @param offset the job's seed, or with row seeds the offset added to each
+     * @param rowSeeds one seed per row of the job, or null
+     * @param chunk the chunk (its first row is chunk x {@link #CHUNK_ROWS})
+     * @param n the chunk's rows
+     * @return n generators
+     */
+    static SplittableRandom[] generators(long offset, long[] rowSeeds, int chunk, int n) {
+        if (rowSeeds == null) {
+            return sameForEveryRow(random(offset, chunk), n);
+        }
+        int from = chunk * CHUNK_ROWS;
+        SplittableRandom[] rng = new SplittableRandom[n];
+        for (int r = 0; r < n; r++) {
+            rng[r] = random(rowSeeds[from + r] + offset, 0);
+        }
+        return rng;
+    }
+
+    /** @return {@code rows} entries, each {@code rng} (every row draws from the one generator) */
+    static SplittableRandom[] sameForEveryRow(SplittableRandom rng, int rows) {
+        SplittableRandom[] all = new SplittableRandom[rows];
+        java.util.Arrays.fill(all, rng);
         return all;
     }
 }

@@ -43,13 +43,6 @@ public final class ReverseRun {
         run(chain, x, rows, from, known, rounds, kind, eta, Conditioning.REPLACEMENT, rng);
     }
 
-    /** @return an array of {@code rows} entries, each {@code rng} (the chunk's one generator for every row) */
-    static SplittableRandom[] sameForEveryRow(SplittableRandom rng, int rows) {
-        SplittableRandom[] all = new SplittableRandom[rows];
-        java.util.Arrays.fill(all, rng);
-        return all;
-    }
-
     /**
      * As {@link #run(Chain, float[], int, int, float[], int, SamplerKind, double, SplittableRandom[])},
      * with the known cells held by the given method.
@@ -67,7 +60,7 @@ public final class ReverseRun {
      */
     public static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
                     double eta, Conditioning conditioning, SplittableRandom rng) {
-        run(chain, x, rows, from, known, rounds, kind, eta, conditioning, sameForEveryRow(rng, rows));
+        run(chain, x, rows, from, known, rounds, kind, eta, conditioning, Parallel.sameForEveryRow(rng, rows));
     }
 
     /**

@@ -136,10 +136,8 @@ public final class TermDraws {
         return t;
     }
 
-    /** @return true for one independent draw at every step (the historical bound, same bits) */
-    boolean isSingle() {
-        return kind == Kind.INDEPENDENT && most() == 1 && linearized == 0;
-    }
+    /** The most dimensions of commons-math3's Sobol sequence (its direction numbers). */
+    static final int SOBOL_MAX_DIMENSIONS = 1000;
 
     /**
      * The first {@code k} points of the Sobol sequence in {@code d} dimensions, k x d.
@@ -149,6 +147,11 @@ public final class TermDraws {
      * @return the points
      */
     static double[][] sobolPoints(int k, int d) {
+        if (d > SOBOL_MAX_DIMENSIONS) {
+            throw new IllegalArgumentException("termDraws is " + k + " (shifted Sobol points) and the chain has " + d
+                    + " model-space columns; shifted Sobol points cover at most " + SOBOL_MAX_DIMENSIONS
+                    + " columns (commons-math3's direction numbers): use termDraws 1");
+        }
         SobolSequenceGenerator g = new SobolSequenceGenerator(d);
         double[][] p = new double[k][];
         for (int i = 0; i < k; i++) {
@@ -171,10 +174,11 @@ public final class TermDraws {
      * @param rng the row's generator
      * @param xt (k rows) x D, written at the replicas of row r
      * @param noise D scratch entries
+     * @param shift D scratch entries (SHIFTED_SOBOL's shift of the row), else unread
      * @param eps null, or (k rows) x Dc: written with each replica's continuous noise
      */
     void fillReplicas(Chain chain, float[] x0, int rows, int r, int s, int k, double[][] sobol, SplittableRandom rng,
-                      float[] xt, double[] noise, double[] eps) {
+                      float[] xt, double[] noise, double[] shift, double[] eps) {
         int d = chain.d;
         int dc = chain.dc;
         int o = r * d;
@@ -205,7 +209,6 @@ public final class TermDraws {
                 }
             }
             case SHIFTED_SOBOL -> {
-                double[] shift = new double[d];
                 for (int j = 0; j < d; j++) {
                     shift[j] = rng.nextDouble();
                 }
