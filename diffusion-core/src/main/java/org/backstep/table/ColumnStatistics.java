@@ -1,5 +1,7 @@
 package org.backstep.table;
 
+import org.backstep.schedule.Require;
+
 /**
  * What {@link TableTransform} needs to know of one continuous or integer column's observed
  * (non-missing) training cells to build its transform, computed wherever the rows are: by
@@ -36,15 +38,13 @@ public record ColumnStatistics(long observed, long missing, double min, double m
         if (missing < 0) {
             throw new IllegalArgumentException("missing is " + missing + "; expected at least 0");
         }
-        if (!Double.isFinite(min) || !Double.isFinite(max) || !(min <= max)) {
+        Require.finite("min", min);
+        Require.finite("max", max);
+        if (!(min <= max)) {
             throw new IllegalArgumentException("min is " + min + " and max is " + max
-                    + "; expected finite values with min <= max");
+                    + "; expected min <= max");
         }
-        if (!Double.isFinite(mean)) {
-            throw new IllegalArgumentException("mean is " + mean + "; expected a finite value");
-        }
-        if (!Double.isFinite(sd) || sd < 0) {
-            throw new IllegalArgumentException("sd is " + sd + "; expected a finite value at least 0");
-        }
+        Require.finite("mean", mean);
+        Require.nonNegative("sd", sd);
     }
 }

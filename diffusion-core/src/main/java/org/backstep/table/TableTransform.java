@@ -147,28 +147,47 @@ public final class TableTransform {
         return fit(training, Set.of(), bandwidthMultiple);
     }
 
+    /**
+     * Refuses a log column that is not CONTINUOUS; {@code kind} null means no such column among
+     * {@code names}.
+     */
+    private static void requireContinuousLog(String name, ColumnKind kind, List<String> names) {
+        if (kind != ColumnKind.CONTINUOUS) {
+            throw new IllegalArgumentException("log column '" + name + "' is "
+                    + (kind == null ? "not a column of " + names : kind.toString())
+                    + "; expected a CONTINUOUS column");
+        }
+    }
+
+    /**
+     * The transform of a BINARY column (identity) or a CATEGORICAL one of {@code categories} labels
+     * (the constant 0 for a single label, else identity); null for CONTINUOUS and INTEGER columns.
+     */
+    private static ColumnTransform discreteTransform(ColumnKind kind, int categories) {
+        if (kind == ColumnKind.BINARY) {
+            return ColumnTransform.identity();
+        }
+        if (kind == ColumnKind.CATEGORICAL) {
+            return categories == 1 ? ColumnTransform.constant(0.0) : ColumnTransform.identity();
+        }
+        return null;
+    }
+
     /** bandwidthMultiple NaN: STANDARDIZE and LOG_STANDARDIZE; else NORMAL_SCORES with that multiple. */
     private static TableTransform fit(Table training, Set<String> logColumns, double bandwidthMultiple) {
         boolean scores = !Double.isNaN(bandwidthMultiple);
         for (String name : logColumns) {
-            int c = training.indexOf(name);
-            if (training.kind(c) != ColumnKind.CONTINUOUS) {
-                throw new IllegalArgumentException("log column '" + name + "' is " + training.kind(c)
-                        + "; expected a CONTINUOUS column");
-            }
+            requireContinuousLog(name, training.kind(training.indexOf(name)), null);
         }
         List<ColumnTransform> transforms = new ArrayList<>(training.columns());
         List<String> fitNotes = new ArrayList<>();
         java.util.Map<String, Long> lowest = new java.util.LinkedHashMap<>();
         for (int c = 0; c < training.columns(); c++) {
             String name = training.name(c);
-            if (training.kind(c) == ColumnKind.BINARY) {
-                transforms.add(ColumnTransform.identity());
-                continue;
-            }
-            if (training.kind(c) == ColumnKind.CATEGORICAL) {
-                transforms.add(training.categories(c).size() == 1 ? ColumnTransform.constant(0.0)
-                        : ColumnTransform.identity());
+            ColumnTransform discrete = discreteTransform(training.kind(c),
+                    training.kind(c) == ColumnKind.CATEGORICAL ? training.categories(c).size() : 0);
+            if (discrete != null) {
+                transforms.add(discrete);
                 continue;
             }
             boolean whole = training.kind(c) == ColumnKind.INTEGER;
@@ -253,11 +272,7 @@ public final class TableTransform {
         Table.Layout layout = Table.Layout.of(names, kinds, categories);
         for (String name : logColumns) {
             Integer at = layout.index.get(name);
-            if (at == null || layout.kinds.get(at) != ColumnKind.CONTINUOUS) {
-                throw new IllegalArgumentException("log column '" + name + "' is "
-                        + (at == null ? "not a column of " + layout.names : layout.kinds.get(at).toString())
-                        + "; expected a CONTINUOUS column");
-            }
+            requireContinuousLog(name, at == null ? null : layout.kinds.get(at), layout.names);
         }
         for (String name : statistics.keySet()) {
             Integer at = layout.index.get(name);
@@ -273,11 +288,10 @@ public final class TableTransform {
         for (int c = 0; c < layout.names.size(); c++) {
             String name = layout.names.get(c);
             ColumnKind kind = layout.kinds.get(c);
-            if (kind == ColumnKind.BINARY) {
-                transforms.add(ColumnTransform.identity());
-            } else if (kind == ColumnKind.CATEGORICAL) {
-                transforms.add(layout.categories.get(c).size() == 1 ? ColumnTransform.constant(0.0)
-                        : ColumnTransform.identity());
+            ColumnTransform discrete = discreteTransform(kind,
+                    kind == ColumnKind.CATEGORICAL ? layout.categories.get(c).size() : 0);
+            if (discrete != null) {
+                transforms.add(discrete);
             } else {
                 ColumnStatistics s = statistics.get(name);
                 if (s == null) {

@@ -67,8 +67,18 @@ public final class Whitening {
             throw new IllegalArgumentException("rows has " + rows.length + " rows of " + d
                     + " columns; expected more rows than columns for a nonsingular covariance");
         }
-        double[][] columns = new double[d][rows.length];
-        for (int r = 0; r < rows.length; r++) {
+        double[][] ms = meanAndCovariance(rows, d);
+        return of(ms[0], Arrays.copyOfRange(ms, 1, d + 1), 0.0);
+    }
+
+    /**
+     * Checks the rows (ragged, non-finite cells) and returns the column means m (row 0) followed by
+     * the d x d population covariance S = (1/n) sum_r (x_r - m)(x_r - m)^T (rows 1..d).
+     */
+    private static double[][] meanAndCovariance(double[][] rows, int d) {
+        int n = rows.length;
+        double[][] columns = new double[d][n];
+        for (int r = 0; r < n; r++) {
             if (rows[r] == null || rows[r].length != d) {
                 throw new IllegalArgumentException("rows[" + r + "] has " + (rows[r] == null ? "no array (null)"
                         : rows[r].length + " values") + "; expected " + d);
@@ -82,22 +92,26 @@ public final class Whitening {
                 columns[c][r] = v;
             }
         }
+        double[][] out = new double[d + 1][];
         double[] m = new double[d];
         for (int c = 0; c < d; c++) {
             m[c] = TableTransform.mean(columns[c]);
         }
-        double[][] s = new double[d][d];
+        out[0] = m;
+        for (int a = 0; a < d; a++) {
+            out[a + 1] = new double[d];
+        }
         for (int a = 0; a < d; a++) {
             for (int b = 0; b <= a; b++) {
                 double sum = 0.0;
-                for (int r = 0; r < rows.length; r++) {
+                for (int r = 0; r < n; r++) {
                     sum += (columns[a][r] - m[a]) * (columns[b][r] - m[b]);
                 }
-                s[a][b] = sum / rows.length;
-                s[b][a] = s[a][b];
+                out[a + 1][b] = sum / n;
+                out[b + 1][a] = out[a + 1][b];
             }
         }
-        return of(m, s, 0.0);
+        return out;
     }
 
     /**
@@ -122,40 +136,14 @@ public final class Whitening {
         int d = rows[0] == null ? 0 : rows[0].length;
         Require.atLeast("columns", d, 1);
         int n = rows.length;
+        double[][] ms = meanAndCovariance(rows, d);
+        double[] m = ms[0];
+        double[][] s = Arrays.copyOfRange(ms, 1, d + 1);
         double[][] centred = new double[n][];
-        double[] m = new double[d];
-        double[][] columns = new double[d][n];
-        for (int r = 0; r < n; r++) {
-            if (rows[r] == null || rows[r].length != d) {
-                throw new IllegalArgumentException("rows[" + r + "] has " + (rows[r] == null ? "no array (null)"
-                        : rows[r].length + " values") + "; expected " + d);
-            }
-            for (int c = 0; c < d; c++) {
-                if (!Double.isFinite(rows[r][c])) {
-                    throw new IllegalArgumentException("rows[" + r + "][" + c + "] is " + rows[r][c]
-                            + "; expected a finite value (whitening needs complete rows)");
-                }
-                columns[c][r] = rows[r][c];
-            }
-        }
-        for (int c = 0; c < d; c++) {
-            m[c] = TableTransform.mean(columns[c]);
-        }
         for (int r = 0; r < n; r++) {
             centred[r] = new double[d];
             for (int c = 0; c < d; c++) {
                 centred[r][c] = rows[r][c] - m[c];
-            }
-        }
-        double[][] s = new double[d][d];
-        for (int a = 0; a < d; a++) {
-            for (int b = 0; b <= a; b++) {
-                double sum = 0.0;
-                for (int r = 0; r < n; r++) {
-                    sum += centred[r][a] * centred[r][b];
-                }
-                s[a][b] = sum / n;
-                s[b][a] = s[a][b];
             }
         }
         double mu = 0.0;
@@ -324,6 +312,54 @@ public final class Whitening {
             z[a] = sum;
         }
         return z;
+    }
+
+    /**
+     * z = W (y - m) for the selected columns of each row of a row-major float buffer, in place: for
+     * row r, y[a] = rows[r * width + columns[a]], and z[a] (rounded to float) replaces it. The
+     * arithmetic is that of {@link #whiten(double[])} (in double, same summation order); no array is
+     * allocated per row.
+     *
+     * @param rows count x width values, row-major (modified in the selected columns of the first count rows)
+     * @param count the number of rows, at least 0, with count * width &lt;= rows.length
+     * @param width the values per row, at least 1
+     * @param columns d distinct column indices in [0, width), the order of this whitening's columns (not modified)
+     * @throws IllegalArgumentException naming the parameter out of range, or the row and column of a NaN cell
+     */
+    public void whitenInPlace(float[] rows, int count, int width, int[] columns) {
+        Require.notNull("rows", rows);
+        Require.notNull("columns", columns);
+        Require.atLeast("count", count, 0);
+        Require.atLeast("width", width, 1);
+        int d = mean.length;
+        if (columns.length != d) {
+            throw new IllegalArgumentException("columns has " + columns.length + " indices; expected " + d);
+        }
+        for (int a = 0; a < d; a++) {
+            Require.inRange("columns[" + a + "]", columns[a], 0, width - 1);
+        }
+        if ((long) count * width > rows.length) {
+            throw new IllegalArgumentException("rows has " + rows.length + " values; expected at least count * width = "
+                    + (long) count * width);
+        }
+        double[] y = new double[d];
+        for (int r = 0; r < count; r++) {
+            int base = r * width;
+            for (int a = 0; a < d; a++) {
+                y[a] = rows[base + columns[a]];
+                if (Double.isNaN(y[a])) {
+                    throw new IllegalArgumentException("rows[" + r + "][" + columns[a] + "] is NaN; whitening mixes "
+                            + "columns, so a row with a missing cell has no whitened value");
+                }
+            }
+            for (int a = 0; a < d; a++) {
+                double sum = 0.0;
+                for (int b = 0; b < d; b++) {
+                    sum += matrix[a][b] * (y[b] - mean[b]);
+                }
+                rows[base + columns[a]] = (float) sum;
+            }
+        }
     }
 
     /**

@@ -273,34 +273,28 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
         double[][] cells = new double[got.size()][d];
         double[] scores = new double[got.size()];
         // a categorical column's labels: the model's, then those it does not know, in order of first appearance
-        java.util.Map<String, List<String>> categories = new java.util.HashMap<>();
-        java.util.List<java.util.Map<String, Integer>> index = new java.util.ArrayList<>();
+        java.util.Map<String, ColumnMatch.LabelsSeen> seen = new java.util.HashMap<>();
         for (int j = 0; j < d; j++) {
-            java.util.Map<String, Integer> at = new java.util.HashMap<>();
             if (kinds.get(j) == org.backstep.table.ColumnKind.CATEGORICAL) {
-                List<String> labels = new java.util.ArrayList<>(CoreCalls.categories(model()).get(names.get(j)));
-                for (int k = 0; k < labels.size(); k++) {
-                    at.put(labels.get(k), k);
-                }
-                categories.put(names.get(j), labels);
+                seen.put(names.get(j), new ColumnMatch.LabelsSeen(CoreCalls.categories(model()).get(names.get(j))));
             }
-            index.add(at);
         }
         for (int i = 0; i < got.size(); i++) {
             Row r = got.get(i);
             for (int j = 0; j < d; j++) {
                 if (kinds.get(j) == org.backstep.table.ColumnKind.CATEGORICAL) {
-                    List<String> labels = categories.get(names.get(j));
-                    cells[i][j] = index.get(j).computeIfAbsent(r.getString(j), l -> {
-                        labels.add(l);
-                        return labels.size() - 1;
-                    });
+                    int row = i;
+                    String column = names.get(j);
+                    cells[i][j] = seen.get(column).indexOf(r.getString(j),
+                            () -> name + " row " + row + ", column '" + column + "'");
                 } else {
                     cells[i][j] = r.getDouble(j);
                 }
             }
             scores[i] = r.getDouble(d);
         }
+        java.util.Map<String, List<String>> categories = new java.util.HashMap<>();
+        seen.forEach((column, labels) -> categories.put(column, labels.labels()));
         return new Object[] {org.backstep.table.Table.of(names, kinds, categories, cells), scores};
     }
 
@@ -337,7 +331,7 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
         List<org.backstep.table.ColumnKind> kinds = CoreCalls.kinds(model());
         StructType schema = new StructType();
         for (int j = 0; j < names.size(); j++) {
-            schema = schema.add(DataTypes.createStructField(names.get(j), SampleJob.cellType(kinds.get(j)), false));
+            schema = schema.add(DataTypes.createStructField(names.get(j), SampleJob.sampledCellType(kinds.get(j)), false));
         }
         return spark.range(0, partitions, 1, partitions).as(Encoders.LONG())
                 .mapPartitions(new SampleJob(broadcast(spark), sha256, count, partitions, seed, slice), Encoders.row(schema));

@@ -45,7 +45,8 @@ final class ColumnMatch implements Serializable {
     private final String keyCol;
     private final String[] modelNames;
     private final List<List<String>> labels;                 // per column: the model's labels, or null
-    private final List<Map<String, Integer>> labelIndex;     // per column: label -> index, or null
+    /** Per column: label -> index, or null; derived from {@link #labels}, rebuilt after deserialization. */
+    private transient List<Map<String, Integer>> labelIndex;
 
     /** The cell of a categorical label the model does not know (its training table did not have it). */
     static final double UNSEEN = -1.0;
@@ -63,17 +64,27 @@ final class ColumnMatch implements Serializable {
         this.keyCol = keyCol;
         this.modelNames = modelNames;
         this.labels = labels;
-        this.labelIndex = new ArrayList<>();
-        for (List<String> l : labels) {
-            Map<String, Integer> m = null;
-            if (l != null) {
-                m = new HashMap<>();
-                for (int k = 0; k < l.size(); k++) {
-                    m.put(l.get(k), k);
-                }
+    }
+
+    /** @return per column, label -> index (null for a column without labels), built at first use */
+    private List<Map<String, Integer>> labelIndex() {
+        if (labelIndex == null) {
+            List<Map<String, Integer>> built = new ArrayList<>();
+            for (List<String> l : labels) {
+                built.add(l == null ? null : labelMap(l));
             }
-            labelIndex.add(m);
+            labelIndex = built;
         }
+        return labelIndex;
+    }
+
+    /** @return label -> its index in {@code labels} */
+    static Map<String, Integer> labelMap(List<String> labels) {
+        Map<String, Integer> m = new HashMap<>();
+        for (int k = 0; k < labels.size(); k++) {
+            m.put(labels.get(k), k);
+        }
+        return m;
     }
 
     /**
@@ -199,7 +210,7 @@ final class ColumnMatch implements Serializable {
             if (v == null) {
                 d = Double.NaN;
             } else if (kinds[j] == ColumnKind.CATEGORICAL) {
-                Integer k = labelIndex.get(j).get((String) v);
+                Integer k = labelIndex().get(j).get((String) v);
                 x[j] = k == null ? UNSEEN : k;
                 continue;
             } else if (kinds[j] == ColumnKind.INTEGER) {
@@ -293,35 +304,67 @@ final class ColumnMatch implements Serializable {
             if (kinds[j] != ColumnKind.CATEGORICAL) {
                 continue;
             }
-            List<String> all = new ArrayList<>(labels.get(j));
-            Map<String, Integer> extra = new HashMap<>();
+            LabelsSeen seen = new LabelsSeen(labels.get(j));
             for (int i = 0; i < cells.length; i++) {
                 if (cells[i][j] != UNSEEN) {
                     continue;
                 }
                 String label = (String) rows.get(i).get(index[j]);
-                if (label.isBlank() || !label.strip().equals(label)) {
-                    throw new IllegalArgumentException(where.apply(i).describe(this, rows.get(i)) + ", column '"
-                            + inputCols[j] + "' holds the label '" + label + "', which is blank or has white space at"
-                            + " an end; labels are matched as they are written");
-                }
+                int row = i;
+                int col = j;
+                int k = seen.indexOf(label, () -> where.apply(row).describe(this, rows.get(row)) + ", column '"
+                        + inputCols[col] + "'");
                 if (x == cells) {
                     x = new double[cells.length][];
                     for (int r = 0; r < cells.length; r++) {
                         x[r] = cells[r].clone();
                     }
                 }
-                Integer k = extra.get(label);
-                if (k == null) {
-                    k = all.size();
-                    all.add(label);
-                    extra.put(label, k);
-                }
                 x[i][j] = k;
             }
-            cats.put(names.get(j), all);
+            cats.put(names.get(j), seen.labels());
         }
         return Table.of(names, List.of(kinds), cats, x);
+    }
+
+    /**
+     * A categorical column's labels for the core: the model's, then, in order of first appearance,
+     * the labels it does not know; a label the core cannot hold (blank, or with white space at an
+     * end) is refused. Not thread-safe.
+     */
+    static final class LabelsSeen {
+        private final List<String> all;
+        private final Map<String, Integer> at;
+
+        LabelsSeen(List<String> modelLabels) {
+            all = new ArrayList<>(modelLabels);
+            at = labelMap(modelLabels);
+        }
+
+        /**
+         * @param label a cell's label
+         * @param where names the cell ("the row ..., column '...'") for a refusal
+         * @return its index: the model's, else its place after the model's labels
+         * @throws IllegalArgumentException if a label the model does not know is blank or padded
+         */
+        int indexOf(String label, java.util.function.Supplier<String> where) {
+            Integer k = at.get(label);
+            if (k != null) {
+                return k;
+            }
+            if (label.isBlank() || !label.strip().equals(label)) {
+                throw new IllegalArgumentException(where.get() + " holds the label '" + label
+                        + "', which is blank or has white space at an end; labels are matched as they are written");
+            }
+            at.put(label, all.size());
+            all.add(label);
+            return all.size() - 1;
+        }
+
+        /** @return the model's labels then the unseen ones (the live list) */
+        List<String> labels() {
+            return all;
+        }
     }
 
     /**

@@ -134,7 +134,7 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
             }
             case IMPUTE -> {
                 for (int j = 0; j < match.columns(); j++) {
-                    DataType t = cellType(match.kind(j));
+                    DataType t = jobCellType(match.kind(j));
                     f.add(DataTypes.createStructField(match.inputCol(j) + MEAN, t, false));
                     f.add(DataTypes.createStructField(match.inputCol(j) + LOWER, t, false));
                     f.add(DataTypes.createStructField(match.inputCol(j) + UPPER, t, false));
@@ -142,7 +142,7 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
             }
             case DENOISE -> {
                 for (int j = 0; j < match.columns(); j++) {
-                    f.add(DataTypes.createStructField(match.inputCol(j) + DENOISED, cellType(match.kind(j)), false));
+                    f.add(DataTypes.createStructField(match.inputCol(j) + DENOISED, jobCellType(match.kind(j)), false));
                     f.add(DataTypes.createStructField(match.inputCol(j) + SD, DataTypes.DoubleType, false));
                 }
             }
@@ -151,8 +151,11 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         return f;
     }
 
-    /** @return the type of a job's cell of a column of this kind: a categorical column's label as a string, else a double */
-    static DataType cellType(ColumnKind kind) {
+    /**
+     * @return the type of a row job's cell of a column of this kind: a categorical column's label as
+     *     a string, else (INTEGER included, as the core's model-space values) a double
+     */
+    static DataType jobCellType(ColumnKind kind) {
         return kind == ColumnKind.CATEGORICAL ? DataTypes.StringType : DataTypes.DoubleType;
     }
 
@@ -302,16 +305,17 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         };
         for (int i = 0; i < b; i++) {
             Row row = batch.get(i);
-            cells[i] = match.cells(row, where.apply(i));
+            ColumnMatch.RowName at = where.apply(i);
+            cells[i] = match.cells(row, at);
             int u = match.unseenColumn(cells[i]);
             if (u >= 0 && (kind == Kind.IMPUTE || kind == Kind.DENOISE)) {
-                throw match.unseen(row, where.apply(i), u, job);
+                throw match.unseen(row, at, u, job);
             }
             unseen[i] = u >= 0;
             if (kind != Kind.IMPUTE) {
-                requireComplete(cells[i], row, where.apply(i), job);
+                requireComplete(cells[i], row, at, job);
             }
-            seeds[i] = match.rowSeed(seed, row, cells[i], where.apply(i));
+            seeds[i] = match.rowSeed(seed, row, cells[i], at);
         }
         // the rows sent to the core: all, but for scoring those whose labels the model knows
         int[] sent = IntStream.range(0, b).filter(i -> kind == Kind.COMMON || !unseen[i]).toArray();
@@ -447,7 +451,7 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
     static StructType commonSchema(List<String> names, List<ColumnKind> kinds, String scoreCol) {
         StructType s = new StructType();
         for (int j = 0; j < names.size(); j++) {
-            s = s.add(DataTypes.createStructField(names.get(j), cellType(kinds.get(j)), false));
+            s = s.add(DataTypes.createStructField(names.get(j), jobCellType(kinds.get(j)), false));
         }
         return s.add(DataTypes.createStructField(scoreCol, DataTypes.DoubleType, false));
     }

@@ -52,8 +52,11 @@ final class SampleJob implements MapPartitionsFunction<Long, Row> {
         return (count / partitions) * p + Math.min(p, count % partitions);
     }
 
-    /** @return the DataFrame type of a sampled cell: a label, a whole number or a double */
-    static DataType cellType(ColumnKind kind) {
+    /**
+     * @return the DataFrame type of a sampled cell: a label, a whole number (long) for an INTEGER
+     *     column, or a double
+     */
+    static DataType sampledCellType(ColumnKind kind) {
         return switch (kind) {
             case CATEGORICAL -> DataTypes.StringType;
             case INTEGER -> DataTypes.LongType;

@@ -15,6 +15,7 @@ import org.apache.spark.sql.types.StringType;
 import org.apache.spark.sql.types.StructType;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.ColumnStatistics;
+import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
 
 /**
@@ -87,13 +88,11 @@ final class WholeTableStatistics {
         List<ColumnKind> numericKinds = numeric.stream().map(kinds::get).toList();
         ColumnMatch match = ColumnMatch.of(schema, cols, numericNames, numericKinds, rowKeyCol);
         boolean[] log = new boolean[cols.length];
-        boolean[] whole = new boolean[cols.length];
         for (int j = 0; j < cols.length; j++) {
             log[j] = logColumns.contains(numericNames.get(j));
-            whole[j] = numericKinds.get(j) == ColumnKind.INTEGER;
         }
 
-        Sums first = aggregate(frame, new Sums(match, log, whole, null));
+        Sums first = aggregate(frame, new Sums(match, log, null));
         double[] center = new double[cols.length];
         for (int j = 0; j < cols.length; j++) {
             if (first.observed[j] == 0 && numericKinds.get(j) != ColumnKind.BINARY) {
@@ -101,8 +100,13 @@ final class WholeTableStatistics {
                         + first.rows + " rows of the DataFrame; expected at least one to fit its transform");
             }
             center[j] = first.observed[j] == 0 ? 0.0 : first.sum[j].value() / first.observed[j];
+            if (log[j] && first.observed[j] > 0 && !(first.min[j] > 0)) {
+                // refused before the second pass, in the words of TableTransform.fromStatistics
+                throw new IllegalArgumentException("column '" + cols[j] + "' has the smallest value " + first.min[j]
+                        + "; a log column needs every training value above 0");
+            }
         }
-        Sums second = aggregate(frame, new Sums(match, log, whole, center));
+        Sums second = aggregate(frame, new Sums(match, log, center));
         Map<String, ColumnStatistics> statistics = new LinkedHashMap<>();
         for (int j = 0; j < cols.length; j++) {
             if (numericKinds.get(j) == ColumnKind.BINARY) {
@@ -139,8 +143,12 @@ final class WholeTableStatistics {
         }
         Column c = frame.col(col);
         List<String> labels = new ArrayList<>();
-        for (Row r : frame.select(c).where(c.isNotNull()).distinct().collectAsList()) {
+        for (Row r : frame.select(c).where(c.isNotNull()).distinct().limit(Table.MAX_CATEGORIES + 1).collectAsList()) {
             labels.add(r.getString(0));
+        }
+        if (labels.size() > Table.MAX_CATEGORIES) {
+            throw new IllegalArgumentException("categorical column '" + col + "' has more than " + Table.MAX_CATEGORIES
+                    + " distinct labels; a categorical column holds at most that many");
         }
         if (labels.isEmpty()) {
             throw new IllegalArgumentException("categorical column '" + col + "' has no label in the DataFrame;"
@@ -156,8 +164,9 @@ final class WholeTableStatistics {
 
         private final ColumnMatch match;
         private final boolean[] log;
-        private final boolean[] whole;
         private final double[] center;
+        /** This partition's name for messages, built at its first row (each task folds a copy of the zero). */
+        private transient ColumnMatch.RowName where;
         long rows;
         final long[] observed;
         final double[] min;
@@ -166,10 +175,9 @@ final class WholeTableStatistics {
         final ExactSum[] residuals;
         final ExactSum[] squares;
 
-        Sums(ColumnMatch match, boolean[] log, boolean[] whole, double[] center) {
+        Sums(ColumnMatch match, boolean[] log, double[] center) {
             this.match = match;
             this.log = log;
-            this.whole = whole;
             this.center = center;
             int d = match.columns();
             observed = new long[d];
@@ -188,18 +196,16 @@ final class WholeTableStatistics {
         }
 
         Sums add(Row row) {
-            TaskContext task = TaskContext.get();
-            ColumnMatch.RowName where = new ColumnMatch.RowName(task == null ? -1 : task.partitionId(), -1);
+            if (where == null) {
+                TaskContext task = TaskContext.get();
+                where = new ColumnMatch.RowName(task == null ? -1 : task.partitionId(), -1);
+            }
             double[] x = match.cells(row, where);
             rows++;
             for (int j = 0; j < x.length; j++) {
                 double v = x[j];
                 if (Double.isNaN(v)) {
                     continue;
-                }
-                if (whole[j] && v != Math.rint(v)) {
-                    throw new IllegalArgumentException(where.describe(match, row) + ", column '" + match.inputCol(j)
-                            + "' is " + v + "; the model's integer column needs whole numbers");
                 }
                 observed[j]++;
                 min[j] = Math.min(min[j], v);

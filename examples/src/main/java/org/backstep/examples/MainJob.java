@@ -332,23 +332,26 @@ public final class MainJob {
      * when i % holdout == 0), in table order.
      *
      * @param index the complete rows' indices in the table, ascending
+     * @param complete the complete rows of the table, in table order
      * @param all per complete row, its values in model space
      * @param trainIndex the indices of the complete rows of the training part
      * @param train their values in model space
      * @param held the values of the complete held-out rows in model space
      */
-    record ModelRows(int[] index, double[][] all, int[] trainIndex, double[][] train, double[][] held) {
+    record ModelRows(int[] index, Table complete, double[][] all, int[] trainIndex, double[][] train,
+                     double[][] held) {
 
         static ModelRows of(org.backstep.table.TableTransform transform, Table table, int holdout) {
             int[] index = table.completeRowIndices();
-            double[][] all = transform.toModelSpace(table.selectRows(index));
+            Table complete = table.hasMissing() ? table.selectRows(index) : table;
+            double[][] all = transform.toModelSpace(complete);
             List<double[]> train = new ArrayList<>();
             List<double[]> held = new ArrayList<>();
             for (int k = 0; k < index.length; k++) {
                 (index[k] % holdout != 0 ? train : held).add(all[k]);
             }
             int[] trainIndex = java.util.Arrays.stream(index).filter(i -> i % holdout != 0).toArray();
-            return new ModelRows(index, all, trainIndex, train.toArray(double[][]::new), held.toArray(double[][]::new));
+            return new ModelRows(index, complete, all, trainIndex, train.toArray(double[][]::new), held.toArray(double[][]::new));
         }
     }
 
@@ -373,8 +376,8 @@ public final class MainJob {
     private static AnomalyScreen screen(DiffusionModel model, Table table, Table heldComplete, ModelRows modelRows,
                                         Baselines.Result base, Config c, PrintStream console, ObjectNode summary,
                                         Map<String, String> charts) throws IOException {
-        Table scoredRows = table.completeRows();
-        int[] scoredIndex = table.completeRowIndices();
+        Table scoredRows = modelRows.complete();
+        int[] scoredIndex = modelRows.index();
         AnomalyScreen screen = model.screen(heldComplete, scoredRows, Defaults.screening().withQuantile(SCREEN_QUANTILE), c.seed());
         ObjectNode a = summary.putObject("anomalies");
         a.put("scoredRows", scoredRows.rows());

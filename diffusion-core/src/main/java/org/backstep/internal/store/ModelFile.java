@@ -263,38 +263,57 @@ public final class ModelFile {
         }
         if (model.whitening() != null) {
             org.backstep.table.Whitening wh = model.whitening();
-            ObjectNode g = root.putObject("whitening");
-            ArrayNode mean = g.putArray("mean");
-            for (double v : wh.mean()) {
-                mean.add(v);
-            }
-            ArrayNode cov = g.putArray("covariance");
-            for (double[] row : wh.covariance()) {
-                ArrayNode r = cov.addArray();
-                for (double v : row) {
-                    r.add(v);
-                }
-            }
-            g.put("shrinkage", wh.shrinkage());
+            writeGaussian(root.putObject("whitening"), wh.mean(), wh.covariance(), wh.shrinkage());
         }
         GaussianBaseline gb = model.baseline();
         if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN) {
-            ObjectNode g = root.putObject("gaussianBaseline");
-            ArrayNode mean = g.putArray("mean");
-            for (double v : gb.mean()) {
-                mean.add(v);
-            }
-            ArrayNode cov = g.putArray("covariance");
-            for (double[] row : gb.covariance()) {
-                ArrayNode r = cov.addArray();
-                for (double v : row) {
-                    r.add(v);
-                }
-            }
-            g.put("shrinkage", gb.shrinkage());
+            writeGaussian(root.putObject("gaussianBaseline"), gb.mean(), gb.covariance(), gb.shrinkage());
         }
         root.set("provenance", ProvenanceJson.write(model.provenance()));
         return root;
+    }
+
+    /** A mean, a d x d covariance and a shrinkage intensity, as stored under one manifest key. */
+    private record Gaussian(double[] mean, double[][] covariance, double shrinkage) {
+    }
+
+    /** Writes {@code mean}, {@code covariance} (row by row) and {@code shrinkage} into {@code g}. */
+    private static void writeGaussian(ObjectNode g, double[] mean, double[][] covariance, double shrinkage) {
+        ArrayNode m = g.putArray("mean");
+        for (double v : mean) {
+            m.add(v);
+        }
+        ArrayNode cov = g.putArray("covariance");
+        for (double[] row : covariance) {
+            ArrayNode r = cov.addArray();
+            for (double v : row) {
+                r.add(v);
+            }
+        }
+        g.put("shrinkage", shrinkage);
+    }
+
+    /**
+     * Reads the object {@code key} of the manifest written by {@link #writeGaussian}: a mean of d
+     * float-range numbers, a d x d covariance and a shrinkage in [0, 1].
+     */
+    private static Gaussian readGaussian(JsonNode root, String key, int d) throws ModelFileException {
+        String where = MANIFEST + " " + key;
+        JsonNode g = JsonFields.object(JsonFields.field(root, key, MANIFEST), where);
+        JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", where), where + ".mean", d, d);
+        JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", where), where + ".covariance", d, d);
+        double[] m = new double[d];
+        double[][] c = new double[d][d];
+        for (int i = 0; i < d; i++) {
+            m[i] = JsonFields.number(mean.get(i), where + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
+            JsonNode row = JsonFields.array(cov.get(i), where + ".covariance[" + i + "]", d, d);
+            for (int j = 0; j < d; j++) {
+                c[i][j] = JsonFields.number(row.get(j), where + ".covariance[" + i + "][" + j + "]",
+                        -Float.MAX_VALUE, Float.MAX_VALUE);
+            }
+        }
+        double shrinkage = JsonFields.number(JsonFields.field(g, "shrinkage", where), where + ".shrinkage", 0.0, 1.0);
+        return new Gaussian(m, c, shrinkage);
     }
 
     private static ObjectNode schedule(NoiseSchedule s) {
@@ -557,20 +576,10 @@ public final class ModelFile {
         }
         if (options.baseline() == Baseline.FITTED_GAUSSIAN && dc > 0) {
             String gw = MANIFEST + " gaussianBaseline";
-            JsonNode g = JsonFields.object(JsonFields.field(root, "gaussianBaseline", MANIFEST), gw);
-            JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", gw), gw + ".mean", dc, dc);
-            JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", gw), gw + ".covariance", dc, dc);
-            baselineMean = new double[dc];
-            baselineCovariance = new double[dc][dc];
-            for (int i = 0; i < dc; i++) {
-                baselineMean[i] = JsonFields.number(mean.get(i), gw + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
-                JsonNode row = JsonFields.array(cov.get(i), gw + ".covariance[" + i + "]", dc, dc);
-                for (int j = 0; j < dc; j++) {
-                    baselineCovariance[i][j] = JsonFields.number(row.get(j), gw + ".covariance[" + i + "][" + j + "]",
-                            -Float.MAX_VALUE, Float.MAX_VALUE);
-                }
-            }
-            baselineShrinkage = JsonFields.number(JsonFields.field(g, "shrinkage", gw), gw + ".shrinkage", 0.0, 1.0);
+            Gaussian g = readGaussian(root, "gaussianBaseline", dc);
+            baselineMean = g.mean();
+            baselineCovariance = g.covariance();
+            baselineShrinkage = g.shrinkage();
             try {
                 GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, baselineMean, baselineCovariance, baselineShrinkage, cont);
             } catch (IllegalArgumentException e) {
@@ -587,22 +596,9 @@ public final class ModelFile {
         }
         if (wants) {
             String ww = MANIFEST + " whitening";
-            JsonNode g = JsonFields.object(root.get("whitening"), ww);
-            JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", ww), ww + ".mean", whitened, whitened);
-            JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", ww), ww + ".covariance", whitened, whitened);
-            double[] wm = new double[whitened];
-            double[][] wc = new double[whitened][whitened];
-            for (int i = 0; i < whitened; i++) {
-                wm[i] = JsonFields.number(mean.get(i), ww + ".mean[" + i + "]", -Float.MAX_VALUE, Float.MAX_VALUE);
-                JsonNode row = JsonFields.array(cov.get(i), ww + ".covariance[" + i + "]", whitened, whitened);
-                for (int j = 0; j < whitened; j++) {
-                    wc[i][j] = JsonFields.number(row.get(j), ww + ".covariance[" + i + "][" + j + "]",
-                            -Float.MAX_VALUE, Float.MAX_VALUE);
-                }
-            }
-            double shrink = JsonFields.number(JsonFields.field(g, "shrinkage", ww), ww + ".shrinkage", 0.0, 1.0);
+            Gaussian g = readGaussian(root, "whitening", whitened);
             try {
-                whitening = org.backstep.table.Whitening.of(wm, wc, shrink);
+                whitening = org.backstep.table.Whitening.of(g.mean(), g.covariance(), g.shrinkage());
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(ww, e.getMessage(), e);
             }

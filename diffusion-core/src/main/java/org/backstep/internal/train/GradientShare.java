@@ -11,6 +11,7 @@ import org.backstep.internal.net.NetworkShape;
 import org.backstep.internal.net.ParallelStep;
 import org.backstep.internal.net.ReverseNetwork;
 import org.backstep.option.Baseline;
+import org.backstep.option.Coordinates;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
 import org.backstep.option.StepSampling;
@@ -81,13 +82,18 @@ public final class GradientShare implements AutoCloseable {
      * @param batchRows B, the rows of the whole minibatch, at least 1
      * @param threads threads of this share's forward and backward passes
      * @return the share
-     * @throws IllegalArgumentException if the options ask for a baseline or importance sampling
+     * @throws IllegalArgumentException if the options ask for a baseline, importance sampling or
+     *     coordinates other than STANDARDIZED
      */
     public static GradientShare of(FitOptions options, TableTransform transform, int shareRows, int batchRows,
                                    int threads) {
         if (options.baseline() != Baseline.NONE || options.stepSampling() != StepSampling.UNIFORM) {
             throw new IllegalArgumentException("data-parallel shares support no baseline and uniform steps only; got "
                     + options.baseline() + " and " + options.stepSampling());
+        }
+        if (options.coordinates() != Coordinates.STANDARDIZED) {
+            throw new IllegalArgumentException("options.coordinates is " + options.coordinates()
+                    + "; data-parallel shares support STANDARDIZED coordinates only");
         }
         if (shareRows < 1 || batchRows < 1) {
             throw new IllegalArgumentException("shareRows is " + shareRows + " and batchRows " + batchRows
@@ -108,13 +114,20 @@ public final class GradientShare implements AutoCloseable {
 
     /** @return Adam with the options' settings, for the weights of this shape */
     public static AdamOptimizer optimizer(FitOptions options, TableTransform transform) {
-        long count = initialWeights(options, transform).length;
+        long count = shapeOf(options, transform).parameterCount();
         return AdamOptimizer.create(count, options.learningRate(), options.adamBeta1(), options.adamBeta2(),
                 options.adamEpsilon(), options.weightDecay());
     }
 
-    /** @return the rows of a table in model space, float32, row after row */
+    /**
+     * @return the rows of a table in model space, float32, row after row
+     * @throws IllegalArgumentException if a row has a missing cell (shares train on complete rows only)
+     */
     public static float[] modelRows(TableTransform transform, Table rows) {
+        if (rows.hasMissing()) {
+            throw new IllegalArgumentException("rows has missing cells; data-parallel shares train on complete "
+                    + "rows only (select them with Table.completeRows())");
+        }
         return Engine.toFloat(transform.toModelSpace(rows));
     }
 

@@ -187,28 +187,13 @@ final class TrainingRows {
         }
         whitening = fitted;
         if (fitted != null) {
-            whiten(fitted, whitened, x0, n);
+            fitted.whitenInPlace(x0, n, width(), whitened);
             if (heldRows != null) {
-                whiten(fitted, whitened, heldRows, heldCount);
+                fitted.whitenInPlace(heldRows, heldCount, width(), whitened);
             }
         }
         checkpoint = heldRows;
         checkpointCount = heldCount;
-    }
-
-    /** The whitened cells of rows x width() model-space rows to z = W (y - m), in place. */
-    private void whiten(Whitening w, int[] columns, float[] x, int rows) {
-        int d = width();
-        double[] y = new double[columns.length];
-        for (int r = 0; r < rows; r++) {
-            for (int a = 0; a < columns.length; a++) {
-                y[a] = x[r * d + columns[a]];
-            }
-            double[] z = w.whiten(y);
-            for (int a = 0; a < columns.length; a++) {
-                x[r * d + columns[a]] = (float) z[a];
-            }
-        }
     }
 
     private TableTransform fitTransform(Table rows, FitOptions options) {

@@ -99,4 +99,23 @@ class GradientShareTest {
                 () -> GradientShare.of(baseline, transform, 4, 8, 1));
         assertTrue(e.getMessage().contains("no baseline and uniform steps only"), e.getMessage());
     }
+
+    @Test
+    void refusesCoordinatesOtherThanStandardized() {
+        FitOptions whitened = Backstep.builder().coordinates(org.backstep.option.Coordinates.WHITENED).options();
+        TableTransform transform = TableTransform.fit(rows(8), Set.of());
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> GradientShare.of(whitened, transform, 4, 8, 1));
+        assertTrue(e.getMessage().contains("options.coordinates is WHITENED"), e.getMessage());
+    }
+
+    @Test
+    void refusesRowsWithMissingCells() {
+        Table gappy = Table.of(List.of("a", "b"), List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS),
+                new double[][] {{1, 2}, {Double.NaN, 3}, {2, 5}});
+        TableTransform transform = TableTransform.fit(gappy, Set.of());
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> GradientShare.modelRows(transform, gappy));
+        assertTrue(e.getMessage().startsWith("rows has missing cells"), e.getMessage());
+    }
 }
