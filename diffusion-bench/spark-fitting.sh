@@ -11,6 +11,7 @@
 # never changes OPENBLAS_CORETYPE.
 set -euo pipefail
 cd "$(dirname "$0")/.."
+. diffusion-bench/spark-java.sh
 ROWS=100000,1000000
 STEPS=1000
 HIDDEN=64,64
@@ -27,19 +28,5 @@ while [ $# -gt 0 ]; do
   esac
 done
 OUT=${OUT:-diffusion-bench/results/spark-fitting.txt}
-SPARK_VERSION=$(sed -n 's:.*<spark.version>\(.*\)</spark.version>.*:\1:p' pom.xml | head -1)
-echo "kernel: $(uname -srm)"
-echo "cpus: $(nproc) ($(lscpu | awk -F: '/^Model name/ {sub(/^ +/, "", $2); print $2; exit}'))"
-echo "OPENBLAS_CORETYPE=${OPENBLAS_CORETYPE:-} OMP_NUM_THREADS=${OMP_NUM_THREADS:-}"
-echo "java: $(java -version 2>&1 | head -1)"
-echo "spark: ${SPARK_VERSION}"
-echo "load: $(cat /proc/loadavg)"
-echo "commit: $(git rev-parse --short HEAD)$(git diff --quiet HEAD -- . || echo ' (with uncommitted changes)')"
-echo "rows=$ROWS steps=$STEPS hidden=$HIDDEN timing-hidden=$TIMING timing-steps=$TIMING_STEPS"
-mvn -B -q -o -pl diffusion-spark -am test-compile dependency:build-classpath \
-    -Dmdep.includeScope=test -Dmdep.outputFile=target/test-cp.txt
-OPTS=$(sed -n '/<spark.jvm.options>/,/<\/spark.jvm.options>/p' diffusion-spark/pom.xml | sed 's/<[^>]*>//g' | tr '\n' ' ')
-echo "jvm options: $OPTS"
-java $OPTS -Dlog4j2.configurationFile=diffusion-spark/src/test/resources/log4j2-test.properties \
-    -cp "diffusion-spark/target/test-classes:diffusion-spark/target/classes:$(cat diffusion-spark/target/test-cp.txt)" \
-    org.backstep.spark.SparkFittingMeasurement "$ROWS" "$STEPS" "$HIDDEN" "$OUT" "$TIMING" "$TIMING_STEPS"
+spark_settings "rows=$ROWS steps=$STEPS hidden=$HIDDEN timing-hidden=$TIMING timing-steps=$TIMING_STEPS"
+spark_main org.backstep.spark.SparkFittingMeasurement "$ROWS" "$STEPS" "$HIDDEN" "$OUT" "$TIMING" "$TIMING_STEPS"

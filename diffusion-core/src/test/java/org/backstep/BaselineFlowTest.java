@@ -36,8 +36,8 @@ import org.junit.jupiter.api.Test;
 class BaselineFlowTest {
 
     /** As {@code FlowLikelihoodTest}'s tolerances (same schedule, the same held-step error). */
-    private static final double DENSITY_TOLERANCE = 5e-3;
-    private static final double DENSITY_RELATIVE_TOLERANCE = 2e-3;
+    static final double DENSITY_TOLERANCE = 5e-3;
+    static final double DENSITY_RELATIVE_TOLERANCE = 2e-3;
     private static final List<String> NAMES = List.of("a", "b", "c");
 
     @Test

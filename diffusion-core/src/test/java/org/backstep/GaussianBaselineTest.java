@@ -124,18 +124,8 @@ class GaussianBaselineTest {
         Table test = gaussianRows(4000, 6);
         DiffusionModel model = zeroCorrection(training, Baseline.FITTED_GAUSSIAN, schedule);
         GaussianBaseline gb = model.parts().baseline();
-        TableTransform tr = model.transform();
-        int d = 3;
-        double[] mean = new double[d];
-        double[][] cov = new double[d][d];
         double[][] s = gb.covariance();
-        for (int i = 0; i < d; i++) {
-            mean[i] = tr.transform(i).shift() + tr.transform(i).scale() * gb.mean()[i];
-            for (int j = 0; j < d; j++) {
-                cov[i][j] = s[i][j] * tr.transform(i).scale() * tr.transform(j).scale();
-            }
-        }
-        MultivariateNormalDistribution fitted = new MultivariateNormalDistribution(mean, cov);
+        MultivariateNormalDistribution fitted = fittedGaussianOriginalUnits(model);
         BoundReport report = model.bound(test, BoundOptions.exact(), 7);
         double[] nats = report.natsOriginalUnits();
         double sum = 0;
@@ -218,6 +208,26 @@ class GaussianBaselineTest {
     /** KL(N(0, I) diffused to T || N(0, I)) is zero: q(x_T) of N(0, I) data is N(0, I). */
     private static double expectedPriorGap(NoiseSchedule schedule, int d) {
         return 0.0;
+    }
+
+    /**
+     * The model's fitted Gaussian part N(m, S) (model space) in original units: mean shift + scale * m,
+     * covariance S_ij scale_i scale_j, the affine image of a normal (Anderson 2003, theorem 2.4.4).
+     */
+    static MultivariateNormalDistribution fittedGaussianOriginalUnits(DiffusionModel model) {
+        GaussianBaseline gb = model.parts().baseline();
+        TableTransform tr = model.transform();
+        int d = gb.mean().length;
+        double[] mean = new double[d];
+        double[][] cov = new double[d][d];
+        double[][] s = gb.covariance();
+        for (int i = 0; i < d; i++) {
+            mean[i] = tr.transform(i).shift() + tr.transform(i).scale() * gb.mean()[i];
+            for (int j = 0; j < d; j++) {
+                cov[i][j] = s[i][j] * tr.transform(i).scale() * tr.transform(j).scale();
+            }
+        }
+        return new MultivariateNormalDistribution(mean, cov);
     }
 
     /**

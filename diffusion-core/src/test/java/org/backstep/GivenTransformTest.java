@@ -2,6 +2,7 @@ package org.backstep;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -55,6 +56,9 @@ class GivenTransformTest {
                 "a", new ColumnStatistics(1000, 0, 0.0, 20.0, 10.0, 4.0),
                 "b", new ColumnStatistics(1000, 0, -1.0, 8.0, 5.0, 2.0)));
         DiffusionModel m = small().fit(t, wide);
+        // common practice, no source: the caller's transforms are kept, not recomputed from the rows; the
+        // given ones differ from those the rows give, so a fit that recomputed them would fail the second check
+        assertNotEquals(TableTransform.fit(t, Set.of()), wide);
         assertEquals(wide, m.transform());
     }
 
@@ -81,6 +85,7 @@ class GivenTransformTest {
     @Test
     void refusesATransformOfOtherColumnsOrOtherLogColumns() {
         Table t = rows();
+        // common practice, no source (the project's rule: a refusal names the parameter and the columns)
         TableTransform other = TableTransform.fit(t.selectColumns("a", "b"), Set.of());
         IllegalArgumentException columns = assertThrows(IllegalArgumentException.class, () -> small().fit(t, other));
         assertTrue(columns.getMessage().contains("the transform has [a, b]"), columns.getMessage());

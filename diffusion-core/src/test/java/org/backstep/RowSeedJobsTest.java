@@ -3,7 +3,6 @@ package org.backstep;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
-import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.nio.file.Path;
 import java.util.SplittableRandom;
@@ -69,20 +68,17 @@ class RowSeedJobsTest {
     void anImputedBatchGivesEachRecordTheDrawsOfItsOneRecordCall() {
         ImputationOptions how = Defaults.imputation().withDraws(5);
         Imputation batch = model.impute(gappy, how, seeds);
-        double worst = 0.0;
         for (int i = 0; i < gappy.rows(); i++) {
             Imputation one = model.impute(gappy.selectRows(new int[] {i}), how, seeds[i]);
             for (int j = 0; j < gappy.columns(); j++) {
                 for (int k = 0; k < how.draws(); k++) {
                     double a = one.draws().get(k).get(0, j);
                     double b = batch.draws().get(k).get(i, j);
-                    worst = Math.max(worst, Math.abs(a - b));
                     assertEquals(a, b, PLACE_ROUNDING, "record " + i + ", column " + j + ", draw " + k);
                 }
                 assertEquals(one.mean().get(0, j), batch.mean().get(i, j), PLACE_ROUNDING, "mean " + i + ", " + j);
             }
         }
-        assertTrue(worst < PLACE_ROUNDING, "worst " + worst);
         // the one-record form of the batched call is the one-seed call, bit for bit
         Table first = gappy.selectRows(new int[] {0});
         assertEquals(model.impute(first, how, seeds[0]).mean(), model.impute(first, how, new long[] {seeds[0]}).mean());

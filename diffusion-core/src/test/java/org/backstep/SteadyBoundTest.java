@@ -14,7 +14,6 @@ import org.backstep.option.Baseline;
 import org.backstep.option.BoundOptions;
 import org.backstep.schedule.NoiseSchedule;
 import org.backstep.table.Table;
-import org.backstep.table.TableTransform;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 
@@ -136,19 +135,12 @@ class SteadyBoundTest {
         Table test = GaussianBaselineTest.gaussianRows(400, 6);
         DiffusionModel m = GaussianBaselineTest.zeroCorrection(training, Baseline.FITTED_GAUSSIAN, schedule);
         GaussianBaseline gb = m.parts().baseline();
-        TableTransform tr = m.transform();
-        int d = 3;
-        double[] mean = new double[d];
-        double[][] cov = new double[d][d];
         double[][] s = gb.covariance();
-        for (int i = 0; i < d; i++) {
-            mean[i] = tr.transform(i).shift() + tr.transform(i).scale() * gb.mean()[i];
-            for (int j = 0; j < d; j++) {
-                cov[i][j] = s[i][j] * tr.transform(i).scale() * tr.transform(j).scale();
-            }
-        }
-        MultivariateNormalDistribution fitted = new MultivariateNormalDistribution(mean, cov);
+        MultivariateNormalDistribution fitted = GaussianBaselineTest.fittedGaussianOriginalUnits(m);
         double[] nats = m.bound(test, BoundOptions.steady(2), 7).natsOriginalUnits();
+        // another seed gives the same figures but for float32 rounding of the network's outputs at the other
+        // seed's draws of x_t (relative 6e-8 each), carried through T = 100 terms of three cells: measured at
+        // most 7.1e-6 nats over these 400 records; 1e-4 nats allows 14 times that (common practice, no source)
         assertArrayEquals(nats, m.bound(test, BoundOptions.steady(2), 8).natsOriginalUnits(), 1e-4);
         double expected = GaussianBaselineTest.expectedGap(schedule, gb.mean(), s);
         double sum = 0;

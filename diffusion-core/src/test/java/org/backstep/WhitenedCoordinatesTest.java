@@ -132,7 +132,8 @@ class WhitenedCoordinatesTest {
         double[] nats = model.flowLikelihood(table(rows)).natsOriginalUnits();
         for (int r = 0; r < rows.length; r++) {
             double expected = -Math.log(g.density(rows[r]));
-            assertEquals(expected, nats[r], 5e-3 + 2e-3 * Math.abs(expected), "row " + r);
+            assertEquals(expected, nats[r], BaselineFlowTest.DENSITY_TOLERANCE
+                    + BaselineFlowTest.DENSITY_RELATIVE_TOLERANCE * Math.abs(expected), "row " + r);
         }
     }
 
@@ -157,8 +158,14 @@ class WhitenedCoordinatesTest {
     /**
      * Column c missing, a and b observed: the imputed means against the Schur complement
      * mu_c + S_co S_oo^-1 (x_o - mu_o) (Anderson 2003, theorem 2.5.1): slope at least 0.95 (the
-     * issue's target; plain replacement in standardized coordinates gives 0.77), mean error within
-     * 0.1 conditional sd, variance ratio within 20%.
+     * issue's target; plain replacement in standardized coordinates gives 0.77), mean error and
+     * variance ratio within 4 standard errors of an exact conditional draw: with n = 200 rows and
+     * D = 40 draws each, the mean error (in conditional sd) has standard error 1/sqrt(nD) = 0.011 and
+     * the variance ratio (chi-square with nD degrees of freedom over nD) sqrt(2/(nD)) = 0.016
+     * (a mean of nD unit normals, and a chi-square's variance 2 nD; the draws independent given the
+     * row: common practice, no source). Measured on
+     * draw/imputation seeds 6/7, 16/17, 26/27, 36/37, 46/47: mean error at most 0.021 (1.9 se),
+     * variance ratio at most 0.035 from 1 (2.2 se).
      */
     @Test
     void imputationsFollowTheSchurComplement() {
@@ -191,8 +198,9 @@ class WhitenedCoordinatesTest {
         double slope = slope(exact, got);
         double varianceRatio = sq / (rows.length * imp.draws().size()) / condVar;
         assertTrue(slope >= 0.95 && slope <= 1.05, "slope " + slope);
-        assertEquals(0.0, err, 0.1, "mean error in conditional sd");
-        assertEquals(1.0, varianceRatio, 0.2, "variance ratio");
+        double nd = rows.length * imp.draws().size();
+        assertEquals(0.0, err, 4 / Math.sqrt(nd), "mean error in conditional sd");
+        assertEquals(1.0, varianceRatio, 4 * Math.sqrt(2 / nd), "variance ratio");
     }
 
     /**
@@ -241,6 +249,8 @@ class WhitenedCoordinatesTest {
         Path file = dir.resolve("w.backstep");
         model.save(file);
         DiffusionModel back = DiffusionModel.load(file);
+        // common practice, no source: a saved and reloaded model is the same model, bit for bit (the project's
+        // determinism rule: same seed, same model, same samples)
         assertEquals(Coordinates.WHITENED, back.options().coordinates());
         Table rows = table(draws(20, 11));
         assertEquals(model.bound(rows, 3).meanNats(), back.bound(rows, 3).meanNats(), 0.0);
@@ -266,6 +276,7 @@ class WhitenedCoordinatesTest {
     void aWhitenedFitRuns() {
         DiffusionModel model = Backstep.builder().coordinates(Coordinates.WHITENED).baseline(Baseline.STANDARD_NORMAL)
                 .hidden(8).trainingSteps(20).steps(20).seed(3).fit(table(draws(80, 13)));
+        // common practice, no source: a small whitened fit says so in its provenance and gives finite figures
         assertTrue(model.provenance().notes().stream().anyMatch(n -> n.contains("whitened")),
                 () -> "notes " + model.provenance().notes());
         assertTrue(Double.isFinite(model.bound(table(draws(10, 14)), 1).meanNats()));

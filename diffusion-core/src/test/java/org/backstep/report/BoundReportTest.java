@@ -47,15 +47,19 @@ class BoundReportTest {
     void eachFactorySaysHowTheBoundWasComputed() {
         BoundReport.RecordNats two = new BoundReport.RecordNats(new double[] {1, 2}, new double[2], new double[2]);
         BoundReport exact = BoundReport.exact(10, 3, two, new double[11]);
-        // Ho et al. 2020, eq. 5: the exact bound sums all T terms, with no sampling error
+        // common practice, no source: the factory's method is read back
         assertEquals(BoundReport.Method.EXACT, exact.method());
+        // Ho et al. 2020, eq. 5: the exact bound sums all T terms, so its draws are the T steps and it has
+        // no sampling error (zero standard errors), though the factory was given none of these
         assertEquals(10, exact.draws());
         assertArrayEquals(new double[2], exact.standardErrors(), 0.0);
         BoundReport sampled = BoundReport.sampled(10, 4, 3, two, new double[] {0.1, 0.2});
-        // common practice, no source: a sampled bound keeps its draws and standard errors, and no per-step means
+        // common practice, no source: read-backs of the method, draws and standard errors given to the factory
         assertEquals(BoundReport.Method.MONTE_CARLO, sampled.method());
         assertEquals(4, sampled.draws());
         assertArrayEquals(new double[] {0.1, 0.2}, sampled.standardErrors(), 0.0);
+        // Ho et al. 2020, eq. 5 sampled over t: a Monte Carlo bound draws t at random and so has no mean per
+        // step t to report (derived, not given to the factory)
         assertEquals(0, sampled.perStepMean().length);
     }
 }

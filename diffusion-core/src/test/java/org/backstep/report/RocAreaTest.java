@@ -68,6 +68,8 @@ class RocAreaTest {
             trapezoid += (b.falsePositiveRate() - a.falsePositiveRate()) * (a.truePositiveRate() + b.truePositiveRate()) / 2;
         }
         assertEquals(trapezoid, area, IDENTITY);
+        // delegation, no source: AnomalyScreen.rocArea hands its scores and the fault rows to RocArea.of; this
+        // checks that wiring (which rows are labelled faults, the scores' order), not the statistic again
         assertEquals(area, s.rocArea(faults.stream().mapToInt(Integer::intValue).toArray()), 0.0);
     }
 

@@ -96,14 +96,6 @@ class DiscreteColumnsTest {
         return LocalSpark.session().createDataFrame(rows, schema()).repartition(partitions);
     }
 
-    private static long[] keySeeds(int rows) {
-        long[] s = new long[rows];
-        for (int i = 0; i < rows; i++) {
-            s[i] = RowSeeds.ofKey(SEED, 1000L + i);
-        }
-        return s;
-    }
-
     private static BackstepModel stage() {
         return BackstepModel.of(model).setRowKeyCol(KEY).setSeed(SEED);
     }
@@ -111,7 +103,7 @@ class DiscreteColumnsTest {
     @Test
     void scoresEqualTheCoresAndAnUnseenLabelScoresInfinityAndIsTheCulprit() {
         Table t = iris.filterRows(i -> i % 5 == 0);                     // 30 rows of the three species
-        double[] want = model.bound(t, BoundOptions.sampled(4), keySeeds(t.rows())).nats();
+        double[] want = model.bound(t, BoundOptions.sampled(4), JobsTest.keySeeds(SEED, t.rows())).nats();
         BackstepModel scorer = stage().setScoreDraws(4).setJob(BackstepParams.ATTRIBUTE)
                 .setThreshold(java.util.Arrays.stream(want).max().orElseThrow() + 1.0).setSurprisalDraws(16)
                 .setSurprisalSteps(5);
@@ -147,7 +139,7 @@ class DiscreteColumnsTest {
             }
         }
         Table t = Table.of(NAMES, KINDS, Map.of("species", SPECIES), x);
-        Imputation want = model.impute(t, Defaults.imputation().withDraws(6).withLevel(0.8), keySeeds(t.rows()));
+        Imputation want = model.impute(t, Defaults.imputation().withDraws(6).withLevel(0.8), JobsTest.keySeeds(SEED, t.rows()));
         BackstepModel imputer = stage().setJob(BackstepParams.IMPUTE).setDraws(6).setLevel(0.8);
         for (int partitions : new int[] {2, 7}) {
             List<Row> rows = imputer.transform(frame(t, partitions, null)).orderBy(KEY).collectAsList();
@@ -173,7 +165,7 @@ class DiscreteColumnsTest {
     void denoisedRowsKeepTheirLabelsAndEqualTheCores() {
         Table t = iris.filterRows(i -> i % 5 == 2);
         double[] sd = {0.5, 0.1, 0.1, 0.05, 0.0};
-        Denoising want = model.denoise(t, Defaults.denoising(sd).withDraws(4), keySeeds(t.rows()));
+        Denoising want = model.denoise(t, Defaults.denoising(sd).withDraws(4), JobsTest.keySeeds(SEED, t.rows()));
         List<Row> rows = stage().setJob(BackstepParams.DENOISE).setNoiseSd(sd).setDraws(4).transform(frame(t, 2, null))
                 .orderBy(KEY).collectAsList();
         for (int i = 0; i < t.rows(); i++) {

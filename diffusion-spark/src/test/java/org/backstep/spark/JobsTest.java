@@ -64,10 +64,11 @@ class JobsTest {
         return t.withRows(x);
     }
 
-    private static long[] keySeeds(int rows) {
+    /** The seed of each row of a frame keyed 1000, 1001, ...: RowSeeds.ofKey(seed, key), as the Spark jobs use. */
+    static long[] keySeeds(long seed, int rows) {
         long[] s = new long[rows];
         for (int i = 0; i < rows; i++) {
-            s[i] = RowSeeds.ofKey(SEED, 1000L + i);
+            s[i] = RowSeeds.ofKey(seed, 1000L + i);
         }
         return s;
     }
@@ -79,7 +80,7 @@ class JobsTest {
         BackstepModel stage = BackstepModel.of(model).setJob(BackstepParams.IMPUTE).setDraws(5).setLevel(0.8)
                 .setRowKeyCol(TestModels.KEY).setSeed(SEED).setBatchRows(16);
         // reference: the core's batch imputation of the same rows, each with its row's seed
-        Imputation want = model.impute(t, Defaults.imputation().withDraws(5).withLevel(0.8), keySeeds(t.rows()));
+        Imputation want = model.impute(t, Defaults.imputation().withDraws(5).withLevel(0.8), keySeeds(SEED, t.rows()));
         for (int partitions : new int[] {1, 2, 7}) {
             List<Row> rows = stage.transform(TestModels.frame(t, partitions)).orderBy(TestModels.KEY).collectAsList();
             assertEquals(t.rows(), rows.size());
@@ -118,7 +119,7 @@ class JobsTest {
         BackstepModel stage = BackstepModel.of(model).setJob(BackstepParams.DENOISE).setNoiseSd(sd).setDraws(4)
                 .setRowKeyCol(TestModels.KEY).setSeed(SEED).setBatchRows(5);
         // reference: the core's batch denoising of the same rows, each with its row's seed
-        Denoising want = model.denoise(t, Defaults.denoising(sd).withDraws(4), keySeeds(t.rows()));
+        Denoising want = model.denoise(t, Defaults.denoising(sd).withDraws(4), keySeeds(SEED, t.rows()));
         for (int partitions : new int[] {1, 2, 7}) {
             List<Row> rows = stage.transform(TestModels.frame(t, partitions)).orderBy(TestModels.KEY).collectAsList();
             for (int i = 0; i < t.rows(); i++) {

@@ -34,7 +34,10 @@ import org.backstep.DiffusionModel;
  * generated in the job; for imputation, cells i mod 20 and (i + 7) mod 20 of row i are missing.
  * Model: as the scoring benchmark's (T = 100, hidden 64,64). Imputation with {@code draws} draws on
  * the core's default 100 steps; denoising with {@code draws} draws and a noise of 0.3 per column.
- * Both modes give the same figures to float rounding (the sums are compared).
+ * Both modes give the same figures to float rounding: the sums of the cells on the same rows are
+ * compared, and the run fails (after writing its report) when they differ by more than the sum over
+ * the cells of {@link JobsTest#PLACE_ROUNDING} * max(1, |cell|), the per-cell tolerance of
+ * {@code JobsTest} added up (triangle inequality; common practice, no source).
  *
  * <p>Arguments: {@code ROWS [DRAWS] [OUT]}; the one-row mode runs on ROWS / 10 rows.
  */
@@ -43,7 +46,7 @@ public final class SparkRowJobsBenchmark {
     private SparkRowJobsBenchmark() {
     }
 
-    record Run(String job, String mode, int rows, double seconds, double cpu, double sum) {
+    record Run(String job, String mode, int rows, double seconds, double cpu, double sum, double scale) {
     }
 
     static Dataset<Row> frame(SparkSession spark, int rows, boolean gaps) {
@@ -71,14 +74,17 @@ public final class SparkRowJobsBenchmark {
         Dataset<Row> frame = frame(spark, rows, impute);
         String suffix = impute ? RowJob.MEAN : RowJob.DENOISED;
         Column total = functions.lit(0.0);
+        Column scale = functions.lit(0.0);                              // sum of max(1, |cell|)
         for (String n : SparkScoringBenchmark.names()) {
             total = total.plus(functions.col(n + suffix));
+            scale = scale.plus(functions.greatest(functions.lit(1.0), functions.abs(functions.col(n + suffix))));
         }
         stage.transform(frame(spark, 8, impute)).count();               // warm-up: broadcast, load, JIT
         double c0 = SparkScoringBenchmark.cpuSeconds();
         long t0 = System.nanoTime();
-        double sum = stage.transform(frame).agg(functions.sum(total)).first().getDouble(0);
-        return new Run(job, mode, rows, (System.nanoTime() - t0) / 1e9, SparkScoringBenchmark.cpuSeconds() - c0, sum);
+        Row sums = stage.transform(frame).agg(functions.sum(total), functions.sum(scale)).first();
+        return new Run(job, mode, rows, (System.nanoTime() - t0) / 1e9, SparkScoringBenchmark.cpuSeconds() - c0,
+                sums.getDouble(0), sums.getDouble(1));
     }
 
     public static void main(String[] args) throws Exception {
@@ -139,19 +145,27 @@ public final class SparkRowJobsBenchmark {
                     x.seconds, x.cpu, x.rows / x.seconds, x.sum));
         }
         r.append('\n');
+        List<String> apart = new ArrayList<>();
         for (int j = 0; j < runs.size(); j += 3) {
             Run batch = runs.get(j);
             Run one = runs.get(j + 1);
             Run sameRows = runs.get(j + 2);
             r.append(String.format(Locale.ROOT, "%s: %.1f rows/s in batches, %.1f one row per call: %.1f times the rows per second"
-                    + " (by CPU time %.1f); sums on the same %,d rows %.4f and %.4f (float rounding apart)%n", batch.job,
+                    + " (by CPU time %.1f); sums on the same %,d rows %.4f and %.4f, difference %.3g (allowed %.3g)%n", batch.job,
                     batch.rows / batch.seconds, one.rows / one.seconds, (batch.rows / batch.seconds) / (one.rows / one.seconds),
-                    (one.cpu / one.rows) / (batch.cpu / batch.rows), one.rows, one.sum, sameRows.sum));
+                    (one.cpu / one.rows) / (batch.cpu / batch.rows), one.rows, one.sum, sameRows.sum,
+                    Math.abs(one.sum - sameRows.sum), JobsTest.PLACE_ROUNDING * one.scale));
+            if (!(Math.abs(one.sum - sameRows.sum) <= JobsTest.PLACE_ROUNDING * one.scale)) {
+                apart.add(batch.job);
+            }
         }
         String text = r.toString();
         Path tmp = Files.createTempFile(out.toAbsolutePath().getParent(), "spark-rowjobs", ".tmp");
         Files.writeString(tmp, text, StandardCharsets.UTF_8);
         Files.move(tmp, out, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
         System.out.print(text);
+        if (!apart.isEmpty()) {
+            throw new IllegalStateException("batched and one-row sums differ beyond the rounding allowed for " + apart);
+        }
     }
 }

@@ -112,14 +112,7 @@ class WholeTableStatisticsTest {
         assertEquals(core.notes().stream().filter(n -> !n.contains("log scale")).toList(),
                 spark.notes().stream().filter(n -> !n.contains("log scale")).toList());
         assertEquals(core.notes().size(), spark.notes().size());
-        for (int c = 0; c < NAMES.size(); c++) {
-            ColumnTransform e = core.transform(c);
-            ColumnTransform a = spark.transform(c);
-            assertEquals(e.kind(), a.kind(), NAMES.get(c));
-            // the shift of supply_air is near 1e4 while its sd is 0.4: relative to the shift
-            assertEquals(e.shift(), a.shift(), CORE_ROUNDING_TOL * Math.max(1.0, Math.abs(e.shift())), NAMES.get(c));
-            assertEquals(e.scale(), a.scale(), CORE_ROUNDING_TOL * Math.abs(e.scale()), NAMES.get(c));
-        }
+        assertSameColumnTransforms(core, spark);
         assertEquals(ColumnTransform.Kind.LOG_STANDARDIZE, spark.transform(1).kind());
     }
 
@@ -133,13 +126,7 @@ class WholeTableStatisticsTest {
         assertEquals(120, fitted.model().provenance().tableRows());
         TableTransform core = TableTransform.fit(all, Set.of("ambient"));
         assertEquals(core.kinds(), model.kinds());
-        for (int c = 0; c < core.names().size(); c++) {
-            ColumnTransform e = core.transform(c);
-            ColumnTransform a = model.transform(c);
-            assertEquals(e.kind(), a.kind(), core.names().get(c));
-            assertEquals(e.shift(), a.shift(), CORE_ROUNDING_TOL * Math.max(1.0, Math.abs(e.shift())));
-            assertEquals(e.scale(), a.scale(), CORE_ROUNDING_TOL * Math.abs(e.scale()));
-        }
+        assertSameColumnTransforms(core, model);
         assertTrue(fitted.model().provenance().notes().stream()
                 .anyMatch(n -> n.startsWith("column transforms given by the caller")));
         IllegalArgumentException bad = assertThrows(IllegalArgumentException.class,
@@ -198,6 +185,21 @@ class WholeTableStatisticsTest {
             BigDecimal err = exact.subtract(new BigDecimal(s)).abs();
             assertTrue(err.compareTo(exact.subtract(new BigDecimal(Math.nextUp(s))).abs()) <= 0, "trial " + trial);
             assertTrue(err.compareTo(exact.subtract(new BigDecimal(Math.nextDown(s))).abs()) <= 0, "trial " + trial);
+        }
+    }
+
+    /**
+     * Column by column, the same kind, and shift and scale within {@link #CORE_ROUNDING_TOL} (the shift
+     * relative to max(1, |shift|): the shift of supply_air is near 1e4 while its sd is 0.4).
+     */
+    private static void assertSameColumnTransforms(TableTransform core, TableTransform actual) {
+        for (int c = 0; c < core.names().size(); c++) {
+            ColumnTransform e = core.transform(c);
+            ColumnTransform a = actual.transform(c);
+            String name = core.names().get(c);
+            assertEquals(e.kind(), a.kind(), name);
+            assertEquals(e.shift(), a.shift(), CORE_ROUNDING_TOL * Math.max(1.0, Math.abs(e.shift())), name);
+            assertEquals(e.scale(), a.scale(), CORE_ROUNDING_TOL * Math.abs(e.scale()), name);
         }
     }
 }

@@ -7,10 +7,10 @@ import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
 import java.util.ArrayList;
 import java.util.Arrays;
-import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
+import java.util.Set;
 import java.util.stream.IntStream;
 
 import org.backstep.Backstep;
@@ -57,10 +57,8 @@ public final class FitSize {
      * @throws IOException if a file cannot be read or written
      */
     public static void main(String[] args) throws IOException {
-        Map<String, String> opt = new LinkedHashMap<>();
-        for (int i = 0; i + 1 < args.length; i += 2) {
-            opt.put(args[i], args[i + 1]);
-        }
+        Map<String, String> opt = Options.parse(args, new java.util.TreeSet<>(Set.of("--data", "--labels", "--lever",
+                "--configs", "--seeds", "--bound-seeds", "--tables", "--out", "--records", "--extra-seeds", "--ensembles")));
         Path data = Path.of(opt.get("--data"));
         Path labels = Path.of(opt.get("--labels"));
         Lever lever = Lever.valueOf(opt.getOrDefault("--lever", "DEFAULTS"));
@@ -143,7 +141,7 @@ public final class FitSize {
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
         Table encTrain = enc.encode(train);
-        Backstep.Builder builder = Backstep.builder().seed(seed).baseline(lever.baseline);
+        Backstep.Builder builder = lever.builder(seed);
         String hidden = "256x3";
         Table fitRows = encTrain;
         Table validation = null;

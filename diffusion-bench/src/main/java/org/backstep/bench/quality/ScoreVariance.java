@@ -11,9 +11,8 @@ import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
-import java.util.TreeMap;
+import java.util.Set;
 
-import org.backstep.Backstep;
 import org.backstep.DiffusionModel;
 import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
@@ -42,10 +41,8 @@ public final class ScoreVariance {
 
     /** @param args see the class comment @throws Exception on a file or reflection error */
     public static void main(String[] args) throws Exception {
-        Map<String, String> opt = new TreeMap<>();
-        for (int i = 0; i + 1 < args.length; i += 2) {
-            opt.put(args[i], args[i + 1]);
-        }
+        Map<String, String> opt = Options.parse(args, new java.util.TreeSet<>(Set.of("--data", "--labels", "--bound-seeds",
+                "--pilot", "--pilot-rows", "--models", "--tables", "--plans", "--levers")));
         Path data = Path.of(opt.get("--data"));
         Path labels = Path.of(opt.get("--labels"));
         int seeds = Integer.parseInt(opt.getOrDefault("--bound-seeds", "5"));
@@ -88,7 +85,7 @@ public final class ScoreVariance {
         if (file != null && Files.exists(file)) {
             model = DiffusionModel.load(file);
         } else {
-            model = Backstep.builder().seed(1).baseline(lever.baseline).fit(train);
+            model = lever.builder(1).fit(train);
             if (file != null) {
                 model.save(file);
             }
