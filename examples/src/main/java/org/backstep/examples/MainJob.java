@@ -215,7 +215,8 @@ public final class MainJob {
         }
         TrainingCounts counts = TrainingCounts.of(train, model.provenance());
         console.println("   " + model);
-        console.println("   " + counts.trainedSentence(train.rows()));
+        console.println("   " + counts.trainedSentence(train.rows(),
+                model.options().coordinates() == org.backstep.option.Coordinates.WHITENED));
         console.printf(Locale.ROOT, "   %d checkpoint rows (the trainer's own split, complete rows kept back to choose its weights); "
                 + "%d rows not used (%s)%n", counts.checkpoint(), counts.notUsed(), TrainingCounts.NOT_USED);
         ObjectNode training = summary.putObject("training");
