@@ -327,7 +327,8 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
                 getOrDefault(rowKeyCol()));
         RowJob.Kind kind = RowJob.check(this, cols.length);
         return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()), getOrDefault(flagCol()),
-                (Double) getOrDefault(screenQuantile), getOrDefault(culpritCol()), getOrDefault(surprisalCol())));
+                (Double) getOrDefault(screenQuantile), getOrDefault(culpritCol()), getOrDefault(surprisalCol()),
+                (Boolean) getOrDefault(keepDraws())));
     }
 
     @Override

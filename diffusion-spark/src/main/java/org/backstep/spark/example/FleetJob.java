@@ -20,7 +20,7 @@ import org.backstep.spark.BackstepParams;
  *   fit   INPUT MODEL_DIR [--key COL] [--binary COL,COL] [--integer COL,COL] [--categorical COL,COL]
  *         [--log COL,COL] [--sample-rows N] [--screen Q] [--seed S] [--steps T] [--hidden W,W] [--epochs N]
  *   apply MODEL_DIR INPUT OUTPUT [--job score|impute|denoise] [--noise-sd a,b,...] [--draws K]
- *         [--score-draws K] [--key COL] [--seed S]
+ *         [--keep-draws true|false] [--score-draws K] [--key COL] [--seed S]
  * </pre>
  * INPUT is a Parquet folder or file, or a CSV file with a header row (by its name's ending);
  * MODEL_DIR is a Spark ML folder ({@link BackstepModel#write()}); OUTPUT a Parquet folder, which
@@ -126,6 +126,7 @@ public final class FleetJob {
                 case "--job" -> model.setJob(o.getValue());
                 case "--noise-sd" -> model.setNoiseSd(Arrays.stream(o.getValue().split(",")).mapToDouble(Double::parseDouble).toArray());
                 case "--draws" -> model.setDraws(integer(o));
+                case "--keep-draws" -> model.setKeepDraws(bool(o));
                 case "--score-draws" -> model.setScoreDraws(integer(o));
                 case "--key" -> model.setRowKeyCol(o.getValue());
                 case "--seed" -> model.setSeed(Long.parseLong(o.getValue()));
@@ -157,6 +158,13 @@ public final class FleetJob {
         } catch (NumberFormatException e) {
             throw new IllegalArgumentException(o.getKey() + " is '" + o.getValue() + "'; expected an integer", e);
         }
+    }
+
+    private static boolean bool(Map.Entry<String, String> o) {
+        if (!List.of("true", "false").contains(o.getValue())) {
+            throw new IllegalArgumentException(o.getKey() + " is '" + o.getValue() + "'; expected true or false");
+        }
+        return Boolean.parseBoolean(o.getValue());
     }
 
     private static double number(Map.Entry<String, String> o) {
