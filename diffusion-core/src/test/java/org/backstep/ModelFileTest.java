@@ -63,6 +63,36 @@ class ModelFileTest {
         assertEquals(model.provenance().tableSha256(), back.provenance().tableSha256());
     }
 
+    /**
+     * A model whose continuous columns are mapped by their normal scores keeps its knots (the sorted
+     * training values) in the file: the same transforms and the same bound after a round trip; knots
+     * on a column of another transform are refused by name (common practice, no source).
+     */
+    @Test
+    void normalScoreTransformsKeepTheirKnots(@TempDir Path dir) throws IOException {
+        DiffusionModel scores = Backstep.builder().steps(10).hidden(8).epochs(2).batchSize(64).seed(5).threads(1)
+                .fit(data, org.backstep.table.TableTransform.fitNormalScores(data, 1.0));
+        assertEquals(org.backstep.table.ColumnTransform.Kind.NORMAL_SCORES, scores.transform().transform(0).kind());
+        Path f = dir.resolve("scores.backstep");
+        scores.save(f);
+        DiffusionModel back = DiffusionModel.load(f);
+        assertEquals(scores.transform(), back.transform());
+        assertEquals(data.rows(), back.transform().transform(1).knots().length);
+        assertArrayEquals(scores.bound(data, 3).nats(), back.bound(data, 3).nats());
+
+        Map<String, byte[]> e = entries(f);
+        String manifest = new String(e.get(ModelFile.MANIFEST), StandardCharsets.UTF_8);
+        String door = "\"transform\" : \"IDENTITY\",";
+        assertTrue(manifest.contains(door), manifest);
+        e.put(ModelFile.MANIFEST, manifest.replace(door, door + " \"knots\" : [ 0.0, 1.0 ],").getBytes(StandardCharsets.UTF_8));
+        e.put(ModelFile.SUMS, sums(e).getBytes(StandardCharsets.UTF_8));
+        Path extra = dir.resolve("extra");
+        write(extra, e);
+        ModelFileException x = refused(extra);
+        assertTrue(x.getMessage().contains("columns[2]") && x.getMessage().contains("knots has 2 values; expected none for"
+                + " IDENTITY"), x.getMessage());
+    }
+
     /** The entries of a zip file by name, in order. */
     static Map<String, byte[]> entries(Path f) throws IOException {
         Map<String, byte[]> m = new LinkedHashMap<>();

@@ -32,8 +32,14 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
  */
 class HostileModelFilesTest {
 
-    /** A load refused before anything large is allocated takes milliseconds; this leaves room for a busy machine. */
-    private static final long QUICK_MILLIS = 5_000;
+    /**
+     * A load refused before anything large is allocated allocates a few megabytes (the manifest, the
+     * weights' entry read so far); a file that claims billions of weights must not make the loader
+     * allocate them. Counted in bytes the test's thread allocated (HotSpot's per-thread counter), not
+     * in wall time, so that a busy machine cannot fail it (measured: 6 KB to 2 MB per refusal, 159 MB for
+     * the manifest of a million betas, which Jackson reads whole). Common practice, no source.
+     */
+    private static final long FEW_BYTES = 256L << 20;
 
     private static final ObjectMapper JSON = new ObjectMapper();
     private static Map<String, byte[]> golden;
@@ -54,11 +60,18 @@ class HostileModelFilesTest {
 
     private ModelFileException refused(byte[] file) throws IOException {
         Path f = Files.write(dir.resolve("hostile.backstep"), file);
-        long t0 = System.nanoTime();
+        long before = allocatedBytes();
         ModelFileException e = assertThrows(ModelFileException.class, () -> DiffusionModel.load(f));
-        long millis = (System.nanoTime() - t0) / 1_000_000;
-        assertTrue(millis < QUICK_MILLIS, "refusal took " + millis + " ms: " + e.getMessage());
+        long bytes = allocatedBytes() - before;
+        assertTrue(bytes < FEW_BYTES, "refusal allocated " + (bytes >> 20) + " MB: " + e.getMessage());
         return e;
+    }
+
+    /** Bytes allocated so far on this thread (HotSpot's com.sun.management extension of ThreadMXBean). */
+    private static long allocatedBytes() {
+        com.sun.management.ThreadMXBean threads =
+                (com.sun.management.ThreadMXBean) java.lang.management.ManagementFactory.getThreadMXBean();
+        return threads.getCurrentThreadAllocatedBytes();
     }
 
     private static ObjectNode options(ObjectNode root) {

@@ -42,9 +42,28 @@ import org.backstep.table.Table;
  * as an unsigned number, and the taken rows are ordered by that key and cut at {@code sampleRows}. Every row is taken or not by its own key, so
  * the sample and the fitted model do not depend on the partitioning.
  *
- * <p>Column kinds: boolean columns and the columns named in {@link #binaryCols()} are binary, the
- * other input columns continuous. Without {@link BackstepParams#inputCols()}, every numeric or
- * boolean column but the row key is an input.
+ * <p>Column kinds, by the first rule that applies: a column named in {@link #binaryCols()} is
+ * binary, one named in {@link #integerCols()} integer, one named in {@link #categoricalCols()}
+ * categorical (a column named in two of these lists is refused); else a boolean column is binary,
+ * a string column categorical, and any other numeric column (integral types included) continuous.
+ * Integral Spark types are continuous unless named, as in the core's CSV reader: whole numbers are
+ * often measurements stored in fixed units (tenths of a degree), and an integer column's decoder
+ * puts its mass on unit-wide bins, right only for counts and codes; an integer column may also be
+ * a double, float or decimal column holding whole numbers (counts with gaps, as files written by
+ * tools without a nullable integer type hold them), a fractional value refused naming its row and
+ * column. Without {@link BackstepParams#inputCols()}, the inputs are every numeric or boolean
+ * column but the row key, and the string columns named in {@link #categoricalCols()}; a string
+ * column is not an input unless named, since an identifier or free-text column would become a
+ * category per value. With {@code inputCols} set, each string column among them is categorical.
+ *
+ * <p>Categorical columns: the labels are the column's distinct non-null strings over the whole
+ * DataFrame, in ascending {@link String#compareTo} order ("first seen", the order of the core's
+ * CSV reader, is not defined on a distributed table; rows are matched to labels by text, so the
+ * order only numbers the categories), at most {@code Table.MAX_CATEGORIES} per column (more are
+ * refused naming the column, after collecting at most one more label to the driver). Integer
+ * columns: the mean and population standard deviation of the whole DataFrame's values, as for a
+ * continuous column; a column whose smallest value is at least 0 counts from 0
+ * ({@code TableTransform.lowest}).
  *
  * <p>Screening: with {@link #screenQuantile()} q set, every fifth sampled row (0-based index
  * i % 5 == 0) is held out of fitting and scored as the model will score rows; the model's
@@ -71,6 +90,8 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
     private final StringArrayParam binaryCols;
     private final DoubleParam screenQuantile;
     private final StringArrayParam logCols;
+    private final StringArrayParam integerCols;
+    private final StringArrayParam categoricalCols;
 
     /** An estimator with default Params. */
     public BackstepEstimator() {
@@ -90,7 +111,15 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
                 "q in (0, 1): hold out every fifth sampled row and set the threshold at the q-quantile of their scores; NaN: no threshold");
         logCols = new StringArrayParam(this, "logCols",
                 "continuous input columns modelled on the log scale (every value above 0)");
+        integerCols = new StringArrayParam(this, "integerCols",
+                "input columns of whole numbers (counts, ordinal codes) modelled as integers: an integral type, or a"
+                + " numeric type whose every value is whole; integral columns not named here are continuous");
+        categoricalCols = new StringArrayParam(this, "categoricalCols",
+                "string input columns modelled as categorical, their labels sorted; a string column among inputCols is"
+                + " categorical anyway, and without inputCols only the string columns named here are inputs");
         setDefault(logCols, new String[0]);
+        setDefault(integerCols, new String[0]);
+        setDefault(categoricalCols, new String[0]);
         setDefault(sampleRows, (Object) 100_000);
         setDefault(steps, (Object) 0);
         setDefault(hidden, new int[0]);
@@ -145,6 +174,31 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         return logCols;
     }
 
+    /** @return the Param: columns of whole numbers modelled as integers */
+    public StringArrayParam integerCols() {
+        return integerCols;
+    }
+
+    /** @return the Param: string columns modelled as categorical */
+    public StringArrayParam categoricalCols() {
+        return categoricalCols;
+    }
+
+    /**
+     * @param cols input columns of whole numbers (counts, codes), of an integral type or holding whole
+     *     numbers @return this
+     */
+    public BackstepEstimator setIntegerCols(String... cols) {
+        set(integerCols, cols.clone());
+        return this;
+    }
+
+    /** @param cols string input columns modelled as categorical (inputs even without inputCols) @return this */
+    public BackstepEstimator setCategoricalCols(String... cols) {
+        set(categoricalCols, cols.clone());
+        return this;
+    }
+
     /** @param cols continuous input columns modelled on the log scale, each value above 0 @return this */
     public BackstepEstimator setLogCols(String... cols) {
         set(logCols, cols.clone());
@@ -187,52 +241,94 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         return this;
     }
 
-    /** The input columns: as set, else every numeric or boolean column but the row key. */
+    /**
+     * The input columns: as set, else every numeric or boolean column but the row key, and the
+     * columns named in {@link #categoricalCols()}, in the schema's order.
+     */
     private String[] resolvedInputs(StructType schema) {
         String[] set = getOrDefault(inputCols());
         if (set.length > 0) {
             return set;
         }
         String key = getOrDefault(rowKeyCol());
+        List<String> categorical = Arrays.asList(getOrDefault(categoricalCols));
         List<String> cols = new ArrayList<>();
         for (StructField f : schema.fields()) {
-            boolean usable = f.dataType() instanceof BooleanType || f.dataType() instanceof org.apache.spark.sql.types.NumericType;
+            boolean usable = f.dataType() instanceof BooleanType || f.dataType() instanceof org.apache.spark.sql.types.NumericType
+                    || categorical.contains(f.name());
             if (usable && !f.name().equals(key)) {
                 cols.add(f.name());
             }
         }
         if (cols.isEmpty()) {
-            throw new IllegalArgumentException("the DataFrame has no numeric or boolean column to model; it has "
-                    + Arrays.toString(schema.fieldNames()));
+            throw new IllegalArgumentException("the DataFrame has no numeric or boolean column to model, and categoricalCols"
+                    + " names none of its string columns; it has " + Arrays.toString(schema.fieldNames()));
         }
         return cols.toArray(String[]::new);
     }
 
+    /**
+     * Each input column's kind, by the rules of the class comment.
+     *
+     * @throws IllegalArgumentException naming a column that binaryCols, integerCols or categoricalCols
+     *     name but that is not an input, or that two of them name
+     */
     private List<ColumnKind> kinds(StructType schema, String[] cols) {
-        List<String> binary = Arrays.asList(getOrDefault(binaryCols));
-        for (String b : binary) {
-            if (!Arrays.asList(cols).contains(b)) {
-                throw new IllegalArgumentException("binaryCols names '" + b + "', which is not an input column "
-                        + Arrays.toString(cols));
+        java.util.Map<String, String> declared = new java.util.HashMap<>();
+        java.util.Map<String, ColumnKind> kindOf = new java.util.HashMap<>();
+        List<String> inputs = Arrays.asList(cols);
+        String[][] lists = {getOrDefault(binaryCols), getOrDefault(integerCols), getOrDefault(categoricalCols)};
+        String[] listNames = {"binaryCols", "integerCols", "categoricalCols"};
+        ColumnKind[] listKinds = {ColumnKind.BINARY, ColumnKind.INTEGER, ColumnKind.CATEGORICAL};
+        for (int l = 0; l < lists.length; l++) {
+            for (String c : lists[l]) {
+                if (!inputs.contains(c)) {
+                    throw new IllegalArgumentException(listNames[l] + " names '" + c + "', which is not an input column "
+                            + inputs);
+                }
+                String before = declared.putIfAbsent(c, listNames[l]);
+                if (before != null && !before.equals(listNames[l])) {
+                    throw new IllegalArgumentException("column '" + c + "' is named in both " + before + " and "
+                            + listNames[l] + "; expected one kind per column");
+                }
+                kindOf.put(c, listKinds[l]);
             }
         }
+        List<String> present = Arrays.asList(schema.fieldNames());
         List<ColumnKind> kinds = new ArrayList<>();
         for (String c : cols) {
-            boolean bool = Arrays.asList(schema.fieldNames()).contains(c)
-                    && schema.apply(c).dataType() instanceof BooleanType;
-            kinds.add(bool || binary.contains(c) ? ColumnKind.BINARY : ColumnKind.CONTINUOUS);
+            ColumnKind k = kindOf.get(c);
+            if (k == null) {
+                org.apache.spark.sql.types.DataType t = present.contains(c) ? schema.apply(c).dataType() : null;
+                k = t instanceof BooleanType ? ColumnKind.BINARY
+                        : t instanceof org.apache.spark.sql.types.StringType ? ColumnKind.CATEGORICAL : ColumnKind.CONTINUOUS;
+            }
+            kinds.add(k);
         }
         return kinds;
+    }
+
+    /** A placeholder label list per categorical column, for checking the schema before the labels are known. */
+    private static java.util.Map<String, List<String>> noLabels(String[] cols, List<ColumnKind> kinds) {
+        java.util.Map<String, List<String>> none = new java.util.HashMap<>();
+        for (int j = 0; j < cols.length; j++) {
+            if (kinds.get(j) == ColumnKind.CATEGORICAL) {
+                none.put(cols[j], List.of());
+            }
+        }
+        return none;
     }
 
     @Override
     public StructType transformSchema(StructType schema) {
         String[] cols = resolvedInputs(schema);
         List<ColumnKind> kinds = kinds(schema, cols);
-        ColumnMatch m = ColumnMatch.of(schema, cols, Arrays.asList(cols), kinds, getOrDefault(rowKeyCol()));
+        ColumnMatch m = ColumnMatch.of(schema, cols, Arrays.asList(cols), kinds, noLabels(cols, kinds),
+                getOrDefault(rowKeyCol()));
         RowJob.Kind kind = RowJob.check(this, cols.length);
         return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()), getOrDefault(flagCol()),
-                (Double) getOrDefault(screenQuantile), getOrDefault(culpritCol()), getOrDefault(surprisalCol())));
+                (Double) getOrDefault(screenQuantile), getOrDefault(culpritCol()), getOrDefault(surprisalCol()),
+                (Boolean) getOrDefault(keepDraws())));
     }
 
     @Override
@@ -250,19 +346,21 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         String[] cols = resolvedInputs(schema);
         List<ColumnKind> kinds = kinds(schema, cols);
         List<String> names = Arrays.asList(cols);
-        ColumnMatch match = ColumnMatch.of(schema, cols, names, kinds, getOrDefault(rowKeyCol()));
         long seed = (Long) getOrDefault(seed());
         java.util.Set<String> logs = new java.util.LinkedHashSet<>(Arrays.asList(getOrDefault(logCols)));
         for (String l : logs) {
             int at = names.indexOf(l);
             if (at < 0 || kinds.get(at) != ColumnKind.CONTINUOUS) {
                 throw new IllegalArgumentException("logCols names '" + l + "', which is not a continuous input column "
-                        + names);
+                        + names + (at < 0 ? "" : "; it is " + kinds.get(at).name().toLowerCase(java.util.Locale.ROOT)
+                        + " (type " + schema.apply(l).dataType().simpleString() + ")"));
             }
         }
 
         WholeTableStatistics.Result whole = WholeTableStatistics.of(dataset.toDF(), cols, names, kinds, logs,
                 getOrDefault(rowKeyCol()));
+        java.util.Map<String, List<String>> labels = whole.transform().categories();
+        ColumnMatch match = ColumnMatch.of(schema, cols, names, kinds, labels, getOrDefault(rowKeyCol()));
         long total = whole.rows();
         if (total < 2) {
             throw new IllegalArgumentException("the DataFrame has " + total + " rows; expected at least 2 to fit on");
@@ -279,6 +377,12 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
         for (int i = 0; i < rows.size(); i++) {
             ColumnMatch.RowName where = new ColumnMatch.RowName(-1, i);
             double[] c = match.cells(rows.get(i), where);
+            int unseen = match.unseenColumn(c);
+            if (unseen >= 0) {
+                throw new IllegalStateException("sampled row " + i + ", column '" + match.inputCol(unseen) + "' holds the label '"
+                        + match.raw(rows.get(i), unseen) + "', which the pass over the whole DataFrame did not see: the"
+                        + " DataFrame gave other rows on its next read; cache it, or make it deterministic, before fitting");
+            }
             cells.add(c);
             long rowSeed = match.rowSeed(seed, rows.get(i), c, where);
             order.add(new long[] {sampleKey(rowSeed), i, rowSeed});
@@ -291,7 +395,7 @@ public final class BackstepEstimator extends Estimator<BackstepModel>
             x[i] = cells.get((int) order.get(i)[1]);
             rowSeeds[i] = order.get(i)[2];
         }
-        Table sample = Table.of(names, kinds, x);
+        Table sample = Table.of(names, kinds, labels, x);
 
         Table training = Double.isNaN(q) ? sample : sample.filterRows(i -> i % 5 != 0);
         DiffusionModel model = CoreCalls.fit(training, whole.transform(), (Integer) getOrDefault(steps),

@@ -192,7 +192,7 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
         ColumnMatch m = match(schema);
         return RowJob.outputSchema(schema, RowJob.addedFields(kind, m, getOrDefault(outputCol()),
                 getOrDefault(flagCol()), (Double) getOrDefault(threshold), getOrDefault(culpritCol()),
-                getOrDefault(surprisalCol())));
+                getOrDefault(surprisalCol()), (Boolean) getOrDefault(keepDraws())));
     }
 
     private RowJob.Kind checkJob() {
@@ -217,7 +217,7 @@ public final class BackstepModel extends Model<BackstepModel> implements Backste
                 (Double) getOrDefault(level()), getOrDefault(noiseSd()), (Double) getOrDefault(threshold),
                 (Integer) getOrDefault(batchRows()), (Integer) getOrDefault(culprits()),
                 new int[] {(Integer) getOrDefault(surprisalDraws()), (Integer) getOrDefault(surprisalSteps()),
-                        (Integer) getOrDefault(surprisalRounds())});
+                        (Integer) getOrDefault(surprisalRounds())}, (Boolean) getOrDefault(keepDraws()));
     }
 
     /**

@@ -1,5 +1,6 @@
 package org.backstep.spark;
 
+import org.apache.spark.ml.param.BooleanParam;
 import org.apache.spark.ml.param.DoubleArrayParam;
 import org.apache.spark.ml.param.DoubleParam;
 import org.apache.spark.ml.param.IntParam;
@@ -19,7 +20,9 @@ import org.apache.spark.ml.param.StringArrayParam;
  * {@code "impute"} appends, per model column {@code c}, {@code c_mean}, {@code c_lower} and
  * {@code c_upper}: the mean and central interval at {@link #level()} of {@link #draws()} draws of
  * each missing cell given the observed ones (observed cells repeat their value; a categorical
- * column's most frequent label of the draws, as a string, in all three);
+ * column's most frequent label of the draws, as a string, in all three), and with
+ * {@link #keepDraws()} also {@code c_draws}, the array of the draws themselves (labels for a
+ * categorical column; an observed cell repeated);
  * {@code "denoise"} appends {@code c_denoised} and {@code c_sd}: the posterior mean and spread of
  * each cell of readings with Gaussian noise of standard deviation {@link #noiseSd()} (original
  * units, one per model column; 0 for a categorical column, which keeps its label); {@code "attribute"} scores and flags as {@code "score"} (the model
@@ -71,6 +74,7 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
         final IntParam surprisalDraws;
         final IntParam surprisalSteps;
         final IntParam surprisalRounds;
+        final BooleanParam keepDraws;
 
         Defs(BackstepParams<?> owner) {
             inputCols = new StringArrayParam(owner, "inputCols",
@@ -97,6 +101,9 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
                     + CoreCalls.fewestSurprisalDraws());
             surprisalSteps = new IntParam(owner, "surprisalSteps", "for attribute: the most chain steps, at least 1");
             surprisalRounds = new IntParam(owner, "surprisalRounds", "for attribute: resampling rounds per step, at least 1");
+            keepDraws = new BooleanParam(owner, "keepDraws",
+                    "for impute: also append c_draws per model column, the array of the draws of each cell");
+            owner.setDefault(keepDraws, (Object) false);
             owner.setDefault(rowKeyCol, "");
             owner.setDefault(outputCol, "backstep_nats");
             owner.setDefault(flagCol, "backstep_flag");
@@ -179,6 +186,17 @@ public interface BackstepParams<S extends BackstepParams<S>> extends Params {
     /** @return the Param: rows read from a partition at a time */
     default IntParam batchRows() {
         return paramDefs().batchRows;
+    }
+
+    /** @return the Param: whether impute also appends each cell's draws */
+    default BooleanParam keepDraws() {
+        return paramDefs().keepDraws;
+    }
+
+    /** @param keep whether impute also appends {@code c_draws}, the array of each cell's draws @return this */
+    default S setKeepDraws(boolean keep) {
+        set(keepDraws(), (Object) keep);
+        return self();
     }
 
     /** @param cols the DataFrame column of each model column @return this */

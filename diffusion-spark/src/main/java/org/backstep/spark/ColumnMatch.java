@@ -28,7 +28,10 @@ import org.backstep.table.Table;
  * Where the model's columns sit in a DataFrame's rows, checked by name and type, and the reading of
  * one row's cells as doubles. A continuous column may be any numeric type (double, float, int, long,
  * short, byte, decimal); a binary column a boolean, or a numeric type holding 0 and 1; an integer
- * column an integral type (long, int, short, byte) within +-2^52; a categorical column a string
+ * column an integral type (long, int, short, byte), or a double, float or decimal column whose
+ * every value is a whole number (as counts with gaps arrive from files written by tools without
+ * a nullable integer type), within +-2^52, a fractional value refused naming its row and
+ * column; a categorical column a string
  * column of labels, read as the index of the label among the model's ({@code Table.categories}).
  * A label the model's training table did not have reads as {@link #UNSEEN}. A null cell and a NaN
  * are a missing cell. The optional row key column is an integer or a string.
@@ -132,7 +135,7 @@ final class ColumnMatch implements Serializable {
             boolean numeric = isNumeric(t);
             boolean ok = switch (kinds[j]) {
                 case BINARY -> numeric || t instanceof BooleanType;
-                case INTEGER -> isIntegral(t);
+                case INTEGER -> numeric;
                 case CATEGORICAL -> t instanceof StringType;
                 default -> numeric;
             };
@@ -141,7 +144,7 @@ final class ColumnMatch implements Serializable {
                         + "; the model's " + kinds[j].name().toLowerCase(Locale.ROOT) + " column needs "
                         + switch (kinds[j]) {
                             case BINARY -> "a boolean or a numeric type holding 0 and 1";
-                            case INTEGER -> "an integral type (long, int, short or byte)";
+                            case INTEGER -> "an integral type (long, int, short or byte), or a numeric type holding whole numbers";
                             case CATEGORICAL -> "a string column of its labels";
                             default -> "a numeric type";
                         });
@@ -172,10 +175,6 @@ final class ColumnMatch implements Serializable {
         }
         return new ColumnMatch(inputCols.clone(), kinds, index, keyIndex, stringKey, keyCol,
                 modelNames.toArray(String[]::new), labels);
-    }
-
-    private static boolean isIntegral(DataType t) {
-        return t instanceof IntegerType || t instanceof LongType || t instanceof ShortType || t instanceof ByteType;
     }
 
     private static boolean isNumeric(DataType t) {
@@ -214,12 +213,7 @@ final class ColumnMatch implements Serializable {
                 x[j] = k == null ? UNSEEN : k;
                 continue;
             } else if (kinds[j] == ColumnKind.INTEGER) {
-                long n = ((Number) v).longValue();
-                if (n > MAX_INTEGER || n < -MAX_INTEGER) {
-                    throw new IllegalArgumentException(where.describe(this, row) + ", column '" + inputCols[j] + "' is " + n
-                            + "; the model's integer column holds whole numbers within +-2^52");
-                }
-                d = n;
+                d = wholeNumber(v, row, where, j);
             } else if (v instanceof Boolean b) {
                 d = b ? 1.0 : 0.0;
             } else if (v instanceof BigDecimal bd) {
@@ -238,6 +232,34 @@ final class ColumnMatch implements Serializable {
             x[j] = d == 0.0 ? 0.0 : d;     // -0.0 as 0.0, as Table stores it
         }
         return x;
+    }
+
+    /**
+     * The value of an integer column's cell: an integral value as it is, a double, float or decimal
+     * value when it is a whole number (NaN stays a missing cell).
+     *
+     * @throws IllegalArgumentException naming the row and column of a fractional or infinite value,
+     *     or one beyond +-2^52
+     */
+    private double wholeNumber(Object v, Row row, RowName where, int j) {
+        if (v instanceof Long || v instanceof Integer || v instanceof Short || v instanceof Byte) {
+            long n = ((Number) v).longValue();
+            if (n > MAX_INTEGER || n < -MAX_INTEGER) {
+                throw new IllegalArgumentException(where.describe(this, row) + ", column '" + inputCols[j] + "' is " + n
+                        + "; the model's integer column holds whole numbers within +-2^52");
+            }
+            return n;
+        }
+        double d = v instanceof BigDecimal bd ? bd.doubleValue() : ((Number) v).doubleValue();
+        if (Double.isNaN(d)) {
+            return d;
+        }
+        boolean exact = !(v instanceof BigDecimal bd) || bd.stripTrailingZeros().scale() <= 0;
+        if (!exact || d != Math.rint(d) || Math.abs(d) > MAX_INTEGER) {
+            throw new IllegalArgumentException(where.describe(this, row) + ", column '" + inputCols[j] + "' is " + v
+                    + "; the model's integer column holds whole numbers within +-2^52");
+        }
+        return d == 0.0 ? 0.0 : d;
     }
 
     /** @return the row's cell of model column j as the DataFrame holds it */

@@ -68,6 +68,7 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
     static final String UPPER = "_upper";
     static final String DENOISED = "_denoised";
     static final String SD = "_sd";
+    static final String DRAWS = "_draws";
 
     private final Broadcast<byte[]> modelBytes;
     private final String sha256;
@@ -82,13 +83,16 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
     private final int batchRows;
     private final int culprits;
     private final int[] surprisal;
+    private final boolean keepDraws;
 
     /**
      * @param surprisal the surprisal's draws, steps and rounds (attribute)
      * @param culprits how many culprit names (attribute)
+     * @param keepDraws whether impute appends each cell's draws
      */
     RowJob(Broadcast<byte[]> modelBytes, String sha256, ColumnMatch match, Kind kind, long seed, int scoreDraws,
-           int draws, double level, double[] noiseSd, double threshold, int batchRows, int culprits, int[] surprisal) {
+           int draws, double level, double[] noiseSd, double threshold, int batchRows, int culprits, int[] surprisal,
+           boolean keepDraws) {
         this.modelBytes = modelBytes;
         this.sha256 = sha256;
         this.match = match;
@@ -102,6 +106,7 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         this.batchRows = batchRows;
         this.culprits = culprits;
         this.surprisal = surprisal.clone();
+        this.keepDraws = keepDraws;
     }
 
     /**
@@ -114,10 +119,11 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
      * @param threshold the flag's threshold, NaN for no flag column
      * @param culpritCol the culprit column (attribute)
      * @param surprisalCol the surprisal column (attribute)
+     * @param keepDraws whether impute appends each cell's draws
      * @return the new fields
      */
     static List<StructField> addedFields(Kind kind, ColumnMatch match, String outputCol, String flagCol, double threshold,
-                                         String culpritCol, String surprisalCol) {
+                                         String culpritCol, String surprisalCol, boolean keepDraws) {
         List<StructField> f = new ArrayList<>();
         switch (kind) {
             case SCORE -> {
@@ -138,6 +144,9 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
                     f.add(DataTypes.createStructField(match.inputCol(j) + MEAN, t, false));
                     f.add(DataTypes.createStructField(match.inputCol(j) + LOWER, t, false));
                     f.add(DataTypes.createStructField(match.inputCol(j) + UPPER, t, false));
+                    if (keepDraws) {
+                        f.add(DataTypes.createStructField(match.inputCol(j) + DRAWS, DataTypes.createArrayType(t, false), false));
+                    }
                 }
             }
             case DENOISE -> {
@@ -424,14 +433,34 @@ final class RowJob implements MapPartitionsFunction<Row, Row>, Serializable {
         return match.kind(j) == ColumnKind.CATEGORICAL ? match.label(j, (int) Math.rint(v)) : (Object) v;
     }
 
-    /** Mean, lower and upper of each column of record i of an imputation (observed cells repeat their value). */
+    /**
+     * Mean, lower and upper (and with {@link #keepDraws} the draws) of each column of record i of an
+     * imputation (observed cells repeat their value).
+     */
     private Object[] imputed(Imputation imp, int i) {
         int d = match.columns();
-        Object[] v = new Object[3 * d];
+        int w = keepDraws ? 4 : 3;
+        Object[] v = new Object[w * d];
         for (int j = 0; j < d; j++) {
-            v[3 * j] = cellOut(j, imp.mean().get(i, j));
-            v[3 * j + 1] = cellOut(j, imp.lower().get(i, j));
-            v[3 * j + 2] = cellOut(j, imp.upper().get(i, j));
+            v[w * j] = cellOut(j, imp.mean().get(i, j));
+            v[w * j + 1] = cellOut(j, imp.lower().get(i, j));
+            v[w * j + 2] = cellOut(j, imp.upper().get(i, j));
+            if (keepDraws) {
+                int k = imp.draws().size();
+                if (match.kind(j) == ColumnKind.CATEGORICAL) {
+                    String[] labels = new String[k];
+                    for (int n = 0; n < k; n++) {
+                        labels[n] = (String) cellOut(j, imp.draws().get(n).get(i, j));
+                    }
+                    v[w * j + 3] = labels;
+                } else {
+                    double[] x = new double[k];
+                    for (int n = 0; n < k; n++) {
+                        x[n] = imp.draws().get(n).get(i, j);
+                    }
+                    v[w * j + 3] = x;
+                }
+            }
         }
         return v;
     }

@@ -218,8 +218,19 @@ class DiscreteColumnsTest {
         assertEquals("column 'species' has type double; the model's categorical column needs a string column of its labels",
                 label.getMessage());
         IllegalArgumentException whole = assertThrows(IllegalArgumentException.class, () -> stage()
-                .transform(frame(t, 1, null).withColumn("sepal_length_mm", functions.col("sepal_length_mm").cast("double"))));
-        assertEquals("column 'sepal_length_mm' has type double; the model's integer column needs an integral type"
-                + " (long, int, short or byte)", whole.getMessage());
+                .transform(frame(t, 1, null).withColumn("sepal_length_mm", functions.col("sepal_length_mm").cast("string"))));
+        assertEquals("column 'sepal_length_mm' has type string; the model's integer column needs an integral type"
+                + " (long, int, short or byte), or a numeric type holding whole numbers", whole.getMessage());
+        // a double column of whole numbers is read as the integral one (the same cells, so the same scores);
+        // a fractional value is refused naming the row and column
+        BackstepModel scorer = stage().setScoreDraws(2);
+        Dataset<Row> doubles = frame(t, 1, null).withColumn("sepal_length_mm", functions.col("sepal_length_mm").cast("double"));
+        assertEquals(scorer.transform(frame(t, 1, null)).orderBy(KEY).select("backstep_nats").collectAsList(),
+                scorer.transform(doubles).orderBy(KEY).select("backstep_nats").collectAsList());
+        Dataset<Row> fractional = doubles.withColumn("sepal_length_mm", functions.col("sepal_length_mm").plus(0.5));
+        Exception e = assertThrows(Exception.class, () -> scorer.transform(fractional).collectAsList());
+        String text = e.toString() + " " + (e.getCause() == null ? "" : e.getCause().toString());
+        assertTrue(text.contains("the row with plant_id = 1000, column 'sepal_length_mm' is 51.5; the model's integer"
+                + " column holds whole numbers"), text);
     }
 }

@@ -105,6 +105,19 @@ class JobsTest {
                 }
             }
         }
+        // keepDraws: the draws themselves, each equal to the core's draw of that cell (to the rounding)
+        List<Row> kept = stage.copy(org.apache.spark.ml.param.ParamMap.empty()).setKeepDraws(true)
+                .transform(TestModels.frame(t, 2)).orderBy(TestModels.KEY).collectAsList();
+        for (int i = 0; i < t.rows(); i++) {
+            for (int j = 0; j < TestModels.NAMES.size(); j++) {
+                List<Double> draws = kept.get(i).getList(kept.get(i).fieldIndex(TestModels.NAMES.get(j) + "_draws"));
+                assertEquals(5, draws.size());
+                for (int k = 0; k < 5; k++) {
+                    double w = want.draws().get(k).get(i, j);
+                    assertEquals(w, draws.get(k), tolerance(w), "row " + i + " draw " + k);
+                }
+            }
+        }
         // one row alone through the core, with its seed, gives the same draws (to the rounding)
         Imputation one = model.impute(t.selectRows(new int[] {3}), Defaults.imputation().withDraws(5).withLevel(0.8),
                 RowSeeds.ofKey(SEED, 1003L));

@@ -69,6 +69,26 @@ class ScoringTest {
         }
     }
 
+    /**
+     * Normal-score transforms are a core-only way of fitting (their knots are the training values,
+     * README "On Apache Spark"): a model fitted so in one JVM scores a DataFrame through Spark as
+     * any other, equal to the core's batch bound of the same rows with the same row seeds.
+     */
+    @Test
+    void aModelWithNormalScoreTransformsFittedInOneJvmScoresThroughSpark() {
+        Table train = TestModels.readings(200, 12);
+        DiffusionModel model = org.backstep.Backstep.builder().steps(10).hidden(8).epochs(3).seed(4).threads(1)
+                .fit(train, org.backstep.table.TableTransform.fitNormalScores(train, 1.0));
+        assertEquals(org.backstep.table.ColumnTransform.Kind.NORMAL_SCORES, model.transform().transform(0).kind());
+        Table t = TestModels.readings(20, 13);
+        double[] want = model.bound(t, BoundOptions.sampled(3), JobsTest.keySeeds(SEED, t.rows())).nats();
+        Map<Long, Double> got = scores(BackstepModel.of(model).setRowKeyCol(TestModels.KEY).setSeed(SEED).setScoreDraws(3)
+                .transform(TestModels.frame(t, 2)), "backstep_nats");
+        for (int i = 0; i < t.rows(); i++) {
+            assertEquals(want[i], got.get(1000L + i), tolerance(want[i]), "row " + i);
+        }
+    }
+
     @Test
     void monteCarloBoundKeyedByContentEqualsOneJvmAndIgnoresOrder() {
         DiffusionModel model = TestModels.model();

@@ -192,7 +192,7 @@ class WholeTableStatisticsTest {
      * Column by column, the same kind, and shift and scale within {@link #CORE_ROUNDING_TOL} (the shift
      * relative to max(1, |shift|): the shift of supply_air is near 1e4 while its sd is 0.4).
      */
-    private static void assertSameColumnTransforms(TableTransform core, TableTransform actual) {
+    static void assertSameColumnTransforms(TableTransform core, TableTransform actual) {
         for (int c = 0; c < core.names().size(); c++) {
             ColumnTransform e = core.transform(c);
             ColumnTransform a = actual.transform(c);

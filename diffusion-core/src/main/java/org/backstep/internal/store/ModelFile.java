@@ -66,6 +66,9 @@ import java.util.zip.ZipOutputStream;
  *   weights.f32       the network's flat parameter vector, raw little-endian float32
  *   SHA256SUMS        "hex  name" for every other entry, checked on load
  * </pre>
+ * A column whose transform is {@code NORMAL_SCORES} carries {@code knots}, the sorted training
+ * values its map is smoothed from (any version: no file without them could be read, since such a
+ * transform cannot be built without its knots); a column of another transform has none.
  * Version 4 added two sets of entries, each optional within the version (a version 4 file of a
  * table without the new kinds and without a baseline has neither):
  * integer and categorical columns: a column of kind {@code INTEGER} carries
@@ -230,6 +233,12 @@ public final class ModelFile {
             col.put("transform", ct.kind().name());
             col.put("shift", ct.shift());
             col.put("scale", ct.scale());
+            if (ct.kind() == ColumnTransform.Kind.NORMAL_SCORES) {
+                ArrayNode knots = col.putArray("knots");     // the sorted training values the map is smoothed from
+                for (double k : ct.knots()) {
+                    knots.add(k);
+                }
+            }
             if (tr.lowest().containsKey(tr.names().get(c))) {
                 col.put("lowest", tr.lowest().get(tr.names().get(c)));
             }
@@ -503,8 +512,16 @@ public final class ModelFile {
             ColumnTransform.Kind kind = constant(col, at, "transform", ColumnTransform.Kind.class);
             double shift = JsonFields.number(JsonFields.field(col, "shift", at), at + ".shift", -Limits.MAX_SHIFT, Limits.MAX_SHIFT);
             double scale = JsonFields.number(JsonFields.field(col, "scale", at), at + ".scale", Limits.MIN_SCALE, Limits.MAX_SCALE);
+            double[] knots = null;
+            if (col.has("knots")) {
+                JsonNode k = JsonFields.array(col.get("knots"), at + ".knots", 0, (int) Limits.MAX_CELLS);
+                knots = new double[k.size()];
+                for (int i = 0; i < knots.length; i++) {
+                    knots[i] = JsonFields.number(k.get(i), at + ".knots[" + i + "]", -Limits.MAX_SHIFT, Limits.MAX_SHIFT);
+                }
+            }
             try {
-                transforms.add(new ColumnTransform(kind, shift, scale));
+                transforms.add(new ColumnTransform(kind, shift, scale, knots));   // knots only, and required, for NORMAL_SCORES
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(at, e.getMessage(), e);
             }

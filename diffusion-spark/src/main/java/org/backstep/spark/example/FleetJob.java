@@ -17,14 +17,17 @@ import org.backstep.spark.BackstepParams;
 /**
  * An example job for {@code spark-submit} with the shaded jar:
  * <pre>
- *   fit   INPUT MODEL_DIR [--key COL] [--binary COL,COL] [--sample-rows N] [--screen Q] [--seed S]
- *         [--steps T] [--hidden W,W] [--epochs N]
+ *   fit   INPUT MODEL_DIR [--key COL] [--binary COL,COL] [--integer COL,COL] [--categorical COL,COL]
+ *         [--log COL,COL] [--sample-rows N] [--screen Q] [--seed S] [--steps T] [--hidden W,W] [--epochs N]
  *   apply MODEL_DIR INPUT OUTPUT [--job score|impute|denoise] [--noise-sd a,b,...] [--draws K]
- *         [--score-draws K] [--key COL] [--seed S]
+ *         [--keep-draws true|false] [--score-draws K] [--key COL] [--seed S]
  * </pre>
  * INPUT is a Parquet folder or file, or a CSV file with a header row (by its name's ending);
  * MODEL_DIR is a Spark ML folder ({@link BackstepModel#write()}); OUTPUT a Parquet folder, which
- * must not exist. Exit code 2 for bad arguments.
+ * must not exist. Exit code 2 for bad arguments. Column kinds are the estimator's
+ * ({@link BackstepEstimator}): boolean columns binary, string columns categorical (inputs only when
+ * named by {@code --categorical}), other numeric columns continuous unless {@code --binary} or
+ * {@code --integer} names them.
  *
  * <p>Cautions: imputed and denoised values are not measurements; a likelihood score ranks records
  * and is not a calibrated probability of a fault; for safety-, health- or compliance-critical
@@ -95,6 +98,9 @@ public final class FleetJob {
             switch (o.getKey()) {
                 case "--key" -> est.setRowKeyCol(o.getValue());
                 case "--binary" -> est.setBinaryCols(o.getValue().split(","));
+                case "--integer" -> est.setIntegerCols(o.getValue().split(","));
+                case "--categorical" -> est.setCategoricalCols(o.getValue().split(","));
+                case "--log" -> est.setLogCols(o.getValue().split(","));
                 case "--sample-rows" -> est.setSampleRows(integer(o));
                 case "--screen" -> est.setScreenQuantile(number(o));
                 case "--seed" -> est.setSeed(Long.parseLong(o.getValue()));
@@ -120,6 +126,7 @@ public final class FleetJob {
                 case "--job" -> model.setJob(o.getValue());
                 case "--noise-sd" -> model.setNoiseSd(Arrays.stream(o.getValue().split(",")).mapToDouble(Double::parseDouble).toArray());
                 case "--draws" -> model.setDraws(integer(o));
+                case "--keep-draws" -> model.setKeepDraws(bool(o));
                 case "--score-draws" -> model.setScoreDraws(integer(o));
                 case "--key" -> model.setRowKeyCol(o.getValue());
                 case "--seed" -> model.setSeed(Long.parseLong(o.getValue()));
@@ -151,6 +158,13 @@ public final class FleetJob {
         } catch (NumberFormatException e) {
             throw new IllegalArgumentException(o.getKey() + " is '" + o.getValue() + "'; expected an integer", e);
         }
+    }
+
+    private static boolean bool(Map.Entry<String, String> o) {
+        if (!List.of("true", "false").contains(o.getValue())) {
+            throw new IllegalArgumentException(o.getKey() + " is '" + o.getValue() + "'; expected true or false");
+        }
+        return Boolean.parseBoolean(o.getValue());
     }
 
     private static double number(Map.Entry<String, String> o) {
