@@ -185,15 +185,17 @@ final class TrainingRows {
         int d = width();
         if (options.coordinates() == Coordinates.WHITENED && whitened.length > 0) {
             double[][] cells = new double[n][whitened.length];
+            boolean missing = false;
             for (int r = 0; r < n; r++) {
                 for (int a = 0; a < whitened.length; a++) {
                     cells[r][a] = x0[r * d + whitened[a]];
+                    missing |= Double.isNaN(cells[r][a]);
                 }
             }
             // the gaps still NaN here: with a gap the mean and covariance are the normal's by EM
-            fitted = gaps == null ? Whitening.fitShrunk(cells) : Whitening.fitShrunkWithGaps(cells);
+            fitted = missing ? Whitening.fitShrunkWithGaps(cells) : Whitening.fitShrunk(cells);
             notes.add("continuous columns whitened by the training covariance (" + whitened.length + " columns, "
-                    + (gaps == null ? "" : "mean and covariance by EM for the normal with missing cells, ")
+                    + (missing ? "mean and covariance by EM for the normal with missing cells, " : "")
                     + "Ledoit-Wolf shrinkage " + String.format(java.util.Locale.ROOT, "%.4f", fitted.shrinkage())
                     + ", log|det W| " + String.format(java.util.Locale.ROOT, "%.4f", fitted.logDeterminant()) + ")");
             if (gaps != null) {
