@@ -399,6 +399,62 @@ class MixtureBaselineTest {
         }
     }
 
+    /**
+     * Every job of a model runs with the mixture part and gives finite figures (the part enters through
+     * the estimator, which every job calls): the exact, sampled and steady bounds, the screen, ancestral
+     * and implicit sampling, imputation, denoising and the flow likelihood; and the steady bound is an
+     * upper bound in expectation like the exact one, so their means over the records agree within
+     * their noise (common practice, no source).
+     */
+    @Test
+    void everyJobRunsWithTheMixturePart() {
+        Table training = mixtureTable(300, 51);
+        Table records = mixtureTable(20, 52);
+        DiffusionModel model = Backstep.builder().steps(20).hidden(16).epochs(3).baseline(Baseline.FITTED_MIXTURE)
+                .coordinates(Coordinates.WHITENED).seed(6).threads(2).fit(training);
+        double exact = mean(model.bound(records, BoundOptions.exact(), 1).nats());
+        double steady = mean(model.bound(records, BoundOptions.steady(16), 1).nats());
+        double sampled = mean(model.bound(records, BoundOptions.sampled(8), 1).nats());
+        assertTrue(Double.isFinite(exact) && Double.isFinite(steady) && Double.isFinite(sampled),
+                exact + " " + steady + " " + sampled);
+        assertEquals(exact, steady, 1.0, "exact and steady bounds, mean over 20 records");
+        org.backstep.report.AnomalyScreen screen = model.screen(mixtureTable(20, 53), records, 2);
+        for (double v : screen.scores()) {
+            assertTrue(Double.isFinite(v), "screen score " + v);
+        }
+        for (Table t : List.of(model.sample(10, 3), model.sample(10, org.backstep.option.SamplingPlan.implicit(10, 0.0), 3))) {
+            for (int r = 0; r < t.rows(); r++) {
+                for (double v : t.row(r)) {
+                    assertTrue(Double.isFinite(v), "sample " + v);
+                }
+            }
+        }
+        double[][] gaps = draw(10, 54);
+        for (int r = 0; r < gaps.length; r++) {
+            gaps[r][r % 2] = Double.NaN;
+        }
+        Table imputed = model.impute(Table.of(NAMES, KINDS, gaps), Defaults.imputation().withDraws(5), 4).mean();
+        for (int r = 0; r < imputed.rows(); r++) {
+            assertTrue(Double.isFinite(imputed.row(r)[r % 2]), "imputed cell of row " + r);
+            assertEquals(gaps[r][1 - r % 2], imputed.row(r)[1 - r % 2], 1e-9, "observed cell of row " + r);
+        }
+        Table denoised = model.denoise(records, new org.backstep.option.DenoisingOptions(new double[] {0.2, 0.2}, 5, 20), 5).mean();
+        for (int r = 0; r < denoised.rows(); r++) {
+            assertTrue(Double.isFinite(denoised.row(r)[0]) && Double.isFinite(denoised.row(r)[1]), "denoised row " + r);
+        }
+        for (double v : model.flowLikelihood(mixtureTable(2, 55)).nats()) {
+            assertTrue(Double.isFinite(v), "flow " + v);
+        }
+    }
+
+    private static double mean(double[] a) {
+        double s = 0;
+        for (double v : a) {
+            s += v;
+        }
+        return s / a.length;
+    }
+
     @Test
     void aDamagedMixtureModelFileIsRefusedByName(@TempDir Path dir) throws Exception {
         Table training = mixtureTable(200, 41);
