@@ -50,7 +50,7 @@ public enum Baseline {
      * 2 fit seeds): no better than {@link #STANDARD_NORMAL} on iris (2.85 against 2.86 nats per record)
      * and worse on breast_cancer (1.74 against -0.33) and diabetes (8.76 against 7.77): a trained model
      * stays near the mixture's own figure. Its bound terms have no control variate, so its per-record
-     * score is noisier. Not a default; kept for measurement and for tables whose modes are far apart.
+     * score is noisier. Not a default; kept as a measured option.
      */
     FITTED_MIXTURE
 }
