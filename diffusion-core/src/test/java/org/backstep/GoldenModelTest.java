@@ -109,7 +109,8 @@ class GoldenModelTest {
     private static final ObjectMapper JSON = new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT);
 
     @ParameterizedTest(name = "{0}")
-    @ValueSource(strings = {"model-v1", "model-v2", "model-v3", "model-v4", "model-v4-baseline", "model-v5-whitened"})
+    @ValueSource(strings = {"model-v1", "model-v2", "model-v3", "model-v4", "model-v4-baseline", "model-v5-whitened",
+        "model-v6-mixture"})
     void goldenModelStillLoadsAndGivesTheSameNumbers(String golden) throws Exception {
         int version = versionOf(golden);
         String MODEL = model(golden);
@@ -121,7 +122,8 @@ class GoldenModelTest {
         assertEquals(new TreeSet<>(List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS, ModelFile.SUMS)), zipEntries(file),
                 "entries of the golden file");
         assertEquals(4, ModelFile.VERSION, "this test pins format versions 1 to 4; add a golden file for a new version");
-        assertEquals(5, ModelFile.NEWEST_VERSION, "this test pins version 5 (a whitened model); add a golden file for a new version");
+        assertEquals(5, ModelFile.WHITENED_VERSION, "this test pins version 5 (a whitened model)");
+        assertEquals(6, ModelFile.NEWEST_VERSION, "this test pins version 6 (a mixture model); add a golden file for a new version");
         assertTrue(ModelFile.OLDEST_VERSION <= version, "version " + version + " must still load");
         assertEquals(version, expected.path("formatVersion").asInt());
 
@@ -146,8 +148,10 @@ class GoldenModelTest {
         // older files have none
         JsonNode eo = expected.path("options");
         assertEquals(version >= 4 && eo.has("baseline") ? eo.path("baseline").asText() : "NONE", o.baseline().name());
-        assertEquals(golden.endsWith("-baseline") || golden.endsWith("-whitened"), o.baseline() != Baseline.NONE,
-                "the baseline and whitened golden files have one");
+        assertEquals(golden.endsWith("-baseline") || golden.endsWith("-whitened") || golden.endsWith("-mixture"),
+                o.baseline() != Baseline.NONE, "the baseline, whitened and mixture golden files have one");
+        // version 6: the mixture part (coordinates WHITENED, FITTED_MIXTURE)
+        assertEquals(version >= 6, o.baseline() == Baseline.FITTED_MIXTURE, "the mixture part of the file");
         assertEquals(List.of("supply_c", "return_c", "door_open"), model.transform().names());
         assertEquals(List.of(ColumnKind.CONTINUOUS, ColumnKind.CONTINUOUS, ColumnKind.BINARY), model.transform().kinds());
 
@@ -219,7 +223,7 @@ class GoldenModelTest {
         DiffusionModel model = DiffusionModel.load(Path.of(resource(MODEL).toURI()));
         DiffusionModel reference = DiffusionModel.withEstimator(model.options(), model.transform(),
                 withBaseline(doublePrecision(model.parts().network().shape(), model.parts().network().parameters()),
-                        model.parts().baseline(), model.options().variance() == ReverseVariance.LEARNED));
+                        model.parts().closedForm(), model.options().variance() == ReverseVariance.LEARNED));
         double tol = REFERENCE_SHARE * GOLDEN_REL_TOL;
         Table records = recordsOf(expected.path("records"), model);
         assertClose(doubles(expected.path("boundNats")), reference.bound(records, expected.path("boundSeed").asLong()).nats(),
@@ -275,7 +279,7 @@ class GoldenModelTest {
         regenerate(folder, "model-v" + ModelFile.VERSION, Baseline.NONE);
         regenerate(folder, "model-v" + ModelFile.VERSION + "-baseline", Baseline.FITTED_GAUSSIAN);
         // version 5: a whitened model
-        regenerate(folder, "model-v" + ModelFile.NEWEST_VERSION + "-whitened", Baseline.STANDARD_NORMAL,
+        regenerate(folder, "model-v" + ModelFile.WHITENED_VERSION + "-whitened", Baseline.STANDARD_NORMAL,
                 Coordinates.WHITENED);
     }
 
@@ -289,7 +293,21 @@ class GoldenModelTest {
     void regenerateWhitenedGoldenFile() throws Exception {
         Path folder = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
                 .resolve("src/test/resources").resolve(FOLDER);
-        regenerate(folder, "model-v" + ModelFile.NEWEST_VERSION + "-whitened", Baseline.STANDARD_NORMAL,
+        regenerate(folder, "model-v" + ModelFile.WHITENED_VERSION + "-whitened", Baseline.STANDARD_NORMAL,
+                Coordinates.WHITENED);
+    }
+
+    /**
+     * Writes the golden files of the version-6 mixture model only (the older ones stay as released):
+     * {@code mvn -B -o -pl diffusion-schedules,diffusion-core test -Dtest=GoldenModelTest#regenerateMixtureGoldenFile
+     * -Dbackstep.regenerateGolden=mixture}.
+     */
+    @Test
+    @EnabledIfSystemProperty(named = "backstep.regenerateGolden", matches = "mixture")
+    void regenerateMixtureGoldenFile() throws Exception {
+        Path folder = Path.of(System.getProperty("basedir", System.getProperty("user.dir")))
+                .resolve("src/test/resources").resolve(FOLDER);
+        regenerate(folder, "model-v" + ModelFile.MIXTURE_VERSION + "-mixture", Baseline.FITTED_MIXTURE,
                 Coordinates.WHITENED);
     }
 
@@ -375,7 +393,7 @@ class GoldenModelTest {
     }
 
     /** The estimator plus the model's closed-form part, as the model's own NetworkEstimator adds it. */
-    static Estimator withBaseline(Estimator inner, GaussianBaseline baseline, boolean learned) {
+    static Estimator withBaseline(Estimator inner, org.backstep.internal.chain.ClosedFormPart baseline, boolean learned) {
         if (baseline == null) {
             return inner;
         }
@@ -392,6 +410,11 @@ class GoldenModelTest {
 
             @Override
             public GaussianBaseline baseline() {
+                return baseline.linear();
+            }
+
+            @Override
+            public org.backstep.internal.chain.ClosedFormPart closedForm() {
                 return baseline;
             }
 

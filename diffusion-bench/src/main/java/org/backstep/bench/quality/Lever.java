@@ -47,7 +47,12 @@ enum Lever {
      * space whitened by the shrunk training covariance, log |det W| added by the library) and the
      * N(0, I) part: what WHITENED_STANDARD_NORMAL_PART does outside the library, with imputation.
      */
-    WHITENED_MODEL("whitened model+N(0,I) part", Baseline.STANDARD_NORMAL, Coordinates.WHITENED);
+    WHITENED_MODEL("whitened model+N(0,I) part", Baseline.STANDARD_NORMAL, Coordinates.WHITENED),
+    /**
+     * The library's option coordinates WHITENED with the closed form of a Gaussian mixture fitted on
+     * the whitened training rows (Baseline.FITTED_MIXTURE, K by BIC): a zero network is that mixture.
+     */
+    WHITENED_MIXTURE_MODEL("whitened model+mixture part", Baseline.FITTED_MIXTURE, Coordinates.WHITENED);
 
     /** The bandwidth of NORMAL_SCORES: Silverman's rule itself (no choice made on the test tables). */
     static final double BANDWIDTH_MULTIPLE = 1.0;
@@ -85,8 +90,8 @@ enum Lever {
      */
     Encoding fit(Table train) {
         return switch (this) {
-            case DEFAULTS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL ->
-                    new Encoding(this, null, null, train);
+            case DEFAULTS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL,
+                    WHITENED_MIXTURE_MODEL -> new Encoding(this, null, null, train);
             case NORMAL_SCORES -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
             case WHITENED, NORMAL_SCORES_WHITENED, WHITENED_STANDARD_NORMAL_PART -> {
                 TableTransform columns = this != NORMAL_SCORES_WHITENED ? TableTransform.fit(train, Set.of())

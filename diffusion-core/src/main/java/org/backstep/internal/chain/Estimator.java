@@ -42,4 +42,12 @@ public interface Estimator {
     default GaussianBaseline baseline() {
         return null;
     }
+
+    /**
+     * @return the closed-form part ({@link ClosedFormPart}: a Gaussian or a mixture) that the
+     *     predictions include, or null (the default: {@link #baseline()})
+     */
+    default ClosedFormPart closedForm() {
+        return baseline();
+    }
 }

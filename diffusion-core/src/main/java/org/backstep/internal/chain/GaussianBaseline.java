@@ -30,7 +30,7 @@ import org.backstep.schedule.Require;
  * full reverse covariance shrinks with the step size (each kernel's covariance is beta_t I
  * + O(beta_t^2)). Immutable; per-step factors in double.
  */
-public final class GaussianBaseline {
+public final class GaussianBaseline implements ClosedFormPart {
 
     /**
      * Eigenvalues of S are kept at or above this (model-space units, where each column has unit
@@ -123,6 +123,8 @@ public final class GaussianBaseline {
             case NONE -> null;
             case STANDARD_NORMAL -> standardNormal(dc, schedule);
             case FITTED_GAUSSIAN -> fitted(x0, n, d, dc, schedule);
+            case FITTED_MIXTURE -> throw new IllegalArgumentException("kind is FITTED_MIXTURE, not one Gaussian;"
+                    + " fit it with ClosedFormPart.fit");
         };
     }
 
@@ -267,6 +269,7 @@ public final class GaussianBaseline {
      *     [oo + dc, oo + 2 dc) when {@code learned} (modified)
      * @param scratch at least dc doubles, overwritten
      */
+    @Override
     public void addToRowInPlace(float[] xt, int xo, int step, float[] out, int oo, boolean learned, double[] scratch) {
         double sa = sqrtAbar[step];
         double[] sc = scale[step];
@@ -306,6 +309,7 @@ public final class GaussianBaseline {
      * @param steps the training-schedule step of each row
      * @param out rows x outputs (modified)
      */
+    @Override
     public void addInPlace(float[] xt, int d, int[] steps, float[] out, int outputs, int rows, boolean learned) {
         double[] scratch = new double[dc];
         for (int r = 0; r < rows; r++) {
@@ -348,6 +352,27 @@ public final class GaussianBaseline {
         return t;
     }
 
+    /** Adds tr(A_t), the same for every row (the part is linear in x_t). */
+    @Override
+    public void addTracesInPlace(float[] x, int d, int rows, int step, double[] trace) {
+        double linear = trace(step);
+        for (int r = 0; r < rows; r++) {
+            trace[r] += linear;
+        }
+    }
+
+    /** @return this (one Gaussian) */
+    @Override
+    public GaussianBaseline linear() {
+        return this;
+    }
+
+    /** @return dc */
+    @Override
+    public int scratchSize() {
+        return dc;
+    }
+
     /** @return the v of each column at training-schedule step t (a copy) */
     double[] v(int step) {
         return v[step].clone();
@@ -359,6 +384,7 @@ public final class GaussianBaseline {
     }
 
     /** @return the kind of baseline */
+    @Override
     public Baseline kind() {
         return kind;
     }
@@ -383,6 +409,7 @@ public final class GaussianBaseline {
     }
 
     /** @return Dc */
+    @Override
     public int continuousColumns() {
         return dc;
     }

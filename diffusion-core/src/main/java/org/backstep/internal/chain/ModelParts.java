@@ -108,7 +108,7 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
      * @return the parts of a model over that network and baseline
      */
     public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
-                                       GaussianBaseline baseline, Provenance provenance, ModelRange range) {
+                                       ClosedFormPart baseline, Provenance provenance, ModelRange range) {
         return ofNetwork(options, transform, network, baseline, provenance, range, null);
     }
 
@@ -117,16 +117,21 @@ public record ModelParts(FitOptions options, TableTransform transform, ReverseNe
      * @return the parts of a model over that network, baseline and whitening
      */
     public static ModelParts ofNetwork(FitOptions options, TableTransform transform, ReverseNetwork network,
-                                       GaussianBaseline baseline, Provenance provenance, ModelRange range,
+                                       ClosedFormPart baseline, Provenance provenance, ModelRange range,
                                        org.backstep.table.Whitening whitening) {
         Require.notNull("network", network);
         return new ModelParts(options, transform, network, new NetworkEstimator(network, baseline,
                 options.variance() == org.backstep.option.ReverseVariance.LEARNED), provenance, range, whitening);
     }
 
-    /** @return the closed-form part of the estimator, or null when it has none */
+    /** @return the closed-form part of the estimator when it is one Gaussian, or null */
     public GaussianBaseline baseline() {
         return estimator.baseline();
+    }
+
+    /** @return the closed-form part of the estimator (a Gaussian or a mixture), or null when it has none */
+    public ClosedFormPart closedForm() {
+        return estimator.closedForm();
     }
 
     /** @return the full reverse chain of these parts */

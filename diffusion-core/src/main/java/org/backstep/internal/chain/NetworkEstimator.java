@@ -6,14 +6,14 @@ import org.nd4j.linalg.factory.Nd4j;
 
 /**
  * The trained network seen as an {@link Estimator}: its output, plus the closed-form part of a
- * {@link GaussianBaseline} when the model has one (the one place where a stored model's network
+ * {@link ClosedFormPart} (a {@link GaussianBaseline} or a {@link MixtureBaseline}) when the model has one (the one place where a stored model's network
  * output becomes epsilon-hat and v; the trainer's loss adds the same part through
- * {@link #baseline()}).
+ * {@link #closedForm()}).
  */
 public final class NetworkEstimator implements Estimator {
 
     final ReverseNetwork network;
-    private final GaussianBaseline baseline;
+    private final ClosedFormPart baseline;
     private final boolean learned;
 
     /** The network alone (no closed-form part). */
@@ -26,7 +26,7 @@ public final class NetworkEstimator implements Estimator {
      * @param baseline the closed-form part, or null for none
      * @param learned whether the outputs hold learned variances (v after the Dc epsilon columns)
      */
-    public NetworkEstimator(ReverseNetwork network, GaussianBaseline baseline, boolean learned) {
+    public NetworkEstimator(ReverseNetwork network, ClosedFormPart baseline, boolean learned) {
         this.network = network;
         this.baseline = baseline;
         this.learned = learned;
@@ -40,9 +40,15 @@ public final class NetworkEstimator implements Estimator {
         }
     }
 
-    /** @return the closed-form part, or null */
+    /** @return the closed-form part when it is one Gaussian, or null */
     @Override
     public GaussianBaseline baseline() {
+        return baseline == null ? null : baseline.linear();
+    }
+
+    /** @return the closed-form part, or null */
+    @Override
+    public ClosedFormPart closedForm() {
         return baseline;
     }
 

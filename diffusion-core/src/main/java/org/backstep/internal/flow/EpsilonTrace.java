@@ -1,7 +1,7 @@
 package org.backstep.internal.flow;
 
 import org.backstep.internal.chain.Estimator;
-import org.backstep.internal.chain.GaussianBaseline;
+import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.internal.net.NetworkTangents;
@@ -11,7 +11,8 @@ import org.backstep.internal.net.NetworkTangents;
  * {@code tr(d eps-hat / d x_t) = sum_{c < Dc} d eps-hat_c(x_t, t) / d x_t,c}, per record: the
  * divergence the flow likelihood integrates (Song et al. 2021, eq. 39). An exact estimator of a
  * test implements this interface itself; a trained network gets it from {@link NetworkTangents},
- * plus tr(A_t) of its closed-form part ({@link GaussianBaseline#trace}) when the model has one.
+ * plus the trace of its closed-form part ({@link ClosedFormPart#addTracesInPlace}: tr(A_t) for a
+ * Gaussian, the mixture's own closed form for a mixture) when the model has one.
  */
 public interface EpsilonTrace {
 
@@ -40,17 +41,14 @@ public interface EpsilonTrace {
         }
         if (parts.network() != null && e.getClass() == NetworkEstimator.class) {
             NetworkTangents tangents = new NetworkTangents(parts.network(), parts.transform().modelledContinuous().length);
-            GaussianBaseline baseline = e.baseline();
+            ClosedFormPart baseline = e.closedForm();
             if (baseline == null || baseline.continuousColumns() == 0) {
                 return tangents::traces;
             }
-            // eps-hat = network + A_t (x_t - sqrt(abar_t) m): the trace adds tr(A_t), the same for every row
+            // eps-hat = network + closed form: the traces add
             return (x, rows, step, trace) -> {
                 tangents.traces(x, rows, step, trace);
-                double linear = baseline.trace(step);
-                for (int r = 0; r < rows; r++) {
-                    trace[r] += linear;
-                }
+                baseline.addTracesInPlace(x, x.length / rows, rows, step, trace);
             };
         }
         throw new IllegalArgumentException("the model's estimator (" + e.getClass().getSimpleName()

@@ -2,7 +2,11 @@ package org.backstep.internal.store;
 
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
+import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.GaussianBaseline;
+import org.backstep.internal.chain.MixtureBaseline;
+import org.backstep.internal.mixture.GaussianMixture;
+import org.backstep.internal.mixture.MixtureFit;
 import org.backstep.internal.chain.NetworkEstimator;
 import org.backstep.io.AtomicFiles;
 import org.backstep.io.JsonFields;
@@ -86,8 +90,14 @@ import java.util.zip.ZipOutputStream;
  * {@code whitening} with the {@code mean}, the shrunk {@code covariance} (rows) and the Ledoit-Wolf
  * {@code shrinkage} of those columns in standardized model space; W = covariance^(-1/2) is recomputed
  * from them on load (the same eigendecomposition, so the same W). Only such a model is written as
- * version 5 ({@link #NEWEST_VERSION}), so that an older release refuses it by its version rather
+ * version 5 ({@link #WHITENED_VERSION}), so that an older release refuses it by its version rather
  * than ignore the keys and run it in standardized coordinates; every other model is version 4.
+ * Version 6 is version 5 plus, for a model whose option {@code baseline} is {@code FITTED_MIXTURE}
+ * (and only for such a model), the object {@code mixtureBaseline}: {@code weights} (K positive
+ * numbers summing to 1, K at most {@code MixtureFit.MAX_COMPONENTS}), {@code components} (K objects,
+ * each a {@code mean}, {@code covariance} and {@code shrinkage} as in {@code gaussianBaseline}) and
+ * {@code bic} (the criterion of each K tried, for the record); the per-step factors are recomputed
+ * from them and the schedule on load.
  * Version 3 added {@code trainingRange} ({@code min} and {@code max} of each diffused column of
  * the training rows in model space, continuous columns first), against which sampled rows are
  * checked; a version 1 or 2 file, or a model without a measured range, gets Samuelson's bound of
@@ -126,7 +136,11 @@ public final class ModelFile {
      * release that reads only up to version 4 refuses such a file by its version instead of running it
      * in standardized coordinates. Every other model is written as {@link #VERSION}.
      */
-    public static final int NEWEST_VERSION = 5;
+    public static final int NEWEST_VERSION = 6;
+    /** The version written for a whitened model without a mixture part. */
+    public static final int WHITENED_VERSION = 5;
+    /** The version written for a model with a Gaussian mixture part (baseline FITTED_MIXTURE). */
+    public static final int MIXTURE_VERSION = 6;
     /** The oldest version this release reads. */
     public static final int OLDEST_VERSION = 1;
     public static final String MANIFEST = "model.json";
@@ -185,7 +199,8 @@ public final class ModelFile {
         FitOptions o = model.options();
         ObjectNode root = JSON.createObjectNode();
         root.put("format", FORMAT);
-        root.put("formatVersion", o.coordinates() == org.backstep.option.Coordinates.WHITENED ? NEWEST_VERSION : VERSION);
+        root.put("formatVersion", o.baseline() == Baseline.FITTED_MIXTURE ? MIXTURE_VERSION
+                : o.coordinates() == org.backstep.option.Coordinates.WHITENED ? WHITENED_VERSION : VERSION);
         ObjectNode opts = root.putObject("options");
         opts.set("continuousSchedule", schedule(o.continuousSchedule()));
         opts.set("binarySchedule", schedule(o.binarySchedule()));
@@ -275,8 +290,25 @@ public final class ModelFile {
             writeGaussian(root.putObject("whitening"), wh.mean(), wh.covariance(), wh.shrinkage());
         }
         GaussianBaseline gb = model.baseline();
-        if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN) {
+        if (gb != null && gb.kind() == Baseline.FITTED_GAUSSIAN && o.baseline() == Baseline.FITTED_GAUSSIAN) {
             writeGaussian(root.putObject("gaussianBaseline"), gb.mean(), gb.covariance(), gb.shrinkage());
+        }
+        if (model.closedForm() instanceof MixtureBaseline mb) {
+            ObjectNode mix = root.putObject("mixtureBaseline");
+            GaussianMixture g = mb.mixture();
+            ArrayNode weights = mix.putArray("weights");
+            for (double v : g.weights()) {
+                weights.add(v);
+            }
+            ArrayNode comps = mix.putArray("components");
+            double[] shrink = g.shrinkage();
+            for (int c = 0; c < g.components(); c++) {
+                writeGaussian(comps.addObject(), g.mean(c), g.covariance(c), shrink[c]);
+            }
+            ArrayNode b = mix.putArray("bic");
+            for (double v : mb.bic()) {
+                b.add(v);
+            }
         }
         root.set("provenance", ProvenanceJson.write(model.provenance()));
         return root;
@@ -308,7 +340,11 @@ public final class ModelFile {
      */
     private static Gaussian readGaussian(JsonNode root, String key, int d) throws ModelFileException {
         String where = MANIFEST + " " + key;
-        JsonNode g = JsonFields.object(JsonFields.field(root, key, MANIFEST), where);
+        return gaussianAt(JsonFields.object(JsonFields.field(root, key, MANIFEST), where), where, d);
+    }
+
+    /** Reads a Gaussian object {@code g} found at {@code where}. */
+    private static Gaussian gaussianAt(JsonNode g, String where, int d) throws ModelFileException {
         JsonNode mean = JsonFields.array(JsonFields.field(g, "mean", where), where + ".mean", d, d);
         JsonNode cov = JsonFields.array(JsonFields.field(g, "covariance", where), where + ".covariance", d, d);
         double[] m = new double[d];
@@ -391,8 +427,9 @@ public final class ModelFile {
             }
             try {
                 ReverseNetwork network = ReverseNetwork.fromParameters(m.shape, m.options.steps(), weights);
-                GaussianBaseline baseline = m.transform.modelledContinuous().length == 0 ? null : switch (m.options.baseline()) {
+                ClosedFormPart baseline = m.transform.modelledContinuous().length == 0 ? null : switch (m.options.baseline()) {
                     case NONE -> null;
+                    case FITTED_MIXTURE -> MixtureBaseline.of(m.mixture, m.mixtureBic, m.options.continuousSchedule());
                     case STANDARD_NORMAL -> GaussianBaseline.standardNormal(m.transform.modelledContinuous().length,
                             m.options.continuousSchedule());
                     case FITTED_GAUSSIAN -> GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, m.baselineMean,
@@ -418,7 +455,8 @@ public final class ModelFile {
     /** The manifest's content, every field checked; the network is not built yet. */
     private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
                             Provenance provenance, double[] baselineMean, double[][] baselineCovariance,
-                            double baselineShrinkage, org.backstep.table.Whitening whitening) {
+                            double baselineShrinkage, org.backstep.table.Whitening whitening, GaussianMixture mixture,
+                            double[] mixtureBic) {
     }
 
     private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
@@ -603,6 +641,48 @@ public final class ModelFile {
                 throw new ModelFileException(gw, e.getMessage(), e);
             }
         }
+        GaussianMixture mixture = null;
+        double[] mixtureBic = null;
+        boolean mixed = options.baseline() == Baseline.FITTED_MIXTURE && dc > 0;
+        if (options.baseline() == Baseline.FITTED_MIXTURE && version < MIXTURE_VERSION) {
+            throw new ModelFileException(MANIFEST + " options.baseline", "FITTED_MIXTURE in a file of format version "
+                    + version + "; the mixture part came with version " + MIXTURE_VERSION);
+        }
+        if (root.has("mixtureBaseline") != mixed) {
+            throw new ModelFileException(MANIFEST + " mixtureBaseline", (mixed ? "absent" : "present")
+                    + ", but the model has " + (dc == 0 ? "no continuous column" : "the baseline " + options.baseline())
+                    + "; only a FITTED_MIXTURE baseline over continuous columns has one");
+        }
+        if (mixed) {
+            String mw = MANIFEST + " mixtureBaseline";
+            JsonNode mix = JsonFields.object(root.get("mixtureBaseline"), mw);
+            JsonNode w = JsonFields.array(JsonFields.field(mix, "weights", mw), mw + ".weights", 1, MixtureFit.MAX_COMPONENTS);
+            int k = w.size();
+            JsonNode comps = JsonFields.array(JsonFields.field(mix, "components", mw), mw + ".components", k, k);
+            JsonNode b = JsonFields.array(JsonFields.field(mix, "bic", mw), mw + ".bic", 0, MixtureFit.MAX_COMPONENTS);
+            double[] weights = new double[k];
+            double[][] means = new double[k][];
+            double[][][] covs = new double[k][][];
+            double[] shrink = new double[k];
+            for (int c = 0; c < k; c++) {
+                weights[c] = JsonFields.number(w.get(c), mw + ".weights[" + c + "]", Double.MIN_VALUE, 1.0);
+                String at = mw + ".components[" + c + "]";
+                Gaussian g = gaussianAt(JsonFields.object(comps.get(c), at), at, dc);
+                means[c] = g.mean();
+                covs[c] = g.covariance();
+                shrink[c] = g.shrinkage();
+            }
+            mixtureBic = new double[b.size()];
+            for (int i = 0; i < mixtureBic.length; i++) {
+                mixtureBic[i] = JsonFields.finite(b.get(i), mw + ".bic[" + i + "]");
+            }
+            try {
+                mixture = GaussianMixture.of(weights, means, covs, shrink);
+                MixtureBaseline.of(mixture, mixtureBic, cont);
+            } catch (IllegalArgumentException e) {
+                throw new ModelFileException(mw, e.getMessage(), e);
+            }
+        }
         org.backstep.table.Whitening whitening = null;
         int whitened = org.backstep.internal.chain.Chain.whitenedColumns(transform).length;
         boolean wants = options.coordinates() == org.backstep.option.Coordinates.WHITENED && whitened > 0;
@@ -622,7 +702,7 @@ public final class ModelFile {
         }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
         return new Manifest(options, transform, shape, range, provenance, baselineMean, baselineCovariance,
-                baselineShrinkage, whitening);
+                baselineShrinkage, whitening, mixture, mixtureBic);
     }
 
     private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {

@@ -2,7 +2,7 @@ package org.backstep.internal.train;
 
 import org.backstep.internal.chain.BoundTerms;
 import org.backstep.internal.chain.Chain;
-import org.backstep.internal.chain.GaussianBaseline;
+import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.net.ParallelStep;
 import org.backstep.option.FitOptions;
 import org.backstep.option.ReverseVariance;
@@ -26,7 +26,7 @@ import org.nd4j.linalg.factory.Nd4j;
  * missing one ({@link GapFilling}) has no term: it is an input of the network, not a target (the
  * mean stays over D cells, so a row with gaps weighs its observed cells as a complete row does). Every bound term and its
  * partial derivatives come from {@link BoundTerms}; epsilon-hat and v are the network's output plus
- * the model's {@link GaussianBaseline} when it has one (added here, so the loss sees what the
+ * the model's {@link ClosedFormPart} when it has one (added here, so the loss sees what the
  * estimator gives; the output's gradient is that of epsilon-hat and v). This class only applies the chain rule through
  * the parameterization (d mu / d eps-hat, d log sigma^2 / d v) and the loss's weights.
  */
@@ -46,7 +46,7 @@ final class LossGradient implements ParallelStep.LossGradient {
     final double[] rowBound;
     private final int batch;
     /** The closed-form part added to the network's output, or null (the gradient passes through it unchanged). */
-    private final GaussianBaseline baseline;
+    private final ClosedFormPart baseline;
     private float[] x0;
     private float[] xt;
     private float[] eps;
@@ -54,7 +54,7 @@ final class LossGradient implements ParallelStep.LossGradient {
     private double[] weight;
     private boolean[] filled;
 
-    LossGradient(Chain chain, FitOptions options, int batch, GaussianBaseline baseline) {
+    LossGradient(Chain chain, FitOptions options, int batch, ClosedFormPart baseline) {
         this(chain, options, batch, baseline, batch);
     }
 
@@ -63,7 +63,7 @@ final class LossGradient implements ParallelStep.LossGradient {
      * row weighs 1/(meanOver D), so that the shares' gradients sum to the minibatch's
      * ({@link GradientShare}).
      */
-    LossGradient(Chain chain, FitOptions options, int rows, GaussianBaseline baseline, int meanOver) {
+    LossGradient(Chain chain, FitOptions options, int rows, ClosedFormPart baseline, int meanOver) {
         this.chain = chain;
         this.baseline = baseline;
         this.loss = options.loss();
@@ -108,7 +108,7 @@ final class LossGradient implements ParallelStep.LossGradient {
             // epsilon-hat and v are the closed form plus the network's output: d loss / d output is
             // unchanged. The closed form reads the continuous cells of the model-space x_t, the
             // first dc of each row of width d (never the one-hot encoded network input).
-            double[] scratch = new double[dc];
+            double[] scratch = new double[baseline.scratchSize()];
             for (int i = 0; i < rows; i++) {
                 int r = rowOffset + i;
                 baseline.addToRowInPlace(xt, r * d, chain.source(k[r]), out, i * outputs, learned, scratch);

@@ -2,7 +2,7 @@ package org.backstep.internal.train;
 
 import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
-import org.backstep.internal.chain.GaussianBaseline;
+import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
@@ -70,7 +70,7 @@ public final class TrainingRun implements AutoCloseable {
     private final NetworkShape shape;
     private final ReverseNetwork net;
     private final Chain chain;
-    private final GaussianBaseline baseline;   // null without a closed-form part
+    private final ClosedFormPart baseline;   // null without a closed-form part
     private final org.backstep.table.Whitening whitening;   // null in standardized coordinates
     private final boolean learned;
     private final int batch;
@@ -170,7 +170,13 @@ public final class TrainingRun implements AutoCloseable {
         int outputs = Chain.outputsOf(options.variance(), transform);
         shape = new NetworkShape(Chain.inputsOf(transform), options.hidden(), outputs, options.embeddingSize(),
                 options.stepInput());
-        baseline = GaussianBaseline.fit(options.baseline(), x0, n, d, dc, options.continuousSchedule());
+        baseline = ClosedFormPart.fit(options.baseline(), x0, n, d, dc, options.continuousSchedule(), options.seed());
+        if (baseline instanceof org.backstep.internal.chain.MixtureBaseline mb) {
+            String note = "Gaussian mixture part: " + mb.mixture().components() + " component(s) chosen by BIC "
+                    + java.util.Arrays.toString(mb.bic());
+            notes.add(note);
+            LOG.info(note);
+        }
         learned = options.variance() == ReverseVariance.LEARNED;
         net = ReverseNetwork.create(shape, steps, options.seed(), baseline != null);
         chain = chainOver(net);
