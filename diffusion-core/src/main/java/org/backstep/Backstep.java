@@ -183,9 +183,14 @@ public final class Backstep {
          * {@link org.backstep.option.Coordinates}); default {@link Defaults#COORDINATES}.
          * {@link org.backstep.option.Coordinates#WHITENED} runs the chain in z = W (y - m),
          * W = Sigma^(-1/2) of the training rows' (shrunk) covariance (Kessy, Lewis &amp; Strimmer
-         * 2018), with log |det W| added to every bound so figures stay in the standardized space; it
-         * needs complete training rows. Best paired with {@link Baseline#STANDARD_NORMAL}, whose zero
-         * network is then the Gaussian fitted on the training rows.
+         * 2018), with log |det W| added to every bound so figures stay in the standardized space;
+         * training rows with a gap are trained on (m and Sigma by EM for the normal with missing
+         * values, Little &amp; Rubin 2002, section 11.2.1; each gap drawn afresh from that Gaussian's
+         * conditional at every use). Best paired with {@link Baseline#STANDARD_NORMAL}, whose zero
+         * network is then the Gaussian fitted on the training rows (the default pair). Fit with
+         * {@link org.backstep.option.Coordinates#STANDARDIZED} to impute by
+         * {@link org.backstep.option.Conditioning#KERNEL_PRODUCT} (refused by a whitened model) or
+         * to denoise readings of correlated columns (see {@link DiffusionModel#denoise}).
          *
          * @param coordinates the choice
          * @return this

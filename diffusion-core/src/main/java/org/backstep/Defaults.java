@@ -64,29 +64,40 @@ public final class Defaults {
     /** Learned variances, so that the bound is tight (Nichol &amp; Dhariwal 2021, section 3.1). */
     public static final ReverseVariance VARIANCE = ReverseVariance.LEARNED;
     /**
-     * No closed-form part. Measured (diffusion-bench/results/baseline-levers.txt; held-out exact
-     * bound, nats per record in SOURCES.md's space, means over 2 to 3 fit seeds at the default
-     * budget): neither library option wins on every table. NONE: iris 2.82, breast_cancer 1.08,
-     * diabetes without SEX 9.42, 13-dimensional Gaussian data +0.28 nats from the fitted Gaussian.
-     * {@link Baseline#STANDARD_NORMAL}: 2.87 (a tie within the fit seeds' spread of 0.2), 0.60,
-     * 9.25, +0.06. {@link Baseline#FITTED_GAUSSIAN}: 2.76, 2.7 (worse: nearly collinear columns,
-     * whose exact reverse kernels diagonal kernels cannot follow), 9.23, +0.02. The winner,
-     * STANDARD_NORMAL on the table whitened by the training covariance (org.backstep.table.Whitening,
-     * done by the caller), is not a fit option yet: 2.81, 0.39, 7.65 (the Gaussian mixture: 8.49),
-     * +0.002.
+     * {@link Baseline#STANDARD_NORMAL}, paired with {@link #COORDINATES} = WHITENED: a network that
+     * adds nothing reproduces the Gaussian fitted on the training rows, and the network corrects it
+     * where the data say so. Measured (diffusion-bench/results/whitened-model.txt and
+     * diffusion-bench/results/default-whitened.txt; held-out exact bound, nats per record in
+     * SOURCES.md's space, 2 fit seeds at the default budget): see {@link #COORDINATES}. Measured
+     * alone, in standardized coordinates (diffusion-bench/results/baseline-levers.txt):
+     * {@link Baseline#NONE} iris 2.82, breast_cancer 1.08, diabetes without SEX 9.42, 13-dimensional
+     * Gaussian data +0.28 nats from the fitted Gaussian; STANDARD_NORMAL 2.87 (a tie within the fit
+     * seeds' spread of 0.2), 0.60, 9.25, +0.06; {@link Baseline#FITTED_GAUSSIAN} 2.76, 2.7 (worse:
+     * nearly collinear columns, whose exact reverse kernels diagonal kernels cannot follow), 9.23,
+     * +0.02.
      */
-    public static final Baseline BASELINE = Baseline.NONE;
+    public static final Baseline BASELINE = Baseline.STANDARD_NORMAL;
     /**
-     * Standardized coordinates. Measured (diffusion-bench/results/whitened-model.txt; default budget,
-     * 2 fit seeds, held-out exact bound in nats per record in SOURCES.md's space):
-     * {@link org.backstep.option.Coordinates#WHITENED} with {@link Baseline#STANDARD_NORMAL} gives
-     * breast_cancer -0.33 (these defaults 1.08, Gaussian mixture 0.59), diabetes without SEX 7.77
-     * (9.42; 8.49), 13-dimensional Gaussian data +0.002 nats from the fitted Gaussian (+0.28), and
-     * imputation RMSE 0.316 and 0.664 (0.358 and 0.672); but iris 2.86 (2.82: a tie within the fit
-     * seeds' spread), and it refuses training rows with a gap. Not flipped until it wins on every
-     * table with the full suites run at it.
+     * Whitened coordinates ({@link org.backstep.option.Coordinates#WHITENED}), with
+     * {@link #BASELINE} = STANDARD_NORMAL. Measured (diffusion-bench/results/whitened-model.txt;
+     * default budget, 2 fit seeds, held-out exact bound in nats per record in SOURCES.md's space;
+     * the losing candidate, standardized coordinates without a closed-form part, the defaults
+     * before, in brackets): breast_cancer -0.33 (1.08; Gaussian mixture 0.59), diabetes without
+     * SEX 7.77 (9.42; Gaussian mixture 8.49), 13-dimensional Gaussian data with 1,424 training rows
+     * +0.002 nats from the fitted Gaussian (+0.28), imputation RMSE 0.316 and 0.664 (0.358 and
+     * 0.672); iris 2.86 (2.82: a tie within the fit seeds' spread of 0.2). Training rows with a gap
+     * are trained on (the mean and covariance by EM for the normal with missing values, the gaps
+     * drawn afresh from its conditional at every use; see {@link Backstep.Builder#coordinates}).
+     * Imputation with {@link Conditioning#KERNEL_PRODUCT} needs a model fitted with
+     * {@link org.backstep.option.Coordinates#STANDARDIZED} (asked for at the fit: the imputation
+     * refuses it on a whitened model, naming both options), and so does denoising readings of
+     * correlated columns with independent noise per column (the demo's fleet: RMSE 0.99 to 4.02
+     * noise sd whitened, to 0.67 standardized; logged as lossy, see DiffusionModel#denoise). Default
+     * fit seconds (2 fit seeds, 2 threads, a machine shared with other helpers at load 15 to 20, so
+     * inflated): iris 37, breast_cancer 84, diabetes without SEX 50, digits_binary 102 (unchanged
+     * model, 15 s in an earlier run on a lighter load); see diffusion-bench/results/default-whitened.txt.
      */
-    public static final org.backstep.option.Coordinates COORDINATES = org.backstep.option.Coordinates.STANDARDIZED;
+    public static final org.backstep.option.Coordinates COORDINATES = org.backstep.option.Coordinates.WHITENED;
     /**
      * The variational bound itself. Measured on 2-D Gaussian data (T = 100, hidden 64 x 2,
      * 100 epochs, 4,000 held-out rows, standard error about 0.03): the held-out bound was 0.07

@@ -699,7 +699,11 @@ public final class DiffusionModel {
      * is topped up by noise of covariance L Sigma - S, so that z_{t*} = sqrt(alpha-bar) W (y~ + extra - m)
      * is exactly a draw of q(z_{t*} | z_0). The draws are then those of the posterior given a
      * reading of noise L Sigma: with strongly correlated columns L is larger than the noisiest
-     * column's s_j^2, and more of what the reading says is lost than in standardized coordinates.
+     * column's s_j^2, and more of what the reading says is lost than in standardized coordinates
+     * (on the demo's invented fleet, noise of 25% of each column's sd on every continuous column: RMSE
+     * 0.99 to 4.02 noise sd whitened, 0.99 to 0.67 standardized). A warning is logged when L exceeds
+     * 4 times the noisiest column's s_j^2; fit with {@code Coordinates.STANDARDIZED} to denoise such
+     * readings.
      *
      * <p>Caution: denoised values are estimates, not measurements.
      *

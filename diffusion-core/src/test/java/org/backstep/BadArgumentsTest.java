@@ -52,7 +52,7 @@ class BadArgumentsTest {
     private static DiffusionModel model() {
         TableTransform transform = TableTransform.of(NAMES, KINDS, List.of(ColumnTransform.standardize(4, 1.5),
                 ColumnTransform.standardize(5, 1.5), ColumnTransform.identity()));
-        return DiffusionModel.withEstimator(Backstep.builder().steps(20).variance(ReverseVariance.FIXED_POSTERIOR)
+        return DiffusionModel.withEstimator(Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).steps(20).variance(ReverseVariance.FIXED_POSTERIOR)
                 .loss(TrainingLoss.SIMPLE).threads(1).options(), transform, new ConstantEstimator(3, 3, 0f));
     }
 

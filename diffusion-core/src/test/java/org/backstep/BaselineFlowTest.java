@@ -46,7 +46,7 @@ class BaselineFlowTest {
         List<ColumnKind> kinds = Collections.nCopies(3, ColumnKind.CONTINUOUS);
         // model space = data space: each column's transform is the identity map
         TableTransform transform = TableTransform.of(NAMES, kinds, Collections.nCopies(3, ColumnTransform.standardize(0, 1)));
-        FitOptions options = Backstep.builder().continuousSchedule(schedule).hidden(8)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).continuousSchedule(schedule).hidden(8)
                 .variance(ReverseVariance.FIXED_POSTERIOR).loss(TrainingLoss.SIMPLE)
                 .baseline(Baseline.STANDARD_NORMAL).threads(2).options();
         NetworkShape shape = new NetworkShape(3, options.hidden(), 3, options.embeddingSize(), options.stepInput());

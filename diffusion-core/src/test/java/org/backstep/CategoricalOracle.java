@@ -70,7 +70,7 @@ final class CategoricalOracle implements Estimator {
     /** A model of one categorical column "c" with labels "k0".."k(K-1)" over this oracle. */
     static DiffusionModel model(int steps, double[] pi) {
         NoiseSchedule bin = NoiseSchedule.binomial(steps);
-        FitOptions options = Backstep.builder().continuousSchedule(NoiseSchedule.linear(steps)).binarySchedule(bin)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(NoiseSchedule.linear(steps)).binarySchedule(bin)
                 .timeEmbedding(2, StepInput.INPUT).hidden(1).logColumns().threads(2).options();
         List<String> labels = new ArrayList<>();
         for (int c = 0; c < pi.length; c++) {

@@ -30,7 +30,7 @@ class DivergedChainTest {
 
     private static DiffusionModel wildModel() {
         NoiseSchedule schedule = NoiseSchedule.linear(20);
-        FitOptions options = Backstep.builder().continuousSchedule(schedule).variance(ReverseVariance.FIXED_POSTERIOR)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(schedule).variance(ReverseVariance.FIXED_POSTERIOR)
                 .loss(TrainingLoss.SIMPLE).threads(1).options();
         TableTransform transform = TableTransform.of(List.of("a"), List.of(ColumnKind.CONTINUOUS),
                 List.of(ColumnTransform.standardize(0.0, 1.0)));

@@ -61,7 +61,7 @@ class FlowLikelihoodTest {
         List<ColumnKind> kinds = Collections.nCopies(3, ColumnKind.CONTINUOUS);
         // model space = data space: each column's transform is the identity map
         TableTransform transform = TableTransform.of(NAMES, kinds, Collections.nCopies(3, ColumnTransform.standardize(0, 1)));
-        return DiffusionModel.withEstimator(Backstep.builder().continuousSchedule(schedule)
+        return DiffusionModel.withEstimator(Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(schedule)
                         .variance(ReverseVariance.FIXED_POSTERIOR).loss(TrainingLoss.SIMPLE)
                         .timeEmbedding(2, StepInput.INPUT).hidden(1).threads(threads).options(),
                 transform, new ExactGaussianFlow(schedule, MU, SIGMA));
@@ -127,7 +127,7 @@ class FlowLikelihoodTest {
         double[][] rows = records(5);
         double[] all = null;
         for (int threads : new int[] {2, 1}) {
-            org.backstep.option.FitOptions options = Backstep.builder().steps(20).variance(ReverseVariance.LEARNED)
+            org.backstep.option.FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).steps(20).variance(ReverseVariance.LEARNED)
                     .hidden(16, 16).threads(threads).options();
             org.backstep.internal.net.ReverseNetwork network = org.backstep.internal.net.ReverseNetwork.create(
                     new org.backstep.internal.net.NetworkShape(3, new int[] {16, 16}, 6, options.embeddingSize(),

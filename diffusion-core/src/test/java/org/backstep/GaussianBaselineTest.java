@@ -55,7 +55,7 @@ class GaussianBaselineTest {
 
     /** A model over a network whose output layer is zero, plus the baseline fitted on {@code training}. */
     static DiffusionModel zeroCorrection(Table training, Baseline kind, NoiseSchedule schedule) {
-        FitOptions options = Backstep.builder().continuousSchedule(schedule).hidden(8).baseline(kind).threads(2).options();
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).continuousSchedule(schedule).hidden(8).baseline(kind).threads(2).options();
         TableTransform transform = TableTransform.fit(training, Set.of());
         int d = transform.modelledContinuous().length;
         float[] x0 = Engine.toFloat(transform.toModelSpace(training));

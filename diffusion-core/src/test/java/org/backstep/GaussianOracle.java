@@ -122,7 +122,7 @@ final class GaussianOracle implements Estimator {
             kinds.add(ColumnKind.CONTINUOUS);
             transforms.add(new ColumnTransform(kind, 0.0, 1.0));
         }
-        FitOptions options = Backstep.builder().continuousSchedule(schedule).variance(ReverseVariance.LEARNED)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(schedule).variance(ReverseVariance.LEARNED)
                 .loss(TrainingLoss.HYBRID).timeEmbedding(2, StepInput.INPUT).hidden(1)
                 .logColumns().threads(2).options();
         return DiffusionModel.withEstimator(options, TableTransform.of(names, kinds, transforms),

@@ -27,7 +27,7 @@ class LearnedVarianceClampTest {
     private static final double SAME_BOUND = 1e-9;
 
     private static DiffusionModel modelWithV(float v) {
-        FitOptions options = Backstep.builder().continuousSchedule(NoiseSchedule.linear(20))
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(NoiseSchedule.linear(20))
                 .variance(ReverseVariance.LEARNED).threads(1).options();
         TableTransform transform = TableTransform.of(List.of("a"), List.of(ColumnKind.CONTINUOUS),
                 List.of(ColumnTransform.standardize(0.0, 1.0)));

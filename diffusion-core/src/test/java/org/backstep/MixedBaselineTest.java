@@ -146,7 +146,9 @@ class MixedBaselineTest {
                 own.predict(xt, steps, out);   // the same predictions, baseline() null: no control variate
             }
         };
-        DiffusionModel plain = DiffusionModel.withEstimator(model.options(), model.transform(), hidden);
+        // the model's own parts (its default whitening included) over the estimator without a baseline
+        DiffusionModel plain = DiffusionModel.of(new org.backstep.internal.chain.ModelParts(model.options(),
+                model.transform(), null, hidden, model.provenance(), model.parts().range(), model.parts().whitening()));
         Table records = containers(1500, 21);
         double[] with = model.bound(records, BoundOptions.exact(), 5).nats();
         double[] without = plain.bound(records, BoundOptions.exact(), 5).nats();

@@ -126,7 +126,7 @@ final class MixedOracle implements Estimator {
     /** A model of the columns "x" (continuous, used in its own units) and "b" (binary) over this oracle. */
     static DiffusionModel model(NoiseSchedule schedule, double pi, double m0, double m1, double s) {
         NoiseSchedule bin = NoiseSchedule.binomial(schedule.steps());
-        FitOptions options = Backstep.builder().continuousSchedule(schedule).binarySchedule(bin)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(schedule).binarySchedule(bin)
                 .variance(ReverseVariance.LEARNED).loss(TrainingLoss.HYBRID).timeEmbedding(2, StepInput.INPUT)
                 .hidden(1).logColumns().threads(2).options();
         TableTransform transform = TableTransform.of(List.of("x", "b"), List.of(ColumnKind.CONTINUOUS, ColumnKind.BINARY),

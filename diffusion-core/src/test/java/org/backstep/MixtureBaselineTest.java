@@ -293,7 +293,9 @@ class MixtureBaselineTest {
     /** A model over a network whose output layer is zero, with the true mixture's part, in data units. */
     private static DiffusionModel zeroCorrection(NoiseSchedule schedule, org.backstep.option.ReverseVariance variance) {
         TableTransform transform = TableTransform.of(NAMES, KINDS, Collections.nCopies(2, ColumnTransform.standardize(0, 1)));
-        FitOptions options = Backstep.builder().continuousSchedule(schedule).hidden(8).variance(variance)
+        // standardized coordinates: the parts carry no whitening (the true mixture is given in data units)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED)
+                .continuousSchedule(schedule).hidden(8).variance(variance)
                 .baseline(Baseline.FITTED_MIXTURE).threads(2).options();
         boolean learned = variance == org.backstep.option.ReverseVariance.LEARNED;
         NetworkShape shape = new NetworkShape(2, options.hidden(), learned ? 4 : 2, options.embeddingSize(), options.stepInput());

@@ -93,7 +93,7 @@ class NullArgumentsTest {
         Table table = Table.of(names, kinds, new double[][] {{4, 5, 0}, {3, 4, 1}, {5, 6, 0}});
         TableTransform transform = TableTransform.of(names, kinds, List.of(ColumnTransform.standardize(4, 1.5),
                 ColumnTransform.standardize(5, 1.5), ColumnTransform.identity()));
-        FitOptions options = Backstep.builder().steps(20).hidden(4).variance(ReverseVariance.FIXED_POSTERIOR)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).steps(20).hidden(4).variance(ReverseVariance.FIXED_POSTERIOR)
                 .loss(TrainingLoss.SIMPLE).threads(1).options();
         DiffusionModel model = DiffusionModel.withEstimator(options, transform, new ConstantEstimator(3, 3, 0f));
         EpochRecord epoch = new EpochRecord(1, 0.5, OptionalDouble.of(1.0), 0.1);

@@ -48,7 +48,7 @@ class SampleCheckTest {
      * of [-2, 2] but well inside the float range.
      */
     private static DiffusionModel diverging() {
-        FitOptions options = Backstep.builder().continuousSchedule(NoiseSchedule.linear(20)).hidden(4)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(NoiseSchedule.linear(20)).hidden(4)
                 .timeEmbedding(2, StepInput.INPUT).variance(ReverseVariance.FIXED_POSTERIOR).loss(TrainingLoss.SIMPLE)
                 .threads(1).options();
         TableTransform transform = TableTransform.of(NAMES, KINDS,

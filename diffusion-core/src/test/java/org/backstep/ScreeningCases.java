@@ -32,7 +32,7 @@ final class ScreeningCases {
     }
 
     static FitOptions options(NoiseSchedule schedule) {
-        return Backstep.builder().continuousSchedule(schedule).variance(ReverseVariance.LEARNED)
+        return Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).continuousSchedule(schedule).variance(ReverseVariance.LEARNED)
                 .loss(TrainingLoss.HYBRID).timeEmbedding(2, StepInput.INPUT).hidden(1).logColumns().threads(2)
                 .options();
     }

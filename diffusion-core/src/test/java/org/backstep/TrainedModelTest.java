@@ -148,8 +148,10 @@ class TrainedModelTest {
     void samplesDoNotDependOnThreadCount() {
         Table t = gaussian(600, 7, new double[] {0, 0}, new double[][] {{1, 0.5}, {0.5, 1}});
         DiffusionModel a = barelyTrained().epochs(2).fit(t);
-        DiffusionModel one = DiffusionModel.withEstimator(barelyTrained().threads(1).epochs(2).options(), a.transform(),
-                a.parts().estimator());
+        // the same parts (the default whitening included) with the options of one thread
+        DiffusionModel one = DiffusionModel.of(new org.backstep.internal.chain.ModelParts(
+                barelyTrained().threads(1).epochs(2).options(), a.transform(), a.parts().network(),
+                a.parts().estimator(), a.parts().provenance(), a.parts().range(), a.parts().whitening()));
         // chunk-seeded generators (our design): same samples whatever the thread count
         assertArrayEquals(a.sample(700, 5).toArray(), one.sample(700, 5).toArray());
     }

@@ -257,18 +257,20 @@ class WhitenedCoordinatesTest {
         assertEquals(model.sample(5, 4).get(4, 2), back.sample(5, 4).get(4, 2), 0.0);
     }
 
-    /** Refusals name the option: training rows with a gap, and the kernel-product conditioning. */
+    /**
+     * The kernel-product conditioning is refused by a whitened model, naming both options and the way
+     * out (training rows with a gap are trained on since the whitened coordinates became the default:
+     * WhitenedGapsTest).
+     */
     @Test
     void refusalsNameTheOption() {
-        double[][] rows = draws(40, 12);
-        rows[3][1] = Double.NaN;
-        IllegalArgumentException gap = assertThrows(IllegalArgumentException.class, () -> Backstep.builder()
-                .coordinates(Coordinates.WHITENED).hidden(4).trainingSteps(2).fit(table(rows)));
-        assertTrue(gap.getMessage().contains("coordinates is WHITENED"), gap.getMessage());
         double[][] masked = {{1.0, -2.0, Double.NaN}};
         IllegalArgumentException product = assertThrows(IllegalArgumentException.class, () -> exactModel(1)
                 .impute(table(masked), new ImputationOptions(2, 0.9, 10, 1, Conditioning.KERNEL_PRODUCT), 1));
+        // common practice, no source: the message names the conditioning, the coordinates and the fix
         assertTrue(product.getMessage().contains("coordinates WHITENED"), product.getMessage());
+        assertTrue(product.getMessage().contains("KERNEL_PRODUCT"), product.getMessage());
+        assertTrue(product.getMessage().contains("coordinates(Coordinates.STANDARDIZED)"), product.getMessage());
     }
 
     /** A short whitened fit on complete rows: the provenance notes the whitening; bound and imputation run. */

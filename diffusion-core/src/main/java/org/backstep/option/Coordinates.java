@@ -25,9 +25,12 @@ public enum Coordinates {
     /** Each continuous column standardized on its own (format versions 1 to 4). */
     STANDARDIZED,
     /**
-     * The continuous columns whitened by the training covariance, z = Sigma^(-1/2) (y - m); needs
-     * complete training rows (a row with a gap has no whitened value) and more training rows than
-     * continuous columns.
+     * The continuous columns whitened by the training covariance, z = Sigma^(-1/2) (y - m); the
+     * default ({@code org.backstep.Defaults.COORDINATES}). Training rows with a gap are trained on:
+     * m and Sigma by EM for the normal with missing values, the gaps drawn afresh from that Gaussian's
+     * conditional at every use. Imputation by {@link Conditioning#KERNEL_PRODUCT} is refused, and
+     * denoising readings with independent noise per column loses much of what they say when the
+     * columns are correlated: fit with {@link #STANDARDIZED} for either.
      */
     WHITENED
 }

@@ -123,7 +123,8 @@ public final class Whitening {
      * b^2 = min(delta^2, (1/n^2) sum_i ||(x_i - m)(x_i - m)^T - S||^2) and rho = b^2 / delta^2,
      * S* = rho mu I + (1 - rho) S. The intensity rho is estimated from the rows (no tuning); S* is
      * positive definite whenever rho &gt; 0, so near-collinear columns (rounding-level eigenvalues of
-     * S) do not make W divide by noise.
+     * S) do not make W divide by noise. Where the estimate leaves S* singular (two rows: each centred
+     * outer product equals S, so b^2 = 0), rho is 1 and S* = mu I, the estimator's own target.
      *
      * @param rows n &gt;= 2 rows of d values each, no NaN or infinite value (not modified)
      * @return the whitening of the shrunk covariance; {@link #shrinkage()} gives rho
@@ -171,6 +172,51 @@ public final class Whitening {
             bBar2 += sum / d;
         }
         bBar2 /= (double) n * n;
+        return shrunk(m, s, mu, delta2, bBar2);
+    }
+
+    /**
+     * As {@link #fitShrunk}, on rows with missing cells (NaN): m and S are the maximum-likelihood
+     * estimates of a multivariate normal by EM with the cells missing at random (Little &amp; Rubin
+     * 2002, "Statistical Analysis with Missing Data", 2nd ed., section 11.2.1), and the spread term
+     * b^2 of Ledoit &amp; Wolf takes each row's outer product (x_i - m)(x_i - m)^T as its conditional
+     * expectation given the row's observed cells at that estimate, (x^_i - m)(x^_i - m)^T + C_i
+     * (x^_i the conditional mean, C_i the conditional covariance of the missing cells): a plug-in,
+     * which counts the spread of the missing cells' conditional draws as their expectation. Without a
+     * missing cell it is {@link #fitShrunk} up to rounding.
+     *
+     * @param rows n &gt;= 2 rows of d values each, NaN where missing, no infinite value; every column
+     *     with an observed cell (not modified)
+     * @return the whitening of the shrunk covariance
+     * @throws IllegalArgumentException naming a ragged row, an infinite cell, a column without an
+     *     observed cell, or a singular shrunk covariance
+     */
+    public static Whitening fitShrunkWithGaps(double[][] rows) {
+        Require.notNull("rows", rows);
+        Require.atLeast("rows", rows.length, 2);
+        int d = rows[0] == null ? 0 : rows[0].length;
+        Require.atLeast("columns", d, 1);
+        NormalWithGaps em = NormalWithGaps.fit(rows);
+        double[][] s = em.covariance;
+        double mu = 0.0;
+        for (int a = 0; a < d; a++) {
+            mu += s[a][a];
+        }
+        mu /= d;
+        double delta2 = 0.0;
+        for (int a = 0; a < d; a++) {
+            for (int b = 0; b < d; b++) {
+                double e = s[a][b] - (a == b ? mu : 0.0);
+                delta2 += e * e;
+            }
+        }
+        delta2 /= d;
+        return shrunk(em.mean, s, mu, delta2, em.spread);
+    }
+
+    /** rho = min(delta^2, b^2) / delta^2 (1 when delta^2 = 0) and S* = rho mu I + (1 - rho) S (Ledoit &amp; Wolf 2004). */
+    private static Whitening shrunk(double[] m, double[][] s, double mu, double delta2, double bBar2) {
+        int d = m.length;
         double rho = delta2 > 0.0 ? Math.min(delta2, bBar2) / delta2 : 1.0;
         double[][] shrunk = new double[d][d];
         for (int a = 0; a < d; a++) {
@@ -178,7 +224,24 @@ public final class Whitening {
                 shrunk[a][b] = (1.0 - rho) * s[a][b] + (a == b ? rho * mu : 0.0);
             }
         }
+        if (rho < 1.0 && mu > 0.0 && !nonsingular(shrunk)) {
+            // the estimated intensity left S* singular: two rows (each centred outer product is S, so
+            // b^2 = 0), or columns collinear on too few rows; take Ledoit and Wolf's target itself
+            double[][] target = new double[d][d];
+            for (int a = 0; a < d; a++) {
+                target[a][a] = mu;
+            }
+            return of(m, target, 1.0);
+        }
         return of(m, shrunk, rho);
+    }
+
+    /** @return whether the smallest eigenvalue of symmetric s exceeds {@link #SINGULAR_RATIO} times the largest */
+    private static boolean nonsingular(double[][] s) {
+        double[] lambda = new EigenDecomposition(new Array2DRowRealMatrix(s, true)).getRealEigenvalues();
+        double largest = Arrays.stream(lambda).max().orElseThrow();
+        double smallest = Arrays.stream(lambda).min().orElseThrow();
+        return smallest > SINGULAR_RATIO * largest;
     }
 
     /**

@@ -351,7 +351,9 @@ public final class SparkFittingMeasurement {
     }
 
     private static FitOptions options(int[] hidden) {
-        return Backstep.builder().steps(100).hidden(hidden).seed(7).threads(2).options();
+        // GradientShare supports standardized coordinates without a closed-form part only (the defaults before issue 11's flip)
+        return Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED)
+                .baseline(org.backstep.option.Baseline.NONE).steps(100).hidden(hidden).seed(7).threads(2).options();
     }
 
     private void table(List<Run> runs) {
@@ -465,7 +467,8 @@ public final class SparkFittingMeasurement {
         int size = (int) Math.min(100_000, rows);
         Table sample = sample(frame, rows, size);
         TableTransform transform = TableTransform.fit(sample, Set.of());
-        FitOptions options = Backstep.builder().steps(100).hidden(hidden).seed(7).threads(2).checkpointFraction(0.0)
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE)
+                .steps(100).hidden(hidden).seed(7).threads(2).checkpointFraction(0.0)
                 .options();
         Trainer.Fitted fitted = Trainer.fit(options, sample, null, transform, TrainingListener.NONE, () -> false,
                 TrainingBudget.updates(steps));

@@ -99,10 +99,15 @@ final class Report {
 
         String gapNote = model.provenance().notes().stream().filter(n -> n.contains("training rows had a missing cell"))
                 .findFirst().orElse("");
+        String whitenedGaps = model.provenance().notes().stream().filter(n -> n.contains("miss a whitened cell"))
+                .findFirst().orElse("");
         h.append(p(gapNote.isEmpty() ? "No row trained on had a missing cell." : "How the rows with a missing cell were used "
                 + "(from the model's provenance): " + escape(gapNote) + ". A filled cell is an input of the network, never a "
                 + "target of its loss, so a draw the model got wrong is not learned back as data (stochastic EM: Dempster, "
-                + "Laird &amp; Rubin 1977; Celeux &amp; Diebolt 1985)."));
+                + "Laird &amp; Rubin 1977; Celeux &amp; Diebolt 1985)"
+                + (whitenedGaps.isEmpty() ? "." : "; but in the whitened coordinates a continuous cell mixes every continuous"
+                + " column, so " + escape(whitenedGaps) + " (the Gaussian fitted by EM for data with missing values: Little"
+                + " &amp; Rubin 2002, section 11.2.1).")));
 
         h.append("<h2>How well the model fits rows it never saw</h2>\n");
         int dims = bound.path("dimensions").asInt();

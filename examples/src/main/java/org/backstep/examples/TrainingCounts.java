@@ -44,11 +44,22 @@ record TrainingCounts(int partWithGaps, int trained, int trainedWithGaps, int fi
                 provenance.filledCells(), provenance.refills(), checkpoint, part.rows() - trained - checkpoint);
     }
 
-    /** @return "trained on N of the P rows of the training part, ..." with how the rows with a missing cell were used */
-    String trainedSentence(int partRows) {
+    /**
+     * @param partRows rows of the training part
+     * @param whitened whether the model was fitted with coordinates WHITENED (the library's default)
+     * @return "trained on N of the P rows of the training part, ..." with how the rows with a missing cell were used
+     */
+    String trainedSentence(int partRows, boolean whitened) {
         String head = String.format(Locale.ROOT, "trained on %d of the %d rows of the training part", trained, partRows);
         if (trainedWithGaps == 0) {
             return head + ", none with a missing cell";
+        }
+        if (whitened) {
+            return head + String.format(Locale.ROOT, ", %d of them with a missing cell (%d cells in all): a missing"
+                    + " continuous cell drawn afresh at every use from the conditional distribution of the Gaussian"
+                    + " fitted by EM, given the row's observed continuous cells; any other missing cell filled by"
+                    + " stochastic EM (drawn from the model %d times over the run, never learned as data)",
+                    trainedWithGaps, filledCells, refills);
         }
         return head + String.format(Locale.ROOT, ", %d of them with a missing cell (%d cells in all) filled by stochastic EM: "
                 + "drawn from the model given the row's observed cells %d times over the run, and never learned as data",

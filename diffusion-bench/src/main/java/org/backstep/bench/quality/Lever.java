@@ -20,8 +20,13 @@ import org.backstep.table.Whitening;
  * -log p_x(x) = -log p_e(e(x)) - log |de/dx|.
  */
 enum Lever {
-    /** The table as it is; Backstep standardizes it itself. */
-    DEFAULTS("defaults"),
+    /**
+     * The table as it is, at the library's defaults (since issue 11's flip: coordinates WHITENED with
+     * the N(0, I) part, the same fit as WHITENED_MODEL).
+     */
+    DEFAULTS("defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
+    /** The table as it is, standardized, no closed-form part: the library's defaults before issue 11's flip. */
+    STANDARDIZED_NO_PART("standardized, no part (defaults before)"),
     /** Each continuous column mapped to its normal scores (NORMAL_SCORES, Silverman's bandwidth). */
     NORMAL_SCORES("normal scores"),
     /** The continuous columns standardized, then whitened by the training covariance. */
@@ -85,7 +90,8 @@ enum Lever {
      */
     Encoding fit(Table train) {
         return switch (this) {
-            case DEFAULTS, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL, WHITENED_MIXTURE_MODEL -> new Encoding(this, null, null, train);
+            case DEFAULTS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL,
+                    WHITENED_MIXTURE_MODEL -> new Encoding(this, null, null, train);
             case NORMAL_SCORES -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
             case WHITENED, NORMAL_SCORES_WHITENED, WHITENED_STANDARD_NORMAL_PART -> {
                 TableTransform columns = this != NORMAL_SCORES_WHITENED ? TableTransform.fit(train, Set.of())

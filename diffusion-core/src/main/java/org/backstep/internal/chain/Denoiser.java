@@ -18,6 +18,14 @@ import org.backstep.table.Table;
  */
 public final class Denoiser {
 
+    private static final org.slf4j.Logger LOG = org.slf4j.LoggerFactory.getLogger(Denoiser.class);
+    /**
+     * Above this ratio of the readings' largest noise eigenvalue in whitened coordinates to the largest
+     * standardized column noise, a whitened denoising is logged as lossy (common practice, no source:
+     * the posterior is then that of a reading at least 4 times noisier in variance).
+     */
+    static final double LOSSY_RATIO = 4.0;
+
     private Denoiser() {
     }
 
@@ -108,6 +116,16 @@ public final class Denoiser {
                 if (java.util.Arrays.binarySearch(wcols, j) < 0) {
                     plain = Math.max(plain, s2[j]);
                 }
+            }
+            double own = 0.0;
+            for (double v : s2) {
+                own = Math.max(own, v);
+            }
+            if (top > LOSSY_RATIO * own) {
+                LOG.warn("denoising with a model fitted with coordinates WHITENED: the readings' noise reaches {} in the"
+                        + " whitened coordinates against at most {} in a standardized column, so the chain starts where a"
+                        + " reading {} times noisier would, and loses most of what the readings say (correlated columns);"
+                        + " fit with coordinates STANDARDIZED to denoise such readings", top, own, top / own);
             }
             max = Math.max(plain, top);
         }

@@ -87,7 +87,9 @@ public final class ReverseRun {
         if (product && chain.coordinates != null) {
             throw new IllegalArgumentException("conditioning is " + Conditioning.KERNEL_PRODUCT + "; a model fitted with"
                     + " coordinates WHITENED holds observed cells by " + Conditioning.REPLACEMENT
-                    + " only (a whitened cell mixes every continuous column, so no kernel of an observed cell alone exists)");
+                    + " only (a whitened cell mixes every continuous column, so no kernel of an observed cell alone exists);"
+                    + " WHITENED is the default coordinates: to impute by " + Conditioning.KERNEL_PRODUCT + ", fit with"
+                    + " coordinates STANDARDIZED (Backstep.builder().coordinates(Coordinates.STANDARDIZED))");
         }
         if (product && kind != SamplerKind.ANCESTRAL) {
             throw new IllegalArgumentException("kind is " + kind + "; the kernel product conditioning needs "

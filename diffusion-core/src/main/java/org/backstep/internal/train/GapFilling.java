@@ -231,6 +231,20 @@ final class GapFilling {
      * @param refill which refill this is, 0-based
      */
     void refillInPlace(float[] x0, Chain averaged, int threads, long seed, int refill) {
+        refillInPlace(x0, averaged, threads, seed, refill, null, null);
+    }
+
+    /**
+     * As {@link #refillInPlace(float[], Chain, int, long, int)} for a whitened fit: {@code x0} holds
+     * the whitened columns in z, so the previous draws are mapped back to y for the chain (which takes
+     * and returns y), and only the cells of the other columns are written back (the whitened ones are
+     * drawn from the fitted Gaussian at every use, {@link GaussianGaps}).
+     *
+     * @param whitening the fit's whitening, or null for standardized coordinates
+     * @param whitened the whitened columns of a row, or null
+     */
+    void refillInPlace(float[] x0, Chain averaged, int threads, long seed, int refill, org.backstep.table.Whitening
+            whitening, int[] whitened) {
         Chain c = averaged.steps() <= CHAIN_STEPS ? averaged : averaged.strided(CHAIN_STEPS);
         long drawSeed = (seed ^ REFILL_SEED) + 1_000_003L * refill;
         float[] drawn;
@@ -240,15 +254,31 @@ final class GapFilling {
             float[] previous = new float[rows.length * d];
             for (int i = 0; i < rows.length; i++) {
                 System.arraycopy(x0, rows[i] * d, previous, i * d, d);
+                if (whitening != null) {
+                    double[] z = new double[whitened.length];
+                    for (int a = 0; a < z.length; a++) {
+                        z[a] = previous[i * d + whitened[a]];
+                    }
+                    double[] y = whitening.unwhiten(z);
+                    for (int a = 0; a < z.length; a++) {
+                        previous[i * d + whitened[a]] = (float) y[a];
+                    }
+                }
             }
             int from = Math.max(1, (int) Math.round(c.steps() * (double) JUMP / CHAIN_STEPS));
             drawn = Imputer.redrawGiven(c, previous, known, rows.length, from, ROUNDS, Conditioning.REPLACEMENT,
                     threads, drawSeed);
         }
+        boolean[] keep = new boolean[d];
+        if (whitened != null) {
+            for (int j : whitened) {
+                keep[j] = true;
+            }
+        }
         for (int i = 0; i < rows.length; i++) {
             int o = rows[i] * d;
             for (int j = 0; j < d; j++) {
-                if (Float.isNaN(known[i * d + j])) {
+                if (Float.isNaN(known[i * d + j]) && !keep[j]) {
                     x0[o + j] = drawn[i * d + j];
                 }
             }

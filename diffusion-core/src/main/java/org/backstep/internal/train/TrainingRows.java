@@ -32,6 +32,18 @@ import java.util.SplittableRandom;
  * out. The checkpoint bound needs every cell of a row, so it is taken on the complete checkpoint
  * rows only; when the seeded split leaves no complete checkpoint row (for instance when every row
  * has a gap), those rows are trained on as well and the last averaged weights are kept.
+ *
+ * <p>With coordinates WHITENED a whitened cell mixes every real continuous column, so a gap in one of
+ * them leaves the row without a whitened value. Then the whitening's mean and covariance are the
+ * maximum-likelihood normal's by EM with missing cells (Little &amp; Rubin 2002, section 11.2.1;
+ * {@link Whitening#fitShrunkWithGaps}), shrunk as for complete rows, and the row's missing whitened
+ * cells are drawn from that Gaussian's conditional given its observed whitened cells afresh at every
+ * use ({@link GaussianGaps}, multiple imputation under the model's own closed-form part), then
+ * whitened and trained on as targets: a whitened cell of such a row is part observed, part drawn, so
+ * no cell could be left out of the loss alone, and the draws pull the network's correction toward
+ * zero, the fitted Gaussian, only along what the row does not show. Gaps in the other columns
+ * (integer, binary, categorical: not whitened) are filled by the stochastic EM above. The checkpoint
+ * bound is taken on the complete checkpoint rows, as for standardized coordinates.
  */
 final class TrainingRows {
 
@@ -56,6 +68,12 @@ final class TrainingRows {
      * coordinates. Null for standardized coordinates or without a real continuous column.
      */
     final Whitening whitening;
+    /**
+     * The training rows of a whitened fit that miss a whitened cell, drawn afresh from the fitted
+     * Gaussian's conditional at every use; null when there are none.
+     */
+    final GaussianGaps gaussianGaps;
+    private static final long GAUSSIAN_FILL_SEED = 0x452821E638D01377L;   // any fixed constant (digits of pi)
 
     /**
      * @param options the fit's options
@@ -146,9 +164,6 @@ final class TrainingRows {
             if (gaps == null) {
                 notes.add("the missing cells of the training rows all lie in constant columns, which are not"
                         + " diffused; every training row was used as it is");
-            } else {
-                gaps.initialFillInPlace(x0, n, options.seed());
-                notes.add(gapNote(gaps, n));
             }
         }
         float[] heldRows = null;
@@ -165,26 +180,40 @@ final class TrainingRows {
             }
         }
         Whitening fitted = null;
+        GaussianGaps drawn = null;
         int[] whitened = Chain.whitenedColumns(transform);
+        int d = width();
         if (options.coordinates() == Coordinates.WHITENED && whitened.length > 0) {
-            if (gaps != null) {
-                throw new IllegalArgumentException("coordinates is WHITENED, but " + gaps.rowCount() + " training rows have"
-                        + " a missing cell; a whitened cell mixes every continuous column, so the covariance and the"
-                        + " rows need complete rows: fit on the complete rows (Table.completeRows) or with coordinates"
-                        + " STANDARDIZED");
-            }
             double[][] cells = new double[n][whitened.length];
-            int d = width();
+            boolean missing = false;
             for (int r = 0; r < n; r++) {
                 for (int a = 0; a < whitened.length; a++) {
                     cells[r][a] = x0[r * d + whitened[a]];
+                    missing |= Double.isNaN(cells[r][a]);
                 }
             }
-            fitted = Whitening.fitShrunk(cells);
+            // the gaps still NaN here: with a gap the mean and covariance are the normal's by EM
+            fitted = missing ? Whitening.fitShrunkWithGaps(cells) : Whitening.fitShrunk(cells);
             notes.add("continuous columns whitened by the training covariance (" + whitened.length + " columns, "
+                    + (missing ? "mean and covariance by EM for the normal with missing cells, " : "")
                     + "Ledoit-Wolf shrinkage " + String.format(java.util.Locale.ROOT, "%.4f", fitted.shrinkage())
                     + ", log|det W| " + String.format(java.util.Locale.ROOT, "%.4f", fitted.logDeterminant()) + ")");
+            if (gaps != null) {
+                drawn = GaussianGaps.of(fitted, whitened, x0, n, d);
+            }
         }
+        if (gaps != null) {
+            gaps.initialFillInPlace(x0, n, options.seed());
+            notes.add(gapNote(gaps, n));
+            if (drawn != null && drawn.rowCount() > 0) {
+                // the whitened gaps start as (and at every use are) a draw of the fitted Gaussian's conditional
+                drawn.fillInPlace(x0, new SplittableRandom(options.seed() ^ GAUSSIAN_FILL_SEED));
+                notes.add(drawn.rowCount() + " training rows miss a whitened cell: at every use those cells were"
+                        + " drawn afresh from the conditional distribution of the fitted Gaussian given the row's"
+                        + " observed whitened cells, then whitened, and trained on as targets");
+            }
+        }
+        gaussianGaps = drawn == null || drawn.rowCount() == 0 ? null : drawn;
         whitening = fitted;
         if (fitted != null) {
             fitted.whitenInPlace(x0, n, width(), whitened);

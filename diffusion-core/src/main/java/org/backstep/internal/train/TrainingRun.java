@@ -97,6 +97,7 @@ public final class TrainingRun implements AutoCloseable {
     private final int[] perm;
     private final ParallelStep parallel;
     private final GapFilling gaps;           // null when every training row is complete
+    private final GaussianGaps gaussianGaps; // whitened fits: rows missing a whitened cell, else null
     private final boolean[] filled;          // n x d: true where a training cell is filled, null without gaps
     private final boolean[] filledBatch;     // batch x d, the minibatch's rows of filled
     private final long refillInterval;       // updates, or update nanoseconds when timed, between refills
@@ -162,6 +163,7 @@ public final class TrainingRun implements AutoCloseable {
         xv = prepared.checkpoint;
         nv = prepared.checkpointCount;
         gaps = prepared.gaps;
+        gaussianGaps = prepared.gaussianGaps;
         whitening = prepared.whitening;
         d = prepared.width();
         steps = options.steps();
@@ -228,6 +230,15 @@ public final class TrainingRun implements AutoCloseable {
         weight = new double[batch];
         perm = TrainingRows.identity(n);
         filled = gaps == null ? null : gaps.filledCells(n);
+        if (filled != null && whitening != null) {
+            // a whitened cell of a row with a gap is part observed, part drawn: trained on (see TrainingRows)
+            int[] mixed = Chain.whitenedColumns(transform);
+            for (int r = 0; r < n; r++) {
+                for (int j : mixed) {
+                    filled[r * d + j] = false;
+                }
+            }
+        }
         filledBatch = filled == null ? null : new boolean[batch * d];
         parallel = ParallelStep.create(net, batch, options.threads());
     }
@@ -259,6 +270,9 @@ public final class TrainingRun implements AutoCloseable {
             }
             for (int r = 0; r < batch; r++) {
                 System.arraycopy(x0, perm[b * batch + r] * d, xb, r * d, d);
+                if (gaussianGaps != null && gaussianGaps.has(perm[b * batch + r])) {
+                    gaussianGaps.drawWhitenedInPlace(perm[b * batch + r], xb, r * d, rng);
+                }
                 if (filled != null) {
                     System.arraycopy(filled, perm[b * batch + r] * d, filledBatch, r * d, d);
                 }
@@ -358,7 +372,8 @@ public final class TrainingRun implements AutoCloseable {
     private void refillGaps() {
         ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, ema.average());
         Chain averagedChain = chainOver(averaged);
-        gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills);
+        gaps.refillInPlace(x0, averagedChain, options.threads(), options.seed(), refills, whitening,
+                whitening == null ? null : Chain.whitenedColumns(transform));
         refills++;
     }
 

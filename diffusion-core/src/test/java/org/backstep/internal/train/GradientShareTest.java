@@ -39,7 +39,7 @@ class GradientShareTest {
 
     @Test
     void aSharesGradientIsItsPartOfTheMinibatchMean() {
-        FitOptions options = Backstep.builder().steps(20).hidden(16, 16).seed(3).threads(1).options();
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).steps(20).hidden(16, 16).seed(3).threads(1).options();
         Table t = rows(64);
         TableTransform transform = TableTransform.fit(t, Set.of());
         float[] w = GradientShare.initialWeights(options, transform);
@@ -65,7 +65,7 @@ class GradientShareTest {
 
     @Test
     void adamOnSummedShareGradientsLowersTheBound() {
-        FitOptions options = Backstep.builder().steps(20).hidden(16, 16).seed(3).threads(1).options();
+        FitOptions options = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(org.backstep.option.Baseline.NONE).steps(20).hidden(16, 16).seed(3).threads(1).options();
         Table t = rows(512);
         TableTransform transform = TableTransform.fit(t, Set.of());
         float[] x0 = GradientShare.modelRows(transform, t);
@@ -93,7 +93,7 @@ class GradientShareTest {
 
     @Test
     void refusesOptionsItDoesNotSupport() {
-        FitOptions baseline = Backstep.builder().baseline(Baseline.STANDARD_NORMAL).options();
+        FitOptions baseline = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED).baseline(Baseline.STANDARD_NORMAL).options();
         TableTransform transform = TableTransform.fit(rows(8), Set.of());
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
                 () -> GradientShare.of(baseline, transform, 4, 8, 1));
@@ -102,7 +102,7 @@ class GradientShareTest {
 
     @Test
     void refusesCoordinatesOtherThanStandardized() {
-        FitOptions whitened = Backstep.builder().coordinates(org.backstep.option.Coordinates.WHITENED).options();
+        FitOptions whitened = Backstep.builder().baseline(org.backstep.option.Baseline.NONE).coordinates(org.backstep.option.Coordinates.WHITENED).options();
         TableTransform transform = TableTransform.fit(rows(8), Set.of());
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
                 () -> GradientShare.of(whitened, transform, 4, 8, 1));
