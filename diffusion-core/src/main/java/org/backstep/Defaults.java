@@ -263,34 +263,46 @@ public final class Defaults {
     /**
      * @return the exact bound over all T steps, one draw of x_t per term, what
      *     {@link DiffusionModel#bound(Table, long)} computes. It stays the default because the steady
-     *     bound ({@link #steadyBound()}) costs 15 to 83 times the CPU time (iris, diabetes 50,
-     *     breast_cancer 83: 65 + 2 Dc evaluations per record and step against 1); its noise, 2 to 6
-     *     nats per record on default fits (diffusion-bench/results/score-variance.txt), averages away
-     *     in a mean over many records.
+     *     bound ({@link #steadyBound()}) costs 7 to 61 times the CPU time (iris, diabetes 42,
+     *     breast_cancer 61, at {@link #STEADY_TERM_DRAWS}); its noise, 2 to 6 nats per record on
+     *     default fits (diffusion-bench/results/score-variance.txt), averages away in a mean over
+     *     many records.
      */
     public static BoundOptions bound() {
         return BoundOptions.exact();
     }
 
     /**
-     * Draws of x_t per term of the steady bound ({@link BoundOptions#steady}: shifted Sobol points and
-     * the linearized control variate). Measured (diffusion-bench/results/score-variance.txt, default
-     * fits of SOURCES.md's split, test rows, per-record sd over 3 bound seeds, one run on a quiet
-     * machine; CPU per record against the one-draw bound's in the same run):
+     * Draws of x_t per term of the steady bound, on average ({@link BoundOptions#steady}: shifted
+     * Sobol points, the control variates, and the draws allocated by the model's own profile of its
+     * terms: K_t proportional to each term's spread, Neyman allocation, Cochran 1977, section 5.5;
+     * the control variates only at the steps where they save more draws than they cost). Measured
+     * (diffusion-bench/results/score-variance.txt, default fits of SOURCES.md's split, test rows,
+     * per-record sd over 3 bound seeds, runs on a shared machine; CPU per record against the
+     * one-draw bound's in the same run; "uniform": K draws and the control variate at every step,
+     * the former steady bound):
      * <pre>
-     *   table                  one draw   linearized, K = 1   K = 16          K = 64
-     *   iris                   1.89       0.31 (x3.9)         0.072 (x7.2)    0.024 (x15.5)
-     *   breast_cancer          5.75       0.40 (x33)          0.079 (x44)     0.036 (x83)
-     *   diabetes w/o SEX       3.30       0.21 (x13.5)        0.038 (x21)     0.019 (x50)
+     *   table                 one draw   uniform, K = 64     allocated K = 16   allocated K = 32   allocated K = 64
+     *   iris                  1.89       0.024 (x23)         0.041 (x7.4)       0.023 (x9.4)       0.016 (x20)
+     *   breast_cancer         5.75       0.036 (x114)        0.067 (x40)        0.048 (x61)        0.032 (x107)
+     *   diabetes w/o SEX      3.30       0.019 (x77)         0.032 (x25)        0.020 (x42)        0.014 (x78)
+     *   iris, whitened model  0.44       0.048 (K = 32, x16) 0.037 (x6.1)       0.023 (x7.1)
      * </pre>
-     * The noise falls about as 1/K beyond the control variate (faster than Monte Carlo's
-     * 1/sqrt(K)); K = 64 is the smallest power of two below issue 11's 0.05 nats per record on the
-     * three tables with continuous columns. A table of binary columns alone gets no control variate
-     * (digits_binary: see the results file). Cost per record and step: K + 2 Dc + 1 network evaluations.
+     * At the same sd the allocation costs 1.8 to 2.5 times less than uniform draws (breast_cancer,
+     * whose 30 columns make the control variate dear at 61 evaluations per step, about 1.5). K = 32
+     * is the smallest power of two below issue 11's 0.05 nats per record on the tables with
+     * continuous columns. Cost per record and step: K_t, plus 2 Dc + 1 + D_b network evaluations
+     * where the control variates run; the profile itself, once per model, costs about as much as
+     * scoring 50 records (64 records drawn by the model, 4 draws per term, with and without the
+     * control variates).
      */
-    public static final int STEADY_TERM_DRAWS = 64;
+    public static final int STEADY_TERM_DRAWS = 32;
 
-    /** @return the steady exact bound with {@link #STEADY_TERM_DRAWS} draws per term */
+    /**
+     * @return the steady exact bound with {@link #STEADY_TERM_DRAWS} draws per term on average,
+     *     allocated by the model's profile (an upper bound on the negative log-likelihood in
+     *     expectation over the seed, with a seed-to-seed sd of 0.02 to 0.05 nats per record)
+     */
     public static BoundOptions steadyBound() {
         return BoundOptions.steady(STEADY_TERM_DRAWS);
     }

@@ -198,9 +198,11 @@ public final class BoundEvaluator {
             double[] replicaCont = perChunkVariance != null ? new double[most] : null;
             double[] cont = new double[n];
             double[] bin = new double[n];
-            boolean linearizing = chain.dc > 0 && plan.linearizes(1);
+            boolean linearizing = (chain.dc > 0 || chain.discreteEnd > chain.dc) && plan.linearizesAny();
             LinearizedTerms linear = linearizing ? new LinearizedTerms(chain, n) : null;
             double[] eps = linearizing ? new double[most * n * chain.dc] : null;
+            double[] linBin = linearizing ? new double[most * n] : null;
+            double[] expectedBin = linearizing ? new double[n] : null;
             double[] linCont = controlled || linearizing ? new double[most * n] : null;
             double[] expected = controlled || linearizing ? new double[n] : null;
             float[] lin = controlled ? new float[most * n * chain.outputs] : null;
@@ -222,7 +224,7 @@ public final class BoundEvaluator {
                 boolean linearStep = linearizing && plan.linearizes(s);
                 boolean subtract = controlled || linearStep;
                 if (linearStep) {
-                    linear.control(s, ch.x, k, eps, linCont, expected);
+                    linear.control(s, ch.x, k, eps, ch.xt, linCont, expected, linBin, expectedBin);
                 } else if (controlled) {
                     java.util.Arrays.fill(src, 0, m, chain.source[s]);
                     java.util.Arrays.fill(lin, 0, m * chain.outputs, 0f);
@@ -245,11 +247,12 @@ public final class BoundEvaluator {
                     for (int i = 0; i < k; i++) {
                         int at = i * n + r;
                         double one = subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
+                        double oneBin = linearStep ? ch.stepBin[at] - linBin[at] : ch.stepBin[at];
                         if (replicaCont != null) {
-                            replicaCont[i] = one;
+                            replicaCont[i] = one + oneBin;
                         }
                         termCont += one;
-                        termBin += ch.stepBin[at];
+                        termBin += oneBin;
                     }
                     termCont /= k;
                     termBin /= k;
@@ -257,13 +260,16 @@ public final class BoundEvaluator {
                         double mean = termCont + termBin;
                         double squares = 0.0;
                         for (int i = 0; i < k; i++) {
-                            double one = replicaCont[i] + ch.stepBin[i * n + r];
+                            double one = replicaCont[i];
                             squares += (one - mean) * (one - mean);
                         }
                         perChunkVariance[c][s] += squares / (k - 1);
                     }
                     if (subtract) {
                         termCont += expected[r];
+                    }
+                    if (linearStep) {
+                        termBin += expectedBin[r];
                     }
                     cont[r] += termCont;
                     bin[r] += termBin;

@@ -6,7 +6,6 @@ import org.backstep.internal.chain.CommonNoiseBound;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.chain.ScoringRange;
-import org.backstep.internal.chain.TermDraws;
 import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.FlowOptions;
@@ -158,7 +157,7 @@ public final class Scoring {
             Chain c = engine.chainOf(how.steps());
             long[] same = new long[records.rows()];
             java.util.Arrays.fill(same, seed);
-            BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), 0L, same, TermDraws.of(how, c.steps()),
+            BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), 0L, same, engine.drawPlan(how, c),
                     engine.parts().options().threads());
             double[] nats = new double[records.rows()];
             for (int i = 0; i < nats.length; i++) {
