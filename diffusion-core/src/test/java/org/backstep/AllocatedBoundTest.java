@@ -60,6 +60,32 @@ class AllocatedBoundTest {
     }
 
     @Test
+    void aFullChunkScoresItsRecordsAsTheyScoreAlone() throws Exception {
+        // 256 records make a full chunk, whose steps of more than 16 draws go through the network in groups
+        // (BoundEvaluator.MAX_CALL_ROWS): each record still scores as it scores alone, up to the network's
+        // place rounding (RowSeedBoundTest.PLACE_ROUNDING; common practice, no source)
+        DiffusionModel m = golden();
+        Table records = GoldenModelTest.sensorTable(256, 8);
+        long[] seeds = new long[records.rows()];
+        for (int i = 0; i < seeds.length; i++) {
+            seeds[i] = 40L + 3L * i;
+        }
+        BoundOptions how = BoundOptions.steady(32);
+        Engine e = m.engine();
+        TermDraws plan = e.drawPlan(how, e.chain());
+        int most = 0;
+        for (int s = 1; s <= e.chain().steps(); s++) {
+            most = Math.max(most, plan.at(s));
+        }
+        assertTrue(most > 16, "some step draws more than one group: " + most);
+        double[] all = m.bound(records, how, seeds).nats();
+        for (int i : new int[] {0, 127, 255}) {
+            double alone = m.bound(records.selectRows(new int[] {i}), how, new long[] {seeds[i]}).nats()[0];
+            assertEquals(alone, all[i], RowSeedBoundTest.PLACE_ROUNDING * Math.max(1.0, Math.abs(alone)), "record " + i);
+        }
+    }
+
+    @Test
     void theAllocationSpendsFewerEvaluationsThanUniformDrawsAndTheSameSeedGivesTheSameBits() throws Exception {
         DiffusionModel m = golden();
         Table records = GoldenModelTest.sensorTable(20, 3);

@@ -27,9 +27,11 @@ import org.backstep.schedule.Require;
  *       which measured below independent and antithetic draws of the same count on every table;</li>
  *   <li>{@code linearized}: each continuous term takes a control variate, the same term under the
  *       network linearized around the noiseless point by secants over one noise standard deviation,
- *       whose expectation over x_t is closed-form: L - Q + E[Q]; it costs 2 Dc + 1 network
- *       evaluations per record and step on top of the K draws (Dc continuous columns), and removes
- *       most of the noise near the data, where the bound's noise lives.</li>
+ *       whose expectation over x_t is closed-form: L - Q + E[Q]; the discrete cells' terms take
+ *       their expansion in the binary cells' flips to first order (exact when at most one binary
+ *       cell of x_t differs from x_0's, its mean closed-form); together they cost 2 Dc + 1 + D_b
+ *       network evaluations per record and step on top of the K draws (Dc continuous, D_b binary
+ *       columns), and remove most of the noise near the data, where the bound's noise lives.</li>
  * </ul>
  * {@link #steady(int)} turns both on, and allocates the draws ({@code allocated}): the draws of
  * step t and whether step t takes the control variate follow a profile of the model's own terms
@@ -46,7 +48,8 @@ import org.backstep.schedule.Require;
  * @param steps exact only: steps of the strided chain, 1..T; 0 means all T steps
  * @param draws Monte Carlo only: K, from 1 to {@link Limits#MAX_DRAWS} (0 for the exact bound)
  * @param termDraws exact only: draws of x_t per term, 1 to {@link #MAX_TERM_DRAWS} (1 for the Monte Carlo bound)
- * @param linearized exact only: whether the continuous terms take the linearized control variate
+ * @param linearized exact only: whether the terms take the control variates (linearized continuous
+ *     terms, the binary cells' one-flip expansion)
  * @param allocated exact only: whether the draws per term (with termDraws their mean) and the steps that
  *     take the control variate follow the model's profile of its terms (needs linearized)
  */
