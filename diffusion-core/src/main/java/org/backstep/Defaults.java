@@ -263,8 +263,8 @@ public final class Defaults {
     /**
      * @return the exact bound over all T steps, one draw of x_t per term, what
      *     {@link DiffusionModel#bound(Table, long)} computes. It stays the default because the steady
-     *     bound ({@link #steadyBound()}) costs 7 to 61 times the CPU time (iris, diabetes 42,
-     *     breast_cancer 61, at {@link #STEADY_TERM_DRAWS}); its noise, 2 to 6 nats per record on
+     *     bound ({@link #steadyBound()}) costs 20 to 107 times the CPU time (iris, diabetes 78,
+     *     breast_cancer 107, at {@link #STEADY_TERM_DRAWS}); its noise, 2 to 6 nats per record on
      *     default fits (diffusion-bench/results/score-variance.txt), averages away in a mean over
      *     many records.
      */
@@ -277,31 +277,36 @@ public final class Defaults {
      * Sobol points, the control variates, and the draws allocated by the model's own profile of its
      * terms: K_t proportional to each term's spread, Neyman allocation, Cochran 1977, section 5.5;
      * the control variates only at the steps where they save more draws than they cost). Measured
-     * (diffusion-bench/results/score-variance.txt, default fits of SOURCES.md's split, test rows,
-     * per-record sd over 3 bound seeds, runs on a shared machine; CPU per record against the
-     * one-draw bound's in the same run; "uniform": K draws and the control variate at every step,
-     * the former steady bound):
+     * (diffusion-bench/results/steady-score.txt, fits of SOURCES.md's split at the defaults and, as
+     * "whitened", with coordinates WHITENED and the N(0, I) part; test rows; per-record sd over 3
+     * bound seeds; CPU per record against the one-draw bound's in the same run, on a shared machine;
+     * "uniform": K draws and the control variate at every step, the former steady bound):
      * <pre>
-     *   table                 one draw   uniform, K = 64     allocated K = 16   allocated K = 32   allocated K = 64
-     *   iris                  1.89       0.024 (x23)         0.041 (x7.4)       0.023 (x9.4)       0.016 (x20)
-     *   breast_cancer         5.75       0.036 (x114)        0.067 (x40)        0.048 (x61)        0.032 (x107)
-     *   diabetes w/o SEX      3.30       0.019 (x77)         0.032 (x25)        0.020 (x42)        0.014 (x78)
-     *   iris, whitened model  0.44       0.048 (K = 32, x16) 0.037 (x6.1)       0.023 (x7.1)
+     *   table                 one draw  uniform K = 64   uniform K = 32   allocated 16    allocated 32    allocated 64
+     *   iris                  1.89      0.024 (x23)      -                0.041 (x7.4)    0.023 (x9.4)    0.016 (x20)
+     *   breast_cancer         5.75      0.036 (x114)     -                0.067 (x40)     0.048 (x61)     0.032 (x107)
+     *   diabetes w/o SEX      3.30      0.019 (x77)      -                0.032 (x25)     0.020 (x42)     0.014 (x78)
+     *   iris, whitened        0.44      -                0.048 (x16)      0.037 (x6.1)    0.023 (x7.1)    -
+     *   breast, whitened      2.38      -                0.079 (x41)      0.072 (x13)     0.053 (x20)     0.034 (x30)
+     *   diabetes, whitened    1.22      -                0.047 (x27)      0.033 (x9.8)    0.024 (x16.5)   -
+     *   digits_binary         2.15      0.179 (x29, no control variate)   0.102 (x15)     0.071 (x26)     0.052 (x48)
      * </pre>
-     * At the same sd the allocation costs 1.8 to 2.5 times less than uniform draws (breast_cancer,
-     * whose 30 columns make the control variate dear at 61 evaluations per step, about 1.5). K = 32
-     * is the smallest power of two below issue 11's 0.05 nats per record on the tables with
-     * continuous columns. Cost per record and step: K_t, plus 2 Dc + 1 + D_b network evaluations
-     * where the control variates run; the profile itself, once per model, costs about as much as
-     * scoring 50 records (64 records drawn by the model, 4 draws per term, with and without the
-     * control variates).
+     * At the same sd the allocation costs 1.8 to 3 times less than uniform draws (about 1.2 on
+     * breast_cancer at the defaults, whose terms are noisy far from the data, so the draws stay
+     * spread). K = 64 is the smallest power of two below issue 11's 0.05 nats per record on every
+     * table with continuous columns in both coordinates (whitened breast_cancer is 0.053 at 32);
+     * digits_binary's binary terms stay at 0.052. Cost per record and step: K_t, plus 2 Dc + 1 + D_b
+     * network evaluations where the control variates run; the profile itself, once per model,
+     * costs about as much as scoring 20 to 45 records at K = 64 (64 records drawn by the model,
+     * 4 draws per term, with and without the control variates).
      */
-    public static final int STEADY_TERM_DRAWS = 32;
+    public static final int STEADY_TERM_DRAWS = 64;
 
     /**
      * @return the steady exact bound with {@link #STEADY_TERM_DRAWS} draws per term on average,
      *     allocated by the model's profile (an upper bound on the negative log-likelihood in
-     *     expectation over the seed, with a seed-to-seed sd of 0.02 to 0.05 nats per record)
+     *     expectation over the seed, with a seed-to-seed sd of 0.014 to 0.034 nats per record on
+     *     iris, breast_cancer and diabetes)
      */
     public static BoundOptions steadyBound() {
         return BoundOptions.steady(STEADY_TERM_DRAWS);

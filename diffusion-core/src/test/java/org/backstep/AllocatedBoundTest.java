@@ -120,7 +120,7 @@ class AllocatedBoundTest {
         DiffusionModel m = GaussianBaselineTest.zeroCorrection(training, Baseline.FITTED_GAUSSIAN, schedule);
         GaussianBaseline gb = m.parts().baseline();
         MultivariateNormalDistribution fitted = GaussianBaselineTest.fittedGaussianOriginalUnits(m);
-        double[] nats = m.bound(test, Defaults.steadyBound(), 7).natsOriginalUnits();
+        double[] nats = m.bound(test, BoundOptions.steady(16), 7).natsOriginalUnits();
         double sum = 0;
         double[] gap = new double[test.rows()];
         for (int i = 0; i < test.rows(); i++) {
