@@ -149,7 +149,8 @@ public final class Scoring {
      * The bound with common random numbers of complete, scorable records. An exact bound with
      * several draws per term or the linearized control variate ({@link BoundOptions#steady}) gives
      * every record the same seed, so that every record draws the same points (common random numbers
-     * again, and a record's score does not depend on the other records).
+     * again, and a record's score does not depend on the other records; an allocated plan comes from
+     * the model's own profile, {@link Engine#drawPlan}, never from the records).
      */
     static double[] bound(Engine engine, Table records, BoundOptions how, long seed) {
         float[] x = engine.modelSpace(records);
