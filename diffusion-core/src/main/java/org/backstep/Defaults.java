@@ -284,8 +284,8 @@ public final class Defaults {
     /**
      * @return the exact bound over all T steps, one draw of x_t per term, what
      *     {@link DiffusionModel#bound(Table, long)} computes. It stays the default because the steady
-     *     bound ({@link #steadyBound()}) costs 20 to 107 times the CPU time (iris, diabetes 78,
-     *     breast_cancer 107, at {@link #STEADY_TERM_DRAWS}); its noise, 2 to 6 nats per record on
+     *     bound ({@link #steadyBound()}) costs 25 to 57 times the CPU time (iris 25, diabetes 39,
+     *     breast_cancer 57, at {@link #STEADY_TERM_DRAWS}); its noise, 2 to 6 nats per record on
      *     default fits (diffusion-bench/results/score-variance.txt), averages away in a mean over
      *     many records.
      */
@@ -300,26 +300,27 @@ public final class Defaults {
      * the control variates only at the steps where they save more draws than they cost). Measured
      * (diffusion-bench/results/steady-score.txt, fits of SOURCES.md's split at the defaults and, as
      * "whitened", with coordinates WHITENED and the N(0, I) part; test rows; per-record sd over 3
-     * bound seeds; CPU per record against the one-draw bound's in the same run, on a shared machine;
-     * "uniform": K draws and the control variate at every step, the former steady bound):
+     * bound seeds; CPU per record against the one-draw bound's in the same run, load average about
+     * 2; "uniform": K draws and the control variate at every step, the former steady bound):
      * <pre>
      *   table                 one draw  uniform K = 64   uniform K = 32   allocated 16    allocated 32    allocated 64
-     *   iris                  1.89      0.024 (x23)      -                0.041 (x7.4)    0.023 (x9.4)    0.016 (x20)
-     *   breast_cancer         5.75      0.036 (x114)     -                0.067 (x40)     0.048 (x61)     0.032 (x107)
-     *   diabetes w/o SEX      3.30      0.019 (x77)      -                0.032 (x25)     0.020 (x42)     0.014 (x78)
-     *   iris, whitened        0.44      -                0.048 (x16)      0.037 (x6.1)    0.023 (x7.1)    -
-     *   breast, whitened      2.38      -                0.079 (x41)      0.072 (x13)     0.053 (x20)     0.034 (x30)
-     *   diabetes, whitened    1.22      -                0.047 (x27)      0.033 (x9.8)    0.024 (x16.5)   -
-     *   digits_binary         2.15      0.179 (x29, no control variate)   0.102 (x15)     0.071 (x26)     0.052 (x48)
+     *   iris                  1.89      0.024 (x28)      -                0.041 (x10)     0.023 (x19)     0.016 (x25)
+     *   breast_cancer         5.75      0.036 (x66)      -                0.067 (x31)     0.048 (x35)     0.032 (x57)
+     *   diabetes w/o SEX      3.30      0.019 (x42)      -                0.032 (x12)     0.020 (x23)     0.014 (x39)
+     *   iris, whitened        0.44      -                0.048 (x13)      0.037 (x4.6)    0.023 (x9.1)    0.016 (x11)
+     *   breast, whitened      2.38      -                0.079 (x37)      0.072 (x12)     0.053 (x19)     0.034 (x33)
+     *   diabetes, whitened    1.22      -                0.047 (x23)      0.033 (x9.2)    0.024 (x16)     0.014 (x31)
+     *   digits_binary         2.15      0.179 (x29, no control variate)   0.102 (x16)     0.071 (x23)     0.052 (x40)
      * </pre>
-     * At the same sd the allocation costs 1.8 to 3 times less than uniform draws (about 1.2 on
-     * breast_cancer at the defaults, whose terms are noisy far from the data, so the draws stay
-     * spread). K = 64 is the smallest power of two below issue 11's 0.05 nats per record on every
-     * table with continuous columns in both coordinates (whitened breast_cancer is 0.053 at 32);
-     * digits_binary's binary terms stay at 0.052. Cost per record and step: K_t, plus 2 Dc + 1 + D_b
-     * network evaluations where the control variates run; the profile itself, once per model,
-     * costs about as much as scoring 20 to 45 records at K = 64 (64 records drawn by the model,
-     * 4 draws per term, with and without the control variates).
+     * At the same sd the allocation takes 1.2 to 1.8 times less CPU than uniform draws on the default
+     * fits (least on breast_cancer, whose terms stay noisy far from the data, so the draws stay
+     * spread) and 2.5 to 3.1 times less on the whitened ones. K = 64 is the smallest power of two
+     * below issue 11's 0.05 nats per record on every table with continuous columns in both
+     * coordinates (whitened breast_cancer is 0.053 at 32); digits_binary's binary terms stay at
+     * 0.052. Cost per record and step: K_t, plus 2 Dc + 1 + D_b network
+     * evaluations where the control variates run; the profile itself, once per model, costs about
+     * as much as scoring 20 to 45 records at K = 64 (64 records drawn by the model, 4 draws per term,
+     * with and without the control variates).
      */
     public static final int STEADY_TERM_DRAWS = 64;
 
