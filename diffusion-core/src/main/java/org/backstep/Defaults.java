@@ -224,7 +224,7 @@ public final class Defaults {
      * ({@link #steadyBound()}, issue 11 item 1) on SOURCES.md's anomaly protocol, 2 fits and 2
      * screen seeds each (diffusion-bench/results/steady-score.txt): breast_cancer (benign normal)
      * AUROC 0.9685 and 0.9681 against 0.9686 and 0.9674 for the steady bound at K = 16, 32 or 64, at
-     * 38 to 75 times this screen's CPU time; digits_binary (0-8 normal) 0.8104 and 0.8155 against
+     * 29 to 75 times this screen's CPU time (55 to 75 at K = 64); digits_binary (0-8 normal) 0.8104 and 0.8155 against
      * 0.8175 and 0.8221 at K = 16 (x23 to x33; 0.8169 and 0.8218 at K = 32, x38 and x51). The steady screen's figures
      * do not move with the seed (sd 0.03 to 0.10 nats per record against 2.5 to 33; this screen's
      * AUROC moved by up to 0.021 between two seeds, the steady one's by 0.003), but at that cost, for
