@@ -121,6 +121,11 @@ public final class DiffusionModel {
         return engine.chain();
     }
 
+    /** @return the engine (tests look at its memo of term profiles) */
+    Engine engine() {
+        return engine;
+    }
+
     /** @return every option of the fit */
     public FitOptions options() {
         return engine.parts().options();

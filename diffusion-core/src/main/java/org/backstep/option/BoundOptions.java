@@ -27,12 +27,20 @@ import org.backstep.schedule.Require;
  *       which measured below independent and antithetic draws of the same count on every table;</li>
  *   <li>{@code linearized}: each continuous term takes a control variate, the same term under the
  *       network linearized around the noiseless point by secants over one noise standard deviation,
- *       whose expectation over x_t is closed-form: L - Q + E[Q]; it costs 2 Dc + 1 network
- *       evaluations per record and step on top of the K draws (Dc continuous columns), and removes
- *       most of the noise near the data, where the bound's noise lives.</li>
+ *       whose expectation over x_t is closed-form: L - Q + E[Q]; the discrete cells' terms take
+ *       their expansion in the binary cells' flips to first order (exact when at most one binary
+ *       cell of x_t differs from x_0's, its mean closed-form); together they cost 2 Dc + 1 + D_b
+ *       network evaluations per record and step on top of the K draws (Dc continuous, D_b binary
+ *       columns), and remove most of the noise near the data, where the bound's noise lives.</li>
  * </ul>
- * {@link #steady(int)} turns both on. With K = 1 and no linearization the draws are the historical
- * ones (same seed, same bits).
+ * {@link #steady(int)} turns both on, and allocates the draws ({@code allocated}): the draws of
+ * step t and whether step t takes the control variate follow a profile of the model's own terms
+ * (each term's spread over its draws, with and without the control variate, measured once per
+ * model on records the model draws itself from a fixed seed, so never on the records scored): K_t
+ * proportional to the term's spread (Neyman allocation; Cochran 1977, "Sampling Techniques",
+ * section 5.5), and the control variate only at the steps where it saves more draws than it costs,
+ * at the noise of K draws per term with the control variate everywhere. With K = 1 and no
+ * linearization the draws are the historical ones (same seed, same bits).
  *
  * <p>The defaults are {@code org.backstep.Defaults#bound()}.
  *
@@ -40,16 +48,20 @@ import org.backstep.schedule.Require;
  * @param steps exact only: steps of the strided chain, 1..T; 0 means all T steps
  * @param draws Monte Carlo only: K, from 1 to {@link Limits#MAX_DRAWS} (0 for the exact bound)
  * @param termDraws exact only: draws of x_t per term, 1 to {@link #MAX_TERM_DRAWS} (1 for the Monte Carlo bound)
- * @param linearized exact only: whether the continuous terms take the linearized control variate
+ * @param linearized exact only: whether the terms take the control variates (linearized continuous
+ *     terms, the binary cells' one-flip expansion)
+ * @param allocated exact only: whether the draws per term (with termDraws their mean) and the steps that
+ *     take the control variate follow the model's profile of its terms (needs linearized)
  */
-public record BoundOptions(boolean sampled, int steps, int draws, int termDraws, boolean linearized) {
+public record BoundOptions(boolean sampled, int steps, int draws, int termDraws, boolean linearized,
+                           boolean allocated) {
 
     /** The most draws of x_t per term of an exact bound. */
     public static final int MAX_TERM_DRAWS = 4096;
 
     /**
      * Validates: an exact bound has no draws; a sampled one has draws, runs on the full chain, and
-     * draws once per term without the control variate.
+     * draws once per term without the control variate or allocation; an allocated bound is linearized.
      */
     public BoundOptions {
         Require.atLeast("steps", steps, 0);
@@ -62,43 +74,60 @@ public record BoundOptions(boolean sampled, int steps, int draws, int termDraws,
                 throw new IllegalArgumentException("steps is " + steps
                         + "; the Monte Carlo bound runs on the full chain (steps 0)");
             }
-            if (termDraws != 1 || linearized) {
-                throw new IllegalArgumentException("termDraws is " + termDraws + " and linearized " + linearized
-                        + "; the Monte Carlo bound draws once per drawn step (termDraws 1, linearized false)");
+            if (termDraws != 1 || linearized || allocated) {
+                throw new IllegalArgumentException("termDraws is " + termDraws + ", linearized " + linearized
+                        + " and allocated " + allocated + "; the Monte Carlo bound draws once per drawn step"
+                        + " (termDraws 1, linearized false, allocated false)");
             }
         } else if (draws != 0) {
             throw new IllegalArgumentException("draws is " + draws + "; the exact bound draws no steps (draws 0)");
+        }
+        if (allocated && !linearized) {
+            throw new IllegalArgumentException("allocated is true and linearized false; the allocation chooses the"
+                    + " steps of the linearized control variate, so it needs linearized true");
         }
     }
 
     /** @return the exact bound over all T steps of the model, one draw of x_t per term */
     public static BoundOptions exact() {
-        return new BoundOptions(false, 0, 0, 1, false);
+        return new BoundOptions(false, 0, 0, 1, false, false);
     }
 
     /**
-     * @param termDraws K, draws of x_t per term (shifted Sobol points when K &gt; 1), from 1 to
+     * @param termDraws K, the mean draws of x_t per term (shifted Sobol points), from 1 to
      *     {@link #MAX_TERM_DRAWS}
-     * @return the exact bound over all T steps with the linearized control variate and K draws per term
+     * @return the exact bound over all T steps with the linearized control variate and the draws
+     *     allocated by the model's profile, at the noise of K draws per term with the control
+     *     variate at every step (see the class comment)
      */
     public static BoundOptions steady(int termDraws) {
-        return new BoundOptions(false, 0, 0, termDraws, true);
+        return new BoundOptions(false, 0, 0, termDraws, true, true);
     }
 
     /**
-     * @param value K, draws of x_t per term, from 1 to {@link #MAX_TERM_DRAWS}
+     * @param value K, draws of x_t per term (their mean when allocated), from 1 to {@link #MAX_TERM_DRAWS}
      * @return a copy of this exact bound with K draws per term
      */
     public BoundOptions withTermDraws(int value) {
-        return new BoundOptions(sampled, steps, draws, value, linearized);
+        return new BoundOptions(sampled, steps, draws, value, linearized, allocated);
     }
 
     /**
-     * @param value whether the continuous terms take the linearized control variate
+     * @param value whether the continuous terms take the linearized control variate (false also
+     *     turns the allocation off)
      * @return a copy of this exact bound with it
      */
     public BoundOptions withLinearization(boolean value) {
-        return new BoundOptions(sampled, steps, draws, termDraws, value);
+        return new BoundOptions(sampled, steps, draws, termDraws, value, allocated && value);
+    }
+
+    /**
+     * @param value whether the draws per term and the linearized steps follow the model's profile
+     *     (true needs the linearization); false draws K at every step, linearized at every step
+     * @return a copy of this exact bound with it
+     */
+    public BoundOptions withAllocation(boolean value) {
+        return new BoundOptions(sampled, steps, draws, termDraws, linearized, value);
     }
 
     /**
@@ -107,7 +136,7 @@ public record BoundOptions(boolean sampled, int steps, int draws, int termDraws,
      */
     public static BoundOptions exactStrided(int steps) {
         Require.atLeast("steps", steps, 1);
-        return new BoundOptions(false, steps, 0, 1, false);
+        return new BoundOptions(false, steps, 0, 1, false, false);
     }
 
     /**
@@ -116,6 +145,6 @@ public record BoundOptions(boolean sampled, int steps, int draws, int termDraws,
      */
     public static BoundOptions sampled(int draws) {
         Limits.checkDraws("draws", draws);
-        return new BoundOptions(true, 0, draws, 1, false);
+        return new BoundOptions(true, 0, draws, 1, false, false);
     }
 }

@@ -31,10 +31,13 @@ import org.backstep.table.Table;
  * <pre>
  *   java -cp diffusion-bench/target/benchmarks.jar org.backstep.bench.quality.ScoreVariance \
  *     --data diffusion-core/src/test/resources/data --labels diffusion-bench/data [--tables iris,...]
- *     [--bound-seeds 5] [--models DIR (fitted models kept and reused)] [--plans LIST]
+ *     [--bound-seeds 5] [--models DIR (fitted models kept and reused)] [--plans LIST] [--test-rows N (the first N)]
  * </pre>
  */
 public final class ScoreVariance {
+
+    /** The first test rows measured, 0 for all (--test-rows). */
+    private static int testRows;
 
     private ScoreVariance() {
     }
@@ -42,12 +45,13 @@ public final class ScoreVariance {
     /** @param args see the class comment @throws Exception on a file or reflection error */
     public static void main(String[] args) throws Exception {
         Map<String, String> opt = Options.parse(args, new java.util.TreeSet<>(Set.of("--data", "--labels", "--bound-seeds",
-                "--pilot", "--pilot-rows", "--models", "--tables", "--plans", "--levers")));
+                "--pilot", "--pilot-rows", "--models", "--tables", "--plans", "--levers", "--test-rows")));
         Path data = Path.of(opt.get("--data"));
         Path labels = Path.of(opt.get("--labels"));
         int seeds = Integer.parseInt(opt.getOrDefault("--bound-seeds", "5"));
         int pilot = Integer.parseInt(opt.getOrDefault("--pilot", "8"));
         int pilotRows = Integer.parseInt(opt.getOrDefault("--pilot-rows", "120"));
+        testRows = Integer.parseInt(opt.getOrDefault("--test-rows", "0"));
         Path models = opt.containsKey("--models") ? Path.of(opt.get("--models")) : null;
         List<String> tables = opt.containsKey("--tables") ? List.of(opt.get("--tables").split(","))
                 : OpenTable.ALL.stream().map(OpenTable::key).toList();
@@ -79,7 +83,8 @@ public final class ScoreVariance {
                                 List<String> plans) throws Exception {
         Lever.Encoding enc = lever.fit(split.train());
         Table train = enc.encode(split.train());
-        Table test = enc.encode(split.test());
+        Table test = enc.encode(testRows > 0 && testRows < split.test().rows()
+                ? split.test().selectRows(firstRows(testRows)) : split.test());
         DiffusionModel model;
         Path file = models == null ? null : models.resolve(split.table().key() + "-" + lever.name() + "-1.backstep");
         if (file != null && Files.exists(file)) {
@@ -137,7 +142,15 @@ public final class ScoreVariance {
             String[] p = plan.split(":");
             int k = Integer.parseInt(p[1]);
             TermDraws draws;
-            if (p[0].startsWith("NEYMAN-")) {
+            long profileCpu = 0;
+            if (p[0].equals("STEADY")) {
+                // the library's allocation: the model's own profile (measured once per model, not timed per seed)
+                long before = cpu();
+                draws = engine.drawPlan(org.backstep.option.BoundOptions.steady(k), chain);
+                profileCpu = cpu() - before;
+                System.out.printf(Locale.ROOT, "  %s: profile %.1f CPU s; %d draws, %d linearized steps; draws by step:%s%n",
+                        plan, profileCpu / 1e9, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
+            } else if (p[0].startsWith("NEYMAN-")) {
                 draws = TermDraws.allocated(TermDraws.Kind.valueOf(p[0].substring(7)), neyman(spread, k));
             } else {
                 draws = TermDraws.uniform(TermDraws.Kind.valueOf(p[0]), k, steps);
@@ -171,10 +184,19 @@ public final class ScoreVariance {
                 double sd = Measures.sd(across);
                 squares += sd * sd;
             }
-            System.out.printf(Locale.ROOT, "  %-26s evals/record %6d  record sd %.4f  mean nats (model space) %.4f  CPU s/seed %.2f"
-                            + " (x%.1f)  wall s/seed %.2f%n", plan, draws.total(), Math.sqrt(squares / nTest),
+            long evals = draws.total() + (long) draws.linearizedSteps() * (2L * chain.continuousColumns() + 1L + chain.binaryColumns());
+            System.out.printf(Locale.ROOT, "  %-26s evals/record %6d (with linearization %6d)  record sd %.4f  mean nats (model space) %.4f  CPU s/seed %.2f"
+                            + " (x%.1f)  wall s/seed %.2f%n", plan, draws.total(), evals, Math.sqrt(squares / nTest),
                     mean / nTest / seeds, cpuPerSeed, cpuPerSeed / baseCpu, wallPerSeed);
         }
+    }
+
+    private static String perStep(TermDraws draws, int steps) {
+        StringBuilder b = new StringBuilder();
+        for (int s = 1; s <= steps; s++) {
+            b.append(' ').append(draws.at(s)).append(draws.linearizes(s) ? "L" : "");
+        }
+        return b.toString();
     }
 
     /** K_t proportional to the spread, at least 1, about K T in all (Cochran 1977, section 5.5). */

@@ -16,6 +16,13 @@ public final class BoundEvaluator {
     private BoundEvaluator() {
     }
 
+    /**
+     * The most rows of one network call of the exact bound's replicas: 4,096 (16 draws of a chunk of
+     * {@link Parallel#CHUNK_ROWS} rows). An allocated plan can ask for hundreds of draws at one step;
+     * in one call, the network's buffers for them would take hundreds of megabytes per thread.
+     */
+    static final int MAX_CALL_ROWS = 4096;
+
     /** Per-record results of one evaluation. */
     public static final class Result {
         public final double[] continuous;
@@ -54,13 +61,18 @@ public final class BoundEvaluator {
         final double[] stepBin;
 
         Chunk(Chain chain, float[] x0, int rows, int c, long seed, long[] rowSeeds, int replicas) {
+            this(chain, x0, rows, c, seed, rowSeeds, replicas, replicas);
+        }
+
+        /** @param perCall the replicas of the chunk's rows per network call (the workspace's rows: perCall n) */
+        Chunk(Chain chain, float[] x0, int rows, int c, long seed, long[] rowSeeds, int replicas, int perCall) {
             this.chain = chain;
             from = c * Parallel.CHUNK_ROWS;
             n = Math.min(Parallel.CHUNK_ROWS, rows - from);
             x = slice(x0, from, n, chain.d);
             // with row seeds the job's seed is not read: row i draws from its own seed alone
             rng = Parallel.generators(rowSeeds == null ? seed : 0L, rowSeeds, c, n);
-            ws = chain.workspace(replicas * n);
+            ws = chain.workspace(Math.min(replicas, perCall) * n);
             xt = new float[replicas * n * chain.d];
             k = new int[replicas * n];
             stepCont = new double[replicas * n];
@@ -181,7 +193,10 @@ public final class BoundEvaluator {
                 most, Math.min(Parallel.CHUNK_ROWS, rows), chain.d);
         double[][] sobol = plan.kind == TermDraws.Kind.SHIFTED_SOBOL ? TermDraws.sobolPoints(most, chain.d) : null;
         Parallel.forEachChunk(chunks, threads, c -> {
-            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds, most);
+            int chunkRows = Math.min(Parallel.CHUNK_ROWS, rows - c * Parallel.CHUNK_ROWS);
+            // the replicas of one step go through the network in groups of at most MAX_CALL_ROWS rows
+            int perCall = Math.max(1, Math.min(most, MAX_CALL_ROWS / chunkRows));
+            Chunk ch = new Chunk(chain, x0, rows, c, seed, rowSeeds, most, perCall);
             int n = ch.n;
             int d = chain.d;
             float[] xs = ch.x;
@@ -192,15 +207,19 @@ public final class BoundEvaluator {
                 }
             }
             java.util.Map<Integer, Chain.Workspace> spaces = new java.util.HashMap<>();
-            spaces.put(most, ch.ws);
+            spaces.put(Math.min(most, perCall), ch.ws);
+            float[] outAll = most > perCall ? new float[most * n * chain.outputs] : null;
+            float[] group = most > perCall ? new float[perCall * n * d] : null;
             double[] noise = new double[d];
             double[] shift = plan.kind == TermDraws.Kind.SHIFTED_SOBOL ? new double[d] : null;
             double[] replicaCont = perChunkVariance != null ? new double[most] : null;
             double[] cont = new double[n];
             double[] bin = new double[n];
-            boolean linearizing = chain.dc > 0 && plan.linearizes(1);
+            boolean linearizing = (chain.dc > 0 || chain.discreteEnd > chain.dc) && plan.linearizesAny();
             LinearizedTerms linear = linearizing ? new LinearizedTerms(chain, n) : null;
             double[] eps = linearizing ? new double[most * n * chain.dc] : null;
+            double[] linBin = linearizing ? new double[most * n] : null;
+            double[] expectedBin = linearizing ? new double[n] : null;
             double[] linCont = controlled || linearizing ? new double[most * n] : null;
             double[] expected = controlled || linearizing ? new double[n] : null;
             float[] lin = controlled ? new float[most * n * chain.outputs] : null;
@@ -214,15 +233,27 @@ public final class BoundEvaluator {
                 for (int r = 0; r < n; r++) {
                     plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise, shift, eps);
                 }
-                Chain.Workspace ws = spaces.computeIfAbsent(k, kk -> chain.workspace(kk * n));
-                float[] out = chain.predictAtStep(ws, ch.xt, s);
+                float[] out;
+                if (k <= perCall) {
+                    Chain.Workspace ws = spaces.computeIfAbsent(k, kk -> chain.workspace(kk * n));
+                    out = chain.predictAtStep(ws, ch.xt, s);
+                } else {
+                    for (int g0 = 0; g0 < k; g0 += perCall) {
+                        int g = Math.min(perCall, k - g0);
+                        Chain.Workspace ws = spaces.computeIfAbsent(g, gg -> chain.workspace(gg * n));
+                        System.arraycopy(ch.xt, g0 * n * d, group, 0, g * n * d);
+                        float[] part = chain.predictAtStep(ws, group, s);
+                        System.arraycopy(part, 0, outAll, g0 * n * chain.outputs, g * n * chain.outputs);
+                    }
+                    out = outAll;
+                }
                 java.util.Arrays.fill(ch.stepCont, 0, m, 0.0);
                 java.util.Arrays.fill(ch.stepBin, 0, m, 0.0);
                 BoundTerms.rowTerms(chain, xs, ch.xt, out, m, ch.k, ch.stepCont, ch.stepBin);
                 boolean linearStep = linearizing && plan.linearizes(s);
                 boolean subtract = controlled || linearStep;
                 if (linearStep) {
-                    linear.control(s, ch.x, k, eps, linCont, expected);
+                    linear.control(s, ch.x, k, eps, ch.xt, linCont, expected, linBin, expectedBin);
                 } else if (controlled) {
                     java.util.Arrays.fill(src, 0, m, chain.source[s]);
                     java.util.Arrays.fill(lin, 0, m * chain.outputs, 0f);
@@ -245,11 +276,12 @@ public final class BoundEvaluator {
                     for (int i = 0; i < k; i++) {
                         int at = i * n + r;
                         double one = subtract ? ch.stepCont[at] - linCont[at] : ch.stepCont[at];
+                        double oneBin = linearStep ? ch.stepBin[at] - linBin[at] : ch.stepBin[at];
                         if (replicaCont != null) {
-                            replicaCont[i] = one;
+                            replicaCont[i] = one + oneBin;
                         }
                         termCont += one;
-                        termBin += ch.stepBin[at];
+                        termBin += oneBin;
                     }
                     termCont /= k;
                     termBin /= k;
@@ -257,13 +289,16 @@ public final class BoundEvaluator {
                         double mean = termCont + termBin;
                         double squares = 0.0;
                         for (int i = 0; i < k; i++) {
-                            double one = replicaCont[i] + ch.stepBin[i * n + r];
+                            double one = replicaCont[i];
                             squares += (one - mean) * (one - mean);
                         }
                         perChunkVariance[c][s] += squares / (k - 1);
                     }
                     if (subtract) {
                         termCont += expected[r];
+                    }
+                    if (linearStep) {
+                        termBin += expectedBin[r];
                     }
                     cont[r] += termCont;
                     bin[r] += termBin;

@@ -23,6 +23,9 @@ public final class Engine {
     private final ModelParts parts;
     private final Chain chain;
     private final int threads;
+    /** The profile of each chain's terms by its step count, measured when first asked for (a memo). */
+    private final java.util.concurrent.ConcurrentHashMap<Integer, TermProfile.Lazy> profiles =
+            new java.util.concurrent.ConcurrentHashMap<>();
 
     /** @param parts the model's parts */
     public Engine(ModelParts parts) {
@@ -62,6 +65,27 @@ public final class Engine {
      */
     public Chain chainOf(int steps) {
         return steps == 0 || steps == chain.steps ? chain : chain.strided(steps);
+    }
+
+    /**
+     * The profile of a chain's terms ({@link TermProfile}): measured on records the model draws
+     * itself, the first time it is asked for, and kept for this engine's life.
+     *
+     * @param c a chain of this model ({@link #chainOf})
+     * @return its profile
+     */
+    public TermProfile profile(Chain c) {
+        return profiles.computeIfAbsent(c.steps, s -> new TermProfile.Lazy(c)).get(threads);
+    }
+
+    /**
+     * @param how exact bound options
+     * @param c the chain they run on ({@link #chainOf}(how.steps()))
+     * @return the draws of each term: allocated by the chain's profile when {@code how.allocated()},
+     *     else {@link TermDraws#of}
+     */
+    public TermDraws drawPlan(BoundOptions how, Chain c) {
+        return how.allocated() ? profile(c).allocate(how.termDraws()) : TermDraws.of(how, c.steps);
     }
 
     /**
@@ -167,7 +191,7 @@ public final class Engine {
                     new BoundReport.RecordNats(standardizedNats(r.continuous), r.binary, logJacobian), r.standardError);
         }
         Chain c = chainOf(how.steps());
-        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, rows, seed, rowSeeds, TermDraws.of(how, c.steps), threads);
+        BoundEvaluator.Result r = BoundEvaluator.exact(c, x, rows, seed, rowSeeds, drawPlan(how, c), threads);
         if (r.perStepMean.length > 1) {
             r.perStepMean[1] -= c.logDeterminant();   // the decoder term L_0 carries the change of variables
         }

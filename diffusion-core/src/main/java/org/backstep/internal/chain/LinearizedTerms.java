@@ -28,14 +28,32 @@ import org.backstep.option.ReverseVariance;
  * Engineering", section 4.1), and little noise where the estimator is close to affine over the
  * noise of x_k, which is where the bound's noise lives (the steps near the data). An integer
  * column's decoder term is left out (taken as drawn).
+ *
+ * <p><b>Binary cells.</b> A binary cell of x_k differs from x_0's with probability
+ * p_k(x_0) = q(x_k != x_0 | x_0), each cell apart, and the discrete cells' part of the term (the
+ * binary and categorical cells' terms, B(x_k)) changes by a jump when a cell flips, so it has no
+ * secant. Its control variate is exact on the draws with at most one flipped binary cell: with
+ * f_j the flip indicator of binary column j and x^(j) the noiseless point with column j flipped,
+ * <pre>
+ *   Q_B(f) = B(xbar) + sum_j f_j (B(x^(j)) - B(xbar)),   E[Q_B] = B(xbar) + sum_j p_k(x_0j) (B(x^(j)) - B(xbar))
+ * </pre>
+ * (the f_j are independent Bernoulli(p_k) draws, whatever the continuous noise; common practice,
+ * no source), at D_b more evaluations per row and step (D_b binary columns): a first-order
+ * expansion in the flips, whose error is in the draws with two flips or more, rare near the data
+ * where the discrete terms' noise lives. The discrete part is then taken as B - Q_B + E[Q_B].
  */
 final class LinearizedTerms {
 
     private final Chain c;
     private final int dc;
+    private final int db;
     private final int n;
     private final int blocks;
     private final float[] points;
+    private final float[] origins;    // x_0 of each point's row, for the discrete terms at the points
+    private final int[] steps;
+    private final double[] pointCont;
+    private final double[] pointBin;
     private final Chain.Workspace ws;
 
     /**
@@ -45,23 +63,38 @@ final class LinearizedTerms {
     LinearizedTerms(Chain c, int n) {
         this.c = c;
         this.dc = c.dc;
+        this.db = c.discreteEnd - c.dc;
         this.n = n;
-        this.blocks = 2 * dc + 1;
+        this.blocks = 2 * dc + 1 + db;
         this.points = new float[blocks * n * c.d];
+        this.origins = db > 0 ? new float[blocks * n * c.d] : null;
+        this.steps = db > 0 ? new int[blocks * n] : null;
+        this.pointCont = db > 0 ? new double[blocks * n] : null;
+        this.pointBin = db > 0 ? new double[blocks * n] : null;
         this.ws = c.workspace(blocks * n);
     }
 
+    /** @return the network evaluations per row and step: 2 Dc + 1 + D_b */
+    static int evaluations(Chain c) {
+        return 2 * c.dc + 1 + (c.discreteEnd - c.dc);
+    }
+
     /**
-     * Q of each replica's noise and E[Q] of each row at step k.
+     * Q of each replica's noise and E[Q] of each row at step k, the continuous cells' and (with
+     * binary columns) the discrete cells' apart.
      *
      * @param k the chain step
      * @param x0 n x D rows
      * @param reps the replicas per row (replica i of row r at i * n + r)
      * @param eps (reps n) x Dc, the continuous noise of each replica
-     * @param q reps n entries, overwritten with Q
+     * @param xt (reps n) x D, each replica's x_k (its binary cells read)
+     * @param q reps n entries, overwritten with the continuous Q
      * @param expected n entries, overwritten with E[Q]
+     * @param qBin reps n entries, overwritten with Q_B (0 without binary columns)
+     * @param expectedBin n entries, overwritten with E[Q_B] (0 without binary columns)
      */
-    void control(int k, float[] x0, int reps, double[] eps, double[] q, double[] expected) {
+    void control(int k, float[] x0, int reps, double[] eps, float[] xt, double[] q, double[] expected, double[] qBin,
+                 double[] expectedBin) {
         int d = c.d;
         int outputs = c.outputs;
         boolean learned = c.variance == ReverseVariance.LEARNED;
@@ -80,8 +113,17 @@ final class LinearizedTerms {
                 points[((1 + 2 * i) * n + r) * d + i] += (float) so;
                 points[((2 + 2 * i) * n + r) * d + i] -= (float) so;
             }
+            for (int j = 0; j < db; j++) {
+                int at = ((1 + 2 * dc + j) * n + r) * d + dc + j;
+                points[at] = points[at] > 0.5f ? 0f : 1f;
+            }
         }
         float[] out = c.predictAtStep(ws, points, k);
+        java.util.Arrays.fill(qBin, 0, reps * n, 0.0);
+        java.util.Arrays.fill(expectedBin, 0, n, 0.0);
+        if (db > 0) {
+            binaryControl(k, x0, reps, xt, out, qBin, expectedBin);
+        }
         double g = c.epsCoef[k] / c.sqrtAlpha[k];
         double c0 = k == 1 ? 1.0 : c.coefX0[k];
         double ct = k == 1 ? 0.0 : c.coefXt[k];
@@ -140,6 +182,42 @@ final class LinearizedTerms {
                 }
             }
             expected[r] = e0;
+        }
+    }
+
+    /** The discrete cells' control variate Q_B of the class comment, from the points' outputs. */
+    private void binaryControl(int k, float[] x0, int reps, float[] xt, float[] out, double[] qBin, double[] expectedBin) {
+        int d = c.d;
+        int m = blocks * n;
+        for (int b = 0; b < blocks; b++) {
+            System.arraycopy(x0, 0, origins, b * n * d, n * d);
+        }
+        java.util.Arrays.fill(steps, k);
+        java.util.Arrays.fill(pointCont, 0.0);
+        java.util.Arrays.fill(pointBin, 0.0);
+        BoundTerms.rowTerms(c, origins, points, out, m, steps, pointCont, pointBin);
+        double flip1 = 1.0 - c.binMarginalOne1[k];
+        double flip0 = c.binMarginalOne0[k];
+        for (int r = 0; r < n; r++) {
+            int o = r * d;
+            double base = pointBin[r];
+            double mean = base;
+            for (int j = 0; j < db; j++) {
+                double jump = pointBin[(1 + 2 * dc + j) * n + r] - base;
+                mean += (x0[o + dc + j] > 0.5f ? flip1 : flip0) * jump;
+            }
+            expectedBin[r] = mean;
+            for (int rep = 0; rep < reps; rep++) {
+                int at = rep * n + r;
+                int xo = at * d;
+                double value = base;
+                for (int j = 0; j < db; j++) {
+                    if ((xt[xo + dc + j] > 0.5f) != (x0[o + dc + j] > 0.5f)) {
+                        value += pointBin[(1 + 2 * dc + j) * n + r] - base;
+                    }
+                }
+                qBin[at] = value;
+            }
         }
     }
 }

@@ -38,13 +38,13 @@ public final class TermDraws {
     }
 
     final Kind kind;
-    private final int[] perStep;   // index 1..steps
-    private final int linearized;  // steps 1..linearized take the control variate of LinearizedTerms
+    private final int[] perStep;       // index 1..steps
+    private final boolean[] linear;    // index 1..steps: the step takes the control variate of LinearizedTerms
 
-    private TermDraws(Kind kind, int[] perStep, int linearized) {
+    private TermDraws(Kind kind, int[] perStep, boolean[] linear) {
         this.kind = kind;
         this.perStep = perStep;
-        this.linearized = linearized;
+        this.linear = linear;
     }
 
     /**
@@ -56,12 +56,33 @@ public final class TermDraws {
         if (upTo < 0) {
             throw new IllegalArgumentException("linearized steps is " + upTo + "; at least 0");
         }
-        return new TermDraws(kind, perStep, Math.min(upTo, perStep.length - 1));
+        boolean[] mask = new boolean[perStep.length];
+        java.util.Arrays.fill(mask, 1, Math.min(upTo, perStep.length - 1) + 1, true);
+        return new TermDraws(kind, perStep, mask);
     }
 
     /** @return whether step s takes the linearized control variate */
-    boolean linearizes(int s) {
-        return s <= linearized;
+    public boolean linearizes(int s) {
+        return linear[s];
+    }
+
+    /** @return whether some step takes the linearized control variate */
+    boolean linearizesAny() {
+        for (boolean b : linear) {
+            if (b) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    /** @return the steps that take the linearized control variate */
+    public int linearizedSteps() {
+        int count = 0;
+        for (boolean b : linear) {
+            count += b ? 1 : 0;
+        }
+        return count;
     }
 
     /**
@@ -96,21 +117,37 @@ public final class TermDraws {
         }
         int[] per = new int[steps + 1];
         Arrays.fill(per, 1, steps + 1, k);
-        return new TermDraws(kind, per, 0);
+        return new TermDraws(kind, per, new boolean[steps + 1]);
     }
 
     /**
      * @param kind the point set
      * @param perStep index 1..steps: the draws of step t, each at least 1 (index 0 unread)
-     * @return the plan
+     * @return the plan, no step linearized
      */
     public static TermDraws allocated(Kind kind, int[] perStep) {
+        return allocated(kind, perStep, new boolean[perStep.length]);
+    }
+
+    /**
+     * @param kind the point set
+     * @param perStep index 1..steps: the draws of step t, each at least 1 (index 0 unread)
+     * @param linear index 1..steps: whether step t takes the linearized control variate (index 0 unread)
+     * @return the plan
+     */
+    public static TermDraws allocated(Kind kind, int[] perStep, boolean[] linear) {
+        if (linear.length != perStep.length) {
+            throw new IllegalArgumentException("linear has " + linear.length + " entries and perStep " + perStep.length
+                    + "; one per step (and index 0) each");
+        }
         for (int s = 1; s < perStep.length; s++) {
             if (perStep[s] < 1) {
                 throw new IllegalArgumentException("draws at step " + s + " is " + perStep[s] + "; at least 1");
             }
         }
-        return new TermDraws(kind, perStep.clone(), 0);
+        boolean[] mask = linear.clone();
+        mask[0] = false;
+        return new TermDraws(kind, perStep.clone(), mask);
     }
 
     /** @return the draws of step s */

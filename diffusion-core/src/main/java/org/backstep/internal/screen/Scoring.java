@@ -6,7 +6,6 @@ import org.backstep.internal.chain.CommonNoiseBound;
 import org.backstep.internal.chain.Engine;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.internal.chain.ScoringRange;
-import org.backstep.internal.chain.TermDraws;
 import org.backstep.internal.flow.ProbabilityFlow;
 import org.backstep.option.BoundOptions;
 import org.backstep.option.FlowOptions;
@@ -150,7 +149,8 @@ public final class Scoring {
      * The bound with common random numbers of complete, scorable records. An exact bound with
      * several draws per term or the linearized control variate ({@link BoundOptions#steady}) gives
      * every record the same seed, so that every record draws the same points (common random numbers
-     * again, and a record's score does not depend on the other records).
+     * again, and a record's score does not depend on the other records; an allocated plan comes from
+     * the model's own profile, {@link Engine#drawPlan}, never from the records).
      */
     static double[] bound(Engine engine, Table records, BoundOptions how, long seed) {
         float[] x = engine.modelSpace(records);
@@ -158,7 +158,7 @@ public final class Scoring {
             Chain c = engine.chainOf(how.steps());
             long[] same = new long[records.rows()];
             java.util.Arrays.fill(same, seed);
-            BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), 0L, same, TermDraws.of(how, c.steps()),
+            BoundEvaluator.Result r = BoundEvaluator.exact(c, x, records.rows(), 0L, same, engine.drawPlan(how, c),
                     engine.parts().options().threads());
             double[] nats = new double[records.rows()];
             for (int i = 0; i < nats.length; i++) {

@@ -6,6 +6,7 @@ import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
+import org.backstep.internal.chain.TermDraws;
 import org.backstep.internal.net.AdamOptimizer;
 import org.backstep.internal.net.NetworkShape;
 import org.backstep.internal.net.ParallelStep;
@@ -119,6 +120,7 @@ public final class TrainingRun implements AutoCloseable {
     private long nextRefill;
     private int refills;
     private boolean closed;
+    private CheckpointScore checkpointScore = CheckpointScore.SAMPLED;
 
     /**
      * Prepares the rows ({@link TrainingRows}) and the network; trains nothing yet.
@@ -319,6 +321,22 @@ public final class TrainingRun implements AutoCloseable {
         }
     }
 
+    /**
+     * Sets what the kept weights are chosen by (the default {@link CheckpointScore#SAMPLED}); before
+     * the first update only.
+     *
+     * @param score not null
+     */
+    public void scoreCheckpointsBy(CheckpointScore score) {
+        if (score == null) {
+            throw new IllegalArgumentException("score is null; expected a value");
+        }
+        if (step > 0) {
+            throw new IllegalStateException("the run has made " + step + " updates; set the checkpoint score before the first");
+        }
+        checkpointScore = score;
+    }
+
     /** The bookkeeping at the end of an epoch, or of a cut epoch when training ends inside one. */
     private void endEpoch() {
         boolean last = stopReason != null || epoch == epochs;
@@ -329,8 +347,11 @@ public final class TrainingRun implements AutoCloseable {
             float[] avg = ema.average();
             ReverseNetwork averaged = ReverseNetwork.fromParameters(shape, steps, avg);
             Chain evalChain = chainOver(averaged);
-            BoundEvaluator.Result res = BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(),
-                    options.seed() + 1, options.threads());
+            BoundEvaluator.Result res = checkpointScore == CheckpointScore.SAMPLED
+                    ? BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(), options.seed() + 1,
+                            options.threads())
+                    : BoundEvaluator.exact(evalChain, xv, nv, options.seed() + 1, null,
+                            TermDraws.single(steps).linearizedUpTo(Math.max(1, steps / 10)), options.threads());
             // minus log|det W| of a whitened chain: the history's bound is in the standardized space too
             double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv
                     - evalChain.logDeterminant();

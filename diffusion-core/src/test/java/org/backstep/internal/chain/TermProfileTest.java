@@ -1,0 +1,59 @@
+package org.backstep.internal.chain;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import org.junit.jupiter.api.Test;
+
+/**
+ * The allocation of {@link TermProfile#allocate} on given profiles: Neyman allocation (Cochran
+ * 1977, "Sampling Techniques", section 5.5: n_h proportional to N_h S_h, here K_t proportional to the
+ * term's spread s_t) and the choice of the steps that take the control variates by the cost they
+ * save (the class comment's Lagrangian).
+ */
+class TermProfileTest {
+
+    /** Rounding each K_t to a whole draw: at most half a draw per step (common practice, no source). */
+    private static final double HALF_A_DRAW = 0.5;
+
+    @Test
+    void withoutControlVariatesTheDrawsFollowTheSpreadAndKeepTheTotal() {
+        // four steps, spreads 4 : 2 : 1 : 1, no control variate (cost 0): K_t = K T s_t / sum s = 32 x (4, 2, 1, 1) / 8
+        double[] spread = {0, 4, 2, 1, 1};
+        TermDraws plan = TermProfile.of(spread, spread, 0).allocate(8);
+        assertEquals(16, plan.at(1));
+        assertEquals(8, plan.at(2));
+        assertEquals(4, plan.at(3));
+        assertEquals(4, plan.at(4));
+        assertEquals(32, plan.total());
+        assertEquals(0, plan.linearizedSteps());
+    }
+
+    @Test
+    void theControlVariateGoesWhereItSavesMoreDrawsThanItCosts() {
+        // step 1: the control variate takes the spread from 10 to 0.1; steps 2 to 4: from 0.2 to 0.19 (it saves
+        // almost nothing there), at a cost of 5 evaluations per step
+        double[] plain = {0, 10, 0.2, 0.2, 0.2};
+        double[] linear = {0, 0.1, 0.19, 0.19, 0.19};
+        TermDraws plan = TermProfile.of(plain, linear, 5).allocate(4);
+        assertTrue(plan.linearizes(1));
+        assertFalse(plan.linearizes(2));
+        assertFalse(plan.linearizes(4));
+        // the predicted variance sum s_t^2 / K_t is at most the reference's, (sum l_t)^2 / (K T), but for rounding
+        double reference = Math.pow(0.1 + 3 * 0.19, 2) / (4 * 4);
+        double predicted = 0.1 * 0.1 / plan.at(1) + 3 * 0.2 * 0.2 / plan.at(2);
+        assertTrue(predicted <= reference * (1 + HALF_A_DRAW / plan.at(2)), predicted + " against " + reference);
+        // and it costs fewer evaluations than the reference, every step linearized with 4 draws: 4 x (4 + 5)
+        assertTrue(plan.total() + 5L * plan.linearizedSteps() < 4L * (4 + 5), "evaluations " + plan.total());
+    }
+
+    @Test
+    void aProfileWithoutNoiseDrawsKAtEveryStep() {
+        double[] none = {0, 0, 0, 0};
+        TermDraws plan = TermProfile.of(none, none, 3).allocate(5);
+        for (int s = 1; s <= 3; s++) {
+            assertEquals(5, plan.at(s));
+        }
+    }
+}
