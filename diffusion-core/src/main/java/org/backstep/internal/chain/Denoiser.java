@@ -1,5 +1,6 @@
 package org.backstep.internal.chain;
 
+import org.backstep.option.Conditioning;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.SamplerKind;
 import org.backstep.report.Denoising;
@@ -91,6 +92,8 @@ public final class Denoiser {
         double[] wm = null;
         double[][] extraRoot = null;    // (L Sigma - S)^(1/2) of the whitened block, set once the start step is known
         double[][] noiseW = null;       // W S W, the readings' noise in whitened coordinates
+        double[] lambda = new double[0];    // its eigenvalues
+        double[][] rotation = null;         // U, column i the eigenvector of lambda[i]
         if (wcols.length > 0) {
             // whitened columns: the noise n ~ N(0, S), S = diag(s_j^2), is W S W in z; the start level must cover
             // its largest eigenvalue so that a topping-up of covariance L Sigma - S exists
@@ -107,9 +110,17 @@ public final class Denoiser {
                     noiseW[a][b] = sum;
                 }
             }
-            double top = java.util.Arrays.stream(new org.apache.commons.math3.linear.EigenDecomposition(
-                    new org.apache.commons.math3.linear.Array2DRowRealMatrix(noiseW, false)).getRealEigenvalues())
-                    .max().orElse(0.0);
+            org.apache.commons.math3.linear.EigenDecomposition eig = new org.apache.commons.math3.linear.EigenDecomposition(
+                    new org.apache.commons.math3.linear.Array2DRowRealMatrix(noiseW, false));
+            lambda = eig.getRealEigenvalues();
+            rotation = new double[p][p];
+            for (int i = 0; i < p; i++) {
+                double[] u = eig.getEigenvector(i).toArray();
+                for (int a = 0; a < p; a++) {
+                    rotation[a][i] = u[a];
+                }
+            }
+            double top = java.util.Arrays.stream(lambda).max().orElse(0.0);
             // the non-whitened continuous columns (integer ones) keep their own s_j^2 in max
             double plain = 0.0;
             for (int j = 0; j < cont.length; j++) {
@@ -174,6 +185,7 @@ public final class Denoiser {
                 known[r * d + j] = j < c.dc ? Float.NaN : z[r * d + j];
             }
         }
+        Release release = new Release(c, schedule, keep, z, rows, s2, wcols, rotation, lambda, wf, mf);
         int cols = readings.columns();
         double[][] sum = new double[rows][cols];
         double[][] sumSq = new double[rows][cols];
@@ -191,7 +203,8 @@ public final class Denoiser {
                     }
                 }
                 ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
-                ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, rng);
+                ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, Conditioning.REPLACEMENT,
+                        release.forChunk(from), rng);
                 c.fromChain(x, n);
             });
             Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, rows, d));
@@ -214,6 +227,123 @@ public final class Denoiser {
             }
         }
         return new Denoising(Imputer.withValues(readings, mean), Imputer.withValues(readings, sd), draws, start);
+    }
+
+    /**
+     * The per-direction release (see the class comment): after the chain's move to kept step s, each
+     * direction whose reading noise lambda_i is at most the level L_s is set to a fresh draw
+     * sqrt(abar_s) (v_y,i + sqrt(L_s - lambda_i) xi) of the forward chain from the reading; the
+     * others are left to the chain. Plain continuous columns are their own directions (lambda_j =
+     * s_j^2); the whitened block is rotated by U, the eigenvectors of W S W, and only the change of
+     * the replaced directions is rotated back, z += U[:, i] (v_i,new - v_i). Per row, in row r's
+     * loop: one normal draw per replaced plain column (ascending), then one per replaced direction
+     * (in the order of U's columns); nothing is drawn at a step that replaces nothing.
+     */
+    private static final class Release {
+        private final int d;
+        private final double[] level;       // L of chain step s, 0..K (L_0 = 0)
+        private final double[] sqrtAbar;    // sqrt(abar) of chain step s
+        private final int[] plain;          // continuous chain columns that are not whitened
+        private final double[] s2;
+        private final float[] readings;     // rows x d standardized model-space readings
+        private final int[] wcols;
+        private final double[][] u;
+        private final double[] lambda;
+        private final double[] vy;          // rows x p: U^T W (y~ - m), the readings in the noise's eigenbasis
+
+        Release(Chain c, NoiseSchedule schedule, int[] keep, float[] readings, int rows, double[] s2, int[] wcols,
+                double[][] u, double[] lambda, double[][] w, double[] mean) {
+            this.d = c.d;
+            int steps = keep.length;
+            level = new double[steps + 1];
+            sqrtAbar = new double[steps + 1];
+            sqrtAbar[0] = 1.0;
+            for (int s = 1; s <= steps; s++) {
+                level[s] = schedule.oneMinusAlphaBar(keep[s - 1]) / schedule.alphaBar(keep[s - 1]);
+                sqrtAbar[s] = Math.sqrt(schedule.alphaBar(keep[s - 1]));
+            }
+            this.plain = java.util.stream.IntStream.range(0, c.dc)
+                    .filter(j -> java.util.Arrays.binarySearch(wcols, j) < 0).toArray();
+            this.s2 = s2;
+            this.readings = readings;
+            this.wcols = wcols;
+            this.u = u;
+            this.lambda = lambda;
+            int p = wcols.length;
+            vy = new double[rows * p];
+            double[] y = new double[p];
+            double[] zy = new double[p];
+            for (int r = 0; r < rows; r++) {
+                for (int a = 0; a < p; a++) {
+                    y[a] = readings[r * d + wcols[a]] - mean[a];
+                }
+                for (int a = 0; a < p; a++) {
+                    double sum = 0.0;
+                    for (int b = 0; b < p; b++) {
+                        sum += w[a][b] * y[b];
+                    }
+                    zy[a] = sum;
+                }
+                for (int i = 0; i < p; i++) {
+                    double sum = 0.0;
+                    for (int a = 0; a < p; a++) {
+                        sum += u[a][i] * zy[a];
+                    }
+                    vy[r * p + i] = sum;
+                }
+            }
+        }
+
+        /** The replacement of the chunk whose first row is row {@code from} of the readings. */
+        ReverseRun.StepReplacement forChunk(int from) {
+            return (x, rows, s, rng) -> replaceInPlace(x, rows, s, from, rng);
+        }
+
+        private void replaceInPlace(float[] x, int rows, int s, int from, java.util.SplittableRandom[] rng) {
+            if (s == 0) {
+                return;     // every reading has noise above 0, so no direction is held at x_0
+            }
+            double l = level[s];
+            double sa = sqrtAbar[s];
+            int p = wcols.length;
+            int[] held = new int[p];
+            int nh = 0;
+            for (int i = 0; i < p; i++) {
+                if (lambda[i] <= l) {
+                    held[nh++] = i;
+                }
+            }
+            double[] change = new double[nh];
+            for (int r = 0; r < rows; r++) {
+                int o = r * d;
+                int ro = (from + r) * d;
+                for (int j : plain) {
+                    if (s2[j] <= l) {
+                        x[o + j] = (float) (sa * (readings[ro + j] + Math.sqrt(Math.max(0.0, l - s2[j])) * rng[r].nextGaussian()));
+                    }
+                }
+                if (nh == 0) {
+                    continue;
+                }
+                int vo = (from + r) * p;
+                for (int h = 0; h < nh; h++) {
+                    int i = held[h];
+                    double v = 0.0;
+                    for (int a = 0; a < p; a++) {
+                        v += u[a][i] * x[o + wcols[a]];
+                    }
+                    double fresh = sa * (vy[vo + i] + Math.sqrt(Math.max(0.0, l - lambda[i])) * rng[r].nextGaussian());
+                    change[h] = fresh - v;
+                }
+                for (int a = 0; a < p; a++) {
+                    double sum = x[o + wcols[a]];
+                    for (int h = 0; h < nh; h++) {
+                        sum += u[a][held[h]] * change[h];
+                    }
+                    x[o + wcols[a]] = (float) sum;
+                }
+            }
+        }
     }
 
     /**
