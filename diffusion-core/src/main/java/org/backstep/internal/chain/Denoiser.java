@@ -9,23 +9,45 @@ import org.backstep.table.ColumnTransform;
 import org.backstep.table.Table;
 
 /**
- * Denoising on the reverse chain. In model space a reading is z_y = z + n with n ~ N(0, s_j^2),
- * s_j the column's noise over its scale; the chain starts at the first step t* whose noise level
- * (1 - alpha-bar)/alpha-bar reaches max_j s_j^2, with x_{t*} = sqrt(alpha-bar_{t*}) (z_y + m),
- * m ~ N(0, (1 - alpha-bar_{t*})/alpha-bar_{t*} - s_j^2) topping each column up to that level, so that
- * x_{t*} is exactly a draw of q(x_{t*} | x_0) (Ho et al. 2020, eq. 4); then the reverse chain runs
- * down to x_0 on a strided subset of the steps 1..t*. Binary and constant columns are taken as
- * observed exactly.
+ * Denoising on the reverse chain by per-direction release. In the chain's coordinates a reading is
+ * z_y = z + n, n ~ N(0, Sigma_n): Sigma_n = diag(s_j^2) over the continuous columns that are not
+ * whitened (s_j the column's noise over its scale), and W S W over a whitened block (S = diag(s_j^2)
+ * of its columns, W = Sigma^(-1/2)). Write Sigma_n = U diag(lambda) U^T with U orthogonal (U = I and
+ * lambda_j = s_j^2 outside a whitened block) and L_t = (1 - alpha-bar_t)/alpha-bar_t for the level of
+ * step t. The chain's forward noise (1 - alpha-bar_t) I is isotropic, so v = U^T z diffuses as z
+ * does, v_t = sqrt(alpha-bar_t) v + sqrt(1 - alpha-bar_t) e with e ~ N(0, I), and the reading is
+ * v_y = v + e' with independent e'_i ~ N(0, lambda_i).
+ *
+ * <p><b>Start.</b> The chain starts at the first step t* whose level covers max_i lambda_i, at
+ * x_{t*} = sqrt(alpha-bar_{t*}) (z_y + m), m ~ N(0, L_{t*} I - Sigma_n) topping every direction up to
+ * that level (for a whitened block drawn in the standardized cells with covariance L_{t*} Sigma - S),
+ * so that x_{t*} is exactly a draw of q(x_{t*} | x_0) (Ho et al. 2020, eq. 4).
+ *
+ * <p><b>Release.</b> After the chain's move to each kept step s below t*, every direction i with
+ * lambda_i &lt;= L_s is replaced by a fresh forward draw from the reading,
+ * v_{s,i} = sqrt(alpha-bar_s) (v_y,i + sqrt(L_s - lambda_i) xi), xi ~ N(0, 1) (Ho et al. 2020, eq. 4);
+ * the other directions are left to the chain. Direction i is thus held down to s_i, the last kept step
+ * whose level covers lambda_i, and released below it. Why this is the posterior: given v,
+ * e'_i + sqrt(L_{s_i} - lambda_i) xi ~ N(0, L_{s_i}) is independent of v, so v_{s_i,i} is the forward
+ * chain's state at s_i; for independent Gaussian directions (whitened data under the N(0, I) part is
+ * about that: v ~ N(0, I), and the exact reverse kernels then act on each direction alone, so holding
+ * the others does not move it) the exact reverse chain from s_i draws v_i from p(v_i | v_{s_i,i}), the
+ * posterior given a reading of noise L_{s_i}. When L_{s_i} = lambda_i that is v_{s_i,i} =
+ * sqrt(alpha-bar) v_y,i and the draw is exactly from p(v_i | v_y,i); otherwise the grid's top-up
+ * L_{s_i} - lambda_i (below one step's increase of the level when every step is kept, as at
+ * {@code Defaults.DENOISING_STEPS} = T) is what is lost. For other data it is the replacement
+ * approximation imputation uses (Lugmayr et al. 2022, algorithm 1), with the held directions drawn
+ * from the forward chain of the reading rather than of a known value. When every lambda is equal,
+ * each kept step below t* has a level below max lambda, so nothing is replaced after the start and
+ * the draws are those of the start alone, bit for bit. Binary, categorical and constant columns are
+ * taken as observed exactly.
+ *
+ * <p>Measured: on 4-D Gaussian data with correlations 0.5 to 0.9 and a default (whitened) fit, the
+ * denoised RMSE is 1.03 to 1.08 times the exact posterior mean's, against 4 to 5 times for the start
+ * alone (which stopped at t*: the posterior of a reading of noise L_{t*} Sigma); see
+ * {@code WhitenedDenoisingTest}.
  */
 public final class Denoiser {
-
-    private static final org.slf4j.Logger LOG = org.slf4j.LoggerFactory.getLogger(Denoiser.class);
-    /**
-     * Above this ratio of the readings' largest noise eigenvalue in whitened coordinates to the largest
-     * standardized column noise, a whitened denoising is logged as lossy (common practice, no source:
-     * the posterior is then that of a reading at least 4 times noisier in variance).
-     */
-    static final double LOSSY_RATIO = 4.0;
 
     private Denoiser() {
     }
@@ -127,16 +149,6 @@ public final class Denoiser {
                 if (java.util.Arrays.binarySearch(wcols, j) < 0) {
                     plain = Math.max(plain, s2[j]);
                 }
-            }
-            double own = 0.0;
-            for (double v : s2) {
-                own = Math.max(own, v);
-            }
-            if (top > LOSSY_RATIO * own) {
-                LOG.warn("denoising with a model fitted with coordinates WHITENED: the readings' noise reaches {} in the"
-                        + " whitened coordinates against at most {} in a standardized column, so the chain starts where a"
-                        + " reading {} times noisier would, and loses most of what the readings say (correlated columns);"
-                        + " fit with coordinates STANDARDIZED to denoise such readings", top, own, top / own);
             }
             max = Math.max(plain, top);
         }
