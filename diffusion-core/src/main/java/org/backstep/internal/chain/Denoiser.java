@@ -43,7 +43,7 @@ import org.backstep.table.Table;
  * taken as observed exactly.
  *
  * <p>Measured: on 4-D Gaussian data with correlations 0.5 to 0.9 and a default (whitened) fit, the
- * denoised RMSE is 1.03 to 1.08 times the exact posterior mean's, against 4 to 5 times for the start
+ * denoised RMSE is 1.03 to 1.08 times the exact posterior mean's, against 3.8 to 5.0 times for the start
  * alone (which stopped at t*: the posterior of a reading of noise L_{t*} Sigma); see
  * {@code WhitenedDenoisingTest}.
  */
