@@ -189,8 +189,8 @@ public final class Backstep {
          * conditional at every use). Best paired with {@link Baseline#STANDARD_NORMAL}, whose zero
          * network is then the Gaussian fitted on the training rows (the default pair). Fit with
          * {@link org.backstep.option.Coordinates#STANDARDIZED} to impute by
-         * {@link org.backstep.option.Conditioning#KERNEL_PRODUCT} (refused by a whitened model) or
-         * to denoise readings of correlated columns (see {@link DiffusionModel#denoise}).
+         * {@link org.backstep.option.Conditioning#KERNEL_PRODUCT} (refused by a whitened model);
+         * denoising works in either (see {@link DiffusionModel#denoise}).
          *
          * @param coordinates the choice
          * @return this

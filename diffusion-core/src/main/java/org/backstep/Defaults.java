@@ -90,9 +90,11 @@ public final class Defaults {
      * drawn afresh from its conditional at every use; see {@link Backstep.Builder#coordinates}).
      * Imputation with {@link Conditioning#KERNEL_PRODUCT} needs a model fitted with
      * {@link org.backstep.option.Coordinates#STANDARDIZED} (asked for at the fit: the imputation
-     * refuses it on a whitened model, naming both options), and so does denoising readings of
-     * correlated columns with independent noise per column (the demo's fleet: RMSE 0.99 to 4.02
-     * noise sd whitened, to 0.67 standardized; logged as lossy, see DiffusionModel#denoise). Default
+     * refuses it on a whitened model, naming both options). Denoising readings of correlated columns
+     * with independent noise per column releases each direction of the noise's eigenbasis at its own
+     * level (see DiffusionModel#denoise); on the demo's fleet a whitened fit denoised to 0.70 to 0.72
+     * noise sd against 0.65 to 0.69 for a standardized one (3 seeds; 4.02 before the per-direction
+     * release; diffusion-bench/results/denoise-whitened.txt). Default
      * fit seconds (2 fit seeds, 2 threads, a machine shared with other helpers at load 15 to 20, so
      * inflated): iris 37, breast_cancer 84, diabetes without SEX 50, digits_binary 102 (unchanged
      * model, 15 s in an earlier run on a lighter load); see diffusion-bench/results/default-whitened.txt.

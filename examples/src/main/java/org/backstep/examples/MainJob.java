@@ -193,9 +193,9 @@ public final class MainJob {
                 .setStyle(ProgressBarStyle.ASCII).setConsumer(new ConsoleProgressBarConsumer(System.err))
                 .setUpdateIntervalMillis(250).build() : null;
         // standardized coordinates without a closed-form part, not the library's default whitened ones: step 5
-        // denoises readings with noise on every continuous column, which a whitened model can only treat as a
-        // much noisier reading when columns are correlated (measured on the fleet, seed 1: RMSE 0.99 -> 4.02
-        // noise sd whitened, 0.99 -> 0.67 standardized; README, "Whitened coordinates")
+        // denoises readings with noise on every continuous column, and on the fleet a whitened fit still denoises
+        // them somewhat worse (per-direction release; seeds 1, 2, 3: RMSE to 0.717, 0.699, 0.718 noise sd whitened
+        // against 0.668, 0.649, 0.685 standardized; diffusion-bench/results/denoise-whitened.txt)
         Backstep.Builder builder = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED)
                 .baseline(org.backstep.option.Baseline.NONE).steps(c.trainSteps()).hidden(c.hidden()).seed(c.seed())
                 .listener(p -> {

@@ -1,5 +1,6 @@
 package org.backstep.internal.chain;
 
+import org.backstep.option.Conditioning;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.option.SamplerKind;
 import org.backstep.report.Denoising;
@@ -8,23 +9,45 @@ import org.backstep.table.ColumnTransform;
 import org.backstep.table.Table;
 
 /**
- * Denoising on the reverse chain. In model space a reading is z_y = z + n with n ~ N(0, s_j^2),
- * s_j the column's noise over its scale; the chain starts at the first step t* whose noise level
- * (1 - alpha-bar)/alpha-bar reaches max_j s_j^2, with x_{t*} = sqrt(alpha-bar_{t*}) (z_y + m),
- * m ~ N(0, (1 - alpha-bar_{t*})/alpha-bar_{t*} - s_j^2) topping each column up to that level, so that
- * x_{t*} is exactly a draw of q(x_{t*} | x_0) (Ho et al. 2020, eq. 4); then the reverse chain runs
- * down to x_0 on a strided subset of the steps 1..t*. Binary and constant columns are taken as
- * observed exactly.
+ * Denoising on the reverse chain by per-direction release. In the chain's coordinates a reading is
+ * z_y = z + n, n ~ N(0, Sigma_n): Sigma_n = diag(s_j^2) over the continuous columns that are not
+ * whitened (s_j the column's noise over its scale), and W S W over a whitened block (S = diag(s_j^2)
+ * of its columns, W = Sigma^(-1/2)). Write Sigma_n = U diag(lambda) U^T with U orthogonal (U = I and
+ * lambda_j = s_j^2 outside a whitened block) and L_t = (1 - alpha-bar_t)/alpha-bar_t for the level of
+ * step t. The chain's forward noise (1 - alpha-bar_t) I is isotropic, so v = U^T z diffuses as z
+ * does, v_t = sqrt(alpha-bar_t) v + sqrt(1 - alpha-bar_t) e with e ~ N(0, I), and the reading is
+ * v_y = v + e' with independent e'_i ~ N(0, lambda_i).
+ *
+ * <p><b>Start.</b> The chain starts at the first step t* whose level covers max_i lambda_i, at
+ * x_{t*} = sqrt(alpha-bar_{t*}) (z_y + m), m ~ N(0, L_{t*} I - Sigma_n) topping every direction up to
+ * that level (for a whitened block drawn in the standardized cells with covariance L_{t*} Sigma - S),
+ * so that x_{t*} is exactly a draw of q(x_{t*} | x_0) (Ho et al. 2020, eq. 4).
+ *
+ * <p><b>Release.</b> After the chain's move to each kept step s below t*, every direction i with
+ * lambda_i &lt;= L_s is replaced by a fresh forward draw from the reading,
+ * v_{s,i} = sqrt(alpha-bar_s) (v_y,i + sqrt(L_s - lambda_i) xi), xi ~ N(0, 1) (Ho et al. 2020, eq. 4);
+ * the other directions are left to the chain. Direction i is thus held down to s_i, the last kept step
+ * whose level covers lambda_i, and released below it. Why this is the posterior: given v,
+ * e'_i + sqrt(L_{s_i} - lambda_i) xi ~ N(0, L_{s_i}) is independent of v, so v_{s_i,i} is the forward
+ * chain's state at s_i; for independent Gaussian directions (whitened data under the N(0, I) part is
+ * about that: v ~ N(0, I), and the exact reverse kernels then act on each direction alone, so holding
+ * the others does not move it) the exact reverse chain from s_i draws v_i from p(v_i | v_{s_i,i}), the
+ * posterior given a reading of noise L_{s_i}. When L_{s_i} = lambda_i that is v_{s_i,i} =
+ * sqrt(alpha-bar) v_y,i and the draw is exactly from p(v_i | v_y,i); otherwise the grid's top-up
+ * L_{s_i} - lambda_i (below one step's increase of the level when every step is kept, as at
+ * {@code Defaults.DENOISING_STEPS} = T) is what is lost. For other data it is the replacement
+ * approximation imputation uses (Lugmayr et al. 2022, algorithm 1), with the held directions drawn
+ * from the forward chain of the reading rather than of a known value. When every lambda is equal,
+ * each kept step below t* has a level below max lambda, so nothing is replaced after the start and
+ * the draws are those of the start alone, bit for bit. Binary, categorical and constant columns are
+ * taken as observed exactly.
+ *
+ * <p>Measured: on 4-D Gaussian data with correlations 0.5 to 0.9 and a default (whitened) fit, the
+ * denoised RMSE is 1.03 to 1.08 times the exact posterior mean's, against 3.8 to 5.0 times for the start
+ * alone (which stopped at t*: the posterior of a reading of noise L_{t*} Sigma); see
+ * {@code WhitenedDenoisingTest}.
  */
 public final class Denoiser {
-
-    private static final org.slf4j.Logger LOG = org.slf4j.LoggerFactory.getLogger(Denoiser.class);
-    /**
-     * Above this ratio of the readings' largest noise eigenvalue in whitened coordinates to the largest
-     * standardized column noise, a whitened denoising is logged as lossy (common practice, no source:
-     * the posterior is then that of a reading at least 4 times noisier in variance).
-     */
-    static final double LOSSY_RATIO = 4.0;
 
     private Denoiser() {
     }
@@ -91,6 +114,8 @@ public final class Denoiser {
         double[] wm = null;
         double[][] extraRoot = null;    // (L Sigma - S)^(1/2) of the whitened block, set once the start step is known
         double[][] noiseW = null;       // W S W, the readings' noise in whitened coordinates
+        double[] lambda = new double[0];    // its eigenvalues
+        double[][] rotation = null;         // U, column i the eigenvector of lambda[i]
         if (wcols.length > 0) {
             // whitened columns: the noise n ~ N(0, S), S = diag(s_j^2), is W S W in z; the start level must cover
             // its largest eigenvalue so that a topping-up of covariance L Sigma - S exists
@@ -107,25 +132,23 @@ public final class Denoiser {
                     noiseW[a][b] = sum;
                 }
             }
-            double top = java.util.Arrays.stream(new org.apache.commons.math3.linear.EigenDecomposition(
-                    new org.apache.commons.math3.linear.Array2DRowRealMatrix(noiseW, false)).getRealEigenvalues())
-                    .max().orElse(0.0);
+            org.apache.commons.math3.linear.EigenDecomposition eig = new org.apache.commons.math3.linear.EigenDecomposition(
+                    new org.apache.commons.math3.linear.Array2DRowRealMatrix(noiseW, false));
+            lambda = eig.getRealEigenvalues();
+            rotation = new double[p][p];
+            for (int i = 0; i < p; i++) {
+                double[] u = eig.getEigenvector(i).toArray();
+                for (int a = 0; a < p; a++) {
+                    rotation[a][i] = u[a];
+                }
+            }
+            double top = java.util.Arrays.stream(lambda).max().orElse(0.0);
             // the non-whitened continuous columns (integer ones) keep their own s_j^2 in max
             double plain = 0.0;
             for (int j = 0; j < cont.length; j++) {
                 if (java.util.Arrays.binarySearch(wcols, j) < 0) {
                     plain = Math.max(plain, s2[j]);
                 }
-            }
-            double own = 0.0;
-            for (double v : s2) {
-                own = Math.max(own, v);
-            }
-            if (top > LOSSY_RATIO * own) {
-                LOG.warn("denoising with a model fitted with coordinates WHITENED: the readings' noise reaches {} in the"
-                        + " whitened coordinates against at most {} in a standardized column, so the chain starts where a"
-                        + " reading {} times noisier would, and loses most of what the readings say (correlated columns);"
-                        + " fit with coordinates STANDARDIZED to denoise such readings", top, own, top / own);
             }
             max = Math.max(plain, top);
         }
@@ -174,6 +197,7 @@ public final class Denoiser {
                 known[r * d + j] = j < c.dc ? Float.NaN : z[r * d + j];
             }
         }
+        Release release = new Release(c, schedule, keep, z, rows, s2, wcols, rotation, lambda, wf, mf);
         int cols = readings.columns();
         double[][] sum = new double[rows][cols];
         double[][] sumSq = new double[rows][cols];
@@ -191,7 +215,8 @@ public final class Denoiser {
                     }
                 }
                 ReverseRun.replaceKnown(c, x, kn, n, c.steps, rng);
-                ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, rng);
+                ReverseRun.run(c, x, n, c.steps, kn, 1, SamplerKind.ANCESTRAL, 0.0, Conditioning.REPLACEMENT,
+                        release.forChunk(from), rng);
                 c.fromChain(x, n);
             });
             Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, rows, d));
@@ -214,6 +239,123 @@ public final class Denoiser {
             }
         }
         return new Denoising(Imputer.withValues(readings, mean), Imputer.withValues(readings, sd), draws, start);
+    }
+
+    /**
+     * The per-direction release (see the class comment): after the chain's move to kept step s, each
+     * direction whose reading noise lambda_i is at most the level L_s is set to a fresh draw
+     * sqrt(abar_s) (v_y,i + sqrt(L_s - lambda_i) xi) of the forward chain from the reading; the
+     * others are left to the chain. Plain continuous columns are their own directions (lambda_j =
+     * s_j^2); the whitened block is rotated by U, the eigenvectors of W S W, and only the change of
+     * the replaced directions is rotated back, z += U[:, i] (v_i,new - v_i). Per row, in row r's
+     * loop: one normal draw per replaced plain column (ascending), then one per replaced direction
+     * (in the order of U's columns); nothing is drawn at a step that replaces nothing.
+     */
+    private static final class Release {
+        private final int d;
+        private final double[] level;       // L of chain step s, 0..K (L_0 = 0)
+        private final double[] sqrtAbar;    // sqrt(abar) of chain step s
+        private final int[] plain;          // continuous chain columns that are not whitened
+        private final double[] s2;
+        private final float[] readings;     // rows x d standardized model-space readings
+        private final int[] wcols;
+        private final double[][] u;
+        private final double[] lambda;
+        private final double[] vy;          // rows x p: U^T W (y~ - m), the readings in the noise's eigenbasis
+
+        Release(Chain c, NoiseSchedule schedule, int[] keep, float[] readings, int rows, double[] s2, int[] wcols,
+                double[][] u, double[] lambda, double[][] w, double[] mean) {
+            this.d = c.d;
+            int steps = keep.length;
+            level = new double[steps + 1];
+            sqrtAbar = new double[steps + 1];
+            sqrtAbar[0] = 1.0;
+            for (int s = 1; s <= steps; s++) {
+                level[s] = schedule.oneMinusAlphaBar(keep[s - 1]) / schedule.alphaBar(keep[s - 1]);
+                sqrtAbar[s] = Math.sqrt(schedule.alphaBar(keep[s - 1]));
+            }
+            this.plain = java.util.stream.IntStream.range(0, c.dc)
+                    .filter(j -> java.util.Arrays.binarySearch(wcols, j) < 0).toArray();
+            this.s2 = s2;
+            this.readings = readings;
+            this.wcols = wcols;
+            this.u = u;
+            this.lambda = lambda;
+            int p = wcols.length;
+            vy = new double[rows * p];
+            double[] y = new double[p];
+            double[] zy = new double[p];
+            for (int r = 0; r < rows; r++) {
+                for (int a = 0; a < p; a++) {
+                    y[a] = readings[r * d + wcols[a]] - mean[a];
+                }
+                for (int a = 0; a < p; a++) {
+                    double sum = 0.0;
+                    for (int b = 0; b < p; b++) {
+                        sum += w[a][b] * y[b];
+                    }
+                    zy[a] = sum;
+                }
+                for (int i = 0; i < p; i++) {
+                    double sum = 0.0;
+                    for (int a = 0; a < p; a++) {
+                        sum += u[a][i] * zy[a];
+                    }
+                    vy[r * p + i] = sum;
+                }
+            }
+        }
+
+        /** The replacement of the chunk whose first row is row {@code from} of the readings. */
+        ReverseRun.StepReplacement forChunk(int from) {
+            return (x, rows, s, rng) -> replaceInPlace(x, rows, s, from, rng);
+        }
+
+        private void replaceInPlace(float[] x, int rows, int s, int from, java.util.SplittableRandom[] rng) {
+            if (s == 0) {
+                return;     // every reading has noise above 0, so no direction is held at x_0
+            }
+            double l = level[s];
+            double sa = sqrtAbar[s];
+            int p = wcols.length;
+            int[] held = new int[p];
+            int nh = 0;
+            for (int i = 0; i < p; i++) {
+                if (lambda[i] <= l) {
+                    held[nh++] = i;
+                }
+            }
+            double[] change = new double[nh];
+            for (int r = 0; r < rows; r++) {
+                int o = r * d;
+                int ro = (from + r) * d;
+                for (int j : plain) {
+                    if (s2[j] <= l) {
+                        x[o + j] = (float) (sa * (readings[ro + j] + Math.sqrt(Math.max(0.0, l - s2[j])) * rng[r].nextGaussian()));
+                    }
+                }
+                if (nh == 0) {
+                    continue;
+                }
+                int vo = (from + r) * p;
+                for (int h = 0; h < nh; h++) {
+                    int i = held[h];
+                    double v = 0.0;
+                    for (int a = 0; a < p; a++) {
+                        v += u[a][i] * x[o + wcols[a]];
+                    }
+                    double fresh = sa * (vy[vo + i] + Math.sqrt(Math.max(0.0, l - lambda[i])) * rng[r].nextGaussian());
+                    change[h] = fresh - v;
+                }
+                for (int a = 0; a < p; a++) {
+                    double sum = x[o + wcols[a]];
+                    for (int h = 0; h < nh; h++) {
+                        sum += u[a][held[h]] * change[h];
+                    }
+                    x[o + wcols[a]] = (float) sum;
+                }
+            }
+        }
     }
 
     /**

@@ -83,6 +83,34 @@ public final class ReverseRun {
      */
     public static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
                            double eta, Conditioning conditioning, SplittableRandom[] rng) {
+        run(chain, x, rows, from, known, rounds, kind, eta, conditioning, null, rng);
+    }
+
+    /**
+     * A further replacement made after each reverse step, after the known cells' ({@link Denoiser}'s
+     * per-direction release of noisy readings). It draws row r's numbers from {@code rng[r]} inside
+     * row r's loop, and nothing at a step where it replaces nothing, so that a run that never
+     * replaces draws as a run without it does.
+     */
+    @FunctionalInterface
+    interface StepReplacement {
+        /**
+         * @param x rows x D chain rows at step s, modified in place
+         * @param rows rows in the chunk
+         * @param s the chain step just reached, 0..K-1
+         * @param rng one generator per row (entries may repeat; advanced)
+         */
+        void replaceInPlace(float[] x, int rows, int s, SplittableRandom[] rng);
+    }
+
+    /**
+     * As {@link #run(Chain, float[], int, int, float[], int, SamplerKind, double, Conditioning, SplittableRandom[])},
+     * with {@code after} applied to the rows after each step's move and known-cell replacement.
+     *
+     * @param after the further replacement, or null for none
+     */
+    static void run(Chain chain, float[] x, int rows, int from, float[] known, int rounds, SamplerKind kind,
+                    double eta, Conditioning conditioning, StepReplacement after, SplittableRandom[] rng) {
         boolean product = known != null && conditioning == Conditioning.KERNEL_PRODUCT;
         if (product && chain.coordinates != null) {
             throw new IllegalArgumentException("conditioning is " + Conditioning.KERNEL_PRODUCT + "; a model fitted with"
@@ -106,15 +134,17 @@ public final class ReverseRun {
                 } else {
                     implicitStepInPlace(chain, x, out, rows, k, eta, rng);
                 }
-                if (known != null) {
-                    if (!product) {
-                        replaceKnown(chain, x, known, rows, k - 1, rng);
-                    }
-                    if (round < rounds - 1 && k > 1) {
-                        forwardOneStep(chain, x, rows, k, rng);
-                    }
-                } else {
+                if (known != null && !product) {
+                    replaceKnown(chain, x, known, rows, k - 1, rng);
+                }
+                if (after != null) {
+                    after.replaceInPlace(x, rows, k - 1, rng);
+                }
+                if (known == null) {
                     break;
+                }
+                if (round < rounds - 1 && k > 1) {
+                    forwardOneStep(chain, x, rows, k, rng);
                 }
             }
         }
