@@ -4,11 +4,8 @@ import java.util.Map;
 import java.util.SplittableRandom;
 import java.util.concurrent.ConcurrentHashMap;
 import org.apache.commons.math3.linear.Array2DRowRealMatrix;
-import org.apache.commons.math3.linear.ArrayRealVector;
 import org.apache.commons.math3.linear.CholeskyDecomposition;
-import org.apache.commons.math3.linear.DecompositionSolver;
 import org.apache.commons.math3.linear.RealMatrix;
-import org.apache.commons.math3.linear.RealVector;
 import org.backstep.schedule.Require;
 import org.backstep.table.Whitening;
 
@@ -29,7 +26,8 @@ import org.backstep.table.Whitening;
  * Multivariate Statistical Analysis", theorem 2.5.1), so the move keeps the missing cells'
  * conditional law given the new observed ones. In z the whole move is
  * dz = W Sigma[:, o] Sigma_oo^-1 dx^o = W^-1[:, o] Sigma_oo^-1 dx^o (since W Sigma = W^-1).
- * Sigma_oo is factorized once per pattern of observed cells (commons-math3 Cholesky).
+ * Sigma_oo is factorized once per pattern of observed cells (commons-math3 Cholesky) and kept with
+ * W^-1[:, o]; a row then costs p + 2 p |o| + |o|^2 multiply-adds and allocates nothing.
  */
 final class ChainCoordinates {
 
@@ -44,7 +42,9 @@ final class ChainCoordinates {
     private final double[][] w;
     private final double[][] wInv;
     private final double[][] sigma;
-    private final Map<String, DecompositionSolver> solvers = new ConcurrentHashMap<>();
+    private final Map<String, Pattern> patterns = new ConcurrentHashMap<>();
+    /** whitened[j]: chain column j is whitened (j up to the last whitened column). */
+    private final boolean[] whitened;
 
     ChainCoordinates(Whitening whitening, int[] columns) {
         Require.notNull("whitening", whitening);
@@ -60,6 +60,14 @@ final class ChainCoordinates {
         this.w = whitening.matrix();
         this.wInv = whitening.inverseMatrix();
         this.sigma = whitening.covariance();
+        int end = 0;
+        for (int j : this.columns) {
+            end = Math.max(end, j + 1);
+        }
+        this.whitened = new boolean[end];
+        for (int j : this.columns) {
+            whitened[j] = true;
+        }
     }
 
     /** @return log |det W|, to add to a log density of z for the log density of y */
@@ -109,7 +117,7 @@ final class ChainCoordinates {
 
     /** @return true if chain column j is whitened */
     boolean whitens(int j) {
-        return java.util.Arrays.binarySearch(columns, j) >= 0;
+        return j >= 0 && j < whitened.length && whitened[j];
     }
 
     /**
@@ -128,13 +136,12 @@ final class ChainCoordinates {
         double sn = chain.sqrtOneMinusAbar[s];
         int[] obs = new int[p];
         double[] e = new double[p];
-        // buffers of the call: the right-hand side by count of observed cells (the solver needs its exact
-        // length), the key of a pattern, and the previous row's pattern and solver (rows often share one)
-        double[][] deltas = new double[p + 1][];
+        double[] z = new double[p];
+        // buffers of the call: the right-hand side (solved in place), the key of a pattern, and the previous
+        // row's pattern (rows often share one)
+        double[] c = new double[p];
         char[] key = new char[p];
-        int[] lastObs = new int[p];
-        int lastNo = -1;
-        DecompositionSolver last = null;
+        Pattern last = null;
         for (int r = 0; r < rows; r++) {
             int o = r * d;
             int no = 0;
@@ -151,46 +158,47 @@ final class ChainCoordinates {
                     e[a] = rng[r].nextGaussian();
                 }
             }
-            double[] delta = deltas[no];
-            if (delta == null) {
-                delta = new double[no];
-                deltas[no] = delta;
+            for (int b = 0; b < p; b++) {
+                z[b] = x[o + columns[b]];
             }
             for (int i = 0; i < no; i++) {
                 int a = obs[i];
+                double[] wa = wInv[a];
                 double old = sa * mean[a];
-                double noise = 0.0;
                 for (int b = 0; b < p; b++) {
-                    old += wInv[a][b] * x[o + columns[b]];
-                    if (s > 0) {
-                        noise += wInv[a][b] * e[b];
+                    old += wa[b] * z[b];
+                }
+                double noise = 0.0;
+                if (s > 0) {
+                    for (int b = 0; b < p; b++) {
+                        noise += wa[b] * e[b];
                     }
                 }
                 double fresh = sa * known[o + columns[a]] + sn * noise;
-                delta[i] = fresh - old;
+                c[i] = fresh - old;
             }
-            if (no != lastNo || !java.util.Arrays.equals(obs, 0, no, lastObs, 0, no)) {
+            if (last == null || no != last.obs.length || !java.util.Arrays.equals(obs, 0, no, last.obs, 0, no)) {
                 java.util.Arrays.fill(key, '0');
                 for (int i = 0; i < no; i++) {
                     key[obs[i]] = '1';
                 }
-                last = solver(new String(key), obs, no);
-                System.arraycopy(obs, 0, lastObs, 0, no);
-                lastNo = no;
+                last = pattern(new String(key), obs, no);
             }
-            RealVector c = last.solve(new ArrayRealVector(delta, false));
+            last.solveInPlace(c);
+            double[][] g = last.wInvObserved;
             for (int a = 0; a < p; a++) {
-                double sum = x[o + columns[a]];
+                double[] ga = g[a];
+                double sum = z[a];
                 for (int i = 0; i < no; i++) {
-                    sum += wInv[a][obs[i]] * c.getEntry(i);
+                    sum += ga[i] * c[i];
                 }
                 x[o + columns[a]] = (float) sum;
             }
         }
     }
 
-    private DecompositionSolver solver(String key, int[] obs, int no) {
-        DecompositionSolver found = solvers.get(key);
+    private Pattern pattern(String key, int[] obs, int no) {
+        Pattern found = patterns.get(key);
         if (found != null) {
             return found;
         }
@@ -201,11 +209,69 @@ final class ChainCoordinates {
             }
         }
         // Sigma is positive definite (Whitening refuses a singular one), so is every principal submatrix
-        DecompositionSolver made = new CholeskyDecomposition(m, 1e-12, 1e-300).getSolver();
-        if (solvers.size() >= CACHE_PATTERNS) {
-            solvers.clear();
+        double[][] lt = new CholeskyDecomposition(m, 1e-12, 1e-300).getLT().getData();
+        Pattern made = new Pattern(java.util.Arrays.copyOf(obs, no), lt, wInv);
+        if (patterns.size() >= CACHE_PATTERNS) {
+            patterns.clear();
         }
-        solvers.put(key, made);
+        patterns.put(key, made);
         return made;
+    }
+
+    /**
+     * One pattern of observed cells: its indices, the Cholesky factor of Sigma_oo and the columns
+     * W^-1[:, o]. {@link #solveInPlace} is the forward and back substitution of commons-math3's
+     * {@code CholeskyDecomposition} solver (3.6.1) operation for operation, so the values are the
+     * same to the bit; it only reads L^T by rows in both passes and allocates nothing.
+     */
+    private static final class Pattern {
+        final int[] obs;
+        /** L^T: lt[j][i] = L[i][j], the rows read by the forward pass. */
+        private final double[][] lt;
+        /** L: l[j][i] = L^T[i][j] for i &lt; j, the rows read by the back pass. */
+        private final double[][] l;
+        /** p x no: W^-1[a][obs[i]]. */
+        final double[][] wInvObserved;
+
+        Pattern(int[] obs, double[][] lt, double[][] wInv) {
+            int no = obs.length;
+            this.obs = obs;
+            this.lt = lt;
+            this.l = new double[no][no];
+            for (int j = 0; j < no; j++) {
+                for (int i = 0; i < no; i++) {
+                    l[j][i] = lt[i][j];
+                }
+            }
+            this.wInvObserved = new double[wInv.length][no];
+            for (int a = 0; a < wInv.length; a++) {
+                for (int i = 0; i < no; i++) {
+                    wInvObserved[a][i] = wInv[a][obs[i]];
+                }
+            }
+        }
+
+        /** Solves Sigma_oo c = b in place; b in the first obs.length entries of {@code v}. */
+        void solveInPlace(double[] v) {
+            int m = obs.length;
+            // L y = b
+            for (int j = 0; j < m; j++) {
+                double[] ltJ = lt[j];
+                v[j] /= ltJ[j];
+                double vj = v[j];
+                for (int i = j + 1; i < m; i++) {
+                    v[i] -= vj * ltJ[i];
+                }
+            }
+            // L^T c = y
+            for (int j = m - 1; j >= 0; j--) {
+                double[] lJ = l[j];
+                v[j] /= lt[j][j];
+                double vj = v[j];
+                for (int i = 0; i < j; i++) {
+                    v[i] -= vj * lJ[i];
+                }
+            }
+        }
     }
 }
