@@ -161,16 +161,61 @@ final class ChainCoordinates {
             for (int b = 0; b < p; b++) {
                 z[b] = x[o + columns[b]];
             }
-            for (int i = 0; i < no; i++) {
+            // y^o old and (W^-1 e)^o: four observed cells at a time, each sum over b in its own order
+            // (independent sums interleaved, so the values are those of one sum at a time)
+            int i = 0;
+            for (; i + 3 < no; i += 4) {
+                int a0 = obs[i];
+                int a1 = obs[i + 1];
+                int a2 = obs[i + 2];
+                int a3 = obs[i + 3];
+                double[] w0 = wInv[a0];
+                double[] w1 = wInv[a1];
+                double[] w2 = wInv[a2];
+                double[] w3 = wInv[a3];
+                double old0 = sa * mean[a0];
+                double old1 = sa * mean[a1];
+                double old2 = sa * mean[a2];
+                double old3 = sa * mean[a3];
+                double n0 = 0.0;
+                double n1 = 0.0;
+                double n2 = 0.0;
+                double n3 = 0.0;
+                if (s > 0) {
+                    for (int b = 0; b < p; b++) {
+                        double zb = z[b];
+                        double eb = e[b];
+                        old0 += w0[b] * zb;
+                        old1 += w1[b] * zb;
+                        old2 += w2[b] * zb;
+                        old3 += w3[b] * zb;
+                        n0 += w0[b] * eb;
+                        n1 += w1[b] * eb;
+                        n2 += w2[b] * eb;
+                        n3 += w3[b] * eb;
+                    }
+                } else {
+                    for (int b = 0; b < p; b++) {
+                        double zb = z[b];
+                        old0 += w0[b] * zb;
+                        old1 += w1[b] * zb;
+                        old2 += w2[b] * zb;
+                        old3 += w3[b] * zb;
+                    }
+                }
+                c[i] = (sa * known[o + columns[a0]] + sn * n0) - old0;
+                c[i + 1] = (sa * known[o + columns[a1]] + sn * n1) - old1;
+                c[i + 2] = (sa * known[o + columns[a2]] + sn * n2) - old2;
+                c[i + 3] = (sa * known[o + columns[a3]] + sn * n3) - old3;
+            }
+            for (; i < no; i++) {
                 int a = obs[i];
                 double[] wa = wInv[a];
                 double old = sa * mean[a];
+                double noise = 0.0;
                 for (int b = 0; b < p; b++) {
                     old += wa[b] * z[b];
-                }
-                double noise = 0.0;
-                if (s > 0) {
-                    for (int b = 0; b < p; b++) {
+                    if (s > 0) {
                         noise += wa[b] * e[b];
                     }
                 }
@@ -179,18 +224,41 @@ final class ChainCoordinates {
             }
             if (last == null || no != last.obs.length || !java.util.Arrays.equals(obs, 0, no, last.obs, 0, no)) {
                 java.util.Arrays.fill(key, '0');
-                for (int i = 0; i < no; i++) {
-                    key[obs[i]] = '1';
+                for (int k = 0; k < no; k++) {
+                    key[obs[k]] = '1';
                 }
                 last = pattern(new String(key), obs, no);
             }
             last.solveInPlace(c);
+            // z += W^-1[:, o] c, four cells at a time (each sum over i in its own order)
             double[][] g = last.wInvObserved;
-            for (int a = 0; a < p; a++) {
+            int a = 0;
+            for (; a + 3 < p; a += 4) {
+                double[] g0 = g[a];
+                double[] g1 = g[a + 1];
+                double[] g2 = g[a + 2];
+                double[] g3 = g[a + 3];
+                double sum0 = z[a];
+                double sum1 = z[a + 1];
+                double sum2 = z[a + 2];
+                double sum3 = z[a + 3];
+                for (int k = 0; k < no; k++) {
+                    double ck = c[k];
+                    sum0 += g0[k] * ck;
+                    sum1 += g1[k] * ck;
+                    sum2 += g2[k] * ck;
+                    sum3 += g3[k] * ck;
+                }
+                x[o + columns[a]] = (float) sum0;
+                x[o + columns[a + 1]] = (float) sum1;
+                x[o + columns[a + 2]] = (float) sum2;
+                x[o + columns[a + 3]] = (float) sum3;
+            }
+            for (; a < p; a++) {
                 double[] ga = g[a];
                 double sum = z[a];
-                for (int i = 0; i < no; i++) {
-                    sum += ga[i] * c[i];
+                for (int k = 0; k < no; k++) {
+                    sum += ga[k] * c[k];
                 }
                 x[o + columns[a]] = (float) sum;
             }
