@@ -292,7 +292,7 @@ final class ChainCoordinates {
      * {@code CholeskyDecomposition} solver (3.6.1) operation for operation, so the values are the
      * same to the bit; it only reads L^T by rows in both passes and allocates nothing.
      */
-    private static final class Pattern {
+    static final class Pattern {
         final int[] obs;
         /** L^T: lt[j][i] = L[i][j], the rows read by the forward pass. */
         private final double[][] lt;
