@@ -147,19 +147,6 @@ public final class Whitening {
                 centred[r][c] = rows[r][c] - m[c];
             }
         }
-        double mu = 0.0;
-        for (int a = 0; a < d; a++) {
-            mu += s[a][a];
-        }
-        mu /= d;
-        double delta2 = 0.0;
-        for (int a = 0; a < d; a++) {
-            for (int b = 0; b < d; b++) {
-                double e = s[a][b] - (a == b ? mu : 0.0);
-                delta2 += e * e;
-            }
-        }
-        delta2 /= d;
         double bBar2 = 0.0;
         for (int r = 0; r < n; r++) {
             double sum = 0.0;
@@ -172,7 +159,7 @@ public final class Whitening {
             bBar2 += sum / d;
         }
         bBar2 /= (double) n * n;
-        return shrunk(m, s, mu, delta2, bBar2);
+        return shrunk(m, s, bBar2);
     }
 
     /**
@@ -198,6 +185,12 @@ public final class Whitening {
         Require.atLeast("columns", d, 1);
         NormalWithGaps em = NormalWithGaps.fit(rows);
         double[][] s = em.covariance;
+        return shrunk(em.mean, s, em.spread);
+    }
+
+    /** rho = min(delta^2, b^2) / delta^2 (1 when delta^2 = 0) and S* = rho mu I + (1 - rho) S (Ledoit &amp; Wolf 2004). */
+    private static Whitening shrunk(double[] m, double[][] s, double bBar2) {
+        int d = m.length;
         double mu = 0.0;
         for (int a = 0; a < d; a++) {
             mu += s[a][a];
@@ -211,12 +204,6 @@ public final class Whitening {
             }
         }
         delta2 /= d;
-        return shrunk(em.mean, s, mu, delta2, em.spread);
-    }
-
-    /** rho = min(delta^2, b^2) / delta^2 (1 when delta^2 = 0) and S* = rho mu I + (1 - rho) S (Ledoit &amp; Wolf 2004). */
-    private static Whitening shrunk(double[] m, double[][] s, double mu, double delta2, double bBar2) {
-        int d = m.length;
         double rho = delta2 > 0.0 ? Math.min(delta2, bBar2) / delta2 : 1.0;
         double[][] shrunk = new double[d][d];
         for (int a = 0; a < d; a++) {
