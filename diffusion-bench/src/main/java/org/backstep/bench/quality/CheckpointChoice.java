@@ -1,7 +1,5 @@
 package org.backstep.bench.quality;
 
-import java.lang.management.ManagementFactory;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
 import java.util.List;
@@ -48,7 +46,7 @@ public final class CheckpointChoice {
         System.out.printf(Locale.ROOT, "CheckpointChoice started %s; %s %s %s, %d CPUs; load average %s; java %s;"
                         + " OPENBLAS_CORETYPE %s%n", java.time.Instant.now(), System.getProperty("os.name"),
                 System.getProperty("os.version"), System.getProperty("os.arch"), Runtime.getRuntime().availableProcessors(),
-                load(), System.getProperty("java.version"), System.getenv().getOrDefault("OPENBLAS_CORETYPE", "(not set)"));
+                Options.load(), System.getProperty("java.version"), System.getenv().getOrDefault("OPENBLAS_CORETYPE", "(not set)"));
         System.out.println("table, seed, score, held-out nats (steady bound, SOURCES.md space), kept checkpoint bound, fit wall s, fit CPU s");
         // seeds outermost, so that a busy spell of the shared machine falls on every table alike
         for (long seed : seeds) {
@@ -63,7 +61,7 @@ public final class CheckpointChoice {
                 FitOptions options = Lever.DEFAULTS.builder(seed).options();
                 double[] held = new double[CheckpointScore.values().length];
                 for (CheckpointScore score : CheckpointScore.values()) {
-                    long c0 = cpu();
+                    long c0 = Options.cpu();
                     long w0 = System.nanoTime();
                     Trainer.Fitted fitted;
                     try (TrainingRun run = new TrainingRun(options, train, null, p -> { }, () -> false, null)) {
@@ -72,7 +70,7 @@ public final class CheckpointChoice {
                         fitted = run.finish();
                     }
                     double wall = (System.nanoTime() - w0) / 1e9;
-                    double cpuS = (cpu() - c0) / 1e9;
+                    double cpuS = (Options.cpu() - c0) / 1e9;
                     double[] nats = new Engine(fitted.parts()).bound(test, BoundOptions.steady(heldOutDraws), 1L)
                             .natsOriginalUnits();
                     for (int i = 0; i < nats.length; i++) {
@@ -89,18 +87,6 @@ public final class CheckpointChoice {
                         held[CheckpointScore.STEADY.ordinal()] - held[CheckpointScore.SAMPLED.ordinal()]);
             }
         }
-        System.out.printf(Locale.ROOT, "finished %s; load average %s%n", java.time.Instant.now(), load());
-    }
-
-    private static long cpu() {
-        return ((com.sun.management.OperatingSystemMXBean) ManagementFactory.getOperatingSystemMXBean()).getProcessCpuTime();
-    }
-
-    private static String load() {
-        try {
-            return Files.readString(Path.of("/proc/loadavg")).strip();
-        } catch (java.io.IOException e) {
-            return "unknown";
-        }
+        System.out.printf(Locale.ROOT, "finished %s; load average %s%n", java.time.Instant.now(), Options.load());
     }
 }

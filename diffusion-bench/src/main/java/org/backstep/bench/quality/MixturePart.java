@@ -4,6 +4,8 @@ import java.io.IOException;
 import java.nio.file.Path;
 import java.util.Arrays;
 import java.util.List;
+import java.util.Map;
+import java.util.Set;
 
 import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.MixtureBaseline;
@@ -35,22 +37,14 @@ public final class MixturePart {
      * @throws IOException if a table cannot be read
      */
     public static void main(String[] args) throws IOException {
-        Path data = null;
-        Path labels = null;
-        List<String> tables = List.of("iris", "breast_cancer", "diabetes_raw_without_SEX");
-        long seed = 1;
-        for (int i = 0; i + 1 < args.length; i += 2) {
-            switch (args[i]) {
-                case "--data" -> data = Path.of(args[i + 1]);
-                case "--labels" -> labels = Path.of(args[i + 1]);
-                case "--tables" -> tables = List.of(args[i + 1].split(","));
-                case "--seed" -> seed = Long.parseLong(args[i + 1]);
-                default -> throw new IllegalArgumentException("unknown option " + args[i]);
-            }
-        }
-        if (data == null || labels == null) {
+        Map<String, String> o = Options.parse(args, Set.of("--data", "--labels", "--tables", "--seed"));
+        if (!o.containsKey("--data") || !o.containsKey("--labels")) {
             throw new IllegalArgumentException("--data and --labels are required");
         }
+        Path data = Path.of(o.get("--data"));
+        Path labels = Path.of(o.get("--labels"));
+        List<String> tables = List.of(o.getOrDefault("--tables", "iris,breast_cancer,diabetes_raw_without_SEX").split(","));
+        long seed = Long.parseLong(o.getOrDefault("--seed", "1"));
         System.out.println("table                     K   BIC (K = 1..)                                    mixture nats  K=1 nats");
         for (OpenTable t : OpenTable.ALL) {
             if (!tables.contains(t.key())) {
@@ -77,12 +71,6 @@ public final class MixturePart {
             double seconds = (System.nanoTime() - started) / 1e9;
             GaussianMixture mix = part.mixture();
             double[] bic = part.bic();
-            int best = 0;
-            for (int k = 1; k < bic.length; k++) {
-                if (bic[k] < bic[best]) {
-                    best = k;
-                }
-            }
             GaussianMixture one = single(x0, n, dc, schedule);
             float[] z = new float[test.length * dc];
             for (int r = 0; r < test.length; r++) {

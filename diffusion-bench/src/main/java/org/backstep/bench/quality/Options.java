@@ -4,7 +4,10 @@ import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.Set;
 
-/** Strict "--name value" parsing shared by the quality measurements: unknown names and missing values are refused. */
+/**
+ * Shared by the quality measurements: strict "--name value" parsing (unknown names and missing values are
+ * refused), the process CPU time and the load average they print.
+ */
 final class Options {
 
     private Options() {
@@ -34,5 +37,21 @@ final class Options {
             out.put(a, args[++i]);
         }
         return out;
+    }
+
+    /** @return the CPU time of this process so far, in nanoseconds (HotSpot's OperatingSystemMXBean) */
+    static long cpu() {
+        return ((com.sun.management.OperatingSystemMXBean) java.lang.management.ManagementFactory
+                .getOperatingSystemMXBean()).getProcessCpuTime();
+    }
+
+    /** @return /proc/loadavg as read, or "unknown" where there is none */
+    static String load() {
+        try {
+            return java.nio.file.Files.readString(java.nio.file.Path.of("/proc/loadavg"),
+                    java.nio.charset.StandardCharsets.US_ASCII).strip();
+        } catch (java.io.IOException e) {
+            return "unknown";
+        }
     }
 }

@@ -1,9 +1,6 @@
 package org.backstep.bench.quality;
 
-import java.io.IOException;
-import java.lang.management.ManagementFactory;
 import java.lang.reflect.Field;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -62,7 +59,7 @@ public final class ScoreVariance {
                 : List.of(Lever.DEFAULTS, Lever.WHITENED_STANDARD_NORMAL_PART);
         System.out.printf(Locale.ROOT, "ScoreVariance started %s; %s %s %s, %d CPUs; load average %s; java %s; OPENBLAS_CORETYPE %s%n",
                 java.time.Instant.now(), System.getProperty("os.name"), System.getProperty("os.version"),
-                System.getProperty("os.arch"), Runtime.getRuntime().availableProcessors(), load(),
+                System.getProperty("os.arch"), Runtime.getRuntime().availableProcessors(), Options.load(),
                 System.getProperty("java.version"), System.getenv().getOrDefault("OPENBLAS_CORETYPE", "(not set)"));
         for (OpenTable t : OpenTable.ALL) {
             if (!tables.contains(t.key())) {
@@ -76,7 +73,7 @@ public final class ScoreVariance {
                 measure(split, lever, models, seeds, pilot, pilotRows, plans);
             }
         }
-        System.out.printf(Locale.ROOT, "finished %s; load average %s%n", java.time.Instant.now(), load());
+        System.out.printf(Locale.ROOT, "finished %s; load average %s%n", java.time.Instant.now(), Options.load());
     }
 
     private static void measure(OpenTable.Split split, Lever lever, Path models, int seeds, int pilot, int pilotRows,
@@ -106,11 +103,11 @@ public final class ScoreVariance {
         System.out.printf(Locale.ROOT, "%n%s, %s: %d training rows (%d in the pilot), %d test rows%n",
                 split.table().label(), lever, train.rows(), nPilot, nTest);
 
-        long c0 = cpu();
+        long c0 = Options.cpu();
         int pilotLinear = Integer.parseInt(System.getProperty("pilotLinear", "0"));
         double[] spread = BoundEvaluator.termSpread(chain, xTrain, nPilot, pilot, pilotLinear, 99L, 2);
         int steps = spread.length - 1;
-        double pilotCpu = (cpu() - c0) / 1e9;
+        double pilotCpu = (Options.cpu() - c0) / 1e9;
         double var1 = 0;
         double sumSd = 0;
         Integer[] order = new Integer[steps];
@@ -145,9 +142,9 @@ public final class ScoreVariance {
             long profileCpu = 0;
             if (p[0].equals("STEADY")) {
                 // the library's allocation: the model's own profile (measured once per model, not timed per seed)
-                long before = cpu();
+                long before = Options.cpu();
                 draws = engine.drawPlan(org.backstep.option.BoundOptions.steady(k), chain);
-                profileCpu = cpu() - before;
+                profileCpu = Options.cpu() - before;
                 System.out.printf(Locale.ROOT, "  %s: profile %.1f CPU s; %d draws, %d linearized steps; draws by step:%s%n",
                         plan, profileCpu / 1e9, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
             } else if (p[0].startsWith("NEYMAN-")) {
@@ -159,7 +156,7 @@ public final class ScoreVariance {
                 draws = draws.linearizedUpTo(p[2].equals("T") ? steps : Integer.parseInt(p[2]));
             }
             double[][] nats = new double[seeds][];
-            long before = cpu();
+            long before = Options.cpu();
             long wall = System.nanoTime();
             for (int b = 0; b < seeds; b++) {
                 BoundEvaluator.Result r = BoundEvaluator.exact(chain, xTest, nTest, b + 1L, null, draws, 2);
@@ -168,7 +165,7 @@ public final class ScoreVariance {
                     nats[b][i] = r.continuous[i] + r.binary[i];
                 }
             }
-            double cpuPerSeed = (cpu() - before) / 1e9 / seeds;
+            double cpuPerSeed = (Options.cpu() - before) / 1e9 / seeds;
             double wallPerSeed = (System.nanoTime() - wall) / 1e9 / seeds;
             if (Double.isNaN(baseCpu)) {
                 baseCpu = cpuPerSeed;
@@ -219,17 +216,5 @@ public final class ScoreVariance {
             r[i] = i;
         }
         return r;
-    }
-
-    private static long cpu() {
-        return ((com.sun.management.OperatingSystemMXBean) ManagementFactory.getOperatingSystemMXBean()).getProcessCpuTime();
-    }
-
-    private static String load() {
-        try {
-            return Files.readString(Path.of("/proc/loadavg"), StandardCharsets.US_ASCII).strip();
-        } catch (IOException e) {
-            return "unknown";
-        }
     }
 }

@@ -1,6 +1,5 @@
 package org.backstep.bench.quality;
 
-import java.lang.management.ManagementFactory;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
@@ -50,7 +49,7 @@ public final class ScreenScores {
         System.out.printf(Locale.ROOT, "ScreenScores started %s; %s %s %s, %d CPUs; load average %s; java %s;"
                         + " OPENBLAS_CORETYPE %s; Backstep threads %d%n", java.time.Instant.now(),
                 System.getProperty("os.name"), System.getProperty("os.version"), System.getProperty("os.arch"),
-                Runtime.getRuntime().availableProcessors(), load(), System.getProperty("java.version"),
+                Runtime.getRuntime().availableProcessors(), Options.load(), System.getProperty("java.version"),
                 System.getenv().getOrDefault("OPENBLAS_CORETYPE", "(not set)"), Defaults.threads());
         for (OpenTable t : OpenTable.ALL) {
             if (!tables.contains(t.key())) {
@@ -84,11 +83,11 @@ public final class ScreenScores {
                     double cpuSum = 0;
                     double[] aurocs = new double[screenSeeds];
                     for (int s = 0; s < screenSeeds; s++) {
-                        long c0 = cpu();
+                        long c0 = Options.cpu();
                         AnomalyScreen screen = model.screen(held, screened,
                                 Defaults.screening().withBound(how).withQuantile(0.99)
                                         .withSurprisal(org.backstep.option.SurprisalOptions.none()), 100L + s);
-                        cpuSum += (cpu() - c0) / 1e9;
+                        cpuSum += (Options.cpu() - c0) / 1e9;
                         scores[s] = screen.scores();
                         aurocs[s] = Measures.auroc(Arrays.copyOf(scores[s], nn), Arrays.copyOfRange(scores[s], nn, scores[s].length));
                     }
@@ -116,7 +115,7 @@ public final class ScreenScores {
                 }
             }
         }
-        System.out.printf(Locale.ROOT, "finished %s; load average %s%n", java.time.Instant.now(), load());
+        System.out.printf(Locale.ROOT, "finished %s; load average %s%n", java.time.Instant.now(), Options.load());
     }
 
     private static BoundOptions parse(String b) {
@@ -128,17 +127,5 @@ public final class ScreenScores {
             case "exact" -> BoundOptions.exact();
             default -> throw new IllegalArgumentException("bound '" + b + "'; expected sampled:K, steady:K, uniform:K or exact");
         };
-    }
-
-    private static long cpu() {
-        return ((com.sun.management.OperatingSystemMXBean) ManagementFactory.getOperatingSystemMXBean()).getProcessCpuTime();
-    }
-
-    private static String load() {
-        try {
-            return Files.readString(Path.of("/proc/loadavg")).strip();
-        } catch (java.io.IOException e) {
-            return "unknown";
-        }
     }
 }

@@ -164,7 +164,7 @@ public final class Scoring {
             for (int i = 0; i < nats.length; i++) {
                 nats[i] = r.continuous[i] + r.binary[i];
             }
-            return nats;
+            return engine.standardizedNats(nats);   // as every other score: the caller's standardized space
         }
         Chain c = how.sampled() ? engine.chain() : engine.chainOf(how.steps());
         int draws = how.sampled() ? Math.min(how.draws(), engine.steps()) : 0;
