@@ -70,9 +70,9 @@ class MixtureBaselineTest {
     /** Central differences of a smooth log-density in double, step 1e-4 or 1e-3: error far below this (common practice, no source). */
     private static final double DIFFERENCE_TOLERANCE = 2e-4;
     /**
-     * The reverse variance and the Jacobian trace against second central differences (step 1e-3, error
-     * O(h^2) times the fourth derivative, divided by h^2 of float32-rounded inputs) through float32 outputs:
-     * 1e-3 relative (common practice, no source).
+     * The reverse variance and the Jacobian trace against a Hessian from second central differences (step
+     * 1e-3: truncation error O(h^2), and the log-density's rounding amplified by 1 / h^2 = 1e6), compared with
+     * the part's float32 outputs: 1e-3 relative (common practice, no source).
      */
     private static final double SECOND_DIFFERENCE_REL = 1e-3;
 
