@@ -98,9 +98,11 @@ class AllocatedBoundTest {
         long uniformEvals = uniform.total() + uniform.linearizedSteps() * cost;
         assertEquals(16L * steps, uniform.total());
         assertEquals(steps, uniform.linearizedSteps());
-        // Neyman allocation at the reference plan's predicted variance never costs more than the reference
+        // Neyman allocation (Cochran 1977, Sampling Techniques, section 5.5) at the reference plan's predicted
+        // variance never costs more than the reference
         // (the reference is one of the plans it chooses among; rounding adds at most half a draw per step)
         assertTrue(allocatedEvals <= uniformEvals + steps / 2, allocatedEvals + " against " + uniformEvals);
+        // the project's determinism rule (same seed, same figures); common practice, no source
         assertArrayEquals(m.bound(records, BoundOptions.steady(16), 4).nats(), m.bound(records, BoundOptions.steady(16), 4).nats());
     }
 
@@ -121,27 +123,19 @@ class AllocatedBoundTest {
         GaussianBaseline gb = m.parts().baseline();
         MultivariateNormalDistribution fitted = GaussianBaselineTest.fittedGaussianOriginalUnits(m);
         double[] nats = m.bound(test, BoundOptions.steady(16), 7).natsOriginalUnits();
-        double sum = 0;
-        double[] gap = new double[test.rows()];
-        for (int i = 0; i < test.rows(); i++) {
-            gap[i] = nats[i] + Math.log(fitted.density(test.row(i)));
-            sum += gap[i];
-        }
-        double meanGap = sum / test.rows();
-        double ss = 0;
-        for (double g : gap) {
-            ss += (g - meanGap) * (g - meanGap);
-        }
-        double se = Math.sqrt(ss / (test.rows() - 1) / test.rows());
+        double[] gapAndSe = GaussianBaselineTest.gapMeanAndStandardError(nats, test, fitted);
+        double meanGap = gapAndSe[0];
+        double se = gapAndSe[1];
         double expected = GaussianBaselineTest.expectedGap(schedule, gb.mean(), gb.covariance());
         assertTrue(expected > 0.0, "the expected gap " + expected);
-        assertEquals(expected, meanGap, STANDARD_ERRORS * se + FLOAT_NATS,
+        assertEquals(expected, meanGap, GaussianBaselineTest.STANDARD_ERRORS * se + GaussianBaselineTest.FLOAT_NATS,
                 "bound minus the Gaussian's NLL, mean over " + test.rows() + " records (se " + se + ")");
-        assertTrue(meanGap > -FLOAT_NATS, "the bound lies above the exact NLL on average: " + meanGap);
+        assertTrue(meanGap > -GaussianBaselineTest.FLOAT_NATS, "the bound lies above the exact NLL on average: " + meanGap);
     }
 
     @Test
     void refusalsNameTheParameter() {
+        // the project's rule that every entry point refuses bad input by name; common practice, no source
         IllegalArgumentException sampled = assertThrows(IllegalArgumentException.class,
                 () -> new BoundOptions(true, 0, 4, 1, false, true));
         assertTrue(sampled.getMessage().contains("allocated"), sampled.getMessage());
@@ -154,9 +148,4 @@ class AllocatedBoundTest {
                 () -> TermDraws.allocated(TermDraws.Kind.SHIFTED_SOBOL, new int[] {0, 2, 2}, new boolean[2]));
         assertTrue(lengths.getMessage().contains("linear has 2 entries"), lengths.getMessage());
     }
-
-    /** Monte Carlo checks pass within this many standard errors (common practice, no source). */
-    private static final double STANDARD_ERRORS = 3.0;
-    /** Float32 network arithmetic summed over T = 100 terms of three cells: 1e-3 nats (common practice, no source). */
-    private static final double FLOAT_NATS = 1e-3;
 }

@@ -128,20 +128,9 @@ class GaussianBaselineTest {
         MultivariateNormalDistribution fitted = fittedGaussianOriginalUnits(model);
         BoundReport report = model.bound(test, BoundOptions.exact(), 7);
         double[] nats = report.natsOriginalUnits();
-        double sum = 0;
-        double max = 0;
-        for (int i = 0; i < test.rows(); i++) {
-            double gap = nats[i] + Math.log(fitted.density(test.row(i)));
-            sum += gap;
-            max = Math.max(max, Math.abs(gap));
-        }
-        double meanGap = sum / test.rows();
-        double ss = 0;
-        for (int i = 0; i < test.rows(); i++) {
-            double g = nats[i] + Math.log(fitted.density(test.row(i))) - meanGap;
-            ss += g * g;
-        }
-        double se = Math.sqrt(ss / (test.rows() - 1) / test.rows());
+        double[] gapAndSe = gapMeanAndStandardError(nats, test, fitted);
+        double meanGap = gapAndSe[0];
+        double se = gapAndSe[1];
         double expected = expectedGap(schedule, gb.mean(), s);
         // the control variate (BoundEvaluator.exact): for a zero correction every term is its closed-form
         // expectation, so the score of a record does not depend on the seed
@@ -155,9 +144,29 @@ class GaussianBaselineTest {
     }
 
     /** Monte Carlo checks pass within this many standard errors (common practice, no source). */
-    private static final double STANDARD_ERRORS = 3.0;
+    static final double STANDARD_ERRORS = 3.0;
     /** Float32 network arithmetic summed over T = 100 terms of three cells: 1e-3 nats (common practice, no source). */
-    private static final double FLOAT_NATS = 1e-3;
+    static final double FLOAT_NATS = 1e-3;
+
+    /**
+     * The gap between a bound and the exact negative log-density, per record: nats[i] + log p(row i);
+     * returns its mean over the records and the mean's standard error (sample standard deviation over
+     * the square root of the count; common practice, no source).
+     */
+    static double[] gapMeanAndStandardError(double[] nats, Table test, MultivariateNormalDistribution fitted) {
+        double sum = 0;
+        double[] gap = new double[test.rows()];
+        for (int i = 0; i < test.rows(); i++) {
+            gap[i] = nats[i] + Math.log(fitted.density(test.row(i)));
+            sum += gap[i];
+        }
+        double meanGap = sum / test.rows();
+        double ss = 0;
+        for (double g : gap) {
+            ss += (g - meanGap) * (g - meanGap);
+        }
+        return new double[] {meanGap, Math.sqrt(ss / (test.rows() - 1) / test.rows())};
+    }
 
     @Test
     void aFitWithTheBaselineIsDeterministicAndRoundTripsThroughTheModelFile(@org.junit.jupiter.api.io.TempDir

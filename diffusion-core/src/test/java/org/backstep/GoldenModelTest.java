@@ -121,6 +121,7 @@ class GoldenModelTest {
         // the container: the three entries of every format version (ModelFile's Javadoc)
         assertEquals(new TreeSet<>(List.of(ModelFile.MANIFEST, ModelFile.WEIGHTS, ModelFile.SUMS)), zipEntries(file),
                 "entries of the golden file");
+        // the pins below are the project's own format versions (ModelFile's Javadoc); common practice, no source
         assertEquals(4, ModelFile.VERSION, "this test pins format versions 1 to 4; add a golden file for a new version");
         assertEquals(5, ModelFile.WHITENED_VERSION, "this test pins version 5 (a whitened model)");
         assertEquals(6, ModelFile.NEWEST_VERSION, "this test pins version 6 (a mixture model); add a golden file for a new version");

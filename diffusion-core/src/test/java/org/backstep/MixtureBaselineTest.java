@@ -5,21 +5,14 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.io.ByteArrayInputStream;
-import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Collections;
-import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
-import java.util.zip.ZipEntry;
-import java.util.zip.ZipInputStream;
-import java.util.zip.ZipOutputStream;
 
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.node.ObjectNode;
@@ -76,6 +69,12 @@ class MixtureBaselineTest {
     private static final double FLOAT_REL = 2e-5;
     /** Central differences of a smooth log-density in double, step 1e-4 or 1e-3: error far below this (common practice, no source). */
     private static final double DIFFERENCE_TOLERANCE = 2e-4;
+    /**
+     * The reverse variance and the Jacobian trace against a Hessian from second central differences (step
+     * 1e-3: truncation error O(h^2), and the log-density's rounding amplified by 1 / h^2 = 1e6), compared with
+     * the part's float32 outputs: 1e-3 relative (common practice, no source).
+     */
+    private static final double SECOND_DIFFERENCE_REL = 1e-3;
 
     private static MixtureMultivariateNormalDistribution truth(long seed) {
         Well19937c random = new Well19937c(seed);
@@ -155,7 +154,7 @@ class MixtureBaselineTest {
     @Test
     void bicChoosesTwoComponentsAndTheFitIsDeterministic() {
         double[][] x = draw(1000, 12);
-        float[] x0 = toFloat(x);
+        float[] x0 = Engine.toFloat(x);
         NoiseSchedule schedule = NoiseSchedule.linear(100);
         MixtureBaseline a = (MixtureBaseline) ClosedFormPart.fit(Baseline.FITTED_MIXTURE, x0, 1000, 2, 2, schedule, 5);
         MixtureBaseline b = (MixtureBaseline) ClosedFormPart.fit(Baseline.FITTED_MIXTURE, x0, 1000, 2, 2, schedule, 5);
@@ -234,12 +233,12 @@ class MixtureBaselineTest {
                     double expected = c0 * c0 * cov0 + tilde;
                     // the kernel variance of v (Nichol & Dhariwal 2021, eq. 15)
                     double kernel = Math.exp(out[2 + j] * logBeta + (1 - out[2 + j]) * logTilde);
-                    assertEquals(expected, kernel, 1e-3 * expected, "reverse variance " + j + ", " + at);
+                    assertEquals(expected, kernel, SECOND_DIFFERENCE_REL * expected, "reverse variance " + j + ", " + at);
                 }
                 double[] trace = new double[1];
                 part.addTracesInPlace(xt, 2, 1, t, trace);
                 double expectedTrace = -sn * (hxx + hyy);
-                assertEquals(expectedTrace, trace[0], 1e-3 * Math.max(1, Math.abs(expectedTrace)), "trace, " + at);
+                assertEquals(expectedTrace, trace[0], SECOND_DIFFERENCE_REL * Math.max(1, Math.abs(expectedTrace)), "trace, " + at);
             }
         }
     }
@@ -257,6 +256,8 @@ class MixtureBaselineTest {
         float[] x0 = Engine.toFloat(transform.toModelSpace(training));
         ClosedFormPart mixture = ClosedFormPart.fit(Baseline.FITTED_MIXTURE, x0, 500, 3, 3, schedule, 1);
         GaussianBaseline gaussian = GaussianBaseline.fit(Baseline.FITTED_GAUSSIAN, x0, 500, 3, 3, schedule);
+        // BIC (Schwarz 1978, "Estimating the dimension of a model", Annals of Statistics 6:461-464) on
+        // Gaussian rows picks one component; the outputs equal GaussianBaseline's: common practice, no source
         assertEquals(1, ((MixtureBaseline) mixture).mixture().components(),
                 "BIC " + java.util.Arrays.toString(((MixtureBaseline) mixture).bic()));
         assertTrue(mixture.linear() != null, "a one-component mixture is linear (the bound's control variate)");
@@ -280,6 +281,7 @@ class MixtureBaselineTest {
         gaussian.addInPlace(xt, 3, steps, b, 6, rows, true);
         twins.addInPlace(xt, 3, steps, c, 6, rows, true);
         assertArrayEquals(b, a);
+        // a mixture of two identical Gaussians is that Gaussian (arithmetic); FLOAT_REL for float32 outputs
         for (int i = 0; i < b.length; i++) {
             assertEquals(b[i], c[i], FLOAT_REL * Math.max(1, Math.abs(b[i])), "output " + i + " of two equal components");
         }
@@ -287,6 +289,7 @@ class MixtureBaselineTest {
         double[] tb = new double[rows];
         gaussian.addTracesInPlace(xt, 3, rows, 40, ta);
         twins.addTracesInPlace(xt, 3, rows, 40, tb);
+        // the traces in double: 1e-9 for summation order (common practice, no source)
         assertArrayEquals(ta, tb, 1e-9);
     }
 
@@ -388,7 +391,7 @@ class MixtureBaselineTest {
             assertEquals(2, part.mixture().components(), coordinates + ": BIC " + java.util.Arrays.toString(part.bic()));
             Path file = dir.resolve("m-" + coordinates + ".backstep");
             a.save(file);
-            ObjectNode manifest = manifest(Files.readAllBytes(file));
+            ObjectNode manifest = (ObjectNode) JSON.readTree(ModelFileTest.entries(file).get(ModelFile.MANIFEST));
             assertEquals(ModelFile.MIXTURE_VERSION, manifest.get("formatVersion").asInt());
             DiffusionModel back = DiffusionModel.load(file);
             assertEquals(Baseline.FITTED_MIXTURE, back.options().baseline());
@@ -464,20 +467,22 @@ class MixtureBaselineTest {
                 .seed(2).threads(2).fit(training);
         Path file = dir.resolve("m.backstep");
         model.save(file);
-        byte[] bytes = Files.readAllBytes(file);
-        ModelFileException older = refusedEdit(dir, bytes, root -> root.put("formatVersion", 5));
+        // the project's rule that damaged files are refused by name; common practice, no source
+        ModelFileException older = refusedEdit(dir, file, root -> root.put("formatVersion", 5));
         assertTrue(older.getMessage().contains("FITTED_MIXTURE") && older.getMessage().contains("version 6"), older.getMessage());
-        ModelFileException absent = refusedEdit(dir, bytes, root -> root.remove("mixtureBaseline"));
+        ModelFileException absent = refusedEdit(dir, file, root -> root.remove("mixtureBaseline"));
         assertTrue(absent.getMessage().contains("mixtureBaseline"), absent.getMessage());
-        ModelFileException weights = refusedEdit(dir, bytes, root -> ((com.fasterxml.jackson.databind.node.ArrayNode)
+        ModelFileException weights = refusedEdit(dir, file, root -> ((com.fasterxml.jackson.databind.node.ArrayNode)
                 root.get("mixtureBaseline").get("weights")).set(0, 0.9));
         assertTrue(weights.getMessage().contains("weights sum"), weights.getMessage());
-        ModelFileException gaussian = refusedEdit(dir, bytes, root -> ((ObjectNode) root.get("options")).put("baseline", "NONE"));
+        ModelFileException gaussian = refusedEdit(dir, file, root -> ((ObjectNode) root.get("options")).put("baseline", "NONE"));
         assertTrue(gaussian.getMessage().contains("mixtureBaseline"), gaussian.getMessage());
     }
 
     @Test
     void badMixturesAreRefusedByName() {
+        // the project's rule that every entry point refuses bad input by name; common practice, no source
+        // ({{1, 2}, {2, 1}} has eigenvalues 3 and -1: not positive definite, arithmetic)
         IllegalArgumentException sum = assertThrows(IllegalArgumentException.class, () -> GaussianMixture.of(
                 new double[] {0.5, 0.6}, MEANS, COVARIANCES, new double[2]));
         assertTrue(sum.getMessage().contains("weights sum"), sum.getMessage());
@@ -493,50 +498,16 @@ class MixtureBaselineTest {
 
     private static final ObjectMapper JSON = new ObjectMapper();
 
-    private static float[] toFloat(double[][] x) {
-        float[] f = new float[x.length * x[0].length];
-        for (int i = 0; i < x.length; i++) {
-            for (int j = 0; j < x[0].length; j++) {
-                f[i * x[0].length + j] = (float) x[i][j];
-            }
-        }
-        return f;
-    }
-
-    private static Map<String, byte[]> unzip(byte[] file) throws IOException {
-        Map<String, byte[]> m = new LinkedHashMap<>();
-        try (ZipInputStream z = new ZipInputStream(new ByteArrayInputStream(file))) {
-            for (ZipEntry e = z.getNextEntry(); e != null; e = z.getNextEntry()) {
-                m.put(e.getName(), z.readAllBytes());
-            }
-        }
-        return m;
-    }
-
-    private static ObjectNode manifest(byte[] file) throws IOException {
-        return (ObjectNode) JSON.readTree(unzip(file).get(ModelFile.MANIFEST));
-    }
-
-    /** The file with its manifest edited and SHA256SUMS recomputed, loaded: the refusal. */
-    private static ModelFileException refusedEdit(Path dir, byte[] file, java.util.function.Consumer<ObjectNode> edit)
+    /** The file with its manifest edited and SHA256SUMS recomputed (ModelFileTest's helpers), loaded: the refusal. */
+    private static ModelFileException refusedEdit(Path dir, Path file, java.util.function.Consumer<ObjectNode> edit)
             throws IOException {
-        Map<String, byte[]> entries = unzip(file);
+        Map<String, byte[]> entries = ModelFileTest.entries(file);
         ObjectNode root = (ObjectNode) JSON.readTree(entries.get(ModelFile.MANIFEST));
         edit.accept(root);
-        byte[] manifest = JSON.writeValueAsBytes(root);
-        byte[] weights = entries.get(ModelFile.WEIGHTS);
-        String sums = ModelFile.sha256(manifest) + "  " + ModelFile.MANIFEST + "\n" + ModelFile.sha256(weights) + "  "
-                + ModelFile.WEIGHTS + "\n";
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        try (ZipOutputStream z = new ZipOutputStream(out)) {
-            for (String[] e : new String[][] {{ModelFile.MANIFEST}, {ModelFile.WEIGHTS}, {ModelFile.SUMS}}) {
-                z.putNextEntry(new ZipEntry(e[0]));
-                z.write(e[0].equals(ModelFile.MANIFEST) ? manifest : e[0].equals(ModelFile.WEIGHTS) ? weights
-                        : sums.getBytes(StandardCharsets.UTF_8));
-                z.closeEntry();
-            }
-        }
-        Path f = Files.write(dir.resolve("edited.backstep"), out.toByteArray());
+        entries.put(ModelFile.MANIFEST, JSON.writeValueAsBytes(root));
+        entries.put(ModelFile.SUMS, ModelFileTest.sums(entries).getBytes(StandardCharsets.UTF_8));
+        Path f = dir.resolve("edited.backstep");
+        ModelFileTest.write(f, entries);
         return assertThrows(ModelFileException.class, () -> DiffusionModel.load(f));
     }
 }

@@ -60,9 +60,9 @@ class SteadyBoundTest {
     void theSameSeedGivesTheSameBits() {
         // the project's determinism rule (same seed, same model, same figures); common practice, no source
         BoundOptions how = BoundOptions.steady(8);
-        assertArrayEquals(model.bound(records, how, 5).nats(), model.bound(records, how, 5).nats());
-        double[] other = model.bound(records, how, 6).nats();
         double[] first = model.bound(records, how, 5).nats();
+        assertArrayEquals(first, model.bound(records, how, 5).nats());
+        double[] other = model.bound(records, how, 6).nats();
         boolean differs = false;
         for (int i = 0; i < first.length; i++) {
             differs |= first[i] != other[i];
@@ -146,26 +146,15 @@ class SteadyBoundTest {
         // most 7.1e-6 nats over these 400 records; 1e-4 nats allows 14 times that (common practice, no source)
         assertArrayEquals(nats, m.bound(test, BoundOptions.steady(2), 8).natsOriginalUnits(), 1e-4);
         double expected = GaussianBaselineTest.expectedGap(schedule, gb.mean(), s);
-        double sum = 0;
-        double[] gap = new double[test.rows()];
-        for (int i = 0; i < test.rows(); i++) {
-            gap[i] = nats[i] + Math.log(fitted.density(test.row(i)));
-            sum += gap[i];
-        }
-        double meanGap = sum / test.rows();
-        double ss = 0;
-        for (double g : gap) {
-            ss += (g - meanGap) * (g - meanGap);
-        }
-        double se = Math.sqrt(ss / (test.rows() - 1) / test.rows());
+        double[] gapAndSe = GaussianBaselineTest.gapMeanAndStandardError(nats, test, fitted);
+        double meanGap = gapAndSe[0];
+        double se = gapAndSe[1];
         // measured: 0.0416 +/- 0.0022 against the expected 0.0412 (GaussianBaselineTest: 0.0424 +/- 0.0007
         // with the plain bound on 4,000 records)
-        assertEquals(expected, meanGap, STANDARD_ERRORS * se + FLOAT_NATS,
+        assertEquals(expected, meanGap, GaussianBaselineTest.STANDARD_ERRORS * se + GaussianBaselineTest.FLOAT_NATS,
                 "bound minus the fitted Gaussian's NLL, mean over " + test.rows() + " records (se " + se + ")");
     }
 
-    /** Float32 network arithmetic summed over T = 100 terms of three cells: 1e-3 nats (common practice, no source). */
-    private static final double FLOAT_NATS = 1e-3;
 
     @Test
     void aScreenScoresEachRecordAsItScoresAlone() {
@@ -181,13 +170,15 @@ class SteadyBoundTest {
 
     @Test
     void aSampledBoundRefusesTermDraws() {
+        // the project's rule that every entry point refuses bad input; common practice, no source
         assertThrows(IllegalArgumentException.class, () -> new BoundOptions(true, 0, 4, 2, false, false));
         assertThrows(IllegalArgumentException.class, () -> BoundOptions.steady(0));
         assertThrows(IllegalArgumentException.class, () -> BoundOptions.exact().withTermDraws(BoundOptions.MAX_TERM_DRAWS + 1));
     }
 
-    /** Monte Carlo checks pass within this many standard errors (common practice, no source). */
-    private static final double STANDARD_ERRORS = 3.0;
-    /** The same for eight means of skewed draws (one of eight passes 3 by chance about 2% of the time; common practice, no source). */
+    /**
+     * Monte Carlo checks of eight means of skewed draws pass within this many standard errors (one of
+     * eight passes 3 by chance about 2% of the time; common practice, no source).
+     */
     private static final double STANDARD_ERRORS_SKEWED = 4.0;
 }

@@ -95,7 +95,12 @@ class WhitenedCoordinatesTest {
     }
 
     private static double[][] draws(int n, int seed) {
-        MultivariateNormalDistribution g = new MultivariateNormalDistribution(new Well19937c(seed), MU, SIGMA);
+        return draws(n, seed, MU, SIGMA);
+    }
+
+    /** n rows of N(mu, sigma) from commons-math3's sampler on Well19937c(seed) (also WhitenedDenoisingTest's). */
+    static double[][] draws(int n, int seed, double[] mu, double[][] sigma) {
+        MultivariateNormalDistribution g = new MultivariateNormalDistribution(new Well19937c(seed), mu, sigma);
         double[][] rows = new double[n][];
         for (int i = 0; i < n; i++) {
             rows[i] = g.sample();
@@ -104,7 +109,12 @@ class WhitenedCoordinatesTest {
     }
 
     private static Table table(double[][] rows) {
-        return Table.of(NAMES, Collections.nCopies(MU.length, ColumnKind.CONTINUOUS), rows);
+        return table(NAMES, rows);
+    }
+
+    /** The rows as a table of continuous columns with these names. */
+    static Table table(List<String> names, double[][] rows) {
+        return Table.of(names, Collections.nCopies(names.size(), ColumnKind.CONTINUOUS), rows);
     }
 
     /**
@@ -316,7 +326,7 @@ class WhitenedCoordinatesTest {
     }
 
     /** Least-squares slope of y on x. */
-    private static double slope(double[] x, double[] y) {
+    static double slope(double[] x, double[] y) {
         double mx = StatUtils.mean(x);
         double my = StatUtils.mean(y);
         double sxy = 0.0;

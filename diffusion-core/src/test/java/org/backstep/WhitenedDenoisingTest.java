@@ -3,7 +3,6 @@ package org.backstep;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.util.Collections;
 import java.util.List;
 import java.util.SplittableRandom;
 
@@ -12,12 +11,10 @@ import org.apache.commons.math3.linear.Array2DRowRealMatrix;
 import org.apache.commons.math3.linear.LUDecomposition;
 import org.apache.commons.math3.linear.RealMatrix;
 import org.apache.commons.math3.random.Well19937c;
-import org.apache.commons.math3.stat.StatUtils;
 import org.backstep.option.Coordinates;
 import org.backstep.option.DenoisingOptions;
 import org.backstep.report.Denoising;
 import org.backstep.schedule.NoiseSchedule;
-import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -61,16 +58,11 @@ class WhitenedDenoisingTest {
     private static Denoising denoised;
 
     private static double[][] draws(int n, int seed) {
-        MultivariateNormalDistribution g = new MultivariateNormalDistribution(new Well19937c(seed), MU, SIGMA);
-        double[][] rows = new double[n][];
-        for (int i = 0; i < n; i++) {
-            rows[i] = g.sample();
-        }
-        return rows;
+        return WhitenedCoordinatesTest.draws(n, seed, MU, SIGMA);
     }
 
     private static Table table(double[][] rows) {
-        return Table.of(NAMES, Collections.nCopies(MU.length, ColumnKind.CONTINUOUS), rows);
+        return WhitenedCoordinatesTest.table(NAMES, rows);
     }
 
     @BeforeAll
@@ -124,7 +116,7 @@ class WhitenedDenoisingTest {
             double rmse = Math.sqrt(sqGot / truth.length);
             double rmseExact = Math.sqrt(sqExact / truth.length);
             double rmseOld = Math.sqrt(sqOld / truth.length);
-            assertEquals(1.0, slope(exact, got), SLOPE_TOLERANCE, "slope of column " + a);
+            assertEquals(1.0, WhitenedCoordinatesTest.slope(exact, got), SLOPE_TOLERANCE, "slope of column " + a);
             assertEquals(rmseExact, rmse, RMSE_RATIO * rmseExact, "RMSE of column " + a + " (exact " + rmseExact + ")");
             assertTrue(rmse < 0.5 * rmseOld, "RMSE of column " + a + ": " + rmse + ", old start's posterior " + rmseOld);
         }
@@ -161,17 +153,5 @@ class WhitenedDenoisingTest {
                         RowSeedJobsTest.PLACE_ROUNDING, "sd " + i + ", " + j);
             }
         }
-    }
-
-    private static double slope(double[] x, double[] y) {
-        double mx = StatUtils.mean(x);
-        double my = StatUtils.mean(y);
-        double sxy = 0.0;
-        double sxx = 0.0;
-        for (int i = 0; i < x.length; i++) {
-            sxy += (x[i] - mx) * (y[i] - my);
-            sxx += (x[i] - mx) * (x[i] - mx);
-        }
-        return sxy / sxx;
     }
 }

@@ -63,7 +63,7 @@ class TransformStatisticsTest {
 
     @Test
     void irisFromStatisticsEqualsFitOnTheRows() {
-        // data/SOURCES.md: iris (UCI, CC BY 4.0), the fixed training split i % 5 != 0
+        // data/SOURCES.md: iris (Fisher 1936, scikit-learn's copy, BSD-3-Clause), the fixed training split i % 5 != 0
         Table train = OpenData.read("iris.csv").filterRows(i -> i % 5 != 0);
         Set<String> log = Set.of("petal_length_cm");
         TableTransform fitted = TableTransform.fit(train, log);

@@ -92,16 +92,7 @@ class EstimatorKindsTest {
 
     /** The same rows as a core Table, the labels in sorted order. */
     private static Table table(List<Row> rows) {
-        double[][] x = new double[rows.size()][NAMES.size()];
-        for (int i = 0; i < rows.size(); i++) {
-            Row r = rows.get(i);
-            for (int j = 0; j < NAMES.size(); j++) {
-                Object v = r.get(j + 2);
-                x[i][j] = v == null ? Double.NaN : v instanceof Boolean b ? (b ? 1 : 0)
-                        : v instanceof String s ? SORTED.indexOf(s) : ((Number) v).doubleValue();
-            }
-        }
-        return Table.of(NAMES, KINDS, Map.of("alarm_code", SORTED), x);
+        return WholeTableStatisticsTest.coreTable(rows, 2, NAMES, KINDS, "alarm_code", SORTED);
     }
 
     private static BackstepEstimator estimator() {

@@ -75,16 +75,7 @@ class WholeTableStatisticsTest {
 
     /** The same rows as a core Table, the labels in the sorted order Spark's statistics give them. */
     private static Table table(List<Row> rows, List<String> labels) {
-        double[][] x = new double[rows.size()][NAMES.size()];
-        for (int i = 0; i < rows.size(); i++) {
-            Row r = rows.get(i);
-            for (int j = 0; j < NAMES.size(); j++) {
-                Object v = r.get(j + 1);
-                x[i][j] = v == null ? Double.NaN : v instanceof Boolean b ? (b ? 1 : 0)
-                        : v instanceof String s ? labels.indexOf(s) : ((Number) v).doubleValue();
-            }
-        }
-        return Table.of(NAMES, KINDS, Map.of("code", labels), x);
+        return coreTable(rows, 1, NAMES, KINDS, "code", labels);
     }
 
     private static WholeTableStatistics.Result statistics(Dataset<Row> frame) {
@@ -201,5 +192,24 @@ class WholeTableStatisticsTest {
             assertEquals(e.shift(), a.shift(), CORE_ROUNDING_TOL * Math.max(1.0, Math.abs(e.shift())), name);
             assertEquals(e.scale(), a.scale(), CORE_ROUNDING_TOL * Math.abs(e.scale()), name);
         }
+    }
+
+    /**
+     * Rows of a data frame as a core Table: the cells from field {@code first} on, in the order of
+     * {@code names}; a null cell is NaN, a boolean 1 or 0, a label its index in {@code labels} (the labels of
+     * the one categorical column {@code categorical}), a number its double value.
+     */
+    static Table coreTable(List<Row> rows, int first, List<String> names, List<ColumnKind> kinds, String categorical,
+                           List<String> labels) {
+        double[][] x = new double[rows.size()][names.size()];
+        for (int i = 0; i < rows.size(); i++) {
+            Row r = rows.get(i);
+            for (int j = 0; j < names.size(); j++) {
+                Object v = r.get(j + first);
+                x[i][j] = v == null ? Double.NaN : v instanceof Boolean b ? (b ? 1 : 0)
+                        : v instanceof String s ? labels.indexOf(s) : ((Number) v).doubleValue();
+            }
+        }
+        return Table.of(names, kinds, Map.of(categorical, labels), x);
     }
 }

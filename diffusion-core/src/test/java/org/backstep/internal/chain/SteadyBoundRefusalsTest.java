@@ -57,6 +57,6 @@ class SteadyBoundRefusalsTest {
         BoundOptions wide = new BoundOptions(false, 0, 0, BoundOptions.MAX_TERM_DRAWS, true, false);
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> m.bound(t, wide, 1L));
         assertTrue(e.getMessage().contains("termDraws x chunk rows x model-space columns"), e.getMessage());
-        assertTrue(4096L * 256 * cols > Limits.MAX_CELLS, "the case must exceed the limit it tests");
+        assertTrue((long) BoundOptions.MAX_TERM_DRAWS * 256 * cols > Limits.MAX_CELLS, "the case must exceed the limit it tests");
     }
 }

@@ -20,6 +20,7 @@ class TermProfileTest {
     @Test
     void withoutControlVariatesTheDrawsFollowTheSpreadAndKeepTheTotal() {
         // four steps, spreads 4 : 2 : 1 : 1, no control variate (cost 0): K_t = K T s_t / sum s = 32 x (4, 2, 1, 1) / 8
+        // (Neyman allocation, K_t proportional to s_t: Cochran 1977, Sampling Techniques, section 5.5)
         double[] spread = {0, 4, 2, 1, 1};
         TermDraws plan = TermProfile.of(spread, spread, 0).allocate(8);
         assertEquals(16, plan.at(1));
@@ -33,7 +34,8 @@ class TermProfileTest {
     @Test
     void theControlVariateGoesWhereItSavesMoreDrawsThanItCosts() {
         // step 1: the control variate takes the spread from 10 to 0.1; steps 2 to 4: from 0.2 to 0.19 (it saves
-        // almost nothing there), at a cost of 5 evaluations per step
+        // almost nothing there), at a cost of 5 evaluations per step; which steps take it: the class comment's
+        // Lagrangian, common practice, no source
         double[] plain = {0, 10, 0.2, 0.2, 0.2};
         double[] linear = {0, 0.1, 0.19, 0.19, 0.19};
         TermDraws plan = TermProfile.of(plain, linear, 5).allocate(4);
@@ -41,15 +43,17 @@ class TermProfileTest {
         assertFalse(plan.linearizes(2));
         assertFalse(plan.linearizes(4));
         // the predicted variance sum s_t^2 / K_t is at most the reference's, (sum l_t)^2 / (K T), but for rounding
+        // (the variance of a sum of independent means and its Neyman minimum: Cochran 1977, section 5.5)
         double reference = Math.pow(0.1 + 3 * 0.19, 2) / (4 * 4);
         double predicted = 0.1 * 0.1 / plan.at(1) + 3 * 0.2 * 0.2 / plan.at(2);
         assertTrue(predicted <= reference * (1 + HALF_A_DRAW / plan.at(2)), predicted + " against " + reference);
-        // and it costs fewer evaluations than the reference, every step linearized with 4 draws: 4 x (4 + 5)
+        // and it costs fewer evaluations than the reference (common practice, no source), every step linearized with 4 draws: 4 x (4 + 5)
         assertTrue(plan.total() + 5L * plan.linearizedSteps() < 4L * (4 + 5), "evaluations " + plan.total());
     }
 
     @Test
     void aProfileWithoutNoiseDrawsKAtEveryStep() {
+        // no spread anywhere: the uniform plan, K at every step (common practice, no source)
         double[] none = {0, 0, 0, 0};
         TermDraws plan = TermProfile.of(none, none, 3).allocate(5);
         for (int s = 1; s <= 3; s++) {
