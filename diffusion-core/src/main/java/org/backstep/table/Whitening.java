@@ -354,6 +354,34 @@ public final class Whitening {
     public double[] whiten(double[] y) {
         checkRow("y", y);
         double[] z = new double[y.length];
+        whitenChecked(y, z);
+        return z;
+    }
+
+    /**
+     * z = W (y - m) into a given array, the arithmetic of {@link #whiten(double[])} (same summation
+     * order, same bits) without allocating.
+     *
+     * @param y d values (not modified)
+     * @param into d values (overwritten with z); a different array from {@code y}
+     * @return {@code into}
+     * @throws IllegalArgumentException if a length differs from d, a value of y is NaN (a missing cell),
+     *     or {@code into} is {@code y}
+     */
+    public double[] whiten(double[] y, double[] into) {
+        checkRow("y", y);
+        Require.notNull("into", into);
+        if (into.length != mean.length) {
+            throw new IllegalArgumentException("into has " + into.length + " values; expected " + mean.length);
+        }
+        if (into == y) {
+            throw new IllegalArgumentException("into is y; every z value reads all of y, so they must differ");
+        }
+        whitenChecked(y, into);
+        return into;
+    }
+
+    private void whitenChecked(double[] y, double[] z) {
         for (int a = 0; a < y.length; a++) {
             double sum = 0.0;
             for (int b = 0; b < y.length; b++) {
@@ -361,7 +389,6 @@ public final class Whitening {
             }
             z[a] = sum;
         }
-        return z;
     }
 
     /**

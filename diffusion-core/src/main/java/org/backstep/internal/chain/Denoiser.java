@@ -116,6 +116,9 @@ public final class Denoiser {
         double[][] noiseW = null;       // W S W, the readings' noise in whitened coordinates
         double[] lambda = new double[0];    // its eigenvalues
         double[][] rotation = null;         // U, column i the eigenvector of lambda[i]
+        // the continuous columns that are not whitened (integer ones, or all of them in standardized coordinates)
+        int[] plainCols = java.util.stream.IntStream.range(0, cont.length)
+                .filter(j -> java.util.Arrays.binarySearch(wcols, j) < 0).toArray();
         if (wcols.length > 0) {
             // whitened columns: the noise n ~ N(0, S), S = diag(s_j^2), is W S W in z; the start level must cover
             // its largest eigenvalue so that a topping-up of covariance L Sigma - S exists
@@ -135,20 +138,14 @@ public final class Denoiser {
             org.apache.commons.math3.linear.EigenDecomposition eig = new org.apache.commons.math3.linear.EigenDecomposition(
                     new org.apache.commons.math3.linear.Array2DRowRealMatrix(noiseW, false));
             lambda = eig.getRealEigenvalues();
-            rotation = new double[p][p];
-            for (int i = 0; i < p; i++) {
-                double[] u = eig.getEigenvector(i).toArray();
-                for (int a = 0; a < p; a++) {
-                    rotation[a][i] = u[a];
-                }
-            }
+            // V's column i is a copy of the eigenvector of lambda[i] (commons-math3 3.6.1 getV), so
+            // V[a][i] = u_i[a] exactly
+            rotation = eig.getV().getData();
             double top = java.util.Arrays.stream(lambda).max().orElse(0.0);
             // the non-whitened continuous columns (integer ones) keep their own s_j^2 in max
             double plain = 0.0;
-            for (int j = 0; j < cont.length; j++) {
-                if (java.util.Arrays.binarySearch(wcols, j) < 0) {
-                    plain = Math.max(plain, s2[j]);
-                }
+            for (int j : plainCols) {
+                plain = Math.max(plain, s2[j]);
             }
             max = Math.max(plain, top);
         }
@@ -197,7 +194,7 @@ public final class Denoiser {
                 known[r * d + j] = j < c.dc ? Float.NaN : z[r * d + j];
             }
         }
-        Release release = new Release(c, schedule, keep, z, rows, s2, wcols, rotation, lambda, wf, mf);
+        Release release = new Release(c, schedule, keep, z, rows, s2, wcols, plainCols, rotation, lambda, wf, mf);
         int cols = readings.columns();
         double[][] sum = new double[rows][cols];
         double[][] sumSq = new double[rows][cols];
@@ -261,10 +258,11 @@ public final class Denoiser {
         private final int[] wcols;
         private final double[][] u;
         private final double[] lambda;
+        private final int[][] heldAt;       // per chain step s: the directions i with lambda_i <= L_s, ascending
         private final double[] vy;          // rows x p: U^T W (y~ - m), the readings in the noise's eigenbasis
 
         Release(Chain c, NoiseSchedule schedule, int[] keep, float[] readings, int rows, double[] s2, int[] wcols,
-                double[][] u, double[] lambda, double[][] w, double[] mean) {
+                int[] plain, double[][] u, double[] lambda, double[][] w, double[] mean) {
             this.d = c.d;
             int steps = keep.length;
             level = new double[steps + 1];
@@ -274,14 +272,25 @@ public final class Denoiser {
                 level[s] = schedule.oneMinusAlphaBar(keep[s - 1]) / schedule.alphaBar(keep[s - 1]);
                 sqrtAbar[s] = Math.sqrt(schedule.alphaBar(keep[s - 1]));
             }
-            this.plain = java.util.stream.IntStream.range(0, c.dc)
-                    .filter(j -> java.util.Arrays.binarySearch(wcols, j) < 0).toArray();
+            this.plain = plain;
             this.s2 = s2;
             this.readings = readings;
             this.wcols = wcols;
             this.u = u;
             this.lambda = lambda;
             int p = wcols.length;
+            heldAt = new int[steps + 1][];
+            heldAt[0] = new int[0];     // s = 0 replaces nothing (replaceInPlace returns first)
+            for (int s = 1; s <= steps; s++) {
+                int[] held = new int[p];
+                int nh = 0;
+                for (int i = 0; i < p; i++) {
+                    if (lambda[i] <= level[s]) {
+                        held[nh++] = i;
+                    }
+                }
+                heldAt[s] = java.util.Arrays.copyOf(held, nh);
+            }
             vy = new double[rows * p];
             double[] y = new double[p];
             double[] zy = new double[p];
@@ -308,24 +317,21 @@ public final class Denoiser {
 
         /** The replacement of the chunk whose first row is row {@code from} of the readings. */
         ReverseRun.StepReplacement forChunk(int from) {
-            return (x, rows, s, rng) -> replaceInPlace(x, rows, s, from, rng);
+            // one chunk's steps run one after another in one thread, so its scratch is its own
+            double[] change = new double[wcols.length];
+            return (x, rows, s, rng) -> replaceInPlace(x, rows, s, from, rng, change);
         }
 
-        private void replaceInPlace(float[] x, int rows, int s, int from, java.util.SplittableRandom[] rng) {
+        private void replaceInPlace(float[] x, int rows, int s, int from, java.util.SplittableRandom[] rng,
+                                    double[] change) {
             if (s == 0) {
                 return;     // every reading has noise above 0, so no direction is held at x_0
             }
             double l = level[s];
             double sa = sqrtAbar[s];
             int p = wcols.length;
-            int[] held = new int[p];
-            int nh = 0;
-            for (int i = 0; i < p; i++) {
-                if (lambda[i] <= l) {
-                    held[nh++] = i;
-                }
-            }
-            double[] change = new double[nh];
+            int[] held = heldAt[s];
+            int nh = held.length;
             for (int r = 0; r < rows; r++) {
                 int o = r * d;
                 int ro = (from + r) * d;

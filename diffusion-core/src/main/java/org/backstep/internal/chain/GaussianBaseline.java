@@ -303,21 +303,6 @@ public final class GaussianBaseline implements ClosedFormPart {
     }
 
     /**
-     * Adds the closed form to every row of an output block, in place.
-     *
-     * @param xt rows x d (not modified)
-     * @param steps the training-schedule step of each row
-     * @param out rows x outputs (modified)
-     */
-    @Override
-    public void addInPlace(float[] xt, int d, int[] steps, float[] out, int outputs, int rows, boolean learned) {
-        double[] scratch = new double[dc];
-        for (int r = 0; r < rows; r++) {
-            addToRowInPlace(xt, r * d, steps[r], out, r * outputs, learned, scratch);
-        }
-    }
-
-    /**
      * @param step the training-schedule step t
      * @return the gain A_t = U diag(sqrt(1 - abar_t) / (abar_t l_k + 1 - abar_t)) U^T of epsilon-hat =
      *     A_t (x_t - sqrt(abar_t) m), dc x dc, symmetric (a new array)

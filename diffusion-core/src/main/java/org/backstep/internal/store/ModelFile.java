@@ -429,7 +429,7 @@ public final class ModelFile {
                 ReverseNetwork network = ReverseNetwork.fromParameters(m.shape, m.options.steps(), weights);
                 ClosedFormPart baseline = m.transform.modelledContinuous().length == 0 ? null : switch (m.options.baseline()) {
                     case NONE -> null;
-                    case FITTED_MIXTURE -> MixtureBaseline.of(m.mixture, m.mixtureBic, m.options.continuousSchedule());
+                    case FITTED_MIXTURE -> m.mixture; // built and checked by readManifest
                     case STANDARD_NORMAL -> GaussianBaseline.standardNormal(m.transform.modelledContinuous().length,
                             m.options.continuousSchedule());
                     case FITTED_GAUSSIAN -> GaussianBaseline.of(Baseline.FITTED_GAUSSIAN, m.baselineMean,
@@ -455,8 +455,7 @@ public final class ModelFile {
     /** The manifest's content, every field checked; the network is not built yet. */
     private record Manifest(FitOptions options, TableTransform transform, NetworkShape shape, ModelRange range,
                             Provenance provenance, double[] baselineMean, double[][] baselineCovariance,
-                            double baselineShrinkage, org.backstep.table.Whitening whitening, GaussianMixture mixture,
-                            double[] mixtureBic) {
+                            double baselineShrinkage, org.backstep.table.Whitening whitening, MixtureBaseline mixture) {
     }
 
     private static Manifest readManifest(JsonNode root, int version) throws ModelFileException {
@@ -641,8 +640,7 @@ public final class ModelFile {
                 throw new ModelFileException(gw, e.getMessage(), e);
             }
         }
-        GaussianMixture mixture = null;
-        double[] mixtureBic = null;
+        MixtureBaseline mixture = null;
         boolean mixed = options.baseline() == Baseline.FITTED_MIXTURE && dc > 0;
         if (options.baseline() == Baseline.FITTED_MIXTURE && version < MIXTURE_VERSION) {
             throw new ModelFileException(MANIFEST + " options.baseline", "FITTED_MIXTURE in a file of format version "
@@ -672,13 +670,12 @@ public final class ModelFile {
                 covs[c] = g.covariance();
                 shrink[c] = g.shrinkage();
             }
-            mixtureBic = new double[b.size()];
+            double[] mixtureBic = new double[b.size()];
             for (int i = 0; i < mixtureBic.length; i++) {
                 mixtureBic[i] = JsonFields.finite(b.get(i), mw + ".bic[" + i + "]");
             }
             try {
-                mixture = GaussianMixture.of(weights, means, covs, shrink);
-                MixtureBaseline.of(mixture, mixtureBic, cont);
+                mixture = MixtureBaseline.of(GaussianMixture.of(weights, means, covs, shrink), mixtureBic, cont);
             } catch (IllegalArgumentException e) {
                 throw new ModelFileException(mw, e.getMessage(), e);
             }
@@ -702,7 +699,7 @@ public final class ModelFile {
         }
         Provenance provenance = ProvenanceJson.read(JsonFields.field(root, "provenance", MANIFEST));
         return new Manifest(options, transform, shape, range, provenance, baselineMean, baselineCovariance,
-                baselineShrinkage, whitening, mixture, mixtureBic);
+                baselineShrinkage, whitening, mixture);
     }
 
     private static ModelRange readRange(JsonNode node, int dc, int db, int[] categories) throws ModelFileException {

@@ -36,6 +36,13 @@ final class GaussianGaps {
     private final double[] known;
     private final Draw[] draws;
     private final double[] mean;
+    /**
+     * Scratch for {@link #drawInPlace} and {@link #drawWhitenedInPlace}, p values each: one instance
+     * per training run, whose batch loop is sequential, so not safe for concurrent calls.
+     */
+    private final double[] yScratch;
+    private final double[] zScratch;
+    private final double[] xiScratch;
 
     /** What one pattern of missing whitened cells needs: its cells, A and L. */
     private static final class Draw {
@@ -62,6 +69,9 @@ final class GaussianGaps {
         this.known = known;
         this.draws = draws;
         this.mean = whitening.mean();
+        this.yScratch = new double[columns.length];
+        this.zScratch = new double[columns.length];
+        this.xiScratch = new double[columns.length];
     }
 
     /**
@@ -182,7 +192,7 @@ final class GaussianGaps {
             y[a] = known[i * p + a];
         }
         int nu = dr.missing.length;
-        double[] xi = new double[nu];
+        double[] xi = xiScratch; // nu <= p values used
         for (int a = 0; a < nu; a++) {
             xi[a] = rng.nextGaussian();
         }
@@ -208,9 +218,9 @@ final class GaussianGaps {
      * @param rng the generator
      */
     void drawWhitenedInPlace(int r, float[] row, int offset, SplittableRandom rng) {
-        double[] y = new double[columns.length];
+        double[] y = yScratch;
         drawInPlace(r, y, rng);
-        double[] z = whitening.whiten(y);
+        double[] z = whitening.whiten(y, zScratch);
         for (int a = 0; a < columns.length; a++) {
             row[offset + columns[a]] = (float) z[a];
         }

@@ -198,14 +198,13 @@ final class TrainingRows {
                     + (missing ? "mean and covariance by EM for the normal with missing cells, " : "")
                     + "Ledoit-Wolf shrinkage " + String.format(java.util.Locale.ROOT, "%.4f", fitted.shrinkage())
                     + ", log|det W| " + String.format(java.util.Locale.ROOT, "%.4f", fitted.logDeterminant()) + ")");
-            if (gaps != null) {
-                drawn = GaussianGaps.of(fitted, whitened, x0, n, d);
-            }
+            // a missing whitened cell implies gaps != null (gaps is null only when no diffused cell is missing)
+            drawn = missing ? GaussianGaps.of(fitted, whitened, x0, n, d) : null;
         }
         if (gaps != null) {
             gaps.initialFillInPlace(x0, n, options.seed());
             notes.add(gapNote(gaps, n));
-            if (drawn != null && drawn.rowCount() > 0) {
+            if (drawn != null) {
                 // the whitened gaps start as (and at every use are) a draw of the fitted Gaussian's conditional
                 drawn.fillInPlace(x0, new SplittableRandom(options.seed() ^ GAUSSIAN_FILL_SEED));
                 notes.add(drawn.rowCount() + " training rows miss a whitened cell: at every use those cells were"
@@ -213,7 +212,7 @@ final class TrainingRows {
                         + " observed whitened cells, then whitened, and trained on as targets");
             }
         }
-        gaussianGaps = drawn == null || drawn.rowCount() == 0 ? null : drawn;
+        gaussianGaps = drawn;
         whitening = fitted;
         if (fitted != null) {
             fitted.whitenInPlace(x0, n, width(), whitened);
