@@ -52,7 +52,13 @@ enum Lever {
      * The library's option coordinates WHITENED with the closed form of a Gaussian mixture fitted on
      * the whitened training rows (Baseline.FITTED_MIXTURE, K by BIC): a zero network is that mixture.
      */
-    WHITENED_MIXTURE_MODEL("whitened model+mixture part", Baseline.FITTED_MIXTURE, Coordinates.WHITENED);
+    WHITENED_MIXTURE_MODEL("whitened model+mixture part", Baseline.FITTED_MIXTURE, Coordinates.WHITENED),
+    /** Normal scores (Silverman's bandwidth), then the library's defaults (whitened, N(0, I) part). */
+    NORMAL_SCORES_MODEL("normal scores+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
+    /** Normal scores (twice Silverman's bandwidth), then the library's defaults. */
+    NORMAL_SCORES2_MODEL("normal scores x2+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
+    NORMAL_SCORES4_MODEL("normal scores x4+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
+    NORMAL_SCORES8_MODEL("normal scores x8+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES);
 
     /** The bandwidth of NORMAL_SCORES: Silverman's rule itself (no choice made on the test tables). */
     static final double BANDWIDTH_MULTIPLE = 1.0;
@@ -92,7 +98,10 @@ enum Lever {
         return switch (this) {
             case DEFAULTS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL,
                     WHITENED_MIXTURE_MODEL -> new Encoding(this, null, null, train);
-            case NORMAL_SCORES -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
+            case NORMAL_SCORES, NORMAL_SCORES_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
+            case NORMAL_SCORES2_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 2.0), null, train);
+            case NORMAL_SCORES4_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 4.0), null, train);
+            case NORMAL_SCORES8_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 8.0), null, train);
             case WHITENED, NORMAL_SCORES_WHITENED, WHITENED_STANDARD_NORMAL_PART -> {
                 TableTransform columns = this != NORMAL_SCORES_WHITENED ? TableTransform.fit(train, Set.of())
                         : TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE);
