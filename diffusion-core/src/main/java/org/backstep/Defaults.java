@@ -146,17 +146,17 @@ public final class Defaults {
      * every table and seed (breast_cancer 0.314 / 0.321 against 0.316 / 0.317), the 90% intervals'
      * coverage within 2 points on breast_cancer and diabetes; the breast_cancer screen's AUROC 0.9575
      * against 0.9586 (seed 1). The 13-D Gaussian (1,424 rows) stays +0.002 nats from the fitted
-     * Gaussian (+0.003 without decay); the README's open-data table (256 x 2,
-     * 2,000 updates) improved on all three tables (iris 3.013 to 2.994, breast_cancer 1.552 to
-     * 1.408, diabetes 8.247 to 8.014); the 2-D Gaussian bound, the T = 10 plan and the slope of
-     * Gaussian imputations (1.01), worse with 3e-4 before the flip, moved within their noise. One fit got worse:
-     * {@code OpenDataBoundTest}'s iris (64 x 2, step size 1e-2, 6,000 updates of 32 rows) 3.18 to
-     * 3.47 over seeds 1 to 3 (1e-4: 3.10), still below one Gaussian's 3.69: the share is per update,
-     * so a longer run shrinks more. A decay scaled to the run (a fixed total
-     * shrinkage, the product of (1 - lambda) over the planned updates) equals this one at every
-     * default fit (each runs exactly 4,000 updates), so these tables cannot tell them apart; on
-     * that test it would be 2e-4 (3.31, still worse), so it was not adopted. 1e-3 was too strong
-     * at 4,000 updates before the flip (diffusion-bench/results/fit-size.txt: iris 3.68, diabetes 7.67).
+     * Gaussian (+0.003 without decay); the README's open-data table (256 x 2, 2,000 updates)
+     * improved on all three tables (iris 3.013 to 2.994, breast_cancer 1.552 to 1.408, diabetes
+     * 8.247 to 8.014); the 2-D Gaussian bound, the T = 10 plan and the slope of Gaussian
+     * imputations (1.01), worse with 3e-4 before the flip, moved within their noise. One fit got
+     * worse: {@code OpenDataBoundTest}'s iris (64 x 2, step size 1e-2, 6,000 updates of 32 rows)
+     * 3.18 to 3.47 over seeds 1 to 3 (1e-4: 3.10), still below one Gaussian's 3.69: the share is
+     * per update, so a longer run shrinks more. A decay scaled to the run (a fixed total shrinkage,
+     * the product of (1 - lambda) over the planned updates) equals this one at every default fit
+     * (each runs exactly 4,000 updates), so these tables cannot tell them apart; on that test it
+     * would be 2e-4 (3.31, still worse), so it was not adopted. 1e-3 was too strong at 4,000
+     * updates before the flip (diffusion-bench/results/fit-size.txt: iris 3.68, diabetes 7.67).
      */
     public static final double WEIGHT_DECAY = 3e-4;
     /**
