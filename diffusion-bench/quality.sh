@@ -8,7 +8,7 @@
 #   diffusion-bench/quality.sh                       defaults, fit seed 1 (about 10 minutes on 2 cores)
 #   diffusion-bench/quality.sh --levers --seeds 1,2,3 --seeds:breast_cancer 1,2 --seeds:digits_binary 1,2
 #                                                    the table transforms too (Lever), several fit seeds
-#   further options: --tables iris,breast_cancer  --bound-seeds 5
+#   further options: --tables iris,breast_cancer  --bound-seeds 5  --weight-decay 1e-4 (instead of Defaults.WEIGHT_DECAY)
 #
 # Needs results/quality-baselines.json (run quality-baselines.sh first; it is committed).
 # Output: printed, and kept in results/quality.txt, with one line per fit in results/quality-runs.csv.

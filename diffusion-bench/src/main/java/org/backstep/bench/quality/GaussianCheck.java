@@ -27,7 +27,9 @@ import org.backstep.table.Table;
  * standard normal draws (Well19937c seed 13), and sd_j = 1 + j / 2, means mu_j = 3 j: strongly and
  * unevenly correlated columns on different scales.
  *
- * <p>Usage: {@code GaussianCheck [--seeds 1,2] [--bound-seeds 3] [--only-levers DEFAULTS,...]}.
+ * <p>Usage: {@code GaussianCheck [--seeds 1,2] [--bound-seeds 3] [--only-levers DEFAULTS,...]
+ * [--weight-decay 3e-4]} ({@code --weight-decay}: every fit with this decoupled weight decay per update
+ * instead of {@code Defaults.WEIGHT_DECAY}).
  */
 public final class GaussianCheck {
 
@@ -41,6 +43,7 @@ public final class GaussianCheck {
     public static void main(String[] args) {
         List<Long> seeds = List.of(1L, 2L);
         int boundSeeds = 3;
+        double weightDecay = org.backstep.Defaults.WEIGHT_DECAY;
         List<Lever> levers = List.of(Lever.DEFAULTS, Lever.STANDARD_NORMAL_PART, Lever.WHITENED_STANDARD_NORMAL_PART,
                 Lever.FITTED_GAUSSIAN_PART);
         for (int i = 0; i < args.length; i += 2) {
@@ -48,6 +51,7 @@ public final class GaussianCheck {
                 case "--seeds" -> seeds = Arrays.stream(args[i + 1].split(",")).map(Long::parseLong).toList();
                 case "--bound-seeds" -> boundSeeds = Integer.parseInt(args[i + 1]);
                 case "--only-levers" -> levers = Arrays.stream(args[i + 1].split(",")).map(Lever::valueOf).toList();
+                case "--weight-decay" -> weightDecay = Double.parseDouble(args[i + 1]);
                 default -> throw new IllegalArgumentException("unknown option " + args[i]);
             }
         }
@@ -86,7 +90,8 @@ public final class GaussianCheck {
         Table testT = Table.of(names, kinds, test);
         StringBuilder out = new StringBuilder();
         out.append(String.format(Locale.ROOT, "13-dimensional Gaussian, %d training and %d test rows; nats per test record, "
-                + "data units%n  true density %.3f; fitted Gaussian (MLE) %.3f%n", TRAIN, TEST, trueNll, fittedNll));
+                + "data units; weight decay %s per update%n  true density %.3f; fitted Gaussian (MLE) %.3f%n", TRAIN, TEST,
+                weightDecay, trueNll, fittedNll));
         for (Lever lever : levers) {
             List<Double> perSeed = new ArrayList<>();
             List<Double> recordSd = new ArrayList<>();
@@ -94,7 +99,7 @@ public final class GaussianCheck {
             for (long seed : seeds) {
                 Lever.Encoding enc = lever.fit(trainT);
                 long t0 = System.nanoTime();
-                DiffusionModel m = lever.builder(seed).fit(enc.encode(trainT));
+                DiffusionModel m = lever.builder(seed).weightDecay(weightDecay).fit(enc.encode(trainT));
                 seconds += (System.nanoTime() - t0) / 1e9;
                 double[] lj = enc.logJacobian(testT);
                 Table encTest = enc.encode(testT);

@@ -54,8 +54,10 @@ import org.backstep.table.Table;
  *
  * <p>Usage: {@code QualityBenchmark --baselines FILE --data DIR --labels DIR [--out FILE]
  * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--only-levers A,B]
- * [--density-only] [--no-anomaly] [--bound-seeds 5]} ({@code --density-only}: no imputation and no
- * anomaly ranks; {@code --no-anomaly}: no anomaly ranks).
+ * [--density-only] [--no-anomaly] [--bound-seeds 5] [--weight-decay 3e-4]} ({@code --density-only}: no
+ * imputation and no anomaly ranks; {@code --no-anomaly}: no anomaly ranks; {@code --weight-decay}: every
+ * fit, the anomaly models' too, with this decoupled weight decay per update instead of
+ * {@code Defaults.WEIGHT_DECAY}, every other setting as the lever has it).
  * Progress goes to standard error; the table to standard output and, with {@code --out}, to a file.
  */
 public final class QualityBenchmark {
@@ -109,6 +111,7 @@ public final class QualityBenchmark {
         Path data = Path.of(required(opt, "--data"));
         Path labels = Path.of(required(opt, "--labels"));
         int boundSeeds = Integer.parseInt(opt.getOrDefault("--bound-seeds", "5"));
+        double weightDecay = Double.parseDouble(opt.getOrDefault("--weight-decay", String.valueOf(Defaults.WEIGHT_DECAY)));
         List<Long> seeds = seeds(opt.getOrDefault("--seeds", "1"));
         List<Lever> levers = opt.containsKey("--only-levers")
                 ? Arrays.stream(opt.get("--only-levers").split(",")).map(String::strip).map(Lever::valueOf).toList()
@@ -140,7 +143,7 @@ public final class QualityBenchmark {
                         continue; // every lever maps continuous columns; the table has none
                     }
                     Run run = measure(split, lever, own.get(si), boundSeeds, baselines, opt.containsKey("--density-only"),
-                            opt.containsKey("--density-only") || opt.containsKey("--no-anomaly"));
+                            opt.containsKey("--density-only") || opt.containsKey("--no-anomaly"), weightDecay);
                     runs.add(run);
                     runLines.append(runLine(run)).append('\n');
                     System.err.printf(Locale.ROOT, "%s, %s, seed %d: %.3f nats (rec sd %.3f), rmse %.3f, auroc %.4f, fit %.1f s%n",
@@ -148,7 +151,7 @@ public final class QualityBenchmark {
                 }
             }
         }
-        String settings = settings(started, loadBefore, opt.get("--git"));
+        String settings = settings(started, loadBefore, opt.get("--git"), weightDecay);
         String text = SideBySide.render(settings, splits, levers, runs, baselines, boundSeeds);
         System.out.print(text);
         if (opt.containsKey("--out")) {
@@ -160,12 +163,12 @@ public final class QualityBenchmark {
     }
 
     static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines,
-                       boolean densityOnly, boolean noAnomaly) {
+                       boolean densityOnly, boolean noAnomaly, double weightDecay) {
         Table train = split.train();
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
         long t0 = System.nanoTime();
-        DiffusionModel model = lever.builder(seed).fit(enc.encode(train));
+        DiffusionModel model = lever.builder(seed).weightDecay(weightDecay).fit(enc.encode(train));
         double fitSeconds = (System.nanoTime() - t0) / 1e9;
 
         // density, in SOURCES.md's space
@@ -267,7 +270,7 @@ public final class QualityBenchmark {
             Table normalTrain = split.normalTrain();
             Lever.Encoding encA = lever.fit(normalTrain);
             long a0 = System.nanoTime();
-            DiffusionModel ma = lever.builder(seed).fit(encA.encode(normalTrain));
+            DiffusionModel ma = lever.builder(seed).weightDecay(weightDecay).fit(encA.encode(normalTrain));
             anomalyFit = (System.nanoTime() - a0) / 1e9;
             Table screened = split.screened();
             int nn = split.screenedNormal();
@@ -302,12 +305,14 @@ public final class QualityBenchmark {
                 r.aurocBound(), r.anomalyFitSeconds());
     }
 
-    private static String settings(String started, double loadBefore, String git) {
+    private static String settings(String started, double loadBefore, String git, double weightDecay) {
         return String.format(Locale.ROOT,
                 "Backstep quality benchmark, started %s, finished %s%s%n"
+                        + "weight decay %s per update (%s)%n"
                         + "machine: %s %s %s, %d CPUs (shared); load average (1 min) %.2f at start, %.2f at end%n"
                         + "java %s (%s); Backstep threads %d (library default); OPENBLAS_CORETYPE %s%n",
-                started, java.time.Instant.now(), git == null ? "" : ", git " + git,
+                started, java.time.Instant.now(), git == null ? "" : ", git " + git, weightDecay,
+                weightDecay == Defaults.WEIGHT_DECAY ? "Defaults.WEIGHT_DECAY" : "--weight-decay; Defaults.WEIGHT_DECAY is " + Defaults.WEIGHT_DECAY,
                 System.getProperty("os.name"), System.getProperty("os.version"), System.getProperty("os.arch"),
                 Runtime.getRuntime().availableProcessors(), loadBefore, loadAverage(),
                 System.getProperty("java.version"), System.getProperty("java.vm.name"), org.backstep.Defaults.threads(),
