@@ -170,7 +170,7 @@ public final class Defaults {
      * was closer to their held-out bound (mean absolute gap 1.1 against 2.0 nats: the 32-draw figure
      * of the kept weights is picked for its luck, as low as -3.1 against 1.3 held out).
      */
-    public static final int CHECKPOINT_DRAWS = 32;
+    public static final int CHECKPOINT_DRAWS = 4;
     /** Evaluations without improvement before early stopping; 0 turns it off. */
     public static final int PATIENCE = 0;
     /** The seed. */
@@ -335,7 +335,10 @@ public final class Defaults {
      * as much as scoring 20 to 45 records at K = 64 (64 records drawn by the model, 4 draws per term,
      * with and without the control variates).
      */
-    public static final int STEADY_TERM_DRAWS = 64;
+    public static final int STEADY_TERM_DRAWS = 256;
+
+    /** XXX */
+    public static final double STEADY_RECORD_SD = 0.05;
 
     /**
      * @return the steady exact bound with {@link #STEADY_TERM_DRAWS} draws per term on average,
@@ -344,7 +347,7 @@ public final class Defaults {
      *     iris, breast_cancer and diabetes)
      */
     public static BoundOptions steadyBound() {
-        return BoundOptions.steady(STEADY_TERM_DRAWS);
+        return BoundOptions.steadyWithin(STEADY_RECORD_SD, STEADY_TERM_DRAWS);
     }
 
     /**
@@ -389,7 +392,7 @@ public final class Defaults {
      *     records the per-column figures of {@link #surprisal()}
      */
     public static ScreeningOptions screening() {
-        return new ScreeningOptions(ThresholdRule.quantile(SCREENING_QUANTILE), BoundOptions.sampled(SCREENING_DRAWS),
+        return new ScreeningOptions(ThresholdRule.quantile(SCREENING_QUANTILE), steadyBound(),
                 MissingCells.refuse(), surprisal(), SCREENING_SCORE, flow());
     }
 
