@@ -6,7 +6,6 @@ import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
-import org.backstep.internal.chain.TermDraws;
 import org.backstep.internal.net.AdamOptimizer;
 import org.backstep.internal.net.NetworkShape;
 import org.backstep.internal.net.ParallelStep;
