@@ -176,13 +176,13 @@ public final class Defaults {
      *   digits_binary (143)    0.900 / 0.615 / 0.408          0.075 / 0.051 / 0.034
      * </pre>
      * K = 4 is the least power of two below issue 11's 0.05 nats on all four (one draw per term:
-     * 0.07 to 0.13; the 32-step Monte Carlo bound used before drew new noise for every record and
-     * step it skipped, 2 to 6 nats per record at one draw per term without it). Its cost
+     * 0.07 to 0.13). Its cost
      * per row and evaluation is 4 T + (T/10)(2 Dc + 1 + D_b) network evaluations (1,010 on
      * breast_cancer's 30 columns, against 710 at K = 1 and 33 for the former 32-step Monte Carlo
-     * bound); the steady score at K = 1 cost 5% more fit CPU than the Monte Carlo bound over 9 default
-     * fits (steady-score.txt; the kept weights' held-out bound moved by -0.09 +/- 0.08 nats, the same
-     * weights kept in 5 of 9), and K = 4 adds at most 1.4 times that evaluation cost. The figure is
+     * bound). Against that former choice, 6 seed-paired default fits (iris, breast_cancer, diabetes
+     * without SEX; fit seeds 1 and 2; steady-use.txt, section 3) kept weights whose held-out bound
+     * was lower by 0.049 nats on average (0, 0, 0, 0.043, 0.090, 0.159: never higher; the same weights
+     * in 3 of 6) at 19% more fit CPU time (loaded machine; +5% at K = 1 in steady-score.txt). The figure is
      * an upper bound on the model's negative log-likelihood of the checkpoint rows in expectation
      * over the seed; incomplete checkpoint rows are left out (the bound needs every cell).
      */

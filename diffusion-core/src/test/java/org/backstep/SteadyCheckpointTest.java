@@ -2,6 +2,7 @@ package org.backstep;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNotEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.Collections;
@@ -71,5 +72,16 @@ class SteadyCheckpointTest {
         double monteCarlo = (BoundEvaluator.sum(sampled.continuous) + BoundEvaluator.sum(sampled.binary)) / n
                 - chain.logDeterminant();
         assertNotEquals(least, monteCarlo, 1e-6 * Math.max(1.0, Math.abs(least)));
+    }
+
+    @Test
+    void tooManyCheckpointDrawsAreRefusedByName() {
+        // the steady score draws at most BoundOptions.MAX_TERM_DRAWS per term; the project's rule that bad input is
+        // refused by name (common practice, no source)
+        double[][] rows = {{0.1, 1.0}, {0.4, 0.2}, {0.9, 0.5}, {0.3, 0.8}, {0.7, 0.6}};
+        Table t = Table.of(List.of("a", "b"), Collections.nCopies(2, ColumnKind.CONTINUOUS), rows);
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> Backstep.builder().steps(5).hidden(4).epochs(1).checkpointDraws(4097).threads(1).fit(t, t));
+        assertTrue(e.getMessage().contains("checkpointDraws is 4097"), e.getMessage());
     }
 }
