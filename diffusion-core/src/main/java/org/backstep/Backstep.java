@@ -303,7 +303,7 @@ public final class Backstep {
             return this;
         }
 
-        /** Steps drawn per record in the held-out bound; default {@link Defaults#CHECKPOINT_DRAWS}. @param draws at least 1 @return this */
+        /** Draws of x_t per term of the steady checkpoint score the kept weights are chosen by; default {@link Defaults#CHECKPOINT_DRAWS}. @param draws 1 to BoundOptions.MAX_TERM_DRAWS (checked by the fit) @return this */
         public Builder checkpointDraws(int draws) {
             this.checkpointDraws = draws;
             return this;

@@ -322,9 +322,11 @@ public final class DiffusionModel {
     }
 
     /**
-     * Screens records by {@link Defaults#screening()}: each record's score is its bound (a Monte
-     * Carlo bound of at most T steps, with common random numbers: every record shares the bound's
-     * draws, so its score is a fixed function of the record and the seed); a record is flagged when
+     * Screens records by {@link Defaults#screening()}: each record's score is its steady bound
+     * ({@link Defaults#steadyBound()}: an upper bound on the record's negative log-likelihood in
+     * expectation over the seed, its draws allocated by the model's own profile to a per-record sd
+     * of about 0.04 nats; every record shares the same draws, so its score is a fixed function of
+     * the record and the seed, and hardly moves with the seed); a record is flagged when
      * its score is above the 0.99 quantile of the held-out records' scores; a record with a cell
      * beyond the model space's range or outside its column's support scores +infinity, is flagged
      * and noted; a missing cell is refused; the flagged records get the per-column surprisal

@@ -147,5 +147,20 @@ class AllocatedBoundTest {
         IllegalArgumentException lengths = assertThrows(IllegalArgumentException.class,
                 () -> TermDraws.allocated(TermDraws.Kind.SHIFTED_SOBOL, new int[] {0, 2, 2}, new boolean[2]));
         assertTrue(lengths.getMessage().contains("linear has 2 entries"), lengths.getMessage());
+        // the variance target: above 0 and finite, on an allocated bound only, with a cap in range
+        for (double bad : new double[] {0.0, -0.01, Double.NaN, Double.POSITIVE_INFINITY}) {
+            IllegalArgumentException target = assertThrows(IllegalArgumentException.class,
+                    () -> BoundOptions.steadyWithin(bad, 64));
+            assertTrue(target.getMessage().contains("recordSd is " + bad), target.getMessage());
+        }
+        IllegalArgumentException cap = assertThrows(IllegalArgumentException.class,
+                () -> BoundOptions.steadyWithin(0.05, 0));
+        assertTrue(cap.getMessage().contains("termDraws is 0"), cap.getMessage());
+        IllegalArgumentException unallocated = assertThrows(IllegalArgumentException.class,
+                () -> new BoundOptions(false, 0, 0, 4, true, false, 0.05));
+        assertTrue(unallocated.getMessage().contains("recordSd is 0.05 and allocated false"), unallocated.getMessage());
+        // turning the allocation off drops the target with it
+        assertEquals(BoundOptions.steady(64).withAllocation(false),
+                BoundOptions.steadyWithin(0.05, 64).withAllocation(false));
     }
 }

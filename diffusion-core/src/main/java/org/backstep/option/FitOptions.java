@@ -35,7 +35,7 @@ import java.util.Set;
  * @param checkpointFraction share of rows held out when no validation table is given
  * @param evaluateEvery epochs between checkpoint evaluations; 0 means epochs / evaluations
  * @param evaluations checkpoint evaluations over a run when evaluateEvery is 0
- * @param checkpointDraws steps drawn per record in the held-out Monte Carlo bound
+ * @param checkpointDraws draws of x_t per term of the steady checkpoint score (at most {@link BoundOptions#MAX_TERM_DRAWS}, checked by the fit)
  * @param patience evaluations without improvement before stopping; 0 never stops early
  * @param logColumns continuous columns modelled on a log scale
  * @param seed the seed of every random draw

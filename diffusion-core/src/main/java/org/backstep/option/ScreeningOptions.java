@@ -8,11 +8,15 @@ import org.backstep.schedule.Require;
  * {@code org.backstep.report.AnomalyScreen}), or its exact negative log-likelihood under the
  * probability-flow ODE (by {@code flow}; Song et al. 2021, section 4.3; no draws, continuous
  * columns only, far costlier); a record is flagged when its score is above the
- * threshold that {@code threshold} sets from the held-out records' scores. A sampled bound uses at
- * most T draws. The steady bound ({@link BoundOptions#steady}, {@code withBound(org.backstep.Defaults#steadyBound())})
- * scores each record with a seed-to-seed noise of a few hundredths of a nat instead of nats, at 55
- * to 75 times the CPU time of the default screen on breast_cancer, with the same anomaly ranks there
- * (diffusion-bench/results/steady-score.txt; see {@code org.backstep.Defaults#SCREENING_DRAWS}); every record then draws the same points. Missing cells are refused or imputed by {@code missing}; the flagged records get
+ * threshold that {@code threshold} sets from the held-out records' scores, the same score of the
+ * held-out records (the same seed, so the same draws). The default bound is the steady bound
+ * ({@link BoundOptions#steadyWithin}, {@code org.backstep.Defaults#steadyBound()}: its draws of
+ * x_t allocated by the model's own profile to a per-record sd of about 0.04 nats, so that scores,
+ * flags and ranks hardly move with the seed). {@code withBound} takes any other, e.g. the former
+ * default, a Monte Carlo bound of {@code Defaults#SCREENING_DRAWS} drawn steps (at most T), many
+ * times cheaper with scores that move by nats from seed to seed (measured in
+ * diffusion-bench/results/steady-use.txt; see {@code org.backstep.Defaults#screening()}). Missing
+ * cells are refused or imputed by {@code missing}; the flagged records get
  * per-column surprisal figures by {@code surprisal} (none when its draws are 0).
  *
  * <p>Start from {@code org.backstep.Defaults#screening()}.

@@ -21,7 +21,9 @@ import java.util.stream.IntStream;
  * <p><b>The score</b> of a record is its negative variational bound in nats, model space (Ho et
  * al. 2020, eq. 5; {@code org.backstep.option.BoundOptions}), an upper bound on -log p(x) under the
  * model that is estimated with noise: each term draws x_t ~ q(x_t | x_0), and a sampled bound also
- * draws its steps. A screen uses common random numbers: every record, held-out or screened, is
+ * draws its steps. The default screen's steady bound draws enough per term that a record's score
+ * moves by about 0.04 nats from seed to seed ({@code org.backstep.Defaults#steadyBound()}). A screen
+ * uses common random numbers: every record, held-out or screened, is
  * diffused with the same noise at each step (and a sampled bound draws the same steps for every
  * record), so a record's score is a fixed function of the record and the seed; two records'
  * scores differ by what tells them apart, not by their draws, and a record scores the same in

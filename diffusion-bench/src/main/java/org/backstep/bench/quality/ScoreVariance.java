@@ -137,7 +137,7 @@ public final class ScoreVariance {
         double baseCpu = Double.NaN;
         for (String plan : plans) {
             String[] p = plan.split(":");
-            int k = Integer.parseInt(p[1]);
+            int k = p[0].equals("TARGET") ? 0 : Integer.parseInt(p[1]);
             TermDraws draws;
             long profileCpu = 0;
             if (p[0].equals("STEADY")) {
@@ -147,6 +147,16 @@ public final class ScoreVariance {
                 profileCpu = Options.cpu() - before;
                 System.out.printf(Locale.ROOT, "  %s: profile %.1f CPU s; %d draws, %d linearized steps; draws by step:%s%n",
                         plan, profileCpu / 1e9, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
+            } else if (p[0].equals("TARGET")) {
+                // the allocation to a predicted per-record sd (BoundOptions.steadyWithin(sd, cap))
+                double sd = Double.parseDouble(p[1]);
+                int cap = p.length > 2 ? Integer.parseInt(p[2]) : org.backstep.option.BoundOptions.MAX_TERM_DRAWS;
+                long before = Options.cpu();
+                draws = engine.drawPlan(org.backstep.option.BoundOptions.steadyWithin(sd, cap), chain);
+                profileCpu = Options.cpu() - before;
+                System.out.printf(Locale.ROOT, "  %s: profile %.1f CPU s; %d draws, %d linearized steps; draws by step:%s%n",
+                        plan, profileCpu / 1e9, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
+                p = new String[] {p[0], "0"};
             } else if (p[0].startsWith("NEYMAN-")) {
                 draws = TermDraws.allocated(TermDraws.Kind.valueOf(p[0].substring(7)), neyman(spread, k));
             } else {
@@ -181,9 +191,10 @@ public final class ScoreVariance {
                 double sd = Measures.sd(across);
                 squares += sd * sd;
             }
+            double predicted = Math.sqrt(engine.profile(chain).predictedVariance(draws));
             long evals = draws.total() + (long) draws.linearizedSteps() * (2L * chain.continuousColumns() + 1L + chain.binaryColumns());
-            System.out.printf(Locale.ROOT, "  %-26s evals/record %6d (with linearization %6d)  record sd %.4f  mean nats (model space) %.4f  CPU s/seed %.2f"
-                            + " (x%.1f)  wall s/seed %.2f%n", plan, draws.total(), evals, Math.sqrt(squares / nTest),
+            System.out.printf(Locale.ROOT, "  %-26s evals/record %6d (with linearization %6d)  record sd %.4f (profile predicts %.4f)  mean nats (model space) %.4f  CPU s/seed %.2f"
+                            + " (x%.1f)  wall s/seed %.2f%n", plan, draws.total(), evals, Math.sqrt(squares / nTest), predicted,
                     mean / nTest / seeds, cpuPerSeed, cpuPerSeed / baseCpu, wallPerSeed);
         }
     }

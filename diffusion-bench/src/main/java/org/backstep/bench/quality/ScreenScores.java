@@ -109,9 +109,10 @@ public final class ScreenScores {
                         baseCpu = cpuPer;
                     }
                     System.out.printf(Locale.ROOT, "  %-14s AUROC %s (mean %.4f)  record sd: normal rms %.4f, median all %.4f"
-                                    + "  CPU s/screen %.2f (x%.1f of the first)%n",
+                                    + "  CPU s/screen %.2f (x%.1f of the first; %.2f ms per record scored)%n",
                             b, Arrays.toString(Arrays.stream(aurocs).mapToObj(a -> String.format(Locale.ROOT, "%.4f", a)).toArray()),
-                            Measures.mean(aurocs), Math.sqrt(squares / nn), Measures.quantile(sds, 0.5), cpuPer, cpuPer / baseCpu);
+                            Measures.mean(aurocs), Math.sqrt(squares / nn), Measures.quantile(sds, 0.5), cpuPer, cpuPer / baseCpu,
+                            1e3 * cpuPer / (held.rows() + screened.rows()));
                 }
             }
         }
@@ -125,7 +126,10 @@ public final class ScreenScores {
             case "steady" -> BoundOptions.steady(Integer.parseInt(p[1]));
             case "uniform" -> BoundOptions.steady(Integer.parseInt(p[1])).withAllocation(false);
             case "exact" -> BoundOptions.exact();
-            default -> throw new IllegalArgumentException("bound '" + b + "'; expected sampled:K, steady:K, uniform:K or exact");
+            case "target" -> BoundOptions.steadyWithin(Double.parseDouble(p[1]), Integer.parseInt(p[2]));
+            case "default" -> Defaults.screening().bound();
+            default -> throw new IllegalArgumentException("bound '" + b + "'; expected sampled:K, steady:K, uniform:K,"
+                    + " target:SD:CAP, default or exact");
         };
     }
 }

@@ -81,11 +81,17 @@ public final class Engine {
     /**
      * @param how exact bound options
      * @param c the chain they run on ({@link #chainOf}(how.steps()))
-     * @return the draws of each term: allocated by the chain's profile when {@code how.allocated()},
-     *     else {@link TermDraws#of}
+     * @return the draws of each term: allocated by the chain's profile when {@code how.allocated()}
+     *     (to the variance recordSd^2 when it is set, else at the noise of termDraws draws), else
+     *     {@link TermDraws#of}
      */
     public TermDraws drawPlan(BoundOptions how, Chain c) {
-        return how.allocated() ? profile(c).allocate(how.termDraws()) : TermDraws.of(how, c.steps);
+        if (!how.allocated()) {
+            return TermDraws.of(how, c.steps);
+        }
+        return how.recordSd() > 0.0
+                ? profile(c).allocateTo(how.recordSd() * how.recordSd(), how.termDraws())
+                : profile(c).allocate(how.termDraws());
     }
 
     /**

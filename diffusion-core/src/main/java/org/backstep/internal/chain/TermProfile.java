@@ -110,21 +110,80 @@ public final class TermProfile {
      */
     public TermDraws allocate(int k) {
         int steps = plain.length - 1;
-        boolean[] lin = new boolean[steps + 1];
         double reference = 0.0;
         for (int s = 1; s <= steps; s++) {
-            lin[s] = cost > 0;
-            reference += lin[s] ? linear[s] : plain[s];
+            reference += cost > 0 ? linear[s] : plain[s];
         }
-        int[] per = new int[steps + 1];
         if (!(reference > 0.0) || !Double.isFinite(reference)) {
-            // no noise measured (or none finite): K draws at every step
-            Arrays.fill(per, 1, steps + 1, k);
-            return TermDraws.allocated(k == 1 ? TermDraws.Kind.INDEPENDENT : TermDraws.Kind.SHIFTED_SOBOL, per, lin);
+            return uniform(k);
         }
-        // V = reference^2 / (k T); sqrt(lambda) = sum_t s_t / V
-        double variance = reference * reference / ((double) k * steps);
-        double root = reference / variance;
+        // V = reference^2 / (k T)
+        return plan(reference * reference / ((double) k * steps), k);
+    }
+
+    /**
+     * The draws that reach a predicted per-record variance V (Neyman allocation with a variance
+     * target; Cochran 1977, section 5.5): the same Lagrangian as the class comment's, K_t =
+     * sqrt(lambda) s_t with sqrt(lambda) = sum_t s_t / V, so that the predicted variance
+     * sum_t s_t^2 / K_t is V and the draws in all N = (sum_t s_t)^2 / V (before rounding; K_t at
+     * least 1, which only lowers the variance). When N would pass {@code mostMean} T, the plan is
+     * {@link #allocate}({@code mostMean}) and its predicted variance above V.
+     *
+     * @param variance V, nats squared, above 0
+     * @param mostMean the cap on the mean draws per term, 1 to {@link BoundOptions#MAX_TERM_DRAWS}
+     * @return the plan
+     */
+    public TermDraws allocateTo(double variance, int mostMean) {
+        if (!(variance > 0.0) || !Double.isFinite(variance)) {
+            throw new IllegalArgumentException("variance is " + variance + "; it must be finite and above 0");
+        }
+        int steps = plain.length - 1;
+        double reference = 0.0;
+        for (int s = 1; s <= steps; s++) {
+            reference += cost > 0 ? linear[s] : plain[s];
+        }
+        if (!(reference > 0.0) || !Double.isFinite(reference)) {
+            return uniform(1);
+        }
+        TermDraws target = plan(variance, mostMean);
+        return target.total() > (long) mostMean * steps ? allocate(mostMean) : target;
+    }
+
+    /**
+     * @param draws a plan of this profile's chain
+     * @return the per-record variance the profile predicts for it, sum_t s_t^2 / K_t (s_t the
+     *     linearized spread at the steps that take the control variate, else the plain one),
+     *     independent draws
+     */
+    public double predictedVariance(TermDraws draws) {
+        double v = 0.0;
+        for (int s = 1; s < plain.length; s++) {
+            double spread = draws.linearizes(s) ? linear[s] : plain[s];
+            v += spread * spread / draws.at(s);
+        }
+        return v;
+    }
+
+    private TermDraws uniform(int k) {
+        int steps = plain.length - 1;
+        int[] per = new int[steps + 1];
+        boolean[] lin = new boolean[steps + 1];
+        Arrays.fill(per, 1, steps + 1, k);
+        Arrays.fill(lin, 1, steps + 1, cost > 0);
+        // no noise measured (or none finite): k draws at every step
+        return TermDraws.allocated(k == 1 ? TermDraws.Kind.INDEPENDENT : TermDraws.Kind.SHIFTED_SOBOL, per, lin);
+    }
+
+    /** The least-cost plan at the variance V (the class comment), each K_t at most MOST_PER_STEP_FACTOR k. */
+    private TermDraws plan(double variance, int k) {
+        int steps = plain.length - 1;
+        boolean[] lin = new boolean[steps + 1];
+        double sum0 = 0.0;
+        for (int s = 1; s <= steps; s++) {
+            lin[s] = cost > 0;
+            sum0 += lin[s] ? linear[s] : plain[s];
+        }
+        double root = sum0 / variance;
         for (int round = 0; round < 50 && cost > 0; round++) {
             boolean changed = false;
             double sum = 0.0;
@@ -140,6 +199,7 @@ public final class TermProfile {
             }
         }
         long most = Math.min((long) MOST_PER_STEP_FACTOR * k, BoundOptions.MAX_TERM_DRAWS);
+        int[] per = new int[steps + 1];
         boolean single = true;
         for (int s = 1; s <= steps; s++) {
             double spread = lin[s] ? linear[s] : plain[s];

@@ -6,7 +6,6 @@ import org.backstep.internal.chain.ClosedFormPart;
 import org.backstep.internal.chain.ModelParts;
 import org.backstep.internal.chain.ModelRange;
 import org.backstep.internal.chain.NetworkEstimator;
-import org.backstep.internal.chain.TermDraws;
 import org.backstep.internal.net.AdamOptimizer;
 import org.backstep.internal.net.NetworkShape;
 import org.backstep.internal.net.ParallelStep;
@@ -120,7 +119,7 @@ public final class TrainingRun implements AutoCloseable {
     private long nextRefill;
     private int refills;
     private boolean closed;
-    private CheckpointScore checkpointScore = CheckpointScore.SAMPLED;
+    private CheckpointScore checkpointScore = CheckpointScore.STEADY;
 
     /**
      * Prepares the rows ({@link TrainingRows}) and the network; trains nothing yet.
@@ -151,6 +150,10 @@ public final class TrainingRun implements AutoCloseable {
      */
     public TrainingRun(FitOptions options, Table table, Table checkpointRows, TableTransform givenTransform,
                        TrainingListener listener, BooleanSupplier stop, TrainingBudget budget) {
+        if (options.checkpointDraws() > org.backstep.option.BoundOptions.MAX_TERM_DRAWS) {
+            throw new IllegalArgumentException("checkpointDraws is " + options.checkpointDraws() + "; the checkpoint"
+                    + " score draws x_t at most " + org.backstep.option.BoundOptions.MAX_TERM_DRAWS + " times per term");
+        }
         this.options = options;
         this.table = table;
         this.listener = listener;
@@ -322,7 +325,7 @@ public final class TrainingRun implements AutoCloseable {
     }
 
     /**
-     * Sets what the kept weights are chosen by (the default {@link CheckpointScore#SAMPLED}); before
+     * Sets what the kept weights are chosen by (the default {@link CheckpointScore#STEADY}); before
      * the first update only.
      *
      * @param score not null
@@ -351,7 +354,7 @@ public final class TrainingRun implements AutoCloseable {
                     ? BoundEvaluator.monteCarlo(evalChain, xv, nv, options.checkpointDraws(), options.seed() + 1,
                             options.threads())
                     : BoundEvaluator.exact(evalChain, xv, nv, options.seed() + 1, null,
-                            TermDraws.single(steps).linearizedUpTo(Math.max(1, steps / 10)), options.threads());
+                            CheckpointScore.steadyDraws(options.checkpointDraws(), steps), options.threads());
             // minus log|det W| of a whitened chain: the history's bound is in the standardized space too
             double mean = (BoundEvaluator.sum(res.continuous) + BoundEvaluator.sum(res.binary)) / nv
                     - evalChain.logDeterminant();

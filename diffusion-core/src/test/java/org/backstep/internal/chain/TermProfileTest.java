@@ -60,4 +60,40 @@ class TermProfileTest {
             assertEquals(5, plan.at(s));
         }
     }
+
+    @Test
+    void aVarianceTargetSetsTheDrawsByNeymansFormula() {
+        // spreads 4 : 2 : 1 : 1, no control variate, target V = 0.25: Neyman allocation with a fixed variance
+        // (Cochran 1977, section 5.5): N = (sum s_t)^2 / V = 64 / 0.25 = 256, K_t = N s_t / sum s = 32 x (4, 2, 1, 1),
+        // and the predicted variance sum s_t^2 / K_t = (16 + 4 + 1 + 1) / 32 x ... = V exactly
+        double[] spread = {0, 4, 2, 1, 1};
+        TermProfile profile = TermProfile.of(spread, spread, 0);
+        TermDraws plan = profile.allocateTo(0.25, 1000);
+        assertEquals(128, plan.at(1));
+        assertEquals(64, plan.at(2));
+        assertEquals(32, plan.at(3));
+        assertEquals(32, plan.at(4));
+        assertEquals(256, plan.total());
+        assertEquals(0.25, profile.predictedVariance(plan), 1e-12);
+        // a quieter target on a noisier profile: 4 times the variance, a quarter of the draws (the same formula)
+        assertEquals(64, profile.allocateTo(1.0, 1000).total());
+    }
+
+    @Test
+    void aTargetPastTheCapFallsBackToTheCapsPlan() {
+        // N = 256 draws would be 64 per step; a cap of 8 per step on average gives allocate(8), whose predicted
+        // variance (sum s)^2 / (8 T) = 2 is above the target (common practice, no source)
+        double[] spread = {0, 4, 2, 1, 1};
+        TermProfile profile = TermProfile.of(spread, spread, 0);
+        TermDraws capped = profile.allocateTo(0.25, 8);
+        assertEquals(32, capped.total());
+        assertEquals(2.0, profile.predictedVariance(capped), 1e-12);
+        // with control variates: the predicted variance at the target is V but for rounding (half a draw per step)
+        double[] plain = {0, 10, 0.2, 0.2, 0.2};
+        double[] linear = {0, 0.1, 0.19, 0.19, 0.19};
+        TermProfile withControls = TermProfile.of(plain, linear, 5);
+        TermDraws plan = withControls.allocateTo(0.01, 1000);
+        double predicted = withControls.predictedVariance(plan);
+        assertEquals(0.01, predicted, 0.01 * HALF_A_DRAW / plan.at(2), "predicted " + predicted);
+    }
 }
