@@ -244,6 +244,10 @@ class DemoPipelineTest {
             golden = new String(in.readAllBytes(), StandardCharsets.UTF_8).lines()
                     .filter(l -> !l.isBlank() && !l.startsWith("#")).toList();
         }
+        // anomalies.blame.byKind is written only when the screen caught a fault row (see the list's header)
+        if (returned.path("anomalies").path("blame").path("attributed").asInt() == 0) {
+            golden = golden.stream().filter(l -> !l.startsWith("anomalies.blame.byKind")).toList();
+        }
         assertEquals(String.join("\n", golden), String.join("\n", keys),
                 "summary.json's keys changed; if that is meant, update src/test/resources" + GOLDEN_KEYS
                         + " and the report (Report.java) that reads them");
