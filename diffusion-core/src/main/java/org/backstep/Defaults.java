@@ -101,6 +101,25 @@ public final class Defaults {
      */
     public static final org.backstep.option.Coordinates COORDINATES = org.backstep.option.Coordinates.WHITENED;
     /**
+     * The maps of the real continuous columns chosen at fit time
+     * ({@link org.backstep.option.Marginals#CHOSEN}): the K-fold cross-validated log-likelihood of
+     * the zero-network model (the Gaussian of the whitening, in the caller's units with the maps'
+     * exact log-Jacobian; {@link org.backstep.table.MarginalCriterion}) scores the standardized maps
+     * and the normal scores at bandwidths of {@link org.backstep.table.MarginalCriterion#MULTIPLES}
+     * times Silverman's rule; when normal scores win there, one model of each family is trained and
+     * the lower steady bound on the checkpoint rows decides. MEASUREMENT_PENDING
+     */
+    public static final org.backstep.option.Marginals MARGINALS = org.backstep.option.Marginals.CHOSEN;
+    /**
+     * The term draws of the steady bound ({@link org.backstep.option.BoundOptions#steady(int)}) on
+     * which {@link #MARGINALS} = CHOSEN compares its two models on the checkpoint rows: 32, whose
+     * per-record sd was 0.023 / 0.048 / 0.020 nats on iris, breast_cancer and diabetes
+     * (diffusion-bench/results/steady-score.txt), so the mean over 15 to 57 checkpoint rows moves by
+     * well under 0.02 nats, far below the gaps it decides (0.2 to 3 nats), at half the cost of
+     * {@link #STEADY_TERM_DRAWS}.
+     */
+    public static final int MARGINALS_COMPARISON_DRAWS = 32;
+    /**
      * The variational bound itself. Measured on 2-D Gaussian data (T = 100, hidden 64 x 2,
      * 100 epochs, 4,000 held-out rows, standard error about 0.03): the held-out bound was 0.07
      * nats above the exact negative log-likelihood with the bound loss, 0.08 with the hybrid loss
