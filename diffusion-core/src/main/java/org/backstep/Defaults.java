@@ -111,14 +111,16 @@ public final class Defaults {
      */
     public static final org.backstep.option.Marginals MARGINALS = org.backstep.option.Marginals.CHOSEN;
     /**
-     * The term draws of the steady bound ({@link org.backstep.option.BoundOptions#steady(int)}) on
-     * which {@link #MARGINALS} = CHOSEN compares its two models on the checkpoint rows: 32, whose
-     * per-record sd was 0.023 / 0.048 / 0.020 nats on iris, breast_cancer and diabetes
-     * (diffusion-bench/results/steady-score.txt), so the mean over 15 to 57 checkpoint rows moves by
-     * well under 0.02 nats, far below the gaps it decides (0.2 to 3 nats), at half the cost of
-     * {@link #STEADY_TERM_DRAWS}.
+     * The draws per term of the exact bound with the control variates at every step
+     * ({@code BoundOptions.exact().withTermDraws(K).withLinearization(true)}) on which
+     * {@link #MARGINALS} = CHOSEN compares its two models on the checkpoint rows: 4. With 16 such
+     * draws the per-record sd was 0.073 / 0.076 / 0.038 nats on iris, breast_cancer and diabetes
+     * (diffusion-bench/results/steady-score.txt), so with 4 about twice that, and the mean over 12 to
+     * 57 checkpoint rows moves by 0.02 to 0.04 nats, below the gaps it decides (0.1 to 3 nats). Not the
+     * allocated steady bound: its profile of each model (64 records of its own) cost ten times the
+     * scores of so few rows (breast_cancer's fit took 3.5 times a standardized fit with it, on a loaded machine).
      */
-    public static final int MARGINALS_COMPARISON_DRAWS = 32;
+    public static final int MARGINALS_COMPARISON_DRAWS = 4;
     /**
      * The variational bound itself. Measured on 2-D Gaussian data (T = 100, hidden 64 x 2,
      * 100 epochs, 4,000 held-out rows, standard error about 0.03): the held-out bound was 0.07

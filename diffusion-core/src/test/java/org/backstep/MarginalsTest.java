@@ -132,7 +132,7 @@ class MarginalsTest {
         assertEquals(ColumnTransform.Kind.NORMAL_SCORES, t.transform(1).kind(), t.toString());
         List<String> notes = model.provenance().notes();
         assertTrue(notes.stream().anyMatch(n -> n.startsWith("marginals CHOSEN: cross-validated")), notes.toString());
-        assertTrue(notes.stream().anyMatch(n -> n.startsWith("marginals CHOSEN: steady bound")
+        assertTrue(notes.stream().anyMatch(n -> n.startsWith("marginals CHOSEN: exact bound")
                 && n.contains("normal scores kept")), notes.toString());
         assertEquals(Marginals.CHOSEN, model.options().marginals());
         double[] nats = model.bound(test, 3).natsOriginalUnits();
@@ -202,7 +202,7 @@ class MarginalsTest {
         // only the criterion decides for NORMAL_SCORES: one fit, no comparison
         DiffusionModel scores = shortFit().trainingSteps(10).marginals(Marginals.NORMAL_SCORES).fit(train);
         assertEquals(ColumnTransform.Kind.NORMAL_SCORES, scores.transform().transform(2).kind());
-        assertTrue(scores.provenance().notes().stream().noneMatch(n -> n.contains("steady bound")));
+        assertTrue(scores.provenance().notes().stream().noneMatch(n -> n.contains("exact bound")));
     }
 
     @Test
