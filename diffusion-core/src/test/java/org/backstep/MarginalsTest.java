@@ -126,7 +126,18 @@ class MarginalsTest {
     void skewedBimodalColumnsGetNormalScoresAndTheDensityIsInTheCallersUnits() {
         Table train = skewedRows(400, 1);
         Table test = skewedRows(300, 2);
-        DiffusionModel model = shortFit().steps(100).fit(train);
+        List<long[]> heard = new java.util.ArrayList<>();
+        DiffusionModel model = shortFit().steps(100)
+                .listener(p -> heard.add(new long[] {p.step(), p.totalSteps(), p.epoch(), p.epochs()})).fit(train);
+        // the listener hears the two fits as one plan: steps rise to the planned total, which covers both
+        // fits (common practice, no source: a progress bar's contract)
+        for (int i = 1; i < heard.size(); i++) {
+            assertTrue(heard.get(i)[0] > heard.get(i - 1)[0], "step " + i);
+            assertTrue(heard.get(i)[0] <= heard.get(i)[1] && heard.get(i)[2] <= heard.get(i)[3], "progress " + i);
+        }
+        long[] last = heard.get(heard.size() - 1);
+        assertEquals(last[1], last[0]);
+        assertEquals(heard.get(0)[1], last[1]);   // planned from the first report on: both fits
         TableTransform t = model.transform();
         assertEquals(ColumnTransform.Kind.NORMAL_SCORES, t.transform(0).kind(), model.provenance().notes().toString());
         assertEquals(ColumnTransform.Kind.NORMAL_SCORES, t.transform(1).kind(), t.toString());
