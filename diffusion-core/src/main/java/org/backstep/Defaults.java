@@ -107,7 +107,18 @@ public final class Defaults {
      * exact log-Jacobian; {@link org.backstep.table.MarginalCriterion}) scores the standardized maps
      * and the normal scores at bandwidths of {@link org.backstep.table.MarginalCriterion#MULTIPLES}
      * times Silverman's rule; when normal scores win there, one model of each family is trained and
-     * the lower steady bound on the checkpoint rows decides. MEASUREMENT_PENDING
+     * the lower bound on the checkpoint rows decides ({@link #MARGINALS_COMPARISON_DRAWS}). Measured
+     * (diffusion-bench/results/marginals.txt; density only, 2 bound seeds, a loaded machine; in brackets
+     * the losing candidate {@link org.backstep.option.Marginals#STANDARDIZED}, the defaults before):
+     * breast_cancer -2.92 with fit seed 1 (-0.31) and -1.46 with seed 2 (-0.34 in results/quality.txt),
+     * normal scores kept at 4 and 8 times Silverman's bandwidth; iris 2.89 and 2.83 and diabetes without
+     * SEX 7.70, the standardized maps kept (unchanged). The other losing candidate,
+     * {@link org.backstep.option.Marginals#NORMAL_SCORES} always: iris 3.41 (2.89), breast_cancer -2.92.
+     * No fixed bandwidth suited every table (the coordinator's levers of 1, 2, 4, 8 times Silverman's
+     * rule outside the library: breast_cancer -0.36 to -3.47, diabetes 7.88 to 8.49 against 7.74).
+     * Cost: two fits when normal scores win the criterion; breast_cancer's fit took 168 s against 48 s
+     * at load 12 to 17 with the comparison by the allocated steady bound, since replaced by one about
+     * ten times cheaper. Not measured per column (one bandwidth multiple for every column).
      */
     public static final org.backstep.option.Marginals MARGINALS = org.backstep.option.Marginals.CHOSEN;
     /**
