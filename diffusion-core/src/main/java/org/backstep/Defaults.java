@@ -107,7 +107,8 @@ public final class Defaults {
      * exact log-Jacobian; {@link org.backstep.table.MarginalCriterion}) scores the standardized maps
      * and the normal scores at bandwidths of {@link org.backstep.table.MarginalCriterion#MULTIPLES}
      * times Silverman's rule; when normal scores win there, one model of each family is trained and
-     * the lower bound on the checkpoint rows decides ({@link #MARGINALS_COMPARISON_DRAWS}). Measured
+     * the lower bound on the checkpoint rows decides ({@link #MARGINALS_COMPARISON_DRAWS}); on Gaussian
+     * columns the criterion keeps standardization (a gain of at most 0.001 nats, below its 0.05). Measured
      * (diffusion-bench/results/marginals.txt; density only, 2 bound seeds, a loaded machine; in brackets
      * the losing candidate {@link org.backstep.option.Marginals#STANDARDIZED}, the defaults before):
      * breast_cancer -2.92 with fit seed 1 (-0.31) and -1.46 with seed 2 (-0.34 in results/quality.txt),
@@ -116,9 +117,11 @@ public final class Defaults {
      * {@link org.backstep.option.Marginals#NORMAL_SCORES} always: iris 3.41 (2.89), breast_cancer -2.92.
      * No fixed bandwidth suited every table (the coordinator's levers of 1, 2, 4, 8 times Silverman's
      * rule outside the library: breast_cancer -0.36 to -3.47, diabetes 7.88 to 8.49 against 7.74).
-     * Cost: two fits when normal scores win the criterion; breast_cancer's fit took 168 s against 48 s
-     * at load 12 to 17 with the comparison by the allocated steady bound, since replaced by one about
-     * ten times cheaper. Not measured per column (one bandwidth multiple for every column).
+     * Cost: two fits when normal scores win the criterion; breast_cancer's fit took 120 s against 35 s
+     * for standardized maps in one run at load about 6 (the criterion 20 s, the comparison 9 s), so
+     * about 57 s on a quiet machine: at the edge of issue 11's 60 s. Not measured per column (one
+     * bandwidth multiple for every column). On the README's open-data table (a smaller budget) the
+     * comparison kept normal scores on diabetes, which its test rows scored 0.42 nats worse.
      */
     public static final org.backstep.option.Marginals MARGINALS = org.backstep.option.Marginals.CHOSEN;
     /**

@@ -34,8 +34,8 @@ public enum Marginals {
     NORMAL_SCORES,
     /**
      * Chosen at fit time: the criterion scores the standardized maps and the normal scores at each
-     * bandwidth multiple; if the best normal scores do not beat the standardized maps there by two
-     * standard errors of the paired per-row difference, the fit is standardized. Otherwise two models are trained, one per family, and the one with the lower
+     * bandwidth multiple; unless the best normal scores beat the standardized maps there by more than
+     * 0.05 nats per record and on a majority of rows (a sign test), the fit is standardized. Otherwise two models are trained, one per family, and the one with the lower
      * steady bound (in the caller's units, log-Jacobian included) on the checkpoint rows is kept
      * (about twice the fit's time); without checkpoint rows the criterion alone decides. The
      * provenance's notes give the criterion's figures and both bounds. The default
