@@ -1,9 +1,11 @@
 package org.backstep;
 
 import org.backstep.internal.plan.StepPlanner;
+import org.backstep.internal.train.MarginalChoice;
 import org.backstep.internal.train.Trainer;
 import org.backstep.option.FitOptions;
 import org.backstep.option.LearningRateSchedule;
+import org.backstep.option.Marginals;
 import org.backstep.option.Limits;
 import org.backstep.option.Baseline;
 import org.backstep.option.ReverseVariance;
@@ -80,6 +82,7 @@ public final class Backstep {
         private ReverseVariance variance = Defaults.VARIANCE;
         private Baseline baseline = Defaults.BASELINE;
         private org.backstep.option.Coordinates coordinates = Defaults.COORDINATES;
+        private Marginals marginals = Defaults.MARGINALS;
         private TrainingLoss loss = Defaults.LOSS;
         private double hybridWeight = Defaults.HYBRID_WEIGHT;
         private StepSampling stepSampling = Defaults.STEP_SAMPLING;
@@ -198,6 +201,28 @@ public final class Backstep {
         public Builder coordinates(org.backstep.option.Coordinates coordinates) {
             Require.notNull("coordinates", coordinates);
             this.coordinates = coordinates;
+            return this;
+        }
+
+        /**
+         * How the real continuous columns are mapped into the model space (see {@link Marginals});
+         * default {@link Defaults#MARGINALS}. {@link Marginals#STANDARDIZED} standardizes each
+         * column; {@link Marginals#NORMAL_SCORES} maps it to the normal scores of its kernel-smoothed
+         * distribution function (a Gaussian copula, Liu, Lafferty &amp; Wasserman 2009), the
+         * bandwidth chosen by the cross-validated likelihood of the closed-form part;
+         * {@link Marginals#CHOSEN} scores both families by that criterion and, when normal scores
+         * win it, trains one model of each and keeps the one with the better steady bound on the
+         * checkpoint rows (twice the fit's time). Columns named by {@link #logColumns(String...)}
+         * stay log-standardized, integer, binary and categorical columns are untouched, and
+         * {@link #fit(Table, TableTransform)} uses the transforms it is given. Denoising needs
+         * standardized maps: fit with {@link Marginals#STANDARDIZED} to denoise.
+         *
+         * @param marginals the choice
+         * @return this
+         */
+        public Builder marginals(Marginals marginals) {
+            Require.notNull("marginals", marginals);
+            this.marginals = marginals;
             return this;
         }
 
@@ -383,7 +408,7 @@ public final class Backstep {
             return new FitOptions(cont, bin, hidden, embeddingSize, stepInput, variance, loss, hybridWeight,
                     stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon, weightDecay, emaDecay,
                     batchSize, epochs, trainingSteps, checkpointFraction, evaluateEvery, evaluations, checkpointDraws, patience,
-                    logColumns, seed, threads, baseline, coordinates);
+                    logColumns, seed, threads, baseline, coordinates, marginals);
         }
 
         /**
@@ -402,7 +427,8 @@ public final class Backstep {
         public DiffusionModel fit(Table training) {
             FitOptions options = options();
             Require.notNull("training", training);
-            return DiffusionModel.of(Trainer.fit(options, training, null, listener, stopRequested, null).parts());
+            return DiffusionModel.of(MarginalChoice.fit(options, training, null, listener, stopRequested,
+                    Defaults.MARGINALS_COMPARISON_DRAWS).parts());
         }
 
         /**
@@ -411,7 +437,8 @@ public final class Backstep {
          * statistics over all of its rows ({@link TableTransform#fromStatistics}) and the network is
          * trained on a sample of them. Everything else is as {@link #fit(Table)} (checkpoint rows
          * drawn from {@code training}, rows with gaps trained on, unscorable rows left out with a
-         * note); the provenance notes that the transforms were given.
+         * note); the provenance notes that the transforms were given. No maps are chosen: the
+         * {@link #marginals(Marginals)} option is not used, the given transforms are.
          *
          * @param training the rows to train on, with the transform's column names and kinds;
          *     categorical cells are matched to the transform's labels by text
@@ -458,7 +485,8 @@ public final class Backstep {
             FitOptions options = options();
             Require.notNull("training", training);
             Require.notNull("checkpointRows", checkpointRows);
-            return DiffusionModel.of(Trainer.fit(options, training, checkpointRows, listener, stopRequested, null).parts());
+            return DiffusionModel.of(MarginalChoice.fit(options, training, checkpointRows, listener,
+                    stopRequested, Defaults.MARGINALS_COMPARISON_DRAWS).parts());
         }
 
         /**

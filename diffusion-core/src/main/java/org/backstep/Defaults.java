@@ -101,6 +101,41 @@ public final class Defaults {
      */
     public static final org.backstep.option.Coordinates COORDINATES = org.backstep.option.Coordinates.WHITENED;
     /**
+     * The maps of the real continuous columns chosen at fit time
+     * ({@link org.backstep.option.Marginals#CHOSEN}): the K-fold cross-validated log-likelihood of
+     * the zero-network model (the Gaussian of the whitening, in the caller's units with the maps'
+     * exact log-Jacobian; {@link org.backstep.table.MarginalCriterion}) scores the standardized maps
+     * and the normal scores at bandwidths of {@link org.backstep.table.MarginalCriterion#MULTIPLES}
+     * times Silverman's rule; when normal scores win there, one model of each family is trained and
+     * the lower bound on the checkpoint rows decides ({@link #MARGINALS_COMPARISON_DRAWS}); on Gaussian
+     * columns the criterion keeps standardization (a gain of at most 0.001 nats, below its 0.05). Measured
+     * (diffusion-bench/results/marginals.txt; density only, 2 bound seeds, a loaded machine; in brackets
+     * the losing candidate {@link org.backstep.option.Marginals#STANDARDIZED}, the defaults before):
+     * breast_cancer -2.92 with fit seed 1 (-0.31) and -1.46 with seed 2 (-0.34 in results/quality.txt),
+     * normal scores kept at 4 and 8 times Silverman's bandwidth; iris 2.89 and 2.83 and diabetes without
+     * SEX 7.70, the standardized maps kept (unchanged). The other losing candidate,
+     * {@link org.backstep.option.Marginals#NORMAL_SCORES} always: iris 3.41 (2.89), breast_cancer -2.92.
+     * No fixed bandwidth suited every table (the coordinator's levers of 1, 2, 4, 8 times Silverman's
+     * rule outside the library: breast_cancer -0.36 to -3.47, diabetes 7.88 to 8.49 against 7.74).
+     * Cost: two fits when normal scores win the criterion; breast_cancer's fit took 120 s against 35 s
+     * for standardized maps in one run at load about 6 (the criterion 20 s, the comparison 9 s), so
+     * about 57 s on a quiet machine: at the edge of issue 11's 60 s. Not measured per column (one
+     * bandwidth multiple for every column). On the README's open-data table (a smaller budget) the
+     * comparison kept normal scores on diabetes, which its test rows scored 0.42 nats worse.
+     */
+    public static final org.backstep.option.Marginals MARGINALS = org.backstep.option.Marginals.CHOSEN;
+    /**
+     * The draws per term of the exact bound with the control variates at every step
+     * ({@code BoundOptions.exact().withTermDraws(K).withLinearization(true)}) on which
+     * {@link #MARGINALS} = CHOSEN compares its two models on the checkpoint rows: 4. With 16 such
+     * draws the per-record sd was 0.073 / 0.076 / 0.038 nats on iris, breast_cancer and diabetes
+     * (diffusion-bench/results/steady-score.txt), so with 4 about twice that, and the mean over 12 to
+     * 57 checkpoint rows moves by 0.02 to 0.04 nats, below the gaps it decides (0.1 to 3 nats). Not the
+     * allocated steady bound: its profile of each model (64 records of its own) cost ten times the
+     * scores of so few rows (breast_cancer's fit took 3.5 times a standardized fit with it, on a loaded machine).
+     */
+    public static final int MARGINALS_COMPARISON_DRAWS = 4;
+    /**
      * The variational bound itself. Measured on 2-D Gaussian data (T = 100, hidden 64 x 2,
      * 100 epochs, 4,000 held-out rows, standard error about 0.03): the held-out bound was 0.07
      * nats above the exact negative log-likelihood with the bound loss, 0.08 with the hybrid loss

@@ -715,7 +715,8 @@ public final class DiffusionModel {
      *     {@link Defaults#denoising(double...)}
      * @param seed the seed
      * @return posterior mean and spread per cell
-     * @throws IllegalArgumentException naming the column whose noise or transform is unusable, or a
+     * @throws IllegalArgumentException naming the column whose noise or transform is unusable (a
+     *     column mapped other than STANDARDIZE: fit with {@code marginals(Marginals.STANDARDIZED)}), or a
      *     categorical column given a noise other than 0
      * @throws IllegalStateException if the chain diverges (a cell leaves the float range)
      */

@@ -33,8 +33,10 @@ class GivenTransformTest {
                 ColumnKind.BINARY), x);
     }
 
+    /** Standardized maps: the fitted transforms these tests compare the given ones with (no choice of maps). */
     private static Backstep.Builder small() {
-        return Backstep.builder().steps(10).hidden(8).epochs(3).seed(5).threads(1);
+        return Backstep.builder().steps(10).hidden(8).epochs(3).seed(5).threads(1)
+                .marginals(org.backstep.option.Marginals.STANDARDIZED);
     }
 
     @Test

@@ -42,6 +42,7 @@ import java.util.Set;
  * @param threads worker threads
  * @param baseline the closed-form part of the reverse model that the network corrects
  * @param coordinates the coordinates the continuous columns are diffused in (standardized or whitened)
+ * @param marginals how the real continuous columns are mapped: standardized, normal scores, or chosen at fit time
  */
 public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binarySchedule, int[] hidden,
                          int embeddingSize, StepInput stepInput, ReverseVariance variance,
@@ -50,7 +51,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                          double weightDecay, double emaDecay, int batchSize, int epochs, int trainingSteps,
                          double checkpointFraction, int evaluateEvery, int evaluations, int checkpointDraws, int patience,
                          Set<String> logColumns, long seed, int threads, Baseline baseline,
-                         Coordinates coordinates) {
+                         Coordinates coordinates, Marginals marginals) {
 
     /**
      * Validates every option and copies the arrays and sets.
@@ -129,6 +130,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
         Require.inRange("threads", threads, 1, Limits.MAX_THREADS);
         Require.notNull("baseline", baseline);
         Require.notNull("coordinates", coordinates);
+        Require.notNull("marginals", marginals);
     }
 
     /** A training schedule: full (not strided), T within the limit, every beta at least {@link Limits#MIN_BETA}. */
@@ -157,6 +159,17 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
         return hidden.clone();
     }
 
+    /**
+     * @param marginals the maps of the real continuous columns
+     * @return these options with {@code marginals} in place of theirs
+     */
+    public FitOptions withMarginals(Marginals marginals) {
+        return new FitOptions(continuousSchedule, binarySchedule, hidden, embeddingSize, stepInput, variance, loss,
+                hybridWeight, stepSampling, learningRate, learningRateSchedule, adamBeta1, adamBeta2, adamEpsilon,
+                weightDecay, emaDecay, batchSize, epochs, trainingSteps, checkpointFraction, evaluateEvery, evaluations,
+                checkpointDraws, patience, logColumns, seed, threads, baseline, coordinates, marginals);
+    }
+
     /** @return T */
     public int steps() {
         return continuousSchedule.steps();
@@ -177,7 +190,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                 && Double.compare(checkpointFraction, f.checkpointFraction) == 0 && evaluateEvery == f.evaluateEvery
                 && evaluations == f.evaluations && checkpointDraws == f.checkpointDraws && patience == f.patience
                 && logColumns.equals(f.logColumns) && seed == f.seed && threads == f.threads
-                && baseline == f.baseline && coordinates == f.coordinates;
+                && baseline == f.baseline && coordinates == f.coordinates && marginals == f.marginals;
     }
 
     @Override
@@ -186,7 +199,7 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                 stepInput, variance, loss, hybridWeight, stepSampling, learningRate, learningRateSchedule, adamBeta1,
                 adamBeta2, adamEpsilon, weightDecay, emaDecay, batchSize, epochs, trainingSteps, checkpointFraction,
                 evaluateEvery, evaluations, checkpointDraws, patience, logColumns, seed, threads, baseline,
-                coordinates);
+                coordinates, marginals);
     }
 
     @Override
@@ -201,6 +214,6 @@ public record FitOptions(NoiseSchedule continuousSchedule, NoiseSchedule binaryS
                 + ", evaluateEvery=" + evaluateEvery + ", evaluations=" + evaluations + ", checkpointDraws=" + checkpointDraws
                 + ", patience=" + patience + ", logColumns=" + new java.util.TreeSet<>(logColumns)
                 + ", seed=" + seed + ", threads=" + threads + ", baseline=" + baseline
-                + ", coordinates=" + coordinates + "]";
+                + ", coordinates=" + coordinates + ", marginals=" + marginals + "]";
     }
 }

@@ -144,7 +144,28 @@ public final class TableTransform {
             throw new IllegalArgumentException("bandwidthMultiple is " + bandwidthMultiple
                     + "; expected a finite multiple of Silverman's rule above 0");
         }
-        return fit(training, Set.of(), bandwidthMultiple);
+        return fitNormalScores(training, Set.of(), bandwidthMultiple);
+    }
+
+    /**
+     * As {@link #fitNormalScores(Table, double)}, with the columns named in {@code logColumns}
+     * log-standardized as {@link #fit(Table, Set)} does (they must then be strictly positive);
+     * integer columns are standardized, binary and categorical ones untouched.
+     *
+     * @param training the training rows (not modified)
+     * @param logColumns names of continuous columns to model on the log scale; may be empty (not modified)
+     * @param bandwidthMultiple the multiple of Silverman's rule, finite and above 0
+     * @return the fitted transforms
+     * @throws IllegalArgumentException naming the column (as {@link #fit(Table, Set)}) or {@code bandwidthMultiple}
+     */
+    public static TableTransform fitNormalScores(Table training, Set<String> logColumns, double bandwidthMultiple) {
+        Require.notNull("training", training);
+        Require.notNull("logColumns", logColumns);
+        if (!(bandwidthMultiple > 0) || !Double.isFinite(bandwidthMultiple)) {
+            throw new IllegalArgumentException("bandwidthMultiple is " + bandwidthMultiple
+                    + "; expected a finite multiple of Silverman's rule above 0");
+        }
+        return fit(training, logColumns, bandwidthMultiple);
     }
 
     /**
@@ -173,7 +194,10 @@ public final class TableTransform {
         return null;
     }
 
-    /** bandwidthMultiple NaN: STANDARDIZE and LOG_STANDARDIZE; else NORMAL_SCORES with that multiple. */
+    /**
+     * bandwidthMultiple NaN: STANDARDIZE and LOG_STANDARDIZE; else NORMAL_SCORES with that multiple
+     * for the real continuous columns that are not log columns.
+     */
     private static TableTransform fit(Table training, Set<String> logColumns, double bandwidthMultiple) {
         boolean scores = !Double.isNaN(bandwidthMultiple);
         for (String name : logColumns) {
@@ -211,7 +235,7 @@ public final class TableTransform {
                         + training.rows() + " training rows; expected at least one to fit its transform");
             }
             observed = Arrays.copyOf(observed, n);
-            if (scores && !whole && hasTwoDistinct(observed)) {
+            if (scores && !whole && !log && hasTwoDistinct(observed)) {
                 fitNotes.addAll(missingNote(name, n, col.length - n));
                 double h = bandwidthMultiple * ColumnTransform.silvermanBandwidth(observed);
                 transforms.add(ColumnTransform.normalScores(observed, h));

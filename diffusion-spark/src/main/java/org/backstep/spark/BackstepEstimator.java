@@ -35,6 +35,10 @@ import org.backstep.table.Table;
  * exact sums that do not depend on the partitioning ({@link WholeTableStatistics}). Then a uniform
  * sample of at most {@link #sampleRows()} rows is collected to the driver, and the core trains the
  * network there with those transforms ({@code Backstep.builder()...fit(Table, TableTransform)}).
+ * So the continuous columns are always standardized (or log-standardized): the core's default of
+ * maps chosen at fit time ({@code Marginals.CHOSEN}, which may take normal scores) is not used,
+ * because a normal-scores map keeps every training value as a knot, which a table too large for
+ * one JVM cannot hold, and the given transforms make no choice.
  * Training on the driver, not by data-parallel training over the executors, is measured in
  * {@code diffusion-bench/results/spark-fitting.txt} (README, "On Apache Spark"). Which rows: row i is
  * taken when its sampling key (its seed from {@link RowSeeds}, from {@link #seed()} and the row key

@@ -195,8 +195,10 @@ public final class MainJob {
         // standardized coordinates without a closed-form part, not the library's default whitened ones: step 5
         // denoises readings with noise on every continuous column, and on the fleet a whitened fit still denoises
         // them somewhat worse (per-direction release; seeds 1, 2, 3: RMSE to 0.717, 0.699, 0.718 noise sd whitened
-        // against 0.668, 0.649, 0.685 standardized; diffusion-bench/results/denoise-whitened.txt)
+        // against 0.668, 0.649, 0.685 standardized; diffusion-bench/results/denoise-whitened.txt); and standardized
+        // maps, not the library's chosen ones: denoising needs standardized columns (additive Gaussian noise)
         Backstep.Builder builder = Backstep.builder().coordinates(org.backstep.option.Coordinates.STANDARDIZED)
+                .marginals(org.backstep.option.Marginals.STANDARDIZED)
                 .baseline(org.backstep.option.Baseline.NONE).steps(c.trainSteps()).hidden(c.hidden()).seed(c.seed())
                 .listener(p -> {
                     if (bar != null) {

@@ -7,6 +7,7 @@ import java.util.Set;
 
 import org.backstep.option.Baseline;
 import org.backstep.option.Coordinates;
+import org.backstep.option.Marginals;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
@@ -24,7 +25,16 @@ enum Lever {
      * The table as it is, at the library's defaults (since issue 11's flip: coordinates WHITENED with
      * the N(0, I) part, the same fit as WHITENED_MODEL).
      */
-    DEFAULTS("defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
+    DEFAULTS("defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES, org.backstep.Defaults.MARGINALS),
+    /**
+     * The library's defaults with the real continuous columns standardized (Marginals.STANDARDIZED):
+     * the defaults before the maps were chosen at fit time.
+     */
+    STANDARDIZED_MARGINALS("defaults, standardized maps", org.backstep.Defaults.BASELINE,
+            org.backstep.Defaults.COORDINATES, Marginals.STANDARDIZED),
+    /** The library's defaults with normal scores always (Marginals.NORMAL_SCORES: bandwidth by the criterion, no comparison). */
+    NORMAL_SCORES_MARGINALS("defaults, normal-scores maps", org.backstep.Defaults.BASELINE,
+            org.backstep.Defaults.COORDINATES, Marginals.NORMAL_SCORES),
     /** The table as it is, standardized, no closed-form part: the library's defaults before issue 11's flip. */
     STANDARDIZED_NO_PART("standardized, no part (defaults before)"),
     /** Each continuous column mapped to its normal scores (NORMAL_SCORES, Silverman's bandwidth). */
@@ -68,6 +78,11 @@ enum Lever {
     final Baseline baseline;
     /** The coordinates the lever fits Backstep with. */
     final Coordinates coordinates;
+    /**
+     * The library's maps of the real continuous columns: the defaults' for DEFAULTS and the two
+     * levers that name them; STANDARDIZED for every other lever (its own maps are applied outside).
+     */
+    final Marginals marginals;
 
     Lever(String label) {
         this(label, Baseline.NONE);
@@ -78,14 +93,19 @@ enum Lever {
     }
 
     Lever(String label, Baseline baseline, Coordinates coordinates) {
+        this(label, baseline, coordinates, Marginals.STANDARDIZED);
+    }
+
+    Lever(String label, Baseline baseline, Coordinates coordinates, Marginals marginals) {
         this.label = label;
         this.baseline = baseline;
         this.coordinates = coordinates;
+        this.marginals = marginals;
     }
 
     /** @return the builder of this lever's fit: the library's defaults with its baseline and coordinates */
     org.backstep.Backstep.Builder builder(long seed) {
-        return org.backstep.Backstep.builder().seed(seed).baseline(baseline).coordinates(coordinates);
+        return org.backstep.Backstep.builder().seed(seed).baseline(baseline).coordinates(coordinates).marginals(marginals);
     }
 
     /**
@@ -96,7 +116,7 @@ enum Lever {
      */
     Encoding fit(Table train) {
         return switch (this) {
-            case DEFAULTS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL,
+            case DEFAULTS, STANDARDIZED_MARGINALS, NORMAL_SCORES_MARGINALS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL,
                     WHITENED_MIXTURE_MODEL -> new Encoding(this, null, null, train);
             case NORMAL_SCORES, NORMAL_SCORES_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
             case NORMAL_SCORES2_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 2.0), null, train);

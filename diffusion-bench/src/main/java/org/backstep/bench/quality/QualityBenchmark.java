@@ -170,6 +170,11 @@ public final class QualityBenchmark {
         long t0 = System.nanoTime();
         DiffusionModel model = lever.builder(seed).weightDecay(weightDecay).fit(enc.encode(train));
         double fitSeconds = (System.nanoTime() - t0) / 1e9;
+        for (String note : model.provenance().notes()) {
+            if (note.startsWith("marginals ")) {
+                System.err.printf(Locale.ROOT, "%s, %s, seed %d: %s%n", split.table().key(), lever, seed, note);
+            }
+        }
 
         // density, in SOURCES.md's space
         Table encTest = enc.encode(test);

@@ -72,7 +72,10 @@ import java.util.zip.ZipOutputStream;
  * </pre>
  * A column whose transform is {@code NORMAL_SCORES} carries {@code knots}, the sorted training
  * values its map is smoothed from (any version: no file without them could be read, since such a
- * transform cannot be built without its knots); a column of another transform has none.
+ * transform cannot be built without its knots); a column of another transform has none. The
+ * option {@code marginals} (how the maps were asked for; the maps are the columns' transforms) is
+ * written when it is not {@code STANDARDIZED} and is optional in every version (absent reads as
+ * {@code STANDARDIZED}, what older releases did; an older release ignores it and reads the same maps).
  * Version 4 added two sets of entries, each optional within the version (a version 4 file of a
  * table without the new kinds and without a baseline has neither):
  * integer and categorical columns: a column of kind {@code INTEGER} carries
@@ -236,6 +239,10 @@ public final class ModelFile {
         opts.put("baseline", o.baseline().name());
         if (o.coordinates() != org.backstep.option.Coordinates.STANDARDIZED) {
             opts.put("coordinates", o.coordinates().name());
+        }
+        if (o.marginals() != org.backstep.option.Marginals.STANDARDIZED) {
+            // the option asked for; the maps themselves are the columns' transforms
+            opts.put("marginals", o.marginals().name());
         }
 
         ArrayNode cols = root.putArray("columns");
@@ -499,7 +506,10 @@ public final class ModelFile {
                     // version 5 only (a whitened model): absent reads as STANDARDIZED, what older releases did
                     version >= 5 && o.has("coordinates")
                             ? constant(o, opt, "coordinates", org.backstep.option.Coordinates.class)
-                            : org.backstep.option.Coordinates.STANDARDIZED);
+                            : org.backstep.option.Coordinates.STANDARDIZED,
+                    // optional in every version: absent reads as STANDARDIZED, what older releases did
+                    o.has("marginals") ? constant(o, opt, "marginals", org.backstep.option.Marginals.class)
+                            : org.backstep.option.Marginals.STANDARDIZED);
         } catch (IllegalArgumentException e) {
             // the builder's own validation refused them
             throw new ModelFileException(opt, e.getMessage() + " (the builder refuses these options)", e);

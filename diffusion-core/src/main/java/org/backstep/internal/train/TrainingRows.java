@@ -2,6 +2,8 @@ package org.backstep.internal.train;
 
 import org.backstep.internal.chain.Chain;
 import org.backstep.option.Coordinates;
+import org.backstep.option.Marginals;
+import org.backstep.table.MarginalCriterion;
 import org.backstep.table.Whitening;
 
 import org.backstep.internal.chain.Engine;
@@ -73,6 +75,12 @@ final class TrainingRows {
      * Gaussian's conditional at every use; null when there are none.
      */
     final GaussianGaps gaussianGaps;
+    /** The complete checkpoint rows in the caller's units, or null when there are none. */
+    final Table checkpointTable;
+    /** The criterion's figures when the maps were chosen by it, else null. */
+    MarginalCriterion.Figures marginalFigures;
+    /** Wall-clock seconds the criterion took (0 when it did not run). */
+    double criterionSeconds;
     private static final long GAUSSIAN_FILL_SEED = 0x452821E638D01377L;   // any fixed constant (digits of pi)
 
     /**
@@ -128,7 +136,7 @@ final class TrainingRows {
                         + " needs at least 2 rows besides its checkpoint rows)");
             }
             // standardized on every row given (checkpoint rows included), so nats are in the caller's space
-            transform = fitTransform(table, options);
+            transform = fitTransform(table, train, options);
             dc = transform.modelledContinuous().length;
             db = transform.modelledBinary().length;
             categories = transform.modelledCategories();
@@ -153,7 +161,7 @@ final class TrainingRows {
             }
             // the transforms of each column from its observed cells in every row given (TableTransform.fit
             // skips missing cells), checkpoint rows included, so nats are in the caller's space
-            transform = fitTransform(table, options);
+            transform = fitTransform(table, train, options);
             dc = transform.modelledContinuous().length;
             db = transform.modelledBinary().length;
             categories = transform.modelledCategories();
@@ -168,11 +176,13 @@ final class TrainingRows {
         }
         float[] heldRows = null;
         int heldCount = 0;
+        Table heldTable = null;
         if (held != null) {
             Table heldComplete = held.completeRows();
             heldCount = heldComplete.rows();
             if (heldCount > 0) {
                 heldRows = Engine.toFloat(transform.toModelSpace(heldComplete));
+                heldTable = heldComplete;
             }
             if (heldCount < held.rows()) {
                 notes.add("the checkpoint bound is taken on the " + heldCount + " complete checkpoint rows of "
@@ -222,19 +232,60 @@ final class TrainingRows {
         }
         checkpoint = heldRows;
         checkpointCount = heldCount;
+        checkpointTable = heldTable;
     }
 
-    private TableTransform fitTransform(Table rows, FitOptions options) {
+    /**
+     * The column transforms: given, or fitted. Standardized maps are fitted on every row given
+     * ({@code rows}, checkpoint rows split off it included: the caller's standardized space); with
+     * {@code Marginals} NORMAL_SCORES or CHOSEN the criterion ({@link MarginalCriterion}) runs on the
+     * complete training rows, and normal scores, when taken, are fitted on the training rows only
+     * ({@code train}), so that the checkpoint rows are not among their knots and the bound there, which
+     * chooses the kept weights and (CHOSEN) the family, is a held-out figure.
+     */
+    private TableTransform fitTransform(Table rows, Table train, FitOptions options) {
         if (given != null) {
             notes.add("column transforms given by the caller (computed elsewhere, e.g. over a whole distributed"
                     + " table), not fitted on these " + rows.rows() + " rows");
         }
         TableTransform t = given != null ? given : TableTransform.fit(rows, options.logColumns());
+        if (given == null && options.marginals() != Marginals.STANDARDIZED && hasScoredColumn(t, options.logColumns())) {
+            Table complete = train.completeRows();
+            if (complete.rows() < 2 * MarginalCriterion.FOLDS) {
+                notes.add("marginals " + options.marginals() + ": only " + complete.rows() + " complete training rows,"
+                        + " fewer than the criterion's " + 2 * MarginalCriterion.FOLDS + "; the columns were standardized");
+            } else {
+                long t0 = System.nanoTime();
+                MarginalCriterion.Figures f = MarginalCriterion.figures(complete, options.logColumns());
+                criterionSeconds = (System.nanoTime() - t0) / 1e9;
+                marginalFigures = f;
+                boolean scores = options.marginals() == Marginals.NORMAL_SCORES || f.scoresWin();
+                notes.add("marginals " + options.marginals() + ": cross-validated nats per record of the closed-form"
+                        + " part (" + MarginalCriterion.FOLDS + " folds of " + Math.min(complete.rows(),
+                        MarginalCriterion.MAX_ROWS) + " of the " + complete.rows() + " complete training rows, caller's"
+                        + " units): " + f + String.format(java.util.Locale.ROOT, ", %.1f s; ", criterionSeconds)
+                        + (scores ? "normal scores at " + f.bestMultiple() + " x Silverman's bandwidth taken, fitted on the "
+                                + train.rows() + " training rows" : "standardized maps taken"));
+                if (scores) {
+                    t = TableTransform.fitNormalScores(train, options.logColumns(), f.bestMultiple());
+                }
+            }
+        }
         notes.addAll(t.notes());
         if (t.modelColumns() == 0) {
             throw new IllegalArgumentException("the table has no column to diffuse: every column is constant");
         }
         return t;
+    }
+
+    /** @return whether {@code t} diffuses a CONTINUOUS column that is not a log column (one normal scores would map) */
+    private static boolean hasScoredColumn(TableTransform t, java.util.Set<String> logColumns) {
+        for (int c : t.modelledContinuous()) {
+            if (t.kinds().get(c) == ColumnKind.CONTINUOUS && !logColumns.contains(t.names().get(c))) {
+                return true;
+            }
+        }
+        return false;
     }
 
     /** @return the indices of the rows of {@code t} with at least one observed cell, ascending */

@@ -101,6 +101,8 @@ public final class TrainingRun implements AutoCloseable {
     private final boolean[] filled;          // n x d: true where a training cell is filled, null without gaps
     private final boolean[] filledBatch;     // batch x d, the minibatch's rows of filled
     private final long refillInterval;       // updates, or update nanoseconds when timed, between refills
+    private final Table checkpointTable;     // the complete checkpoint rows in the caller's units, or null
+    private final org.backstep.table.MarginalCriterion.Figures marginalFigures;   // null unless the maps were chosen
 
 
     private final List<EpochRecord> history = new ArrayList<>();
@@ -160,6 +162,8 @@ public final class TrainingRun implements AutoCloseable {
         this.stop = stop;
         TrainingRows prepared = new TrainingRows(options, table, checkpointRows, givenTransform);
         notes.addAll(prepared.notes);
+        checkpointTable = prepared.checkpointTable;
+        marginalFigures = prepared.marginalFigures;
         transform = prepared.transform;
         dc = prepared.dc;
         db = prepared.db;
@@ -246,6 +250,26 @@ public final class TrainingRun implements AutoCloseable {
         }
         filledBatch = filled == null ? null : new boolean[batch * d];
         parallel = ParallelStep.create(net, batch, options.threads());
+    }
+
+    /** @return the complete checkpoint rows in the caller's units, or null when there are none */
+    Table checkpointTable() {
+        return checkpointTable;
+    }
+
+    /** @return the marginal criterion's figures when the maps were chosen by it, else null */
+    org.backstep.table.MarginalCriterion.Figures marginalFigures() {
+        return marginalFigures;
+    }
+
+    /** @return whether any column is mapped by its normal scores */
+    boolean normalScores() {
+        for (org.backstep.table.ColumnTransform t : transform.transforms()) {
+            if (t.kind() == org.backstep.table.ColumnTransform.Kind.NORMAL_SCORES) {
+                return true;
+            }
+        }
+        return false;
     }
 
     /** @return updates done so far */
