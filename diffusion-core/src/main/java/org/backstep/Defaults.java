@@ -301,9 +301,9 @@ public final class Defaults {
      * screen, {@code screening().withBound(BoundOptions.sampled(SCREENING_DRAWS))}: 128, capped at T
      * (so T draws at the default T = 100). A screen now scores by the steady bound
      * ({@link #screening()}); this bound stays the drift tests' (which compare two batches' score
-     * distributions, where a record's noise averages out) and the cheap screen's: 30 to 90 times
-     * less CPU time than the steady screen (see {@link #screening()}), with scores that move by 2.5
-     * to 33 nats per record from seed to seed and AUROCs that moved by up to 0.021 between two seeds.
+     * distributions, where a record's noise averages out) and the cheap screen's: 48 to 139 times
+     * less CPU time per record than the steady screen (see {@link #screening()}), with scores that move by 2.5
+     * to 40.5 nats per record from seed to seed and AUROCs that moved by up to 0.021 between two seeds.
      */
     public static final int SCREENING_DRAWS = 128;
     /**
@@ -357,7 +357,7 @@ public final class Defaults {
     /**
      * @return the exact bound over all T steps, one draw of x_t per term, what
      *     {@link DiffusionModel#bound(Table, long)} computes. It stays the default of {@code bound}
-     *     because the steady bound ({@link #steadyBound()}) costs 6 to 75 times the CPU time
+     *     because the steady bound ({@link #steadyBound()}) costs 6 to 73 times the CPU time
      *     (diffusion-bench/results/steady-use.txt); its noise, 0.4 to 2.4 nats per record on default
      *     fits, averages away in a mean over many records. The screen and the trainer's checkpoint
      *     choice, which rank single records or compare two means, use the steady score.
@@ -506,7 +506,7 @@ public final class Defaults {
         return new SurprisalOptions(SURPRISAL_DRAWS, SURPRISAL_STEPS, SURPRISAL_ROUNDS);
     }
 
-    /** @return scores by the Monte Carlo bound of {@link #SCREENING_DRAWS} draws, as a screen's; refuses missing cells */
+    /** @return scores by the Monte Carlo bound of {@link #SCREENING_DRAWS} draws, as the former default screen's; refuses missing cells */
     public static DriftOptions drift() {
         return new DriftOptions(BoundOptions.sampled(SCREENING_DRAWS), MissingCells.refuse());
     }
