@@ -115,13 +115,17 @@ public final class Defaults {
      * normal scores kept at 4 and 8 times Silverman's bandwidth; iris 2.89 and 2.83 and diabetes without
      * SEX 7.70, the standardized maps kept (unchanged). The other losing candidate,
      * {@link org.backstep.option.Marginals#NORMAL_SCORES} always: iris 3.41 (2.89), breast_cancer -2.92.
-     * No fixed bandwidth suited every table (the coordinator's levers of 1, 2, 4, 8 times Silverman's
-     * rule outside the library: breast_cancer -0.36 to -3.47, diabetes 7.88 to 8.49 against 7.74).
-     * Cost: two fits when normal scores win the criterion; breast_cancer's fit took 120 s against 35 s
-     * for standardized maps in one run at load about 6 (the criterion 20 s, the comparison 9 s), so
-     * about 57 s on a quiet machine: at the edge of issue 11's 60 s. Not measured per column (one
-     * bandwidth multiple for every column). On the README's open-data table (a smaller budget) the
-     * comparison kept normal scores on diabetes, which its test rows scored 0.42 nats worse.
+     * No fixed bandwidth suited every table (the quality benchmark's levers of 1, 2, 4, 8 times
+     * Silverman's rule outside the library: breast_cancer -0.36 to -3.47, diabetes 7.88 to 8.49 against
+     * 7.74). Cost: two fits when normal scores win the criterion; breast_cancer's fit took 120 s against
+     * 35 s for standardized maps in one run at load about 6 (the criterion 20 s, the comparison 9 s).
+     * With the default weight decay and the steady checkpoint too (diffusion-bench/results/quality.txt,
+     * load 1.5 to 1.9): breast_cancer -3.67 and -2.19 by fit seed in 48.6 and 43.7 s, diabetes two
+     * fits in 26 to 27 s (standardized kept), iris 11 to 13 s. Not measured per column (one bandwidth
+     * multiple for every column). The README's open-data table (a smaller budget) at the same
+     * defaults: iris 2.991, breast_cancer -2.548, diabetes 7.967; an earlier run there, without the
+     * decay and the steady checkpoint, kept normal scores on diabetes, which its test rows scored 0.42
+     * nats worse (8.664 against 8.247).
      */
     public static final org.backstep.option.Marginals MARGINALS = org.backstep.option.Marginals.CHOSEN;
     /**
