@@ -77,10 +77,6 @@ final class TrainingRows {
     final GaussianGaps gaussianGaps;
     /** The complete checkpoint rows in the caller's units, or null when there are none. */
     final Table checkpointTable;
-    /** The criterion's figures when the maps were chosen by it, else null. */
-    MarginalCriterion.Figures marginalFigures;
-    /** Wall-clock seconds the criterion took (0 when it did not run). */
-    double criterionSeconds;
     private static final long GAUSSIAN_FILL_SEED = 0x452821E638D01377L;   // any fixed constant (digits of pi)
 
     /**
@@ -257,8 +253,7 @@ final class TrainingRows {
             } else {
                 long t0 = System.nanoTime();
                 MarginalCriterion.Figures f = MarginalCriterion.figures(complete, options.logColumns());
-                criterionSeconds = (System.nanoTime() - t0) / 1e9;
-                marginalFigures = f;
+                double criterionSeconds = (System.nanoTime() - t0) / 1e9;
                 boolean scores = options.marginals() == Marginals.NORMAL_SCORES || f.scoresWin();
                 notes.add("marginals " + options.marginals() + ": cross-validated nats per record of the closed-form"
                         + " part (" + MarginalCriterion.FOLDS + " folds of " + Math.min(complete.rows(),
