@@ -237,7 +237,7 @@ public final class MarginalCriterion {
             }
         }
         TableTransform all = fitMaps(rows, logColumns, bandwidthMultiple);
-        int[] columns = realContinuous(all);
+        int[] columns = all.realContinuousColumns();
         if (columns.length == 0) {
             throw new IllegalArgumentException("rows have no real continuous column that is not constant; expected"
                     + " at least one (columns " + rows.names() + ")");
@@ -272,13 +272,6 @@ public final class MarginalCriterion {
     private static TableTransform fitMaps(Table rows, Set<String> logColumns, double multiple) {
         return Double.isNaN(multiple) ? TableTransform.fit(rows, logColumns)
                 : TableTransform.fitNormalScores(rows, logColumns, multiple);
-    }
-
-    /** The model columns of the CONTINUOUS (not integer) modelled columns, in model-space order. */
-    private static int[] realContinuous(TableTransform t) {
-        int[] mc = t.modelledContinuous();
-        return java.util.stream.IntStream.range(0, mc.length)
-                .filter(j -> t.kinds().get(mc[j]) == ColumnKind.CONTINUOUS).toArray();
     }
 
     private static double[][] select(double[][] rows, int[] columns) {

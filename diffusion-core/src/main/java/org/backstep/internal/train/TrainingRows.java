@@ -275,8 +275,9 @@ final class TrainingRows {
 
     /** @return whether {@code t} diffuses a CONTINUOUS column that is not a log column (one normal scores would map) */
     private static boolean hasScoredColumn(TableTransform t, java.util.Set<String> logColumns) {
-        for (int c : t.modelledContinuous()) {
-            if (t.kinds().get(c) == ColumnKind.CONTINUOUS && !logColumns.contains(t.names().get(c))) {
+        int[] mc = t.modelledContinuous();
+        for (int j : t.realContinuousColumns()) {
+            if (!logColumns.contains(t.names().get(mc[j]))) {
                 return true;
             }
         }
