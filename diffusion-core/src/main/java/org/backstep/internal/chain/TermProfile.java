@@ -164,14 +164,10 @@ public final class TermProfile {
         return v;
     }
 
+    /** No noise measured (or none finite): k draws at every step, the control variates at every step when the chain has them. */
     private TermDraws uniform(int k) {
         int steps = plain.length - 1;
-        int[] per = new int[steps + 1];
-        boolean[] lin = new boolean[steps + 1];
-        Arrays.fill(per, 1, steps + 1, k);
-        Arrays.fill(lin, 1, steps + 1, cost > 0);
-        // no noise measured (or none finite): k draws at every step
-        return TermDraws.allocated(k == 1 ? TermDraws.Kind.INDEPENDENT : TermDraws.Kind.SHIFTED_SOBOL, per, lin);
+        return TermDraws.perTerm(k, steps).linearizedUpTo(cost > 0 ? steps : 0);
     }
 
     /** The least-cost plan at the variance V (the class comment), each K_t at most MOST_PER_STEP_FACTOR k. */
