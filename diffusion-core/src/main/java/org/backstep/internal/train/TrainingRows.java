@@ -253,7 +253,7 @@ final class TrainingRows {
             } else {
                 long t0 = System.nanoTime();
                 MarginalCriterion.Figures f = MarginalCriterion.figures(complete, options.logColumns());
-                double criterionSeconds = (System.nanoTime() - t0) / 1e9;
+                double criterionSeconds = Trainer.seconds(t0);
                 boolean scores = options.marginals() == Marginals.NORMAL_SCORES || f.scoresWin();
                 notes.add("marginals " + options.marginals() + ": cross-validated nats per record of the closed-form"
                         + " part (" + MarginalCriterion.FOLDS + " folds of " + Math.min(complete.rows(),
