@@ -60,7 +60,11 @@ public final class MarginalCriterion {
      * the sign test alone took it on 4-D Gaussian data); on the open tables the gains were 0.2 to 5.
      */
     public static final double MIN_GAIN = 0.05;
-    /** Normal scores are taken only when they beat the standardized maps on more rows than half by this many standard errors. */
+    /**
+     * Normal scores are taken only when they beat the standardized maps on more rows than half by this
+     * many standard errors of a fair coin's count: the one-sided sign test (Conover 1999, "Practical
+     * Nonparametric Statistics", section 3.4) at about 2%; the rule is on {@link Figures#scoresWin}.
+     */
     public static final double MARGIN = 2.0;
 
     private MarginalCriterion() {
@@ -68,6 +72,7 @@ public final class MarginalCriterion {
 
     /**
      * The figures of the criterion for the standardized maps and the normal scores at each multiple.
+     * The rule that compares them, with its formula, is {@link #scoresWin}.
      *
      * @param standardized the criterion of the standardized maps, nats per record
      * @param multiples the bandwidth multiples tried (a copy of {@link #MULTIPLES})
@@ -95,13 +100,7 @@ public final class MarginalCriterion {
 
         /** @return the index of the lowest normal-scores figure (the first of equal ones) */
         public int best() {
-            int b = 0;
-            for (int i = 1; i < scores.size(); i++) {
-                if (scores.get(i) < scores.get(b)) {
-                    b = i;
-                }
-            }
-            return b;
+            return argmin(scores);
         }
 
         /** @return the multiple with the lowest normal-scores figure */
@@ -117,8 +116,8 @@ public final class MarginalCriterion {
          *     Conover 1999, "Practical Nonparametric Statistics", section 3.4). The sign test, not the
          *     mean's standard error: the per-row differences are ruled by a few tail rows (on
          *     breast_cancer a mean gain of 2.9 nats per record came with a standard error of 2.8),
-         *     and on Gaussian columns the widest bandwidth comes within 0.0001 nats of
-         *     standardization, which the mean alone would take by noise.
+         *     and on Gaussian columns the widest bandwidth comes within 0.001 nats of
+         *     standardization (either side; see {@link #MIN_GAIN}), which the mean alone would take by noise.
          */
         public boolean scoresWin() {
             return scores.get(best()) < standardized - MIN_GAIN && better > rows / 2.0 + MARGIN * Math.sqrt(rows) / 2.0;
@@ -167,12 +166,7 @@ public final class MarginalCriterion {
             rowsOf.add(each);
             scores.add(mean(each));
         }
-        int best = 0;
-        for (int i = 1; i < scores.size(); i++) {
-            if (scores.get(i) < scores.get(best)) {
-                best = i;
-            }
-        }
+        int best = argmin(scores);
         double[] diff = new double[standardized.length];
         for (int r = 0; r < diff.length; r++) {
             diff[r] = rowsOf.get(best)[r] - standardized[r];
@@ -208,6 +202,17 @@ public final class MarginalCriterion {
      */
     public static double heldOutNats(Table rows, Set<String> logColumns, double bandwidthMultiple, int folds) {
         return mean(perRow(rows, logColumns, bandwidthMultiple, folds));
+    }
+
+    /** @return the index of the lowest entry of {@code v} (the first of equal ones) */
+    private static int argmin(List<Double> v) {
+        int b = 0;
+        for (int i = 1; i < v.size(); i++) {
+            if (v.get(i) < v.get(b)) {
+                b = i;
+            }
+        }
+        return b;
     }
 
     private static double mean(double[] x) {

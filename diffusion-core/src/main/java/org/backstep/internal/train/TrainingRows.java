@@ -256,9 +256,9 @@ final class TrainingRows {
                 double criterionSeconds = Trainer.seconds(t0);
                 boolean scores = options.marginals() == Marginals.NORMAL_SCORES || f.scoresWin();
                 notes.add("marginals " + options.marginals() + ": cross-validated nats per record of the closed-form"
-                        + " part (" + MarginalCriterion.FOLDS + " folds of " + Math.min(complete.rows(),
-                        MarginalCriterion.MAX_ROWS) + " of the " + complete.rows() + " complete training rows, caller's"
-                        + " units): " + f + String.format(java.util.Locale.ROOT, ", %.1f s; ", criterionSeconds)
+                        + " part (" + MarginalCriterion.FOLDS + " folds of " + f.rows() + " of the " + complete.rows()
+                        + " complete training rows, caller's units): " + f
+                        + String.format(java.util.Locale.ROOT, ", %.1f s; ", criterionSeconds)
                         + (scores ? "normal scores at " + f.bestMultiple() + " x Silverman's bandwidth taken, fitted on the "
                                 + train.rows() + " training rows" : "standardized maps taken"));
                 if (scores) {
