@@ -170,7 +170,10 @@ public final class TermProfile {
         return sum > 0.0 && Double.isFinite(sum) ? sum : 0.0;
     }
 
-    /** No noise measured (or none finite): k draws at every step, the control variates at every step when the chain has them. */
+    /**
+     * The plan when no noise was measured (or none finite): k draws at every step, the control
+     * variates at every step when the chain has them.
+     */
     private TermDraws uniform(int k) {
         int steps = plain.length - 1;
         return TermDraws.perTerm(k, steps).linearizedUpTo(cost > 0 ? steps : 0);
