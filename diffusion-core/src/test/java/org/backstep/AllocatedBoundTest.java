@@ -153,9 +153,14 @@ class AllocatedBoundTest {
                     () -> BoundOptions.steadyWithin(bad, 64));
             assertTrue(target.getMessage().contains("recordSd is " + bad), target.getMessage());
         }
+        // the cap refused by its own name, below 1 and above MAX_TERM_DRAWS (BoundOptions Javadoc contract;
+        // common practice, no source)
         IllegalArgumentException cap = assertThrows(IllegalArgumentException.class,
                 () -> BoundOptions.steadyWithin(0.05, 0));
-        assertTrue(cap.getMessage().contains("termDraws is 0"), cap.getMessage());
+        assertTrue(cap.getMessage().contains("mostTermDraws is 0"), cap.getMessage());
+        IllegalArgumentException over = assertThrows(IllegalArgumentException.class,
+                () -> BoundOptions.steadyWithin(0.05, BoundOptions.MAX_TERM_DRAWS + 1));
+        assertTrue(over.getMessage().contains("mostTermDraws is " + (BoundOptions.MAX_TERM_DRAWS + 1)), over.getMessage());
         IllegalArgumentException unallocated = assertThrows(IllegalArgumentException.class,
                 () -> new BoundOptions(false, 0, 0, 4, true, false, 0.05));
         assertTrue(unallocated.getMessage().contains("recordSd is 0.05 and allocated false"), unallocated.getMessage());

@@ -145,11 +145,13 @@ public record BoundOptions(boolean sampled, int steps, int draws, int termDraws,
      *     {@link #MAX_TERM_DRAWS}
      * @return the steady bound whose draws reach the predicted variance s^2 of the model's profile,
      *     N = (sum_t s_t)^2 / s^2 draws in all (see the class comment), at most {@code mostTermDraws} T
+     * @throws IllegalArgumentException naming recordSd or mostTermDraws when out of range
      */
     public static BoundOptions steadyWithin(double recordSd, int mostTermDraws) {
         if (!(recordSd > 0.0) || !Double.isFinite(recordSd)) {
             throw new IllegalArgumentException("recordSd is " + recordSd + "; it must be finite and above 0");
         }
+        Require.inRange("mostTermDraws", mostTermDraws, 1, MAX_TERM_DRAWS);
         return new BoundOptions(false, 0, 0, mostTermDraws, true, true, recordSd);
     }
 

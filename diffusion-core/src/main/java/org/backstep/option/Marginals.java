@@ -35,10 +35,14 @@ public enum Marginals {
     /**
      * Chosen at fit time: the criterion scores the standardized maps and the normal scores at each
      * bandwidth multiple; unless the best normal scores beat the standardized maps there by more than
-     * 0.05 nats per record and on a majority of rows (a sign test), the fit is standardized. Otherwise two models are trained, one per family, and the one with the lower
-     * steady bound (in the caller's units, log-Jacobian included) on the checkpoint rows is kept
-     * (about twice the fit's time); without checkpoint rows the criterion alone decides. The
-     * provenance's notes give the criterion's figures and both bounds. The default
+     * 0.05 nats per record and on a majority of rows (a sign test), the fit is standardized (one fit
+     * and the criterion). Otherwise two models are trained, one per family, and the one with the
+     * lower mean exact bound on the complete checkpoint rows is kept: K =
+     * {@code org.backstep.Defaults.MARGINALS_COMPARISON_DRAWS} draws per term and the control
+     * variates at every step, in the caller's units (log-Jacobian included). Two fits, the criterion
+     * and the comparison took 3.4 times a standardized fit on breast_cancer
+     * (diffusion-bench/results/marginals.txt, run D). Without checkpoint rows the criterion alone
+     * decides. The provenance's notes give the criterion's figures and both bounds. The default
      * ({@code org.backstep.Defaults.MARGINALS}).
      */
     CHOSEN

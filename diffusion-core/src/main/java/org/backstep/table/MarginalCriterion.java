@@ -60,7 +60,11 @@ public final class MarginalCriterion {
      * the sign test alone took it on 4-D Gaussian data); on the open tables the gains were 0.2 to 5.
      */
     public static final double MIN_GAIN = 0.05;
-    /** Normal scores are taken only when they beat the standardized maps on more rows than half by this many standard errors. */
+    /**
+     * Normal scores are taken only when they beat the standardized maps on more rows than half by this
+     * many standard errors of a fair coin's count: the one-sided sign test (Conover 1999, "Practical
+     * Nonparametric Statistics", section 3.4) at about 2%; the rule is on {@link Figures#scoresWin}.
+     */
     public static final double MARGIN = 2.0;
 
     private MarginalCriterion() {
@@ -68,6 +72,7 @@ public final class MarginalCriterion {
 
     /**
      * The figures of the criterion for the standardized maps and the normal scores at each multiple.
+     * The rule that compares them, with its formula, is {@link #scoresWin}.
      *
      * @param standardized the criterion of the standardized maps, nats per record
      * @param multiples the bandwidth multiples tried (a copy of {@link #MULTIPLES})
@@ -95,13 +100,7 @@ public final class MarginalCriterion {
 
         /** @return the index of the lowest normal-scores figure (the first of equal ones) */
         public int best() {
-            int b = 0;
-            for (int i = 1; i < scores.size(); i++) {
-                if (scores.get(i) < scores.get(b)) {
-                    b = i;
-                }
-            }
-            return b;
+            return argmin(scores);
         }
 
         /** @return the multiple with the lowest normal-scores figure */
@@ -117,8 +116,8 @@ public final class MarginalCriterion {
          *     Conover 1999, "Practical Nonparametric Statistics", section 3.4). The sign test, not the
          *     mean's standard error: the per-row differences are ruled by a few tail rows (on
          *     breast_cancer a mean gain of 2.9 nats per record came with a standard error of 2.8),
-         *     and on Gaussian columns the widest bandwidth comes within 0.0001 nats of
-         *     standardization, which the mean alone would take by noise.
+         *     and on Gaussian columns the widest bandwidth comes within 0.001 nats of
+         *     standardization (either side; see {@link #MIN_GAIN}), which the mean alone would take by noise.
          */
         public boolean scoresWin() {
             return scores.get(best()) < standardized - MIN_GAIN && better > rows / 2.0 + MARGIN * Math.sqrt(rows) / 2.0;
@@ -167,12 +166,7 @@ public final class MarginalCriterion {
             rowsOf.add(each);
             scores.add(mean(each));
         }
-        int best = 0;
-        for (int i = 1; i < scores.size(); i++) {
-            if (scores.get(i) < scores.get(best)) {
-                best = i;
-            }
-        }
+        int best = argmin(scores);
         double[] diff = new double[standardized.length];
         for (int r = 0; r < diff.length; r++) {
             diff[r] = rowsOf.get(best)[r] - standardized[r];
@@ -210,6 +204,17 @@ public final class MarginalCriterion {
         return mean(perRow(rows, logColumns, bandwidthMultiple, folds));
     }
 
+    /** @return the index of the lowest entry of {@code v} (the first of equal ones) */
+    private static int argmin(List<Double> v) {
+        int b = 0;
+        for (int i = 1; i < v.size(); i++) {
+            if (v.get(i) < v.get(b)) {
+                b = i;
+            }
+        }
+        return b;
+    }
+
     private static double mean(double[] x) {
         double s = 0.0;
         for (double v : x) {
@@ -237,7 +242,7 @@ public final class MarginalCriterion {
             }
         }
         TableTransform all = fitMaps(rows, logColumns, bandwidthMultiple);
-        int[] columns = realContinuous(all);
+        int[] columns = all.realContinuousColumns();
         if (columns.length == 0) {
             throw new IllegalArgumentException("rows have no real continuous column that is not constant; expected"
                     + " at least one (columns " + rows.names() + ")");
@@ -272,13 +277,6 @@ public final class MarginalCriterion {
     private static TableTransform fitMaps(Table rows, Set<String> logColumns, double multiple) {
         return Double.isNaN(multiple) ? TableTransform.fit(rows, logColumns)
                 : TableTransform.fitNormalScores(rows, logColumns, multiple);
-    }
-
-    /** The model columns of the CONTINUOUS (not integer) modelled columns, in model-space order. */
-    private static int[] realContinuous(TableTransform t) {
-        int[] mc = t.modelledContinuous();
-        return java.util.stream.IntStream.range(0, mc.length)
-                .filter(j -> t.kinds().get(mc[j]) == ColumnKind.CONTINUOUS).toArray();
     }
 
     private static double[][] select(double[][] rows, int[] columns) {

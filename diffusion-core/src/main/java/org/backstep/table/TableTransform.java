@@ -486,6 +486,19 @@ public final class TableTransform {
         return modelledContinuous.clone();
     }
 
+    /**
+     * The real continuous model columns: the positions j in model-space order (0 .. Dc-1) of the
+     * modelled continuous columns whose kind is CONTINUOUS, {@code kinds().get(modelledContinuous()[j])
+     * == CONTINUOUS}. INTEGER columns, which keep their own axis for their decoder, are left out. These
+     * are the columns a whitened chain whitens and the marginal criterion scores.
+     *
+     * @return those positions j, ascending (a new array)
+     */
+    public int[] realContinuousColumns() {
+        return IntStream.range(0, modelledContinuous.length)
+                .filter(j -> kinds.get(modelledContinuous[j]) == ColumnKind.CONTINUOUS).toArray();
+    }
+
     /** @return indices of the binary columns, in order (a copy) */
     public int[] modelledBinary() {
         return modelledBinary.clone();

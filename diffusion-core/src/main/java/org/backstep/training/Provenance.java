@@ -81,6 +81,23 @@ public record Provenance(String libraryVersion, String javaVersion, String os, S
                 history, notes);
     }
 
+    /**
+     * This provenance with notes added after its own, everything else kept but (when given) the
+     * training time: for a fit that goes on after its run, such as a choice between two runs.
+     *
+     * @param more the notes to add, in order (not modified)
+     * @param trainingSeconds the wall time of training to record, or NaN to keep {@link #trainingSeconds()}
+     * @return the provenance
+     * @throws IllegalArgumentException if {@code more} is null
+     */
+    public Provenance withMoreNotes(List<String> more, double trainingSeconds) {
+        Require.notNull("more", more);
+        List<String> all = new java.util.ArrayList<>(notes);
+        all.addAll(more);
+        return new Provenance(libraryVersion, javaVersion, os, arch, fittedAt,
+                Double.isNaN(trainingSeconds) ? this.trainingSeconds : trainingSeconds, tableRows, trainingRows,
+                checkpointRows, rowsWithGaps, filledCells, refills, tableSha256, history, all);
+    }
 
     /** @return the version written into the jar by the Maven build, or "unknown" */
     public static String currentLibraryVersion() {

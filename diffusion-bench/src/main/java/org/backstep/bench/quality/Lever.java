@@ -38,11 +38,11 @@ enum Lever {
     /** The table as it is, standardized, no closed-form part: the library's defaults before issue 11's flip. */
     STANDARDIZED_NO_PART("standardized, no part (defaults before)"),
     /** Each continuous column mapped to its normal scores (NORMAL_SCORES, Silverman's bandwidth). */
-    NORMAL_SCORES("normal scores"),
+    NORMAL_SCORES("normal scores", Baseline.NONE, Coordinates.STANDARDIZED, Lever.BANDWIDTH_MULTIPLE),
     /** The continuous columns standardized, then whitened by the training covariance. */
     WHITENED("whitened"),
     /** Normal scores, then whitened by the scores' training covariance (a Gaussian copula's space). */
-    NORMAL_SCORES_WHITENED("scores+whitened"),
+    NORMAL_SCORES_WHITENED("scores+whitened", Baseline.NONE, Coordinates.STANDARDIZED, Lever.BANDWIDTH_MULTIPLE),
     /** The table as it is, fitted with the closed-form part of N(0, I) data (Baseline.STANDARD_NORMAL). */
     STANDARD_NORMAL_PART("N(0,I) part", Baseline.STANDARD_NORMAL),
     /**
@@ -64,11 +64,17 @@ enum Lever {
      */
     WHITENED_MIXTURE_MODEL("whitened model+mixture part", Baseline.FITTED_MIXTURE, Coordinates.WHITENED),
     /** Normal scores (Silverman's bandwidth), then the library's defaults (whitened, N(0, I) part). */
-    NORMAL_SCORES_MODEL("normal scores+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
+    NORMAL_SCORES_MODEL("normal scores+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES,
+            Lever.BANDWIDTH_MULTIPLE),
     /** Normal scores (twice Silverman's bandwidth), then the library's defaults. */
-    NORMAL_SCORES2_MODEL("normal scores x2+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
-    NORMAL_SCORES4_MODEL("normal scores x4+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES),
-    NORMAL_SCORES8_MODEL("normal scores x8+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES);
+    NORMAL_SCORES2_MODEL("normal scores x2+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES,
+            2.0),
+    /** Normal scores (four times Silverman's bandwidth), then the library's defaults. */
+    NORMAL_SCORES4_MODEL("normal scores x4+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES,
+            4.0),
+    /** Normal scores (eight times Silverman's bandwidth), then the library's defaults. */
+    NORMAL_SCORES8_MODEL("normal scores x8+defaults", org.backstep.Defaults.BASELINE, org.backstep.Defaults.COORDINATES,
+            8.0);
 
     /** The bandwidth of NORMAL_SCORES: Silverman's rule itself (no choice made on the test tables). */
     static final double BANDWIDTH_MULTIPLE = 1.0;
@@ -83,6 +89,8 @@ enum Lever {
      * levers that name them; STANDARDIZED for every other lever (its own maps are applied outside).
      */
     final Marginals marginals;
+    /** The multiple of Silverman's bandwidth of the lever's own normal scores, NaN when it maps none. */
+    final double scoresMultiple;
 
     Lever(String label) {
         this(label, Baseline.NONE);
@@ -97,10 +105,20 @@ enum Lever {
     }
 
     Lever(String label, Baseline baseline, Coordinates coordinates, Marginals marginals) {
+        this(label, baseline, coordinates, marginals, Double.NaN);
+    }
+
+    /** Normal scores at {@code scoresMultiple} times Silverman's bandwidth applied outside the library. */
+    Lever(String label, Baseline baseline, Coordinates coordinates, double scoresMultiple) {
+        this(label, baseline, coordinates, Marginals.STANDARDIZED, scoresMultiple);
+    }
+
+    Lever(String label, Baseline baseline, Coordinates coordinates, Marginals marginals, double scoresMultiple) {
         this.label = label;
         this.baseline = baseline;
         this.coordinates = coordinates;
         this.marginals = marginals;
+        this.scoresMultiple = scoresMultiple;
     }
 
     /** @return the builder of this lever's fit: the library's defaults with its baseline and coordinates */
@@ -118,13 +136,11 @@ enum Lever {
         return switch (this) {
             case DEFAULTS, STANDARDIZED_MARGINALS, NORMAL_SCORES_MARGINALS, STANDARDIZED_NO_PART, STANDARD_NORMAL_PART, FITTED_GAUSSIAN_PART, WHITENED_MODEL,
                     WHITENED_MIXTURE_MODEL -> new Encoding(this, null, null, train);
-            case NORMAL_SCORES, NORMAL_SCORES_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE), null, train);
-            case NORMAL_SCORES2_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 2.0), null, train);
-            case NORMAL_SCORES4_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 4.0), null, train);
-            case NORMAL_SCORES8_MODEL -> new Encoding(this, TableTransform.fitNormalScores(train, 8.0), null, train);
+            case NORMAL_SCORES, NORMAL_SCORES_MODEL, NORMAL_SCORES2_MODEL, NORMAL_SCORES4_MODEL, NORMAL_SCORES8_MODEL ->
+                    new Encoding(this, TableTransform.fitNormalScores(train, scoresMultiple), null, train);
             case WHITENED, NORMAL_SCORES_WHITENED, WHITENED_STANDARD_NORMAL_PART -> {
                 TableTransform columns = this != NORMAL_SCORES_WHITENED ? TableTransform.fit(train, Set.of())
-                        : TableTransform.fitNormalScores(train, BANDWIDTH_MULTIPLE);
+                        : TableTransform.fitNormalScores(train, scoresMultiple);
                 int nc = columns.modelledContinuous().length;
                 double[][] y = columns.toModelSpace(train);
                 double[][] block = new double[y.length][];

@@ -134,29 +134,30 @@ public final class ScoreVariance {
         }
         System.out.println(prof);
 
+        // the model's own profile, which the STEADY and TARGET plans allocate by and every plan's
+        // prediction reads: measured once per model and chain (Engine keeps it), so timed once, here
+        long profileStart = Options.cpu();
+        engine.profile(chain);
+        System.out.printf(Locale.ROOT, "  the model's profile (TermProfile, measured once per model): %.1f CPU s%n",
+                (Options.cpu() - profileStart) / 1e9);
+
         double baseCpu = Double.NaN;
         for (String plan : plans) {
             String[] p = plan.split(":");
             int k = p[0].equals("TARGET") ? 0 : Integer.parseInt(p[1]);
             TermDraws draws;
-            long profileCpu = 0;
-            if (p[0].equals("STEADY")) {
-                // the library's allocation: the model's own profile (measured once per model, not timed per seed)
-                long before = Options.cpu();
-                draws = engine.drawPlan(org.backstep.option.BoundOptions.steady(k), chain);
-                profileCpu = Options.cpu() - before;
-                System.out.printf(Locale.ROOT, "  %s: profile %.1f CPU s; %d draws, %d linearized steps; draws by step:%s%n",
-                        plan, profileCpu / 1e9, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
-            } else if (p[0].equals("TARGET")) {
-                // the allocation to a predicted per-record sd (BoundOptions.steadyWithin(sd, cap))
-                double sd = Double.parseDouble(p[1]);
-                int cap = p.length > 2 ? Integer.parseInt(p[2]) : org.backstep.option.BoundOptions.MAX_TERM_DRAWS;
-                long before = Options.cpu();
-                draws = engine.drawPlan(org.backstep.option.BoundOptions.steadyWithin(sd, cap), chain);
-                profileCpu = Options.cpu() - before;
-                System.out.printf(Locale.ROOT, "  %s: profile %.1f CPU s; %d draws, %d linearized steps; draws by step:%s%n",
-                        plan, profileCpu / 1e9, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
-                p = new String[] {p[0], "0"};
+            if (p[0].equals("STEADY") || p[0].equals("TARGET")) {
+                // the library's allocations by the profile: the noise of K draws per term (BoundOptions.steady(K)),
+                // or a predicted per-record sd under a cap (TARGET:sd[:cap], BoundOptions.steadyWithin(sd, cap))
+                org.backstep.option.BoundOptions how = p[0].equals("STEADY") ? org.backstep.option.BoundOptions.steady(k)
+                        : org.backstep.option.BoundOptions.steadyWithin(Double.parseDouble(p[1]),
+                                p.length > 2 ? Integer.parseInt(p[2]) : org.backstep.option.BoundOptions.MAX_TERM_DRAWS);
+                draws = engine.drawPlan(how, chain);
+                System.out.printf(Locale.ROOT, "  %s: %d draws, %d linearized steps; draws by step:%s%n",
+                        plan, draws.total(), draws.linearizedSteps(), perStep(draws, steps));
+                if (p[0].equals("TARGET")) {
+                    p = new String[] {p[0], "0"};   // its third field is the cap, not linearized steps
+                }
             } else if (p[0].startsWith("NEYMAN-")) {
                 draws = TermDraws.allocated(TermDraws.Kind.valueOf(p[0].substring(7)), neyman(spread, k));
             } else {

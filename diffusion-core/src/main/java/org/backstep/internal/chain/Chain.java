@@ -226,12 +226,11 @@ public final class Chain {
     /**
      * @param transform the column transforms
      * @return the model columns a whitened chain whitens: the modelled continuous columns of kind
-     *     CONTINUOUS (integer columns keep their own axis for their decoder)
+     *     CONTINUOUS (integer columns keep their own axis for their decoder),
+     *     {@link org.backstep.table.TableTransform#realContinuousColumns}
      */
     public static int[] whitenedColumns(org.backstep.table.TableTransform transform) {
-        int[] mc = transform.modelledContinuous();
-        return java.util.stream.IntStream.range(0, mc.length)
-                .filter(j -> transform.kinds().get(mc[j]) == org.backstep.table.ColumnKind.CONTINUOUS).toArray();
+        return transform.realContinuousColumns();
     }
 
     private static Chain plain(org.backstep.option.FitOptions options, org.backstep.table.TableTransform transform,

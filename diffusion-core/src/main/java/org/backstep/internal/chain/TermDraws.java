@@ -95,9 +95,20 @@ public final class TermDraws {
      * @return the plan
      */
     public static TermDraws of(org.backstep.option.BoundOptions how, int steps) {
-        int k = how.termDraws();
-        TermDraws plan = uniform(k == 1 ? Kind.INDEPENDENT : Kind.SHIFTED_SOBOL, k, steps);
+        TermDraws plan = perTerm(how.termDraws(), steps);
         return how.linearized() ? plan.linearizedUpTo(steps) : plan;
+    }
+
+    /**
+     * The exact bound's point set for K draws at every step: independent draws for K = 1 (the
+     * historical stream), shifted Sobol points for K &gt; 1; no step linearized.
+     *
+     * @param k draws per term, at least 1
+     * @param steps the chain's steps
+     * @return the plan
+     */
+    public static TermDraws perTerm(int k, int steps) {
+        return uniform(k == 1 ? Kind.INDEPENDENT : Kind.SHIFTED_SOBOL, k, steps);
     }
 
     /** @return the historical plan: one independent draw per term */

@@ -110,11 +110,8 @@ public final class TermProfile {
      */
     public TermDraws allocate(int k) {
         int steps = plain.length - 1;
-        double reference = 0.0;
-        for (int s = 1; s <= steps; s++) {
-            reference += cost > 0 ? linear[s] : plain[s];
-        }
-        if (!(reference > 0.0) || !Double.isFinite(reference)) {
+        double reference = referenceSpread();
+        if (reference == 0.0) {
             return uniform(k);
         }
         // V = reference^2 / (k T)
@@ -138,11 +135,7 @@ public final class TermProfile {
             throw new IllegalArgumentException("variance is " + variance + "; it must be finite and above 0");
         }
         int steps = plain.length - 1;
-        double reference = 0.0;
-        for (int s = 1; s <= steps; s++) {
-            reference += cost > 0 ? linear[s] : plain[s];
-        }
-        if (!(reference > 0.0) || !Double.isFinite(reference)) {
+        if (referenceSpread() == 0.0) {
             return uniform(1);
         }
         TermDraws target = plan(variance, mostMean);
@@ -164,26 +157,34 @@ public final class TermProfile {
         return v;
     }
 
+    /**
+     * @return sum_t s_t over steps 1..T, s_t the linearized spread when the chain has control
+     *     variates (every step linearized), else the plain one; 0 when no finite noise was measured
+     *     (the sum is not finite or not above 0), where the plans fall back to K draws at every step
+     */
+    private double referenceSpread() {
+        double sum = 0.0;
+        for (int s = 1; s < plain.length; s++) {
+            sum += cost > 0 ? linear[s] : plain[s];
+        }
+        return sum > 0.0 && Double.isFinite(sum) ? sum : 0.0;
+    }
+
+    /**
+     * The plan when no noise was measured (or none finite): k draws at every step, the control
+     * variates at every step when the chain has them.
+     */
     private TermDraws uniform(int k) {
         int steps = plain.length - 1;
-        int[] per = new int[steps + 1];
-        boolean[] lin = new boolean[steps + 1];
-        Arrays.fill(per, 1, steps + 1, k);
-        Arrays.fill(lin, 1, steps + 1, cost > 0);
-        // no noise measured (or none finite): k draws at every step
-        return TermDraws.allocated(k == 1 ? TermDraws.Kind.INDEPENDENT : TermDraws.Kind.SHIFTED_SOBOL, per, lin);
+        return TermDraws.perTerm(k, steps).linearizedUpTo(cost > 0 ? steps : 0);
     }
 
     /** The least-cost plan at the variance V (the class comment), each K_t at most MOST_PER_STEP_FACTOR k. */
     private TermDraws plan(double variance, int k) {
         int steps = plain.length - 1;
         boolean[] lin = new boolean[steps + 1];
-        double sum0 = 0.0;
-        for (int s = 1; s <= steps; s++) {
-            lin[s] = cost > 0;
-            sum0 += lin[s] ? linear[s] : plain[s];
-        }
-        double root = sum0 / variance;
+        Arrays.fill(lin, 1, steps + 1, cost > 0);
+        double root = referenceSpread() / variance;
         for (int round = 0; round < 50 && cost > 0; round++) {
             boolean changed = false;
             double sum = 0.0;

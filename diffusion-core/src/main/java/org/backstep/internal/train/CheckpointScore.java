@@ -34,7 +34,6 @@ public enum CheckpointScore {
      * @return the draws of {@link #STEADY}: K per term, the control variates on steps 1..max(1, T/10)
      */
     static TermDraws steadyDraws(int k, int steps) {
-        TermDraws plan = k == 1 ? TermDraws.single(steps) : TermDraws.uniform(TermDraws.Kind.SHIFTED_SOBOL, k, steps);
-        return plan.linearizedUpTo(Math.max(1, steps / 10));
+        return TermDraws.perTerm(k, steps).linearizedUpTo(Math.max(1, steps / 10));
     }
 }

@@ -64,18 +64,15 @@ public final class MarginalChoice {
         Table held;
         try (TrainingRun run = new TrainingRun(options, table, checkpointRows, null, relay, stop, null)) {
             held = run.checkpointTable();
-            if (!run.normalScores() || held == null) {
-                run.advance(Long.MAX_VALUE);
-                Trainer.Fitted only = run.finish();
-                if (run.normalScores()) {
-                    return withNotes(only, options, List.of("marginals CHOSEN: no complete checkpoint rows to compare"
-                            + " the families on, so the criterion's choice (normal scores) was kept"), Double.NaN);
-                }
-                return only;
-            }
-            relay.first = true;
+            boolean compare = run.normalScores() && held != null;
+            relay.first = compare;
             run.advance(Long.MAX_VALUE);
             first = run.finish();
+            if (!compare) {
+                return run.normalScores() ? withNotes(first, options, List.of("marginals CHOSEN: no complete checkpoint"
+                        + " rows to compare the families on, so the criterion's choice (normal scores) was kept"),
+                        Double.NaN) : first;
+            }
         }
         if (stop.getAsBoolean()) {
             return withNotes(first, options, List.of("marginals CHOSEN: stopped on request before the standardized fit;"
@@ -98,10 +95,10 @@ public final class MarginalChoice {
         String note = String.format(java.util.Locale.ROOT, "marginals CHOSEN: exact bound (%d term draws, control variates) on the %d"
                 + " complete checkpoint rows, nats per record in the caller's units: normal scores %.4f, standardized"
                 + " %.4f (%.1f s); %s kept", comparisonDraws, held.rows(), scores, standardized,
-                (System.nanoTime() - compared) / 1e9, keepScores ? "normal scores" : "standardized");
+                Trainer.seconds(compared), keepScores ? "normal scores" : "standardized");
         LOG.info(note);
         Trainer.Fitted kept = keepScores ? first : second;
-        double seconds = (System.nanoTime() - started) / 1e9;
+        double seconds = Trainer.seconds(started);
         List<String> notes = new ArrayList<>();
         if (!keepScores) {
             // the criterion's figures, noted by the first run's rows, belong to the record of the choice
@@ -120,12 +117,7 @@ public final class MarginalChoice {
     /** The fit with notes added to its provenance, its options those given, and (unless NaN) the training seconds. */
     private static Trainer.Fitted withNotes(Trainer.Fitted f, FitOptions options, List<String> more, double seconds) {
         ModelParts p = f.parts();
-        Provenance v = p.provenance();
-        List<String> notes = new ArrayList<>(v.notes());
-        notes.addAll(more);
-        Provenance nv = new Provenance(v.libraryVersion(), v.javaVersion(), v.os(), v.arch(), v.fittedAt(),
-                Double.isNaN(seconds) ? v.trainingSeconds() : seconds, v.tableRows(), v.trainingRows(),
-                v.checkpointRows(), v.rowsWithGaps(), v.filledCells(), v.refills(), v.tableSha256(), v.history(), notes);
+        Provenance nv = p.provenance().withMoreNotes(more, seconds);
         return new Trainer.Fitted(new ModelParts(options, p.transform(), p.network(), p.estimator(), nv, p.range(),
                 p.whitening()), f.updates(), f.epochs(), f.updateSeconds());
     }

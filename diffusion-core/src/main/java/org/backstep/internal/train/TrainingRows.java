@@ -77,10 +77,6 @@ final class TrainingRows {
     final GaussianGaps gaussianGaps;
     /** The complete checkpoint rows in the caller's units, or null when there are none. */
     final Table checkpointTable;
-    /** The criterion's figures when the maps were chosen by it, else null. */
-    MarginalCriterion.Figures marginalFigures;
-    /** Wall-clock seconds the criterion took (0 when it did not run). */
-    double criterionSeconds;
     private static final long GAUSSIAN_FILL_SEED = 0x452821E638D01377L;   // any fixed constant (digits of pi)
 
     /**
@@ -257,13 +253,12 @@ final class TrainingRows {
             } else {
                 long t0 = System.nanoTime();
                 MarginalCriterion.Figures f = MarginalCriterion.figures(complete, options.logColumns());
-                criterionSeconds = (System.nanoTime() - t0) / 1e9;
-                marginalFigures = f;
+                double criterionSeconds = Trainer.seconds(t0);
                 boolean scores = options.marginals() == Marginals.NORMAL_SCORES || f.scoresWin();
                 notes.add("marginals " + options.marginals() + ": cross-validated nats per record of the closed-form"
-                        + " part (" + MarginalCriterion.FOLDS + " folds of " + Math.min(complete.rows(),
-                        MarginalCriterion.MAX_ROWS) + " of the " + complete.rows() + " complete training rows, caller's"
-                        + " units): " + f + String.format(java.util.Locale.ROOT, ", %.1f s; ", criterionSeconds)
+                        + " part (" + MarginalCriterion.FOLDS + " folds of " + f.rows() + " of the " + complete.rows()
+                        + " complete training rows, caller's units): " + f
+                        + String.format(java.util.Locale.ROOT, ", %.1f s; ", criterionSeconds)
                         + (scores ? "normal scores at " + f.bestMultiple() + " x Silverman's bandwidth taken, fitted on the "
                                 + train.rows() + " training rows" : "standardized maps taken"));
                 if (scores) {
@@ -280,8 +275,9 @@ final class TrainingRows {
 
     /** @return whether {@code t} diffuses a CONTINUOUS column that is not a log column (one normal scores would map) */
     private static boolean hasScoredColumn(TableTransform t, java.util.Set<String> logColumns) {
-        for (int c : t.modelledContinuous()) {
-            if (t.kinds().get(c) == ColumnKind.CONTINUOUS && !logColumns.contains(t.names().get(c))) {
+        int[] mc = t.modelledContinuous();
+        for (int j : t.realContinuousColumns()) {
+            if (!logColumns.contains(t.names().get(mc[j]))) {
                 return true;
             }
         }

@@ -102,8 +102,6 @@ public final class TrainingRun implements AutoCloseable {
     private final boolean[] filledBatch;     // batch x d, the minibatch's rows of filled
     private final long refillInterval;       // updates, or update nanoseconds when timed, between refills
     private final Table checkpointTable;     // the complete checkpoint rows in the caller's units, or null
-    private final org.backstep.table.MarginalCriterion.Figures marginalFigures;   // null unless the maps were chosen
-
 
     private final List<EpochRecord> history = new ArrayList<>();
     private float[] bestWeights;
@@ -163,7 +161,6 @@ public final class TrainingRun implements AutoCloseable {
         TrainingRows prepared = new TrainingRows(options, table, checkpointRows, givenTransform);
         notes.addAll(prepared.notes);
         checkpointTable = prepared.checkpointTable;
-        marginalFigures = prepared.marginalFigures;
         transform = prepared.transform;
         dc = prepared.dc;
         db = prepared.db;
@@ -255,11 +252,6 @@ public final class TrainingRun implements AutoCloseable {
     /** @return the complete checkpoint rows in the caller's units, or null when there are none */
     Table checkpointTable() {
         return checkpointTable;
-    }
-
-    /** @return the marginal criterion's figures when the maps were chosen by it, else null */
-    org.backstep.table.MarginalCriterion.Figures marginalFigures() {
-        return marginalFigures;
     }
 
     /** @return whether any column is mapped by its normal scores */

@@ -65,7 +65,7 @@ class TermProfileTest {
     void aVarianceTargetSetsTheDrawsByNeymansFormula() {
         // spreads 4 : 2 : 1 : 1, no control variate, target V = 0.25: Neyman allocation with a fixed variance
         // (Cochran 1977, section 5.5): N = (sum s_t)^2 / V = 64 / 0.25 = 256, K_t = N s_t / sum s = 32 x (4, 2, 1, 1),
-        // and the predicted variance sum s_t^2 / K_t = (16 + 4 + 1 + 1) / 32 x ... = V exactly
+        // and the predicted variance sum s_t^2 / K_t = 16/128 + 4/64 + 1/32 + 1/32 = 0.25 = V exactly
         double[] spread = {0, 4, 2, 1, 1};
         TermProfile profile = TermProfile.of(spread, spread, 0);
         TermDraws plan = profile.allocateTo(0.25, 1000);
@@ -75,7 +75,8 @@ class TermProfileTest {
         assertEquals(32, plan.at(4));
         assertEquals(256, plan.total());
         assertEquals(0.25, profile.predictedVariance(plan), 1e-12);
-        // a quieter target on a noisier profile: 4 times the variance, a quarter of the draws (the same formula)
+        // a looser target on the same profile: V = 1.0, four times the variance, a quarter of the draws,
+        // N = 64 / 1.0 = 64 (the same formula)
         assertEquals(64, profile.allocateTo(1.0, 1000).total());
     }
 
