@@ -64,7 +64,9 @@ class DiscreteColumnsTest {
             rows[r] = new double[] {Math.round(10 * x.get(r, 0)), x.get(r, 1), x.get(r, 2), x.get(r, 3), s.get(r, 0)};
         }
         iris = Table.of(NAMES, KINDS, Map.of("species", SPECIES), rows);
-        model = Backstep.builder().steps(20).hidden(16, 16).epochs(30).seed(5).threads(1).fit(iris);
+        // standardized maps: denoisedRowsKeepTheirLabelsAndEqualTheCores denoises, which needs them
+        model = Backstep.builder().steps(20).hidden(16, 16).epochs(30).seed(5).threads(1)
+                .marginals(org.backstep.option.Marginals.STANDARDIZED).fit(iris);
     }
 
     private static StructType schema() {

@@ -52,7 +52,9 @@ final class TestModels {
     /** @return a small model of 400 readings (T = 20, two hidden layers of 16), fitted once per JVM */
     static synchronized DiffusionModel model() {
         if (model == null) {
-            model = Backstep.builder().steps(20).hidden(16, 16).epochs(30).seed(3).threads(1).fit(readings(400, 11));
+            // standardized maps: JobsTest denoises with this model, and denoising needs them (Marginals Javadoc)
+            model = Backstep.builder().steps(20).hidden(16, 16).epochs(30).seed(3).threads(1)
+                    .marginals(org.backstep.option.Marginals.STANDARDIZED).fit(readings(400, 11));
         }
         return model;
     }

@@ -100,7 +100,7 @@ public final class Denoiser {
                 throw new IllegalArgumentException("column '" + readings.name(col) + "' is " + tr.kind()
                         + "; denoising needs standardized columns (additive noise on a log scale or on normal scores"
                         + " is not Gaussian there): fit with the builder option marginals(Marginals.STANDARDIZED)"
-                        + (tr.kind() == ColumnTransform.Kind.LOG_STANDARDIZE ? " and without logColumns" : "") + ")");
+                        + (tr.kind() == ColumnTransform.Kind.LOG_STANDARDIZE ? " and without logColumns" : ""));
             }
             double sd = noiseSd[col];
             if (!(sd > 0) || !Double.isFinite(sd)) {
