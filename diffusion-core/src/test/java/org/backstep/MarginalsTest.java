@@ -100,7 +100,7 @@ class MarginalsTest {
         return Backstep.builder().steps(20).hidden(32, 32).trainingSteps(300).seed(4).threads(2);
     }
 
-    /** Rows of a 6-D normal with correlated columns. */
+    /** Rows of a 6-D normal with correlated columns, named x0..x5 (drawn by {@link ScreeningCases#gaussianRows}). */
     private static Table gaussianRows(int n, long seed) {
         int d = 6;
         double[][] cov = new double[d][d];
@@ -109,16 +109,7 @@ class MarginalsTest {
                 cov[a][b] = a == b ? 1.0 + 0.1 * a : 0.4 * Math.pow(0.7, Math.abs(a - b));
             }
         }
-        MultivariateNormalDistribution g = new MultivariateNormalDistribution(new Well19937c(seed), new double[d], cov);
-        double[][] rows = new double[n][];
-        for (int i = 0; i < n; i++) {
-            rows[i] = g.sample();
-        }
-        List<String> names = new java.util.ArrayList<>();
-        for (int j = 0; j < d; j++) {
-            names.add("x" + j);
-        }
-        return Table.of(names, java.util.Collections.nCopies(d, ColumnKind.CONTINUOUS), rows);
+        return ScreeningCases.gaussianRows(n, seed, new double[d], cov, -1, 0.0);
     }
 
     @Test
