@@ -11,7 +11,9 @@ import java.util.Set;
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.distribution.NormalDistribution;
 import org.apache.commons.math3.random.Well19937c;
+import org.backstep.option.ImputationOptions;
 import org.backstep.option.Marginals;
+import org.backstep.report.Imputation;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.ColumnTransform;
 import org.backstep.table.Table;
@@ -191,6 +193,38 @@ class MarginalsTest {
         double imputed = a.impute(Table.of(test.names(), test.kinds(), masked), 6).mean().get(0, 0);
         // decoded to the caller's units, a finite value (Marginals Javadoc contract; common practice, no source)
         assertTrue(Double.isFinite(imputed), "imputed " + imputed);
+    }
+
+    @Test
+    void normalScoreRowsDecodeToTheSameBitsOnAnyThreadCount() {
+        Table train = skewedRows(150, 8);
+        Table test = skewedRows(130, 9);
+        // more rows than one chunk of the parallel decoding (64), so that several threads decode them
+        DiffusionModel three = shortFit().trainingSteps(20).marginals(Marginals.NORMAL_SCORES).threads(3).fit(train);
+        // the same parts with the options of one thread (training itself depends on the thread count)
+        DiffusionModel one = DiffusionModel.of(new org.backstep.internal.chain.ModelParts(
+                shortFit().trainingSteps(20).marginals(Marginals.NORMAL_SCORES).threads(1).options(), three.transform(),
+                three.parts().network(), three.parts().estimator(), three.parts().provenance(), three.parts().range(),
+                three.parts().whitening()));
+        double[][] masked = test.toArray();
+        for (int r = 0; r < masked.length; r++) {
+            masked[r][r % 2] = Double.NaN;
+        }
+        Table gappy = Table.of(test.names(), test.kinds(), masked);
+        ImputationOptions how = Defaults.imputation().withDraws(3);
+        // the result does not depend on the thread count (the project's determinism rule; common practice, no source)
+        assertArrayEquals(one.sample(150, 5).toArray(), three.sample(150, 5).toArray());
+        Imputation a = one.impute(gappy, how, 6);
+        Imputation b = three.impute(gappy, how, 6);
+        assertArrayEquals(a.mean().toArray(), b.mean().toArray());
+        for (int k = 0; k < 3; k++) {
+            assertArrayEquals(a.draws().get(k).toArray(), b.draws().get(k).toArray());
+        }
+        // observed cells come back exactly as given, missing ones decoded (ImputationOptions Javadoc; common practice, no source)
+        for (int r = 0; r < masked.length; r++) {
+            assertEquals(test.get(r, 1 - r % 2), a.mean().get(r, 1 - r % 2), 0.0, "row " + r);
+            assertTrue(Double.isFinite(a.mean().get(r, r % 2)), "row " + r);
+        }
     }
 
     @Test

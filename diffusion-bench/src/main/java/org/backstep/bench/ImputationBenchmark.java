@@ -7,6 +7,7 @@ import org.backstep.Backstep;
 import org.backstep.DiffusionModel;
 import org.backstep.option.Coordinates;
 import org.backstep.option.ImputationOptions;
+import org.backstep.option.Marginals;
 import org.backstep.Defaults;
 import org.backstep.table.Table;
 import org.openjdk.jmh.annotations.Benchmark;
@@ -29,7 +30,11 @@ import org.openjdk.jmh.annotations.Warmup;
  * 4 patterns shared by all rows ({@code few}: 6 cells each) or a pattern per row ({@code each}:
  * every cell hidden with probability 0.2, as the quality benchmark hides held-out cells). The small
  * network keeps the held-cell arithmetic of the whitened chain (the regression-adjusted
- * replacement) visible beside the network's.
+ * replacement) visible beside the network's. The maps of the columns are standardized or the
+ * normal scores of a kernel-smoothed distribution function ({@code maps}), whose inverse is a root
+ * search over the map's knots: {@link #decodeAll} and {@link #decodeMissing} time the decoding of
+ * one draw of the records back to the caller's units, every cell against only the missing ones
+ * (what {@code impute} decodes since it stopped decoding the observed cells), on one thread.
  */
 @BenchmarkMode(Mode.AverageTime)
 @OutputTimeUnit(TimeUnit.MILLISECONDS)
@@ -55,9 +60,17 @@ public class ImputationBenchmark {
         @Param({"few", "each"})
         public String patterns;
 
+        /** The maps of the columns: {@code STANDARDIZED} or {@code NORMAL_SCORES}. */
+        @Param({"STANDARDIZED", "NORMAL_SCORES"})
+        public String maps;
+
         DiffusionModel model;
         Table records;
         ImputationOptions how;
+        /** The complete records in model space, one draw's worth of cells to decode. */
+        double[][] modelRows;
+        /** The same with the observed cells NaN: only the missing cells to decode. */
+        double[][] missingRows;
 
         /** Fits the seeded model and hides the cells. */
         @Setup(Level.Trial)
@@ -70,6 +83,7 @@ public class ImputationBenchmark {
                     .threads(1)
                     .seed(41)
                     .coordinates(Coordinates.valueOf(coordinates))
+                    .marginals(Marginals.valueOf(maps))
                     .fit(Fixtures.telemetry(1024, COLUMNS, 41));
             Table full = Fixtures.telemetry(ROWS, COLUMNS, 42);
             double[][] cells = full.toArray();
@@ -86,6 +100,16 @@ public class ImputationBenchmark {
             }
             records = full.withRows(cells);
             how = Defaults.imputation().withDraws(DRAWS).withSteps(STEPS);
+            modelRows = model.transform().toModelSpace(full);
+            missingRows = new double[ROWS][];
+            for (int r = 0; r < ROWS; r++) {
+                missingRows[r] = modelRows[r].clone();
+                for (int j = 0; j < COLUMNS; j++) {
+                    if (!Double.isNaN(cells[r][j])) {
+                        missingRows[r][j] = Double.NaN;     // model column j is table column j: all continuous
+                    }
+                }
+            }
         }
     }
 
@@ -96,5 +120,23 @@ public class ImputationBenchmark {
     @Benchmark
     public double impute(Case c) {
         return Fixtures.checksum(c.model.impute(c.records, c.how, 7).mean());
+    }
+
+    /**
+     * @param c the model and records
+     * @return a checksum of every cell decoded
+     */
+    @Benchmark
+    public double decodeAll(Case c) {
+        return Fixtures.checksum(c.model.transform().fromModelSpace(c.modelRows));
+    }
+
+    /**
+     * @param c the model and records
+     * @return a checksum of the missing cells decoded (the observed ones come back NaN)
+     */
+    @Benchmark
+    public double decodeMissing(Case c) {
+        return Fixtures.checksum(c.model.transform().fromModelSpace(c.missingRows));
     }
 }

@@ -262,7 +262,41 @@ public final class Engine {
             LOG.warn("sampling with {} steps: {}", c.steps, check);
         }
         c.fromChain(all, count);
-        return new CheckedSample(parts.transform().fromModelSpace(toRows(all, count, c.d)), check);
+        return new CheckedSample(fromModelSpace(toRows(all, count, c.d)), check);
+    }
+
+    /** Rows per chunk of {@link #fromModelSpace}: enough cells to outweigh handing a chunk to a thread. */
+    private static final int INVERSE_CHUNK_ROWS = 64;
+
+    /**
+     * {@code transform().fromModelSpace(model)} in chunks of {@link #INVERSE_CHUNK_ROWS} rows on the
+     * engine's threads: the same table, because each cell's inverse map depends on that cell alone.
+     * The inverse of a normal-scores map is a root search over the map's knots (thousands of
+     * operations a cell), which on one thread was most of the time of imputing a table with such
+     * maps (see {@code Imputer}); a NaN cell costs nothing and comes back NaN.
+     *
+     * @param model rows of model-space values (not modified)
+     * @return the rows in original units
+     */
+    Table fromModelSpace(double[][] model) {
+        int rows = model.length;
+        int count = (rows + INVERSE_CHUNK_ROWS - 1) / INVERSE_CHUNK_ROWS;
+        TableTransform transform = parts.transform();
+        if (count <= 1 || threads <= 1) {
+            return transform.fromModelSpace(model);
+        }
+        double[][] out = new double[rows][];
+        Table[] first = new Table[1];
+        Parallel.forEachChunk(count, threads, c -> {
+            int from = c * INVERSE_CHUNK_ROWS;
+            Table part = transform.fromModelSpace(java.util.Arrays.copyOfRange(model, from,
+                    Math.min(rows, from + INVERSE_CHUNK_ROWS)));
+            System.arraycopy(part.toArray(), 0, out, from, part.rows());
+            if (c == 0) {
+                first[0] = part;
+            }
+        });
+        return first[0].withRows(out);
     }
 
     /**

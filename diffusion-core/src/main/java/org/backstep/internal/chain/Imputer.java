@@ -16,7 +16,8 @@ import java.util.List;
  * model's conditional distribution given its observed cells, the observed cells held by
  * replacement (Lugmayr et al. 2022, algorithm 1) or by the kernel product (Sohl-Dickstein et al.
  * 2015, section 2.5.2); see {@code org.backstep.option.Conditioning}. Then the per-cell mean and
- * the central interval of the draws (empirical quantiles, Hyndman &amp; Fan 1996, type 7).
+ * the central interval of the draws (empirical quantiles, Hyndman &amp; Fan 1996, type 6: see
+ * {@link #intervalEnd}).
  */
 public final class Imputer {
 
@@ -73,7 +74,14 @@ public final class Imputer {
                     rowSeeds == null ? drawSeed : 1_000_003L * k, todoSeeds);
             double[][] completed = records.toArray();
             if (n > 0) {
-                Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, n, c.d));
+                // only the missing cells are mapped back: the observed ones are kept as given, and a
+                // normal-scores cell's inverse is a root search (most of the time of imputing with such maps)
+                for (int i = 0; i < all.length; i++) {
+                    if (!Float.isNaN(known[i])) {
+                        all[i] = Float.NaN;
+                    }
+                }
+                Table drawn = engine.fromModelSpace(Engine.toRows(all, n, c.d));
                 for (int r = 0; r < n; r++) {
                     double[] row = completed[todo[r]];
                     for (int j = 0; j < row.length; j++) {
@@ -121,8 +129,8 @@ public final class Imputer {
                     continue;
                 }
                 mean[i][j] = Arrays.stream(cell).average().orElseThrow();
-                lo[i][j] = quantile(cell, (1.0 - level) / 2.0);
-                hi[i][j] = quantile(cell, 1.0 - (1.0 - level) / 2.0);
+                lo[i][j] = intervalEnd(cell, (1.0 - level) / 2.0);
+                hi[i][j] = intervalEnd(cell, (1.0 + level) / 2.0);
             }
         }
         return new Imputation(tables, withValues(records, mean), withValues(records, lo), withValues(records, hi),
@@ -212,6 +220,35 @@ public final class Imputer {
             ReverseRun.run(chain, x, m, from, kn, rounds, SamplerKind.ANCESTRAL, 0.0, method, rng);
             chain.fromChain(x, m);
         });
+    }
+
+    /**
+     * An end of an imputed interval: the empirical p-quantile of k draws at position h = (k + 1) p
+     * among the sorted draws, linear between neighbouring order statistics, the smallest draw below
+     * h = 1 and the largest above h = k (Hyndman &amp; Fan 1996, "Sample quantiles in statistical
+     * packages", type 6; commons-math3's Percentile R_6). Chosen because F(X_(i)) of the i-th of k
+     * exchangeable draws has mean i / (k + 1), so a central interval between the positions
+     * (k + 1)(1 - level)/2 and (k + 1)(1 + level)/2 covers a new draw with probability about
+     * {@code level} once k &gt;= (1 + level)/(1 - level) (19 at level 0.9; see
+     * {@link Imputation#expectedCoverage()}).
+     *
+     * @param values the draws (not modified)
+     * @param p the probability, in (0, 1)
+     * @return the interval's end
+     */
+    public static double intervalEnd(double[] values, double p) {
+        double[] s = values.clone();
+        Arrays.sort(s);
+        int k = s.length;
+        double h = (k + 1) * p;
+        if (h <= 1.0) {
+            return s[0];
+        }
+        if (h >= k) {
+            return s[k - 1];
+        }
+        int below = (int) Math.floor(h);          // 1-based order statistic at or below h
+        return s[below - 1] + (h - below) * (s[below] - s[below - 1]);
     }
 
     /** The empirical quantile with linear interpolation between order statistics (Hyndman &amp; Fan 1996, type 7). */
