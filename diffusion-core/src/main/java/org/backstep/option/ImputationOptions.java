@@ -12,8 +12,9 @@ import org.backstep.schedule.Require;
  * <p>Start from {@code org.backstep.Defaults#imputation()} and change what you need:
  * {@code Defaults.imputation().withDraws(50)}.
  *
- * <p>An interval from k draws covers about level (k - 1)/(k + 1) of the truth even when the
- * draws are exact (see {@code org.backstep.report.Imputation#expectedCoverage()}).
+ * <p>An interval from k draws covers about {@code level} of the truth when the draws are exact and
+ * k &gt;= (1 + level)/(1 - level) (19 at level 0.9), and about (k - 1)/(k + 1) with fewer draws (see
+ * {@code org.backstep.report.Imputation#expectedCoverage()}).
  *
  * @param draws k, from 1 to {@link Limits#MAX_DRAWS}
  * @param level the central interval's coverage, in (0, 1)
