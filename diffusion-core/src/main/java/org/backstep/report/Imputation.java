@@ -15,8 +15,8 @@ import java.util.List;
  * statistical packages", type 6, linear between order statistics, clamped to the smallest and
  * largest draw). A new exchangeable value falls between the order statistics X_(i) and X_(j) of k
  * draws with probability (j - i) / (k + 1) (F(X_(i)) is Beta(i, k - i + 1), of mean i / (k + 1): a
- * standard result on order statistics, value from memory), so when the draws come from the exact conditional
- * distribution the interval covers a new value with probability about {@code level} as soon as
+ * standard result on order statistics, value from memory), so when the draws come from the exact
+ * conditional distribution the interval covers a new value with probability about {@code level} as soon as
  * k &gt;= (1 + level)/(1 - level), i.e. from 19 draws at level 0.9 (the default 20 draws: 90%);
  * with fewer draws the interval is the range of the draws and covers about (k - 1)/(k + 1).
  * {@link #expectedCoverage()} gives the figure. (Until issue 11 the ends were type-7 quantiles,
@@ -25,11 +25,11 @@ import java.util.List;
  * <p>Caution: imputed values are not measurements; they are draws from a model of the training
  * data and carry its blind spots.
  *
- * @param draws the k completed tables, one per draw
  * <p>Categorical cells have no mean or interval: {@link #categoryShares(int, int)} gives the share of
  * the draws in each category and {@link #mostLikely(int, int)} the most frequent one; the mean,
  * lower and upper tables hold that category's index there.
  *
+ * @param draws the k completed tables, one per draw
  * @param mean the per-cell mean of the draws (for binary cells, the share of draws that are 1; for
  *     categorical cells, the index of the most frequent category)
  * @param lower the per-cell lower end of the central interval at {@link #level()}
