@@ -323,15 +323,20 @@ final class NormalScores {
      * x with z(x) = {@code z}: Halley's method with the exact derivatives z' = f / phi(z) and
      * z'' = z' (f'/f + z z') (from log z' = log f - log phi(z)), inside a bracket (a, b) with
      * z(a) &lt; z &lt; z(b) that every evaluation narrows. Halley's step is s / (1 + c s) with the
-     * Newton step s = (z - z(x)) / z' and c = z'' / (2 z') (Press et al. 2007, Numerical Recipes,
-     * 3rd ed., eq. 9.4.13); Newton's step replaces it where |c s| &gt;= 1/2; a step that would leave
-     * the bracket is replaced by its midpoint, or, while one end is still open, by a step of twice
-     * the distance to the far knot plus h. The map is strictly increasing, so the root is unique.
-     * Start: the sample quantile of the knots at p = Phi(z) (knot i at (i + 1/2) / n, linear in
-     * between); beyond the outer knots, the quantile of the outer kernel alone,
-     * x = k_1 + h Phi^-1(n p) (or k_n - h Phi^-1(n (1 - p))), the map's limit far outside the knots.
-     * The iteration stops when the last step was small enough ({@link #ACCEPT_NEWTON}), the bracket
-     * is narrower than {@link #INVERSE_TOL} (|x| + h), or z(x) = z exactly.
+     * Newton step s = (z - z(x)) / z' and c = z'' / (2 z') (Gander 1985, "On Halley's iteration
+     * method", Amer. Math. Monthly 92:131-134); Newton's step replaces it where |c s| &gt;= 1/2.
+     * Safeguards: a step is cut back to at most {@link #PAST_KNOT} bandwidths past the first knot on
+     * its way (from a plateau of F between sparse knots a Newton step overshoots by far); a step
+     * that would leave the bracket is replaced, while one end is still open, by a step of twice the
+     * distance to the far knot plus h, else by the Newton step from the bracket's other end if that
+     * lands inside (the steep side of a plateau's edge), else by the midpoint. The map is strictly
+     * increasing, so the root is unique. Start: the sample quantile of the knots at p = Phi(z)
+     * (knot i at (i + 1/2) / n, linear in between); beyond the outer knots, the quantile of the
+     * outer kernel alone, x = k_1 + h Phi^-1(n p) (or k_n - h Phi^-1(n (1 - p))), the map's limit
+     * far outside the knots. It stops at z(x) = z exactly, when the bracket is narrower than
+     * {@link #INVERSE_TOL} (|x| + h), when a step is below that, or, without evaluating again, after
+     * a step small enough for {@link #ACCEPT_NEWTON}. Typical cells take 2 to 4 evaluations (3 on
+     * average; Newton from the nearest knot took 4 to 6), up to about 6 between sparse tail knots.
      *
      * @param knots the knots, sorted ascending (not modified)
      * @param h the bandwidth
