@@ -37,7 +37,7 @@ final class NormalScores {
 
     /**
      * log Phi(u), the log of the standard normal distribution function, for every finite u: from
-     * commons-math3's erfc, Phi(u) = erfc(-u / sqrt 2) / 2, and below {@link #SERIES_BELOW} from the
+     * {@link #erfc}, Phi(u) = erfc(-u / sqrt 2) / 2, and below {@link #SERIES_BELOW} from the
      * asymptotic series Phi(u) = phi(u) / (-u) (1 - 1/u^2 + 3/u^4 - 15/u^6 + 105/u^8 - 945/u^10
      * + 10395/u^12) (Abramowitz &amp; Stegun 1964, eq. 26.2.12).
      *
@@ -53,10 +53,9 @@ final class NormalScores {
             double series = 1 - r * (1 - 3 * r * (1 - 5 * r * (1 - 7 * r * (1 - 9 * r * (1 - 11 * r)))));
             return -0.5 * u * u - HALF_LOG_2PI - Math.log(-u) + Math.log(series);
         }
-        if (u < 0) {
-            return Math.log(0.5 * Erf.erfc(-u / SQRT2));
-        }
-        return Math.log1p(-0.5 * Erf.erfc(u / SQRT2));
+        double a = Math.abs(u) * INV_SQRT2;
+        double half = 0.5 * erfc(a, expMinusSquare(a));   // Phi(-|u|)
+        return u < 0 ? Math.log(half) : Math.log1p(-half);
     }
 
     /** log phi(u) = -u^2/2 - log(2 pi)/2. */
@@ -98,10 +97,7 @@ final class NormalScores {
     }
 
     /**
-     * z(x) and log dz/dx at x. One pass over the knots in linear space, with one erfc per knot
-     * (the smaller of Phi(u) and Phi(-u) from erfc, the larger as 1 minus it); if a sum comes out
-     * below {@link #LINEAR_FLOOR} (x so far outside the knots that its terms may underflow), a second
-     * pass in log space.
+     * z(x) and log dz/dx at x: {@link #sums} and {@link #finish}.
      *
      * @param knots the knots k_i, sorted ascending (not modified)
      * @param h the bandwidth, above 0
@@ -109,14 +105,41 @@ final class NormalScores {
      * @return {z, log dz/dx}
      */
     static double[] evaluate(double[] knots, double h, double x) {
-        double sumLo = 0.0;
-        double sumHi = 0.0;
+        double[] s = sums(knots, h, x);
+        return finish(s[0], s[1], s[2], knots.length, h);
+    }
+
+    /**
+     * Beyond this |u| = |x - k| / h a knot's terms are exactly 0 and 1 in double: exp(-u^2 / 2)
+     * underflows to 0 below -745.2 (38.7^2 / 2 = 748.8), and Phi(-|u|) &lt; exp(-u^2 / 2) with it.
+     */
+    private static final double NEGLIGIBLE_U = 38.7;
+    private static final double INV_SQRT2 = 1.0 / Math.sqrt(2.0);
+
+    /**
+     * The sums of the map at x: {log sum Phi(u_i), log sum Phi(-u_i), log sum exp(-u_i^2 / 2),
+     * sum u_i exp(-u_i^2 / 2) / sum exp(-u_i^2 / 2)} over u_i = (x - k_i) / h; the last is -h f'(x) / f(x).
+     * Knots beyond {@link #NEGLIGIBLE_U} bandwidths (found by binary search in the sorted knots) add
+     * exactly 1 to the first or second sum and nothing else, so they are counted, not summed. The
+     * others are summed in linear space with one exp and one {@link #erfc} each (the smaller of
+     * Phi(u) and Phi(-u) from erfc, the larger as 1 minus it); if a sum comes out below
+     * {@link #LINEAR_FLOOR} (x so far outside the knots that its terms may underflow), a second pass
+     * in log space.
+     */
+    private static double[] sums(double[] knots, double h, double x) {
+        int n = knots.length;
+        int from = firstAtLeast(knots, x - NEGLIGIBLE_U * h);
+        int to = firstAtLeast(knots, x + NEGLIGIBLE_U * h);
+        double invH = 1.0 / h;
+        double sumLo = from;                         // the knots far below x: Phi(u) = 1, Phi(-u) = 0
+        double sumHi = n - to;                       // the knots far above x
         double sumF = 0.0;
-        for (double k : knots) {
-            double u = (x - k) / h;
-            double a = Math.abs(u) / SQRT2;
-            double g = Math.exp(-a * a);                 // exp(-u^2 / 2), the kernel
-            double small = 0.5 * erfc(a, g);             // Phi(-|u|)
+        double sumFU = 0.0;
+        for (int i = from; i < to; i++) {
+            double u = (x - knots[i]) * invH;
+            double a = Math.abs(u) * INV_SQRT2;
+            double g = expMinusSquare(a);            // exp(-u^2 / 2), the kernel
+            double small = 0.5 * erfc(a, g);         // Phi(-|u|)
             if (u < 0) {
                 sumLo += small;
                 sumHi += 1.0 - small;
@@ -125,51 +148,99 @@ final class NormalScores {
                 sumLo += 1.0 - small;
             }
             sumF += g;
+            sumFU += u * g;
         }
         if (sumLo > LINEAR_FLOOR && sumHi > LINEAR_FLOOR && sumF > LINEAR_FLOOR) {
-            return finish(Math.log(sumLo), Math.log(sumHi), Math.log(sumF), knots.length, h);
+            return new double[] {Math.log(sumLo), Math.log(sumHi), Math.log(sumF), sumFU / sumF};
         }
-        return evaluateInLogs(knots, h, x);
+        return sumsInLogs(knots, h, x);
     }
 
-    /** Below this argument erfc comes from the series of erf, above it from the continued fraction. */
-    private static final double SERIES_TO = 2.0;
-    /** Terms of the continued fraction: 60 give a relative error below 5e-16 from x = 2 on. */
-    private static final int FRACTION_TERMS = 60;
-    private static final double SQRT_PI = Math.sqrt(Math.PI);
-    private static final double TWO_OVER_SQRT_PI = 2.0 / SQRT_PI;
+    /** The first index i with knots[i] &gt;= v (knots.length if none), by binary search. */
+    private static int firstAtLeast(double[] knots, double v) {
+        int lo = 0;
+        int hi = knots.length;
+        while (lo < hi) {
+            int mid = (lo + hi) >>> 1;
+            if (knots[mid] < v) {
+                lo = mid + 1;
+            } else {
+                hi = mid;
+            }
+        }
+        return lo;
+    }
+
+    /** 2^27 + 1, Dekker's (1971) constant for splitting a double into two halves of 26 bits. */
+    private static final double SPLIT = 134217729.0;
 
     /**
-     * erfc(a) for a &gt;= 0, given g = exp(-a^2). Below {@link #SERIES_TO}: 1 - erf(a) with
-     * erf(a) = (2 / sqrt pi) g sum_n 2^n a^(2n+1) / (1 3 5 ... (2n+1)), a series of positive terms
-     * (Abramowitz &amp; Stegun 1964, eq. 7.1.6), summed until a term is below 1e-17 of the sum
-     * (at most 31 terms); absolute error about 3e-16. From there on: the continued fraction
-     * erfc(a) = (g / sqrt pi) / (a + (1/2) / (a + 1 / (a + (3/2) / (a + 2 / (a + ...)))))
-     * (eq. 7.1.14), {@link #FRACTION_TERMS} terms evaluated from the tail; relative error below
-     * 5e-16. Written here because commons-math3's erfc (a regularized incomplete gamma function)
-     * costs about 0.85 microseconds, and the map needs one per knot per value; the two agree to
-     * 2e-13 relative (NormalScoresTest).
+     * exp(-a^2) to about one rounding for a &gt;= 0: a^2 = s + e exactly, s = a^2 rounded and e its
+     * rounding error by Dekker's (1971) product without a fused multiply-add (Dekker, "A
+     * floating-point technique for extending the available precision", Numer. Math. 18:224-242,
+     * section 5, mul12), then exp(-s) (1 - e), since |e| &lt;= ulp(s) / 2 makes e^2 negligible.
+     * exp(-s) alone would be off by up to a^2 2^-53 relative, 8e-14 at a = 27.
+     *
+     * @param a the argument, at least 0
+     * @return exp(-a^2)
+     */
+    static double expMinusSquare(double a) {
+        double s = a * a;
+        double c = SPLIT * a;
+        double hi = c - (c - a);
+        double lo = a - hi;
+        double e = ((hi * hi - s) + 2.0 * hi * lo) + lo * lo;
+        return Math.exp(-s) * (1.0 - e);
+    }
+
+    /** Up to here erfc = 1 - erf by Cody's first rational function, from here to 4 his second. */
+    private static final double CODY_FIRST_TO = 0.46875;
+    private static final double CODY_SECOND_TO = 4.0;
+    /** 1 / sqrt(pi). */
+    private static final double INV_SQRT_PI = 0.56418958354775628695;
+
+    /**
+     * erfc(a) for a &gt;= 0, given g = exp(-a^2) (from {@link #expMinusSquare}), by W. J. Cody's
+     * rational Chebyshev approximations ("Rational Chebyshev approximations for the error function",
+     * Math. Comp. 23 (1969) 631-637), with the coefficients and intervals of his Fortran routine
+     * CALERF (netlib specfun, file erf, Argonne 1990; the same numbers stand in its public C and C++
+     * translations): for a &lt;= 0.46875, erfc = 1 - a P4(a^2) / Q4(a^2); for a &lt;= 4,
+     * erfc = g P8(a) / Q8(a); above, erfc = (g / a) (1/sqrt(pi) - r P5(r) / Q5(r)) with r = 1 / a^2
+     * (P and Q polynomials of the degrees shown, Q monic). Cody states at least 18 significant
+     * digits for the approximations; in double the result is within about 1e-15 relative of
+     * commons-math3's erfc over [0, 26] (NormalScoresTest), at the cost of about 20 multiply-adds
+     * and one or two divisions, where commons-math3's (a regularized incomplete gamma function)
+     * costs about 0.85 microseconds. Where g underflows (a above about 26.6) the result is 0 or a
+     * subnormal, which the map's callers handle in log space.
      *
      * @param a the argument, at least 0
      * @param g exp(-a^2)
      * @return erfc(a)
      */
     static double erfc(double a, double g) {
-        if (a < SERIES_TO) {
-            double t = a;
-            double sum = t;
-            double a2 = 2.0 * a * a;
-            for (int n = 1; t > 1e-17 * sum; n++) {
-                t *= a2 / (2 * n + 1);
-                sum += t;
-            }
-            return 1.0 - TWO_OVER_SQRT_PI * g * sum;
+        if (a <= CODY_FIRST_TO) {
+            double y = a * a;
+            double num = (((1.85777706184603153e-1 * y + 3.16112374387056560e0) * y + 1.13864154151050156e2) * y
+                    + 3.77485237685302021e2) * y + 3.20937758913846947e3;
+            double den = (((y + 2.36012909523441209e1) * y + 2.44024637934444173e2) * y
+                    + 1.28261652607737228e3) * y + 2.84423683343917062e3;
+            return 1.0 - a * num / den;
         }
-        double f = a;
-        for (int k = FRACTION_TERMS; k >= 1; k--) {
-            f = a + 0.5 * k / f;
+        if (a <= CODY_SECOND_TO) {
+            double num = (((((((2.15311535474403846e-8 * a + 5.64188496988670089e-1) * a + 8.88314979438837594e0) * a
+                    + 6.61191906371416295e1) * a + 2.98635138197400131e2) * a + 8.81952221241769090e2) * a
+                    + 1.71204761263407058e3) * a + 2.05107837782607147e3) * a + 1.23033935479799725e3;
+            double den = (((((((a + 1.57449261107098347e1) * a + 1.17693950891312499e2) * a
+                    + 5.37181101862009858e2) * a + 1.62138957456669019e3) * a + 3.29079923573345963e3) * a
+                    + 4.36261909014324716e3) * a + 3.43936767414372164e3) * a + 1.23033935480374942e3;
+            return g * num / den;
         }
-        return g / (SQRT_PI * f);
+        double r = 1.0 / (a * a);
+        double num = ((((1.63153871373020978e-2 * r + 3.05326634961232344e-1) * r + 3.60344899949804439e-1) * r
+                + 1.25781726111229246e-1) * r + 1.60837851487422766e-2) * r + 6.58749161529837803e-4;
+        double den = ((((r + 2.56852019228982242e0) * r + 1.87295284992346047e0) * r
+                + 5.27905102951428412e-1) * r + 6.05183413124413191e-2) * r + 2.33520497626869185e-3;
+        return g * (INV_SQRT_PI - r * num / den) / a;
     }
 
     /**
@@ -179,13 +250,14 @@ final class NormalScores {
     private static final double LINEAR_FLOOR = 1e-280;
 
     /** The same sums as log-sum-exp of log Phi terms, for x far outside the knots. */
-    private static double[] evaluateInLogs(double[] knots, double h, double x) {
+    private static double[] sumsInLogs(double[] knots, double h, double x) {
         double maxLo = Double.NEGATIVE_INFINITY;
         double sumLo = 0.0;
         double maxHi = Double.NEGATIVE_INFINITY;
         double sumHi = 0.0;
         double maxF = Double.NEGATIVE_INFINITY;
         double sumF = 0.0;
+        double sumFU = 0.0;
         for (double k : knots) {
             double u = (x - k) / h;
             double lo;
@@ -212,13 +284,17 @@ final class NormalScores {
             }
             double f = -0.5 * u * u;
             if (f > maxF) {
-                sumF = sumF * Math.exp(maxF - f) + 1.0;
+                double rescale = Math.exp(maxF - f);
+                sumF = sumF * rescale + 1.0;
+                sumFU = sumFU * rescale + u;
                 maxF = f;
             } else {
-                sumF += Math.exp(f - maxF);
+                double w = Math.exp(f - maxF);
+                sumF += w;
+                sumFU += u * w;
             }
         }
-        return finish(maxLo + Math.log(sumLo), maxHi + Math.log(sumHi), maxF + Math.log(sumF), knots.length, h);
+        return new double[] {maxLo + Math.log(sumLo), maxHi + Math.log(sumHi), maxF + Math.log(sumF), sumFU / sumF};
     }
 
     /**
@@ -236,11 +312,31 @@ final class NormalScores {
     }
 
     /**
-     * x with z(x) = {@code z}: Newton's method with the exact derivative dz/dx, started at the knot
-     * nearest the quantile Phi(z), inside a bracket (a, b) with z(a) &lt; z &lt; z(b) that every
-     * evaluation narrows; a step that would leave the bracket is replaced by its midpoint, or, while
-     * one end is still open, by a step of twice the distance to the far knot plus h. The map is
-     * strictly increasing, so the root is unique.
+     * The inverse stops, without evaluating again, after a step s whose Newton error estimate
+     * |z''/(2 z')| s^2 is below this times (|x| + h) and which is below {@link #ACCEPT_STEP} h (so
+     * that the third-order error of Halley's step, on the kernel's scale h, is below 1e-18 h).
+     */
+    private static final double ACCEPT_NEWTON = 1e-16;
+    private static final double ACCEPT_STEP = 1e-6;
+
+    /**
+     * x with z(x) = {@code z}: Halley's method with the exact derivatives z' = f / phi(z) and
+     * z'' = z' (f'/f + z z') (from log z' = log f - log phi(z)), inside a bracket (a, b) with
+     * z(a) &lt; z &lt; z(b) that every evaluation narrows. Halley's step is s / (1 + c s) with the
+     * Newton step s = (z - z(x)) / z' and c = z'' / (2 z') (Gander 1985, "On Halley's iteration
+     * method", Amer. Math. Monthly 92:131-134); Newton's step replaces it where |c s| &gt;= 1/2.
+     * Safeguards: a step is cut back to at most {@link #PAST_KNOT} bandwidths past the first knot on
+     * its way (from a plateau of F between sparse knots a Newton step overshoots by far); a step
+     * that would leave the bracket is replaced, while one end is still open, by a step of twice the
+     * distance to the far knot plus h, else by the Newton step from the bracket's other end if that
+     * lands inside (the steep side of a plateau's edge), else by the midpoint. The map is strictly
+     * increasing, so the root is unique. Start: the sample quantile of the knots at p = Phi(z)
+     * (knot i at (i + 1/2) / n, linear in between); beyond the outer knots, the quantile of the
+     * outer kernel alone, x = k_1 + h Phi^-1(n p) (or k_n - h Phi^-1(n (1 - p))), the map's limit
+     * far outside the knots. It stops at z(x) = z exactly, when the bracket is narrower than
+     * {@link #INVERSE_TOL} (|x| + h), when a step is below that, or, without evaluating again, after
+     * a step small enough for {@link #ACCEPT_NEWTON}. Typical cells take 2 to 4 evaluations (3 on
+     * average; Newton from the nearest knot took 4 to 6), up to about 6 between sparse tail knots.
      *
      * @param knots the knots, sorted ascending (not modified)
      * @param h the bandwidth
@@ -248,25 +344,47 @@ final class NormalScores {
      * @return x
      */
     static double inverse(double[] knots, double h, double z) {
+        return inverse(knots, h, z, null);
+    }
+
+    /** {@link #inverse(double[], double, double)}, counting its evaluations in {@code evaluations[0]} if not null. */
+    static double inverse(double[] knots, double h, double z, int[] evaluations) {
+        int n = knots.length;
+        double x = start(knots, h, z);
         double a = Double.NEGATIVE_INFINITY;
         double b = Double.POSITIVE_INFINITY;
-        double p = Math.exp(logCdf(z));
-        double x = knots[(int) Math.min(knots.length - 1, Math.max(0, Math.floor(p * knots.length)))];
-        double span = knots[knots.length - 1] - knots[0] + h;
+        double span = knots[n - 1] - knots[0] + h;
+        double stepA = 0.0;                        // the Newton step (z - z(a)) / z'(a) from a, and from b
+        double stepB = 0.0;
         for (int i = 0; i < MAX_INVERSE; i++) {
-            double[] e = evaluate(knots, h, x);
+            double[] s = sums(knots, h, x);
+            double[] e = finish(s[0], s[1], s[2], n, h);
+            if (evaluations != null) {
+                evaluations[0]++;
+            }
             if (e[0] == z) {
                 return x;
             }
+            double slope = Math.exp(e[1]);
+            double newton = (z - e[0]) / slope;
             if (e[0] < z) {
                 a = x;
+                stepA = newton;
             } else {
                 b = x;
+                stepB = newton;
             }
-            if (b - a <= INVERSE_TOL * (Math.abs(x) + h)) {
+            double tol = INVERSE_TOL * (Math.abs(x) + h);
+            if (b - a <= tol) {
                 break;
             }
-            double next = x + (z - e[0]) / Math.exp(e[1]);
+            double c = 0.5 * (e[0] * slope - s[3] / h);     // z'' / (2 z') = (f'/f + z z') / 2
+            double cs = c * newton;
+            double step = Math.abs(cs) < 0.5 ? newton / (1.0 + cs) : newton;
+            double next = clampPastKnot(knots, h, x, x + step);
+            if (Math.abs(step) <= tol) {
+                return next;                       // z(x) is off by rounding only
+            }
             if (!(next > a && next < b)) {
                 if (Double.isInfinite(a)) {
                     next = x - 2 * span;
@@ -274,16 +392,62 @@ final class NormalScores {
                 } else if (Double.isInfinite(b)) {
                     next = x + 2 * span;
                     span *= 2;
+                } else if (x == a && b + stepB > a && b + stepB < b) {
+                    next = b + stepB;              // overshot from the flat side: Newton from the other end
+                } else if (x == b && a + stepA > a && a + stepA < b) {
+                    next = a + stepA;
                 } else {
                     next = 0.5 * (a + b);
                 }
-            }
-            if (Math.abs(next - x) <= INVERSE_TOL * (Math.abs(x) + h)) {
+            } else if (Math.abs(c) * newton * newton <= ACCEPT_NEWTON * (Math.abs(x) + h)
+                    && Math.abs(step) <= ACCEPT_STEP * h) {
                 return next;
             }
             x = next;
         }
         return 0.5 * (a + b);
+    }
+
+    /**
+     * Where F changes, within a few bandwidths of a knot: a step from x to {@code next} may pass the
+     * first knot on its way by at most this many bandwidths. Beyond, a Newton step taken on a plateau
+     * of F (between knots more than a few bandwidths apart) would cross the knot's rise and more.
+     */
+    private static final double PAST_KNOT = 4.0;
+
+    /** {@code next}, moved back to at most {@link #PAST_KNOT} bandwidths past the first knot from x towards it. */
+    private static double clampPastKnot(double[] knots, double h, double x, double next) {
+        if (next < x) {
+            int i = firstAtLeast(knots, x) - 1;    // the largest knot below x
+            return i >= 0 ? Math.max(next, knots[i] - PAST_KNOT * h) : next;
+        }
+        int i = firstAtLeast(knots, x);
+        while (i < knots.length && knots[i] == x) {
+            i++;
+        }
+        return i < knots.length ? Math.min(next, knots[i] + PAST_KNOT * h) : next;
+    }
+
+    /** The inverse's starting point (see {@link #inverse(double[], double, double)}). */
+    private static double start(double[] knots, double h, double z) {
+        int n = knots.length;
+        double logN = Math.log(n);
+        if (z <= 0) {
+            double logP = logCdf(z);
+            double pos = Math.exp(logP + logN) - 0.5;
+            if (pos <= 0) {
+                return knots[0] + h * quantileOfLog(logP + logN);
+            }
+            int i = (int) pos;
+            return knots[i] + (pos - i) * (knots[i + 1] - knots[i]);
+        }
+        double logQ = logCdf(-z);
+        double pos = Math.exp(logQ + logN) - 0.5;
+        if (pos <= 0) {
+            return knots[n - 1] - h * quantileOfLog(logQ + logN);
+        }
+        int i = (int) pos;
+        return knots[n - 1 - i] - (pos - i) * (knots[n - 1 - i] - knots[n - 2 - i]);
     }
 
     /**
