@@ -1,5 +1,6 @@
 package org.backstep.bench;
 
+import org.backstep.Defaults;
 import org.backstep.option.BoundOptions;
 import java.util.concurrent.TimeUnit;
 
@@ -24,7 +25,9 @@ import org.openjdk.jmh.annotations.Warmup;
  * call: exactly, with all T terms (T network passes per record), and by Monte Carlo with
  * {@value #DRAWS} drawn terms plus the exact prior and decoder terms ({@value #DRAWS} + 1 passes per
  * record). The model: 8 continuous columns, 3 x 256 hidden units, the library's defaults otherwise,
- * on {@code threads} worker threads.
+ * on {@code threads} worker threads. {@link #steadyScreen} scores {@value #STEADY_RECORDS} records as
+ * {@code screen} does at its defaults, by the steady bound ({@code Defaults.steadyBound()}: the
+ * draws of each term allocated by the model's term profile, measured once in the setup).
  */
 @State(Scope.Benchmark)
 @BenchmarkMode(Mode.AverageTime)
@@ -40,6 +43,8 @@ public class BoundBenchmark {
     static final int COLUMNS = 8;
     /** Monte Carlo draws per record. */
     static final int DRAWS = 32;
+    /** Records scored per call of {@link #steadyScreen}: a full chunk of 256 and a partial one. */
+    static final int STEADY_RECORDS = 300;
 
     /** T of the model. */
     @Param({"100", "1000"})
@@ -51,18 +56,27 @@ public class BoundBenchmark {
 
     private DiffusionModel model;
     private Table records;
+    private Table steadyRecords;
 
     /** Fits a seeded model and draws seeded records to score. */
     @Setup(Level.Trial)
     public void setUp() {
         model = Fixtures.fit(COLUMNS, steps, threads, 11);
         records = Fixtures.telemetry(RECORDS, COLUMNS, 12);
+        steadyRecords = Fixtures.telemetry(STEADY_RECORDS, COLUMNS, 13);
+        model.screeningScores(steadyRecords.selectRows(new int[] {0}), Defaults.steadyBound(), 5);   // the profile
     }
 
     /** @return the exact bound of every record */
     @Benchmark
     public BoundReport exact() {
         return model.bound(records, 5);
+    }
+
+    /** @return the steady score of each record, as {@code screen} scores it at its defaults */
+    @Benchmark
+    public double[] steadyScreen() {
+        return model.screeningScores(steadyRecords, Defaults.steadyBound(), 5);
     }
 
     /** @return the Monte Carlo estimate of every record's bound */

@@ -1,0 +1,63 @@
+package org.backstep.bench;
+
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Locale;
+
+import org.backstep.Backstep;
+import org.backstep.DiffusionModel;
+import org.backstep.report.AnomalyScreen;
+import org.backstep.table.Table;
+
+/**
+ * A steady screen at the defaults to profile (the demo's coordinates: standardized, no closed-form
+ * part): fits or loads a model of 8 telemetry columns, screens {@code rows} records twice (the
+ * first call measures the term profile) and prints the wall time of the second call and a checksum
+ * of its scores.
+ *
+ * <pre>
+ *   java -cp diffusion-bench/target/benchmarks.jar org.backstep.bench.SteadyScreenProfile MODEL_FILE [rows] [repeats]
+ * </pre>
+ */
+public final class SteadyScreenProfile {
+
+    private SteadyScreenProfile() {
+    }
+
+    /** @param args model file, rows, repeats @throws Exception on a file error */
+    public static void main(String[] args) throws Exception {
+        Path file = Path.of(args[0]);
+        int rows = args.length > 1 ? Integer.parseInt(args[1]) : 512;
+        int repeats = args.length > 2 ? Integer.parseInt(args[2]) : 1;
+        DiffusionModel model;
+        if (Files.exists(file)) {
+            model = DiffusionModel.load(file);
+        } else {
+            model = Backstep.builder()
+                    .coordinates(org.backstep.option.Coordinates.STANDARDIZED)
+                    .marginals(org.backstep.option.Marginals.STANDARDIZED)
+                    .baseline(org.backstep.option.Baseline.NONE)
+                    .epochs(20)
+                    .seed(3)
+                    .fit(Fixtures.telemetry(2048, 8, 3));
+            model.save(file);
+        }
+        Table held = Fixtures.telemetry(256, 8, 5);
+        Table records = Fixtures.telemetry(rows, 8, 6);
+        long t0 = System.nanoTime();
+        model.screen(held, Fixtures.telemetry(8, 8, 7), 1);
+        System.out.printf(Locale.ROOT, "first screen (with the profile) %.1f s%n", (System.nanoTime() - t0) * 1e-9);
+        for (int i = 0; i < repeats; i++) {
+            t0 = System.nanoTime();
+            AnomalyScreen s = model.screen(held, records, 1);
+            double sum = 0.0;
+            long bits = 0;
+            for (double v : s.scores()) {
+                sum += v;
+                bits = bits * 31 + Double.doubleToLongBits(v);
+            }
+            System.out.printf(Locale.ROOT, "screen of %d + %d rows: %.2f s, sum %.17g, bits %x%n", held.rows(), rows,
+                    (System.nanoTime() - t0) * 1e-9, sum, bits);
+        }
+    }
+}
