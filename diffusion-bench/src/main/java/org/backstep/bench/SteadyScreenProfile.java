@@ -4,14 +4,13 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Locale;
 
-import org.backstep.Backstep;
 import org.backstep.DiffusionModel;
 import org.backstep.report.AnomalyScreen;
 import org.backstep.table.Table;
 
 /**
- * A steady screen at the defaults to profile (the demo's coordinates: standardized, no closed-form
- * part): fits or loads a model of 8 telemetry columns, screens {@code rows} records twice (the
+ * A steady screen at the defaults to profile: fits ({@link Fixtures#steadyFit}) or loads a model of
+ * 8 telemetry columns, screens {@code rows} records twice (the
  * first call measures the term profile) and prints the wall time of the second call and a checksum
  * of its scores.
  *
@@ -33,13 +32,7 @@ public final class SteadyScreenProfile {
         if (Files.exists(file)) {
             model = DiffusionModel.load(file);
         } else {
-            model = Backstep.builder()
-                    .coordinates(org.backstep.option.Coordinates.STANDARDIZED)
-                    .marginals(org.backstep.option.Marginals.STANDARDIZED)
-                    .baseline(org.backstep.option.Baseline.NONE)
-                    .epochs(20)
-                    .seed(3)
-                    .fit(Fixtures.telemetry(2048, 8, 3));
+            model = Fixtures.steadyFit(8, 3);
             model.save(file);
         }
         Table held = Fixtures.telemetry(256, 8, 5);
