@@ -11,8 +11,9 @@ import org.backstep.table.Table;
 /**
  * A steady screen at the defaults to profile: fits ({@link Fixtures#steadyFit}) or loads a model of
  * 8 telemetry columns, screens {@code rows} records twice (the
- * first call measures the term profile) and prints the wall time of the second call and a checksum
- * of its scores.
+ * first call measures the term profile) and prints the wall and process CPU time of each later call
+ * and a checksum of its scores (process CPU time is the steadier figure on a shared machine: the
+ * network calls run one OpenBLAS thread each, which does not spin).
  *
  * <pre>
  *   java -cp diffusion-bench/target/benchmarks.jar org.backstep.bench.SteadyScreenProfile MODEL_FILE [rows] [repeats]
@@ -40,8 +41,11 @@ public final class SteadyScreenProfile {
         long t0 = System.nanoTime();
         model.screen(held, Fixtures.telemetry(8, 8, 7), 1);
         System.out.printf(Locale.ROOT, "first screen (with the profile) %.1f s%n", (System.nanoTime() - t0) * 1e-9);
+        com.sun.management.OperatingSystemMXBean os = (com.sun.management.OperatingSystemMXBean)
+                java.lang.management.ManagementFactory.getOperatingSystemMXBean();
         for (int i = 0; i < repeats; i++) {
             t0 = System.nanoTime();
+            long cpu0 = os.getProcessCpuTime();
             AnomalyScreen s = model.screen(held, records, 1);
             double sum = 0.0;
             long bits = 0;
@@ -49,8 +53,9 @@ public final class SteadyScreenProfile {
                 sum += v;
                 bits = bits * 31 + Double.doubleToLongBits(v);
             }
-            System.out.printf(Locale.ROOT, "screen of %d + %d rows: %.2f s, sum %.17g, bits %x%n", held.rows(), rows,
-                    (System.nanoTime() - t0) * 1e-9, sum, bits);
+            System.out.printf(Locale.ROOT, "screen of %d + %d rows: %.2f s, CPU %.2f s, sum %.17g, bits %x%n",
+                    held.rows(), rows, (System.nanoTime() - t0) * 1e-9, (os.getProcessCpuTime() - cpu0) * 1e-9, sum,
+                    bits);
         }
     }
 }
