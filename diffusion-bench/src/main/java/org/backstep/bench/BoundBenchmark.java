@@ -1,5 +1,6 @@
 package org.backstep.bench;
 
+import org.backstep.Defaults;
 import org.backstep.option.BoundOptions;
 import java.util.concurrent.TimeUnit;
 
@@ -24,7 +25,11 @@ import org.openjdk.jmh.annotations.Warmup;
  * call: exactly, with all T terms (T network passes per record), and by Monte Carlo with
  * {@value #DRAWS} drawn terms plus the exact prior and decoder terms ({@value #DRAWS} + 1 passes per
  * record). The model: 8 continuous columns, 3 x 256 hidden units, the library's defaults otherwise,
- * on {@code threads} worker threads.
+ * on {@code threads} worker threads. {@link #steadyScreen} scores {@value #STEADY_RECORDS} records as
+ * {@code screen} does at its defaults, by the steady bound ({@code Defaults.steadyBound()}: the
+ * draws of each term allocated by the model's term profile, measured once in the setup), on the
+ * model of {@link Fixtures#steadyFit} (20 epochs, so that its plan is as costly per record as a
+ * fitted model's: a one-epoch model's terms are nearly noiseless and its plan about 15 times cheaper).
  */
 @State(Scope.Benchmark)
 @BenchmarkMode(Mode.AverageTime)
@@ -40,6 +45,8 @@ public class BoundBenchmark {
     static final int COLUMNS = 8;
     /** Monte Carlo draws per record. */
     static final int DRAWS = 32;
+    /** Records scored per call of {@link #steadyScreen}: a full chunk of 256 and a partial one. */
+    static final int STEADY_RECORDS = 300;
 
     /** T of the model. */
     @Param({"100", "1000"})
@@ -59,10 +66,31 @@ public class BoundBenchmark {
         records = Fixtures.telemetry(RECORDS, COLUMNS, 12);
     }
 
+    /** The model and records of {@link #steadyScreen}. */
+    @State(Scope.Benchmark)
+    public static class Steady {
+        DiffusionModel model;
+        Table records;
+
+        /** Fits the model and measures its term profile. */
+        @Setup(Level.Trial)
+        public void setUp() {
+            model = Fixtures.steadyFit(COLUMNS, 3);
+            records = Fixtures.telemetry(STEADY_RECORDS, COLUMNS, 13);
+            model.screeningScores(records.selectRows(new int[] {0}), Defaults.steadyBound(), 5);   // the profile
+        }
+    }
+
     /** @return the exact bound of every record */
     @Benchmark
     public BoundReport exact() {
         return model.bound(records, 5);
+    }
+
+    /** @return the steady score of each record, as {@code screen} scores it at its defaults */
+    @Benchmark
+    public double[] steadyScreen(Steady steady) {
+        return steady.model.screeningScores(steady.records, Defaults.steadyBound(), 5);
     }
 
     /** @return the Monte Carlo estimate of every record's bound */

@@ -79,6 +79,25 @@ final class Fixtures {
     }
 
     /**
+     * A model fitted as the README's demo fits (standardized coordinates and maps, no closed-form
+     * part), 20 epochs on 2,048 telemetry records at the library's defaults otherwise: fitted far
+     * enough that its steady bound costs per record what a fitted model's does.
+     *
+     * @param columns continuous columns
+     * @param seed the seed of the data and the fit
+     * @return the model
+     */
+    static DiffusionModel steadyFit(int columns, long seed) {
+        return Backstep.builder()
+                .coordinates(org.backstep.option.Coordinates.STANDARDIZED)
+                .marginals(org.backstep.option.Marginals.STANDARDIZED)
+                .baseline(org.backstep.option.Baseline.NONE)
+                .epochs(20)
+                .seed(seed)
+                .fit(telemetry(2048, columns, seed));
+    }
+
+    /**
      * Floating-point operations of one forward pass of a model's network per row (see
      * {@link #forwardFlopsPerRow(int, int[], int, int, boolean)}).
      *

@@ -210,7 +210,9 @@ public final class BoundEvaluator {
             spaces.put(Math.min(most, perCall), ch.ws);
             float[] outAll = most > perCall ? new float[most * n * chain.outputs] : null;
             float[] group = most > perCall ? new float[perCall * n * d] : null;
-            double[] noise = new double[d];
+            double[] noise = new double[most * d];
+            // rows seeded alike draw the same noise (a screen's common random numbers): drawn once per step
+            boolean sameStream = sameSeeds(rowSeeds, ch.from, n);
             double[] shift = plan.kind == TermDraws.Kind.SHIFTED_SOBOL ? new double[d] : null;
             double[] replicaCont = perChunkVariance != null ? new double[most] : null;
             double[] cont = new double[n];
@@ -231,7 +233,10 @@ public final class BoundEvaluator {
                 int m = k * n;
                 java.util.Arrays.fill(ch.k, 0, m, s);
                 for (int r = 0; r < n; r++) {
-                    plan.fillReplicas(chain, ch.x, n, r, s, k, sobol, ch.rng[r], ch.xt, noise, shift, eps);
+                    if (r == 0 || !sameStream) {
+                        plan.drawNoise(chain, k, sobol, ch.rng[r], noise, shift);
+                    }
+                    plan.putReplicas(chain, ch.x, n, r, s, k, noise, ch.xt, eps);
                 }
                 float[] out;
                 if (k <= perCall) {
@@ -385,6 +390,22 @@ public final class BoundEvaluator {
             }
         });
         return res;
+    }
+
+    /**
+     * @return whether rows from..from + n - 1 have a seed each and all the same one: their generators
+     *     ({@link Parallel#random}(seed, 0) each) then give the same numbers, row by row
+     */
+    static boolean sameSeeds(long[] rowSeeds, int from, int n) {
+        if (rowSeeds == null) {
+            return false;   // the chunk's rows share one generator and draw in turn
+        }
+        for (int r = 1; r < n; r++) {
+            if (rowSeeds[from + r] != rowSeeds[from]) {
+                return false;
+            }
+        }
+        return true;
     }
 
     static float[] slice(float[] x, int fromRow, int rows, int d) {

@@ -210,7 +210,7 @@ public final class TermDraws {
 
     /**
      * Fills x_s of K replicas of row r (replica i is row i * rows + r of {@code xt}) from the row's
-     * generator by this plan's point set.
+     * generator by this plan's point set: {@link #drawNoise} then {@link #putReplicas}.
      *
      * @param chain the chain
      * @param x0 rows x D
@@ -221,39 +221,63 @@ public final class TermDraws {
      * @param sobol the Sobol points (at least k x D) for SHIFTED_SOBOL, else unread
      * @param rng the row's generator
      * @param xt (k rows) x D, written at the replicas of row r
-     * @param noise D scratch entries
+     * @param noise k D scratch entries
      * @param shift D scratch entries (SHIFTED_SOBOL's shift of the row), else unread
      * @param eps null, or (k rows) x Dc: written with each replica's continuous noise
      */
     void fillReplicas(Chain chain, float[] x0, int rows, int r, int s, int k, double[][] sobol, SplittableRandom rng,
                       float[] xt, double[] noise, double[] shift, double[] eps) {
+        drawNoise(chain, k, sobol, rng, noise, shift);
+        putReplicas(chain, x0, rows, r, s, k, noise, xt, eps);
+    }
+
+    /**
+     * The noise of K replicas of a row from the row's generator by this plan's point set, replica i
+     * at {@code noise[i * D ...]}: the continuous cells' standard normal noise (an antithetic
+     * replica's already negated), the discrete cells' uniforms (an antithetic replica's already
+     * 1 - u). It depends on the generator's state alone, not on the row's cells, so rows whose
+     * generators are in the same state share it.
+     *
+     * @param chain the chain
+     * @param k the replicas
+     * @param sobol the Sobol points (at least k x D) for SHIFTED_SOBOL, else unread
+     * @param rng the row's generator (advanced)
+     * @param noise at least k D entries, overwritten
+     * @param shift D scratch entries (SHIFTED_SOBOL's shift of the row), else unread
+     */
+    void drawNoise(Chain chain, int k, double[][] sobol, SplittableRandom rng, double[] noise, double[] shift) {
         int d = chain.d;
         int dc = chain.dc;
-        int o = r * d;
         switch (kind) {
             case INDEPENDENT -> {
                 for (int i = 0; i < k; i++) {
+                    int o = i * d;
                     for (int j = 0; j < dc; j++) {
-                        noise[j] = rng.nextGaussian();
+                        noise[o + j] = rng.nextGaussian();
                     }
                     for (int j = dc; j < d; j++) {
-                        noise[j] = rng.nextDouble();
+                        noise[o + j] = rng.nextDouble();
                     }
-                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, false, eps, (i * rows + r) * dc);
                 }
             }
             case ANTITHETIC -> {
                 for (int i = 0; i < k; i++) {
-                    boolean mirror = (i & 1) == 1;
-                    if (!mirror) {
+                    int o = i * d;
+                    if ((i & 1) == 1) {
                         for (int j = 0; j < dc; j++) {
-                            noise[j] = rng.nextGaussian();
+                            noise[o + j] = -noise[o - d + j];
                         }
                         for (int j = dc; j < d; j++) {
-                            noise[j] = rng.nextDouble();
+                            noise[o + j] = 1.0 - noise[o - d + j];
+                        }
+                    } else {
+                        for (int j = 0; j < dc; j++) {
+                            noise[o + j] = rng.nextGaussian();
+                        }
+                        for (int j = dc; j < d; j++) {
+                            noise[o + j] = rng.nextDouble();
                         }
                     }
-                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, mirror, eps, (i * rows + r) * dc);
                 }
             }
             case SHIFTED_SOBOL -> {
@@ -262,29 +286,54 @@ public final class TermDraws {
                 }
                 for (int i = 0; i < k; i++) {
                     double[] p = sobol[i];
+                    int o = i * d;
                     for (int j = 0; j < d; j++) {
                         double u = p[j] + shift[j];
                         u = u >= 1.0 ? u - 1.0 : u;
-                        noise[j] = j < dc ? normalQuantile(u) : u;
+                        noise[o + j] = j < dc ? normalQuantile(u) : u;
                     }
-                    put(chain, x0, o, s, noise, xt, (i * rows + r) * d, false, eps, (i * rows + r) * dc);
                 }
             }
             default -> throw new IllegalStateException("unknown kind " + kind);
         }
     }
 
-    private static void put(Chain chain, float[] x0, int o, int s, double[] noise, float[] xt, int to, boolean mirror,
+    /**
+     * x_s = sqrt(abar_s) x_0 + sqrt(1 - abar_s) e for the continuous cells and the discrete cells'
+     * draws from their uniforms, of K replicas of row r (replica i is row i * rows + r of
+     * {@code xt}) from their noise ({@link #drawNoise}).
+     *
+     * @param chain the chain
+     * @param x0 rows x D
+     * @param rows the rows of x0
+     * @param r the row
+     * @param s the step
+     * @param k the replicas
+     * @param noise k D entries, replica i at i D (not modified)
+     * @param xt (k rows) x D, written at the replicas of row r
+     * @param eps null, or (k rows) x Dc: written with each replica's continuous noise
+     */
+    void putReplicas(Chain chain, float[] x0, int rows, int r, int s, int k, double[] noise, float[] xt,
+                     double[] eps) {
+        int d = chain.d;
+        int dc = chain.dc;
+        int o = r * d;
+        for (int i = 0; i < k; i++) {
+            put(chain, x0, o, s, noise, i * d, xt, (i * rows + r) * d, eps, (i * rows + r) * dc);
+        }
+    }
+
+    private static void put(Chain chain, float[] x0, int o, int s, double[] noise, int no, float[] xt, int to,
                             double[] eps, int eo) {
         for (int j = 0; j < chain.dc; j++) {
-            double e = mirror ? -noise[j] : noise[j];
+            double e = noise[no + j];
             xt[to + j] = chain.diffusedContinuous(s, x0[o + j], e);
             if (eps != null) {
                 eps[eo + j] = e;
             }
         }
         for (int j = chain.dc; j < chain.d; j++) {
-            xt[to + j] = chain.diffusedDiscrete(j, s, x0[o + j], mirror ? 1.0 - noise[j] : noise[j]);
+            xt[to + j] = chain.diffusedDiscrete(j, s, x0[o + j], noise[no + j]);
         }
     }
 
