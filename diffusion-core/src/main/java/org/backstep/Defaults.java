@@ -260,7 +260,7 @@ public final class Defaults {
      * {@link org.backstep.report.Imputation#expectedCoverage()}) and for a mean whose Monte Carlo
      * error is a quarter of the conditional spread (it adds 1/20 of the conditional variance to the
      * mean's squared error). Measured (issue 11, SOURCES.md's split, 20% of the held-out cells
-     * hidden, 2 fits x 2 imputation seeds): diabetes without SEX RMSE 0.677, 0.663 and 0.6605
+     * hidden, 2 fits x 2 imputation seeds): diabetes without SEX RMSE 0.677, 0.663 and 0.660
      * standardized units with 20, 100 and 400 draws; breast_cancer 0.275 with 20 and 0.278 with 100
      * (its skewed columns' rare far draws move a 100-draw mean as much as they add). Kept at 20: the
      * cost is proportional to the draws (our choice); {@code withDraws(100)} for the last percent.
