@@ -174,8 +174,9 @@ public final class Defaults {
      * fitted on the training rows, so the decay shrinks the model toward that Gaussian, and the
      * network keeps only the corrections the data keep asking for (our reading). That is not what
      * decides whether it pays (diffusion-bench/results/decay-part.txt): in standardized coordinates
-     * without a part it lowered the held-out bound of the open tables as much (iris 2.72 to 2.65,
-     * breast_cancer 1.08 to -0.66, diabetes without SEX 9.35 to 8.89, mean of fit seeds 1 and 2),
+     * without a part it lowered the held-out bound of the open tables too (iris 2.72 to 2.65, within
+     * the bound's noise, breast_cancer 1.08 to -0.66, diabetes without SEX 9.35 to 8.89, mean of fit
+     * seeds 1 and 2),
      * and it raised the bound of the demo's invented reefer fleet with or without the part (the
      * demo's standardized fit 0.35 / 0.16 to 1.46 / 1.73 nats per record at seeds 1 / 2; the
      * defaults' 9.91 / 10.07 to 10.33 / 10.52 in original units), whose nearly deterministic
@@ -262,7 +263,8 @@ public final class Defaults {
      * mean's squared error). Measured (issue 11, SOURCES.md's split, 20% of the held-out cells
      * hidden, 2 fits x 2 imputation seeds): diabetes without SEX RMSE 0.677, 0.663 and 0.660
      * standardized units with 20, 100 and 400 draws; breast_cancer 0.275 with 20 and 0.278 with 100
-     * (its skewed columns' rare far draws move a 100-draw mean as much as they add). Kept at 20: the
+     * (our reading, unchecked: its skewed columns' rare far draws move a 100-draw mean as much as the
+     * extra draws steady it). Kept at 20: the
      * cost is proportional to the draws (our choice); {@code withDraws(100)} for the last percent.
      */
     public static final int IMPUTATION_DRAWS = 20;

@@ -11,6 +11,7 @@ import java.util.Set;
 import org.apache.commons.math3.distribution.MultivariateNormalDistribution;
 import org.apache.commons.math3.distribution.NormalDistribution;
 import org.apache.commons.math3.random.Well19937c;
+import org.backstep.internal.chain.ModelParts;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.Marginals;
 import org.backstep.report.Imputation;
@@ -202,7 +203,7 @@ class MarginalsTest {
         // more rows than one chunk of the parallel decoding (64), so that several threads decode them
         DiffusionModel three = shortFit().trainingSteps(20).marginals(Marginals.NORMAL_SCORES).threads(3).fit(train);
         // the same parts with the options of one thread (training itself depends on the thread count)
-        DiffusionModel one = DiffusionModel.of(new org.backstep.internal.chain.ModelParts(
+        DiffusionModel one = DiffusionModel.of(new ModelParts(
                 shortFit().trainingSteps(20).marginals(Marginals.NORMAL_SCORES).threads(1).options(), three.transform(),
                 three.parts().network(), three.parts().estimator(), three.parts().provenance(), three.parts().range(),
                 three.parts().whitening()));
@@ -220,7 +221,8 @@ class MarginalsTest {
         for (int k = 0; k < 3; k++) {
             assertArrayEquals(a.draws().get(k).toArray(), b.draws().get(k).toArray());
         }
-        // observed cells come back exactly as given, missing ones decoded (ImputationOptions Javadoc; common practice, no source)
+        // observed cells come back exactly as given (Imputer copies them from the records, so this guards the
+        // contract, not the masking), missing ones decoded (ImputationOptions Javadoc; common practice, no source)
         for (int r = 0; r < masked.length; r++) {
             assertEquals(test.get(r, 1 - r % 2), a.mean().get(r, 1 - r % 2), 0.0, "row " + r);
             assertTrue(Double.isFinite(a.mean().get(r, r % 2)), "row " + r);

@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.nio.file.Path;
+import java.util.Arrays;
 
 import org.backstep.internal.chain.BoundEvaluator;
 import org.backstep.internal.chain.Chain;
@@ -18,7 +19,8 @@ import org.junit.jupiter.api.Test;
 /**
  * The screen's steady scores at the defaults ({@link Defaults#steadyBound()}, every record drawing
  * from the same seed) do not depend on the worker threads: the same bits on 1 and 3 threads, over
- * three chunks of rows (two full, one partial), and the screen's own scores are those bits. The
+ * three chunks of rows (two full, one partial), the same bits as rows drawing their noise one by
+ * one, and the screen's own scores are those bits. The
  * trained model is the golden format-3 file (a float32 network, T = 20, two continuous columns and
  * a binary one).
  */
@@ -44,12 +46,30 @@ class SteadyScreenThreadsTest {
         assertTrue(plan.total() > model.steps(), "the default plan draws more than once per term: " + plan.total());
         float[] x = engine.modelSpace(records);
         long[] same = new long[rows];
-        java.util.Arrays.fill(same, 5L);
+        Arrays.fill(same, 5L);
         BoundEvaluator.Result one = BoundEvaluator.exact(c, x, rows, 0L, same, plan, 1);
         BoundEvaluator.Result three = BoundEvaluator.exact(c, x, rows, 0L, same, plan, 3);
         assertArrayEquals(one.continuous, three.continuous);
         assertArrayEquals(one.binary, three.binary);
         assertArrayEquals(one.perStepMean, three.perStepMean);
+        // the chunk whose rows share a seed draws each step's noise once for all of them; a chunk with
+        // one other seed draws it row by row: the rows of seed 5 get the same bits either way (each
+        // row's generator is Parallel.random(5, 0) in both, and the chunks have the same shape;
+        // common practice, no source)
+        long[] mixed = same.clone();
+        for (int end = Parallel.CHUNK_ROWS - 1; end < rows; end += Parallel.CHUNK_ROWS) {
+            mixed[end] = 6L;
+        }
+        mixed[rows - 1] = 6L;
+        BoundEvaluator.Result perRow = BoundEvaluator.exact(c, x, rows, 0L, mixed, plan, 3);
+        for (int i = 0; i < rows; i++) {
+            if (mixed[i] == 5L) {
+                assertEquals(Double.doubleToLongBits(one.continuous[i]), Double.doubleToLongBits(perRow.continuous[i]),
+                        "record " + i);
+                assertEquals(Double.doubleToLongBits(one.binary[i]), Double.doubleToLongBits(perRow.binary[i]),
+                        "record " + i);
+            }
+        }
         double[] screened = model.screeningScores(records, Defaults.steadyBound(), 5);
         for (int i = 0; i < rows; i++) {
             assertEquals(Double.doubleToLongBits(engine.standardizedNats(new double[] {one.continuous[i]

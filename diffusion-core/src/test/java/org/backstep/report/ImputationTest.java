@@ -1,6 +1,8 @@
 package org.backstep.report;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.Collections;
 import java.util.List;
@@ -10,6 +12,7 @@ import org.apache.commons.math3.stat.descriptive.rank.Percentile;
 import org.backstep.internal.chain.Imputer;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
+import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
 
@@ -58,6 +61,17 @@ class ImputationTest {
         for (double p : new double[] {0.01, 0.05, 0.25, 0.5, 0.95, 0.99}) {
             double expected = new Percentile(100 * p).withEstimationType(Percentile.EstimationType.R_6).evaluate(draws);
             assertEquals(expected, Imputer.intervalEnd(draws, p), 1e-12, "k " + k + ", p " + p);
+        }
+    }
+
+    @Test
+    void intervalEndRefusesNoDrawsAndProbabilitiesOutsideTheOpenUnitInterval() {
+        // every public entry point names the bad parameter (the project's rule; common practice, no source)
+        IllegalArgumentException empty = assertThrows(IllegalArgumentException.class, () -> Imputer.intervalEnd(new double[0], 0.5));
+        assertTrue(empty.getMessage().contains("values"), empty.getMessage());
+        for (double p : new double[] {0.0, 1.0, Double.NaN}) {
+            IllegalArgumentException bad = assertThrows(IllegalArgumentException.class, () -> Imputer.intervalEnd(new double[] {1, 2}, p));
+            assertTrue(bad.getMessage().contains("p"), bad.getMessage());
         }
     }
 }

@@ -218,7 +218,7 @@ public final class Denoiser {
                         release.forChunk(from), rng);
                 c.fromChain(x, n);
             });
-            Table drawn = engine.transform().fromModelSpace(Engine.toRows(all, rows, d));
+            Table drawn = engine.fromModelSpace(Engine.toRows(all, rows, d));
             for (int i = 0; i < rows; i++) {
                 for (int j = 0; j < cols; j++) {
                     double v = drawn.get(i, j);

@@ -8,6 +8,8 @@ import org.backstep.report.SampleCheck;
 import org.backstep.table.Table;
 import org.backstep.table.TableTransform;
 
+import java.util.Arrays;
+
 /**
  * The jobs of a fitted model on its reverse chain: bounds, sampling, and (through {@link Imputer}
  * and {@link Denoiser}) imputation and denoising. Callers hand it validated arguments: the front
@@ -289,8 +291,15 @@ public final class Engine {
         Table[] first = new Table[1];
         Parallel.forEachChunk(count, threads, c -> {
             int from = c * INVERSE_CHUNK_ROWS;
-            Table part = transform.fromModelSpace(java.util.Arrays.copyOfRange(model, from,
-                    Math.min(rows, from + INVERSE_CHUNK_ROWS)));
+            int to = Math.min(rows, from + INVERSE_CHUNK_ROWS);
+            Table part;
+            try {
+                part = transform.fromModelSpace(Arrays.copyOfRange(model, from, to));
+            } catch (IllegalArgumentException e) {
+                // the chunk's own row numbers start at 0: say where the chunk sits
+                throw new IllegalArgumentException("model rows " + from + " to " + (to - 1) + ", counted from 0 in the chunk: "
+                        + e.getMessage(), e);
+            }
             System.arraycopy(part.toArray(), 0, out, from, part.rows());
             if (c == 0) {
                 first[0] = part;

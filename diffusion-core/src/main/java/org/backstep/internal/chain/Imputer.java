@@ -4,6 +4,7 @@ import org.backstep.option.Conditioning;
 import org.backstep.option.ImputationOptions;
 import org.backstep.option.SamplerKind;
 import org.backstep.report.Imputation;
+import org.backstep.schedule.Require;
 import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 
@@ -232,11 +233,17 @@ public final class Imputer {
      * {@code level} once k &gt;= (1 + level)/(1 - level) (19 at level 0.9; see
      * {@link Imputation#expectedCoverage()}).
      *
-     * @param values the draws (not modified)
+     * @param values the draws, at least one (not modified)
      * @param p the probability, in (0, 1)
      * @return the interval's end
+     * @throws IllegalArgumentException if {@code values} is null or empty or {@code p} is not in (0, 1)
      */
     public static double intervalEnd(double[] values, double p) {
+        Require.notNull("values", values);
+        if (values.length == 0) {
+            throw new IllegalArgumentException("values is empty; expected at least one draw");
+        }
+        Require.inOpen("p", p, 0.0, 1.0);
         double[] s = values.clone();
         Arrays.sort(s);
         int k = s.length;

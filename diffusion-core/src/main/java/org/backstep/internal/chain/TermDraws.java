@@ -209,29 +209,6 @@ public final class TermDraws {
     }
 
     /**
-     * Fills x_s of K replicas of row r (replica i is row i * rows + r of {@code xt}) from the row's
-     * generator by this plan's point set: {@link #drawNoise} then {@link #putReplicas}.
-     *
-     * @param chain the chain
-     * @param x0 rows x D
-     * @param rows the rows of x0
-     * @param r the row
-     * @param s the step
-     * @param k the replicas
-     * @param sobol the Sobol points (at least k x D) for SHIFTED_SOBOL, else unread
-     * @param rng the row's generator
-     * @param xt (k rows) x D, written at the replicas of row r
-     * @param noise k D scratch entries
-     * @param shift D scratch entries (SHIFTED_SOBOL's shift of the row), else unread
-     * @param eps null, or (k rows) x Dc: written with each replica's continuous noise
-     */
-    void fillReplicas(Chain chain, float[] x0, int rows, int r, int s, int k, double[][] sobol, SplittableRandom rng,
-                      float[] xt, double[] noise, double[] shift, double[] eps) {
-        drawNoise(chain, k, sobol, rng, noise, shift);
-        putReplicas(chain, x0, rows, r, s, k, noise, xt, eps);
-    }
-
-    /**
      * The noise of K replicas of a row from the row's generator by this plan's point set, replica i
      * at {@code noise[i * D ...]}: the continuous cells' standard normal noise (an antithetic
      * replica's already negated), the discrete cells' uniforms (an antithetic replica's already
