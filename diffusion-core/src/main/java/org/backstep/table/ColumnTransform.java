@@ -237,7 +237,8 @@ public record ColumnTransform(Kind kind, double shift, double scale, double[] kn
      * @param x a value in original units
      * @return z in model space
      * @throws IllegalArgumentException naming {@code x} if LOG_STANDARDIZE and {@code x <= 0}, or if
-     *     NORMAL_SCORES and {@code x} is infinite
+     *     NORMAL_SCORES and {@code x} is infinite or so far beyond the knots that z exceeds the double
+     *     range (about 1.8e308 bandwidths)
      */
     public double forward(double x) {
         if (Double.isNaN(x)) {
@@ -246,7 +247,7 @@ public record ColumnTransform(Kind kind, double shift, double scale, double[] kn
         return switch (kind) {
             case STANDARDIZE -> (x - shift) / scale;
             case LOG_STANDARDIZE -> (Math.log(checkPositive(x)) - shift) / scale;
-            case NORMAL_SCORES -> NormalScores.evaluate(knots, scale, checkFinite(x))[0];
+            case NORMAL_SCORES -> checkResult(NormalScores.evaluate(knots, scale, checkFinite(x))[0], "x", x, "z");
             case CONSTANT -> x - shift;
             case IDENTITY -> x;
         };
@@ -258,13 +259,15 @@ public record ColumnTransform(Kind kind, double shift, double scale, double[] kn
      *
      * @param z a value in model space
      * @return x in original units
-     * @throws IllegalArgumentException if NORMAL_SCORES and {@code z} is infinite
+     * @throws IllegalArgumentException if NORMAL_SCORES and {@code z} is infinite or its x exceeds the
+     *     double range
      */
     public double inverse(double z) {
         return switch (kind) {
             case STANDARDIZE -> shift + scale * z;
             case LOG_STANDARDIZE -> Math.exp(shift + scale * z);
-            case NORMAL_SCORES -> Double.isNaN(z) ? Double.NaN : NormalScores.inverse(knots, scale, checkFinite(z));
+            case NORMAL_SCORES -> Double.isNaN(z) ? Double.NaN
+                    : checkResult(NormalScores.inverse(knots, scale, checkFinite(z)), "z", z, "x");
             case CONSTANT -> shift;
             case IDENTITY -> z;
         };
@@ -279,7 +282,8 @@ public record ColumnTransform(Kind kind, double shift, double scale, double[] kn
      * @param x an observed value in original units
      * @return the log-Jacobian
      * @throws IllegalArgumentException if {@code x} is NaN (a missing cell has no Jacobian), if
-     *     LOG_STANDARDIZE and {@code x <= 0}, or if NORMAL_SCORES and {@code x} is infinite
+     *     LOG_STANDARDIZE and {@code x <= 0}, or if NORMAL_SCORES and {@code x} is infinite or its
+     *     z or log-Jacobian exceeds the double range
      */
     public double logJacobian(double x) {
         if (Double.isNaN(x)) {
@@ -288,7 +292,8 @@ public record ColumnTransform(Kind kind, double shift, double scale, double[] kn
         return switch (kind) {
             case STANDARDIZE -> -Math.log(scale);
             case LOG_STANDARDIZE -> -Math.log(scale) - Math.log(checkPositive(x));
-            case NORMAL_SCORES -> NormalScores.evaluate(knots, scale, checkFinite(x))[1];
+            case NORMAL_SCORES -> checkResult(NormalScores.evaluate(knots, scale, checkFinite(x))[1], "x", x,
+                    "the log-Jacobian");
             case CONSTANT, IDENTITY -> 0.0;
         };
     }
@@ -305,10 +310,27 @@ public record ColumnTransform(Kind kind, double shift, double scale, double[] kn
             if (Double.isNaN(x)) {
                 throw new IllegalArgumentException("x is NaN; expected an observed value (a missing cell has no Jacobian)");
             }
-            return NormalScores.evaluate(knots, scale, checkFinite(x));
+            double[] e = NormalScores.evaluate(knots, scale, checkFinite(x));
+            checkResult(e[0], "x", x, "z");
+            checkResult(e[1], "x", x, "the log-Jacobian");
+            return e;
         }
         double lj = logJacobian(x);
         return new double[] {forward(x), lj};
+    }
+
+    /**
+     * {@code result} if finite; else the NORMAL_SCORES answer at this input lies beyond the double
+     * range (z beyond about 1.8e308, or a log-density below -1.8e308 between knots about 1.9e154
+     * bandwidths apart), refused rather than returned as an infinity or NaN.
+     */
+    private double checkResult(double result, String name, double input, String what) {
+        if (!Double.isFinite(result)) {
+            throw new IllegalArgumentException(name + " is " + input + "; " + what + " there is " + result
+                    + ", beyond the double range for this NORMAL_SCORES column (bandwidth " + scale + ", knots "
+                    + knots[0] + " to " + knots[knots.length - 1] + ")");
+        }
+        return result;
     }
 
     private static double checkFinite(double v) {

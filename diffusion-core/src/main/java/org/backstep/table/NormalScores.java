@@ -11,9 +11,14 @@ import org.apache.commons.math3.special.Erf;
  * Nonparanormal", JMLR 10:2295-2328, section 3, with a smoothed in place of a winsorized
  * distribution function).
  *
- * <p>No value underflows for any finite x: F and 1 - F are each summed directly, or, far outside
- * the knots, as a log-sum-exp of log Phi terms; z is taken from whichever of the two is smaller
- * (z = Phi^-1(F) or z = -Phi^-1(1 - F)), by Newton's method on log Phi.
+ * <p>No value underflows for any finite x: F and 1 - F are each summed directly, or, between knots
+ * far apart, as a log-sum-exp of log Phi terms; z is taken from whichever of the two is smaller
+ * (z = Phi^-1(F) or z = -Phi^-1(1 - F)), by Newton's method on log Phi. Beyond all knots by more
+ * than {@link #NEGLIGIBLE_U} bandwidths, z and log dz/dx are taken relative to the nearest knot's
+ * u_0 = |x - k| / h (z = u_0 + d, with u_0^2 / 2 never formed), so both stay finite and exact to
+ * rounding for every finite x with finite u_0; z is infinite only where u_0 itself exceeds the
+ * double range (x beyond about h 1.8e308). Between two knots more than about 1.9e154 h apart the
+ * log-density, below -1e308, is minus infinity.
  */
 final class NormalScores {
 
@@ -41,10 +46,16 @@ final class NormalScores {
      * asymptotic series Phi(u) = phi(u) / (-u) (1 - 1/u^2 + 3/u^4 - 15/u^6 + 105/u^8 - 945/u^10
      * + 10395/u^12) (Abramowitz &amp; Stegun 1964, eq. 26.2.12).
      *
+     * Above {@link #NEGLIGIBLE_U}, Phi(-u) is below the smallest double and log Phi(u) is exactly 0.
+     *
      * @param u any finite value, or plus or minus infinity
-     * @return log Phi(u), at most 0
+     * @return log Phi(u), at most 0; minus infinity where u^2 / 2 exceeds the double range
+     *     (u below about -1.9e154) and for u = minus infinity; NaN for NaN
      */
     static double logCdf(double u) {
+        if (u > NEGLIGIBLE_U) {
+            return 0.0;
+        }
         if (u < SERIES_BELOW) {
             if (u == Double.NEGATIVE_INFINITY) {
                 return Double.NEGATIVE_INFINITY;
@@ -74,8 +85,8 @@ final class NormalScores {
      * @return z, at most 0; minus infinity for log p = minus infinity
      */
     static double quantileOfLog(double logP) {
-        if (logP == Double.NEGATIVE_INFINITY) {
-            return Double.NEGATIVE_INFINITY;
+        if (logP == Double.NEGATIVE_INFINITY || Double.isNaN(logP)) {
+            return logP;
         }
         double lp = Math.min(logP, -Math.log(2.0));
         double z;
@@ -105,8 +116,75 @@ final class NormalScores {
      * @return {z, log dz/dx}
      */
     static double[] evaluate(double[] knots, double h, double x) {
+        double[] p = point(knots, h, x);
+        return new double[] {p[0], p[1]};
+    }
+
+    /**
+     * {z, log dz/dx, -h f'(x) / f(x)} at x: beyond all knots by more than {@link #NEGLIGIBLE_U}
+     * bandwidths from {@link #farTail}, else from {@link #sums} and {@link #finish}.
+     */
+    private static double[] point(double[] knots, double h, double x) {
+        int n = knots.length;
+        if (x - NEGLIGIBLE_U * h > knots[n - 1]) {
+            return farTail(knots, h, x, true);
+        }
+        if (x + NEGLIGIBLE_U * h < knots[0]) {
+            return farTail(knots, h, x, false);
+        }
         double[] s = sums(knots, h, x);
-        return finish(s[0], s[1], s[2], knots.length, h);
+        double[] e = finish(s[0], s[1], s[2], n, h);
+        return new double[] {e[0], e[1], s[3]};
+    }
+
+    /**
+     * The map beyond all knots, relative to the nearest knot: above them (mirrored below),
+     * u_i = u_0 + delta_i with u_0 = (x - k_n) / h and delta_i = (k_n - k_i) / h &gt;= 0, all u_i
+     * &gt; 30. With log Phi(-u) = -u^2/2 - log(2 pi)/2 + L(u), L(u) = -log u + log(series) (the
+     * series of {@link #logCdf}), log(1 - F) = -u_0^2/2 - log(2 pi)/2 + L(u_0) + R, where
+     * R = log((1/n) sum_i exp(t_i)) and t_i = -delta_i (u_0 + delta_i / 2) + L(u_i) - L(u_0)
+     * (t_i = 0 at the nearest knot, so R &gt;= -log n). Then z = u_0 + d solves
+     * u_0 d + d^2 / 2 = L(u_0 + d) - L(u_0) - R, a contraction with factor about 1 / u_0^2 solved by
+     * a few fixed-point steps from d = 0, and log dz/dx = log f - log phi(z)
+     * = -log(n h) + log sum_i exp(-delta_i (u_0 + delta_i / 2)) + d (u_0 + d / 2). No term is
+     * of the size of u_0^2, so nothing overflows or cancels for any finite u_0 (common practice,
+     * no source: the log-sum-exp shifted by its largest term).
+     */
+    private static double[] farTail(double[] knots, double h, double x, boolean above) {
+        int n = knots.length;
+        double nearest = above ? knots[n - 1] : knots[0];
+        double sign = above ? 1.0 : -1.0;
+        double u0 = sign * (x - nearest) / h;
+        if (u0 == Double.POSITIVE_INFINITY) {
+            return new double[] {sign * u0, -Math.log(h), sign * u0};   // z beyond the double range
+        }
+        double l0 = tailLog(u0);
+        double sumT = 0.0;
+        double sumW = 0.0;
+        double sumWD = 0.0;
+        for (double k : knots) {
+            double delta = sign * (nearest - k) / h;
+            double w = Math.exp(-delta * (u0 + 0.5 * delta));
+            if (w > 0) {
+                sumW += w;
+                sumWD += delta * w;
+                sumT += w * Math.exp(tailLog(u0 + delta) - l0);
+            }
+        }
+        double r = Math.log(sumT) - Math.log(n);
+        double d = 0.0;
+        for (int i = 0; i < 4; i++) {
+            d = (tailLog(u0 + d) - l0 - r) / (u0 + 0.5 * d);
+        }
+        double logJ = Math.log(sumW) - Math.log(n) - Math.log(h) + d * (u0 + 0.5 * d);
+        return new double[] {sign * (u0 + d), logJ, sign * (u0 + sumWD / sumW)};
+    }
+
+    /** L(u) = log Phi(-u) + u^2/2 + log(2 pi)/2 = -log u + log(series), for u &gt; 30 (see {@link #logCdf}). */
+    private static double tailLog(double u) {
+        double r = 1.0 / u / u;
+        double series = 1 - r * (1 - 3 * r * (1 - 5 * r * (1 - 7 * r * (1 - 9 * r * (1 - 11 * r)))));
+        return -Math.log(u) + Math.log(series);
     }
 
     /**
@@ -181,11 +259,16 @@ final class NormalScores {
      * section 5, mul12), then exp(-s) (1 - e), since |e| &lt;= ulp(s) / 2 makes e^2 negligible.
      * exp(-s) alone would be off by up to a^2 2^-53 relative, 8e-14 at a = 27.
      *
+     * Above a^2 = 746 (and for a = infinity) exp(-a^2) is 0 in double and returned as such.
+     *
      * @param a the argument, at least 0
      * @return exp(-a^2)
      */
     static double expMinusSquare(double a) {
         double s = a * a;
+        if (s > 746.0) {
+            return 0.0;
+        }
         double c = SPLIT * a;
         double hi = c - (c - a);
         double lo = a - hi;
@@ -207,8 +290,9 @@ final class NormalScores {
      * translations): for a &lt;= 0.46875, erfc = 1 - a P4(a^2) / Q4(a^2); for a &lt;= 4,
      * erfc = g P8(a) / Q8(a); above, erfc = (g / a) (1/sqrt(pi) - r P5(r) / Q5(r)) with r = 1 / a^2
      * (P and Q polynomials of the degrees shown, Q monic). Cody states at least 18 significant
-     * digits for the approximations; in double the result is within about 1e-15 relative of
-     * commons-math3's erfc over [0, 26] (NormalScoresTest), at the cost of about 20 multiply-adds
+     * digits for the approximations; in double the result is within 6.3e-16 relative of a
+     * 50-digit reference over [0, 26.5] (NormalScoresTest); commons-math3's Erf.erfc differs by up
+     * to 8e-14 near a = 22.7 (its own rounding of a^2). It costs about 20 multiply-adds
      * and one or two divisions, where commons-math3's (a regularized incomplete gamma function)
      * costs about 0.85 microseconds. Where g underflows (a above about 26.6) the result is 0 or a
      * subnormal, which the map's callers handle in log space.
@@ -249,7 +333,11 @@ final class NormalScores {
      */
     private static final double LINEAR_FLOOR = 1e-280;
 
-    /** The same sums as log-sum-exp of log Phi terms, for x far outside the knots. */
+    /**
+     * The same sums as log-sum-exp of log Phi terms, for x between knots far apart. A term of minus
+     * infinity (u^2 / 2 beyond the double range) adds nothing and is skipped; if all density terms
+     * are, the log-density sum is minus infinity and the last entry 0.
+     */
     private static double[] sumsInLogs(double[] knots, double h, double x) {
         double maxLo = Double.NEGATIVE_INFINITY;
         double sumLo = 0.0;
@@ -269,21 +357,27 @@ final class NormalScores {
                 hi = logCdf(-u);
                 lo = Math.log1p(-Math.exp(hi));
             }
-            // streaming log-sum-exp: sum holds sum exp(term - max)
-            if (lo > maxLo) {
+            // streaming log-sum-exp: sum holds sum exp(term - max); -inf terms add nothing
+            if (lo == Double.NEGATIVE_INFINITY) {
+                // skip
+            } else if (lo > maxLo) {
                 sumLo = sumLo * Math.exp(maxLo - lo) + 1.0;
                 maxLo = lo;
             } else {
                 sumLo += Math.exp(lo - maxLo);
             }
-            if (hi > maxHi) {
+            if (hi == Double.NEGATIVE_INFINITY) {
+                // skip
+            } else if (hi > maxHi) {
                 sumHi = sumHi * Math.exp(maxHi - hi) + 1.0;
                 maxHi = hi;
             } else {
                 sumHi += Math.exp(hi - maxHi);
             }
             double f = -0.5 * u * u;
-            if (f > maxF) {
+            if (f == Double.NEGATIVE_INFINITY) {
+                continue;
+            } else if (f > maxF) {
                 double rescale = Math.exp(maxF - f);
                 sumF = sumF * rescale + 1.0;
                 sumFU = sumFU * rescale + u;
@@ -294,7 +388,8 @@ final class NormalScores {
                 sumFU += u * w;
             }
         }
-        return new double[] {maxLo + Math.log(sumLo), maxHi + Math.log(sumHi), maxF + Math.log(sumF), sumFU / sumF};
+        return new double[] {maxLo + Math.log(sumLo), maxHi + Math.log(sumHi), maxF + Math.log(sumF),
+            sumF > 0 ? sumFU / sumF : 0.0};
     }
 
     /**
@@ -335,8 +430,10 @@ final class NormalScores {
      * outer kernel alone, x = k_1 + h Phi^-1(n p) (or k_n - h Phi^-1(n (1 - p))), the map's limit
      * far outside the knots. It stops at z(x) = z exactly, when the bracket is narrower than
      * {@link #INVERSE_TOL} (|x| + h), when a step is below that, or, without evaluating again, after
-     * a step small enough for {@link #ACCEPT_NEWTON}. Typical cells take 2 to 4 evaluations (3 on
-     * average; Newton from the nearest knot took 4 to 6), up to about 6 between sparse tail knots.
+     * a step small enough for {@link #ACCEPT_NEWTON}. On average 2.7 to 2.9 evaluations per cell
+     * (measured in NormalScoresTest for z in [-4, 4] on 60 and 1000 knots at 0.5 and 4 times
+     * Silverman's bandwidth, which asserts a mean of at most 3.5 and at most 8 for any cell; Newton
+     * from the nearest knot took 4 to 6 on average).
      *
      * @param knots the knots, sorted ascending (not modified)
      * @param h the bandwidth
@@ -357,8 +454,7 @@ final class NormalScores {
         double stepA = 0.0;                        // the Newton step (z - z(a)) / z'(a) from a, and from b
         double stepB = 0.0;
         for (int i = 0; i < MAX_INVERSE; i++) {
-            double[] s = sums(knots, h, x);
-            double[] e = finish(s[0], s[1], s[2], n, h);
+            double[] e = point(knots, h, x);
             if (evaluations != null) {
                 evaluations[0]++;
             }
@@ -378,7 +474,7 @@ final class NormalScores {
             if (b - a <= tol) {
                 break;
             }
-            double c = 0.5 * (e[0] * slope - s[3] / h);     // z'' / (2 z') = (f'/f + z z') / 2
+            double c = 0.5 * (e[0] * slope - e[2] / h);     // z'' / (2 z') = (f'/f + z z') / 2
             double cs = c * newton;
             double step = Math.abs(cs) < 0.5 ? newton / (1.0 + cs) : newton;
             double next = clampPastKnot(knots, h, x, x + step);
@@ -434,6 +530,9 @@ final class NormalScores {
         double logN = Math.log(n);
         if (z <= 0) {
             double logP = logCdf(z);
+            if (logP == Double.NEGATIVE_INFINITY) {
+                return knots[0] + h * z;           // |z| beyond 1.9e154: z = u_0 to rounding (farTail)
+            }
             double pos = Math.exp(logP + logN) - 0.5;
             if (pos <= 0) {
                 return knots[0] + h * quantileOfLog(logP + logN);
@@ -442,6 +541,9 @@ final class NormalScores {
             return knots[i] + (pos - i) * (knots[i + 1] - knots[i]);
         }
         double logQ = logCdf(-z);
+        if (logQ == Double.NEGATIVE_INFINITY) {
+            return knots[n - 1] + h * z;
+        }
         double pos = Math.exp(logQ + logN) - 0.5;
         if (pos <= 0) {
             return knots[n - 1] - h * quantileOfLog(logQ + logN);

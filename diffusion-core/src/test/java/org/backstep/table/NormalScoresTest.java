@@ -246,6 +246,77 @@ class NormalScoresTest {
         assertEquals(-u * u / 2 - Math.log(-u) - 0.5 * Math.log(2 * Math.PI), NormalScores.logCdf(u), 2e-6);
     }
 
+    @Test
+    void logCdfIsExactAtTheExtremes() {
+        // Phi(-u) is below the smallest double beyond u = 38.7, so log Phi(u) = 0 exactly there and at
+        // +inf; log Phi(u) = -u^2/2 - ... is below -1e308 at u = -1e200 (the class contract)
+        for (double u : new double[] {40, 1e200, Double.MAX_VALUE, Double.POSITIVE_INFINITY}) {
+            assertEquals(0.0, NormalScores.logCdf(u), 0.0, "u = " + u);
+        }
+        assertEquals(Double.NEGATIVE_INFINITY, NormalScores.logCdf(-1e200));
+        assertEquals(Double.NEGATIVE_INFINITY, NormalScores.logCdf(Double.NEGATIVE_INFINITY));
+        // exp(-a^2) underflows to 0 for a^2 > 745.2 (IEEE 754 double range), also at a = inf
+        assertEquals(0.0, NormalScores.expMinusSquare(1e200), 0.0);
+        assertEquals(0.0, NormalScores.expMinusSquare(Double.POSITIVE_INFINITY), 0.0);
+    }
+
+    @Test
+    void hugeFiniteValuesGiveFiniteMonotoneScores() {
+        // the class contract: every finite x gives a finite z and log-Jacobian; far beyond the knots
+        // z -> (x - k) / h and log dz/dx -> -log h (the nearest kernel alone; common practice, no source)
+        ColumnTransform t = skewed();
+        double h = t.scale();
+        double[] k = t.knots();
+        double previous = Double.NEGATIVE_INFINITY;
+        for (double x : new double[] {-1e308, -1e300, -1e200, -1e20, -1e4, 0, 1e4, 1e20, 1e200, 1e300, 1e308}) {
+            double[] e = t.forwardWithLogJacobian(x);
+            assertTrue(Double.isFinite(e[0]) && e[0] > previous, "z(" + x + ") = " + e[0] + " after " + previous);
+            assertTrue(Double.isFinite(e[1]), "log-Jacobian at " + x + " is " + e[1]);
+            assertEquals(e[0], t.forward(x), 0.0);
+            assertEquals(e[1], t.logJacobian(x), 0.0);
+            previous = e[0];
+            if (Math.abs(x) >= 1e20) {
+                double nearest = x > 0 ? k[k.length - 1] : k[0];
+                assertEquals((x - nearest) / h, e[0], 1e-15 * Math.abs(e[0]), "x = " + x);
+                assertEquals(-Math.log(h), e[1], 1e-12, "x = " + x);
+                // and back: the inverse of the far tail (the contract of ColumnTransform.inverse)
+                assertEquals(x, t.inverse(e[0]), 1e-14 * Math.abs(x), "x = " + x);
+            }
+        }
+    }
+
+    @Test
+    void farTailMatchesTheLogSpaceSumsWhereBothHold() {
+        // two exact computations of the same map (NormalScores' class Javadoc): the shifted far-tail
+        // form just beyond 38.7 bandwidths against a central difference of z for the log-Jacobian
+        ColumnTransform t = skewed();
+        double h = t.scale();
+        double[] k = t.knots();
+        for (double c : new double[] {39, 60, 1e3, 1e6}) {
+            for (double x : new double[] {k[k.length - 1] + c * h, k[0] - c * h}) {
+                double d = 1e-4 * h;
+                double numeric = Math.log((t.forward(x + d) - t.forward(x - d)) / (2 * d));
+                assertEquals(numeric, t.logJacobian(x), DERIVATIVE_TOL * Math.max(1, c), "x = " + x);
+            }
+        }
+    }
+
+    @Test
+    void valuesBeyondTheDoubleRangeAreRefusedNotNaN() {
+        // the project rule: never a silent NaN or infinity; z = (x - k) / h exceeds 1.8e308 for a small h
+        ColumnTransform t = ColumnTransform.normalScores(new double[] {0, 1, 2, 3}, 0.01);
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> t.forward(1e308));
+        assertTrue(e.getMessage().contains("1.0E308"), e.getMessage());
+        assertThrows(IllegalArgumentException.class, () -> t.forward(-1e308));
+        // while dz/dx there, the nearest kernel's 1/h, is still a double
+        assertEquals(-Math.log(0.01), t.logJacobian(-1e308), 1e-12);
+        assertThrows(IllegalArgumentException.class, () -> t.forwardWithLogJacobian(1e308));
+        // between two knots 1e300 apart the log-density (about -1e599) is below the double range
+        ColumnTransform gap = ColumnTransform.normalScores(new double[] {0, 1e300}, 1.0);
+        assertTrue(Double.isFinite(gap.forward(5e299)));
+        assertThrows(IllegalArgumentException.class, () -> gap.logJacobian(5e299));
+    }
+
     /** Digits of the high-precision erfc reference below. */
     private static final MathContext WIDE = new MathContext(50);
     private static final BigDecimal PI_50 = new BigDecimal("3.1415926535897932384626433832795028841971693993751");
