@@ -130,8 +130,10 @@ public final class Imputer {
                     continue;
                 }
                 mean[i][j] = Arrays.stream(cell).average().orElseThrow();
-                lo[i][j] = intervalEnd(cell, (1.0 - level) / 2.0);
-                hi[i][j] = intervalEnd(cell, (1.0 + level) / 2.0);
+                double[] sorted = cell.clone();
+                Arrays.sort(sorted);
+                lo[i][j] = endOfSorted(sorted, (1.0 - level) / 2.0);
+                hi[i][j] = endOfSorted(sorted, (1.0 + level) / 2.0);
             }
         }
         return new Imputation(tables, withValues(records, mean), withValues(records, lo), withValues(records, hi),
@@ -246,6 +248,11 @@ public final class Imputer {
         Require.inOpen("p", p, 0.0, 1.0);
         double[] s = values.clone();
         Arrays.sort(s);
+        return endOfSorted(s, p);
+    }
+
+    /** {@link #intervalEnd} of draws already sorted ascending, at least one; p in (0, 1). */
+    private static double endOfSorted(double[] s, double p) {
         int k = s.length;
         double h = (k + 1) * p;
         if (h <= 1.0) {
