@@ -5,7 +5,6 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
@@ -16,7 +15,6 @@ import java.util.TreeSet;
 import org.backstep.Defaults;
 import org.backstep.DiffusionModel;
 import org.backstep.report.Imputation;
-import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 
 /**
@@ -63,18 +61,8 @@ public final class ImputationDraws {
             }
             OpenTable.Split split = t.read(data, labels);
             Table test = split.test();
-            List<int[]> hidden = new ArrayList<>();
-            for (JsonNode cell : baselines.path("tables").path(t.key()).path("imputation").path("hidden")) {
-                hidden.add(new int[] {cell.get(0).asInt(), cell.get(1).asInt()});
-            }
-            if (hidden.isEmpty()) {
-                throw new IllegalStateException("the baselines file lists no hidden cells for " + t.key());
-            }
-            double[][] rows = test.toArray();
-            for (int[] rc : hidden) {
-                rows[rc[0]][rc[1]] = Double.NaN;
-            }
-            Table masked = Table.of(test.names(), test.kinds(), rows);
+            HiddenCells hidden = HiddenCells.of(baselines, t.key(), test);
+            Table masked = hidden.masked();
             for (long seed : seeds) {
                 DiffusionModel model = Lever.DEFAULTS.builder(seed).fit(split.train());
                 for (int k : draws) {
@@ -82,22 +70,10 @@ public final class ImputationDraws {
                         long t0 = System.nanoTime();
                         Imputation imp = model.impute(masked, Defaults.imputation().withDraws(k), seed * 100 + is);
                         double seconds = (System.nanoTime() - t0) / 1e9;
-                        double sq = 0;
-                        int inside = 0;
-                        int continuous = 0;
-                        for (int[] rc : hidden) {
-                            double truth = test.get(rc[0], rc[1]);
-                            double e = (imp.mean().get(rc[0], rc[1]) - truth) / split.standardized().transform(rc[1]).scale();
-                            sq += e * e;
-                            if (test.kind(rc[1]) == ColumnKind.CONTINUOUS) {
-                                continuous++;
-                                if (imp.lower().get(rc[0], rc[1]) <= truth && truth <= imp.upper().get(rc[0], rc[1])) {
-                                    inside++;
-                                }
-                            }
-                        }
+                        HiddenCells.Score score = hidden.score(imp.mean().toArray(), imp.lower().toArray(),
+                                imp.upper().toArray(), split.scales());
                         System.out.printf(Locale.ROOT, "%s, %d, %d, %d: %.4f %.3f %.3f %.1f%n", t.key(), seed, k, seed * 100 + is,
-                                Math.sqrt(sq / hidden.size()), inside / (double) continuous, imp.expectedCoverage(), seconds);
+                                score.rmse(), score.coverage(), imp.expectedCoverage(), seconds);
                     }
                 }
             }

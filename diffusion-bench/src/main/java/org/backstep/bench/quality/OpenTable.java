@@ -67,6 +67,11 @@ record OpenTable(String key, String label, String file, List<String> leftOut, St
             return all.selectRows(IntStream.concat(IntStream.of(normal), IntStream.of(anomalous)).toArray());
         }
 
+        /** @return each column's scale in {@link #standardized()} (binary columns: 1), for RMSE in its units */
+        double[] scales() {
+            return IntStream.range(0, all.columns()).mapToDouble(j -> standardized.transform(j).scale()).toArray();
+        }
+
         /** @return how many rows of {@link #screened()} are normal (they come first) */
         int screenedNormal() {
             return rows(i -> i % TEST_EVERY == 0 && table.normal().test(labels[i])).length;

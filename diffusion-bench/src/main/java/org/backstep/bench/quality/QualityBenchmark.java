@@ -20,7 +20,6 @@ import org.backstep.DiffusionModel;
 import org.backstep.report.AnomalyScreen;
 import org.backstep.report.BoundReport;
 import org.backstep.report.Imputation;
-import org.backstep.table.ColumnKind;
 import org.backstep.table.Table;
 
 /**
@@ -208,18 +207,8 @@ public final class QualityBenchmark {
         double expected = Double.NaN;
         double imputeSeconds = Double.NaN;
         if (enc.imputes() && !densityOnly) {
-            List<int[]> hidden = new ArrayList<>();
-            for (JsonNode cell : baselines.path("tables").path(split.table().key()).path("imputation").path("hidden")) {
-                hidden.add(new int[] {cell.get(0).asInt(), cell.get(1).asInt()});
-            }
-            if (hidden.isEmpty()) {
-                throw new IllegalStateException("the baselines file lists no hidden cells for " + split.table().key());
-            }
-            double[][] rows = test.toArray();
-            for (int[] rc : hidden) {
-                rows[rc[0]][rc[1]] = Double.NaN;
-            }
-            Table masked = Table.of(test.names(), test.kinds(), rows);
+            HiddenCells hidden = HiddenCells.of(baselines, split.table().key(), test);
+            Table masked = hidden.masked();
             long i0 = System.nanoTime();
             Imputation imp = model.impute(enc.encode(masked), Defaults.imputation().withDraws(DRAWS).withLevel(LEVEL), seed);
             imputeSeconds = (System.nanoTime() - i0) / 1e9;
@@ -236,31 +225,17 @@ public final class QualityBenchmark {
                 mean = new double[test.rows()][test.columns()];
                 lower = new double[test.rows()][test.columns()];
                 upper = new double[test.rows()][test.columns()];
-                for (int[] rc : hidden) {
+                for (int[] rc : hidden.cells()) {
                     double[] v = draws.stream().mapToDouble(d -> d[rc[0]][rc[1]]).toArray();
                     mean[rc[0]][rc[1]] = Measures.mean(v);
                     lower[rc[0]][rc[1]] = Measures.quantile(v, (1 - LEVEL) / 2);
                     upper[rc[0]][rc[1]] = Measures.quantile(v, (1 + LEVEL) / 2);
                 }
             }
-            double sq = 0;
-            int inside = 0;
-            int continuous = 0;
-            for (int[] rc : hidden) {
-                double truth = test.get(rc[0], rc[1]);
-                double scale = split.standardized().transform(rc[1]).scale();
-                double e = (mean[rc[0]][rc[1]] - truth) / scale;
-                sq += e * e;
-                if (test.kind(rc[1]) == ColumnKind.CONTINUOUS) {
-                    continuous++;
-                    if (lower[rc[0]][rc[1]] <= truth && truth <= upper[rc[0]][rc[1]]) {
-                        inside++;
-                    }
-                }
-            }
-            rmse = Math.sqrt(sq / hidden.size());
-            coverage = continuous == 0 ? Double.NaN : inside / (double) continuous;
-            if (continuous == 0) {
+            HiddenCells.Score score = hidden.score(mean, lower, upper, split.scales());
+            rmse = score.rmse();
+            coverage = score.coverage();
+            if (Double.isNaN(coverage)) {
                 expected = Double.NaN;
             }
         }
