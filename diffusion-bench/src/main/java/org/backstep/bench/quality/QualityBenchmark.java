@@ -53,10 +53,15 @@ import org.backstep.table.Table;
  *
  * <p>Usage: {@code QualityBenchmark --baselines FILE --data DIR --labels DIR [--out FILE]
  * [--runs FILE] [--seeds 1,2,3] [--seeds:TABLE 1,2] [--tables iris,...] [--levers] [--only-levers A,B]
- * [--density-only] [--no-anomaly] [--bound-seeds 5] [--weight-decay 3e-4]} ({@code --density-only}: no
- * imputation and no anomaly ranks; {@code --no-anomaly}: no anomaly ranks; {@code --weight-decay}: every
- * fit, the anomaly models' too, with this decoupled weight decay per update instead of
- * {@code Defaults.WEIGHT_DECAY}, every other setting as the lever has it).
+ * [--density-only] [--no-anomaly] [--bound-seeds 5] [--weight-decay 3e-4] [--steps 100] [--ema 0.995]
+ * [--evaluations 20] [--patience 0] [--learning-rate 3e-3]}
+ * ({@code --density-only}: no imputation and no anomaly ranks; {@code --no-anomaly}: no anomaly ranks;
+ * {@code --weight-decay}: every fit, the anomaly models' too, with this decoupled weight decay per update
+ * instead of {@code Defaults.WEIGHT_DECAY}; {@code --steps}: with T diffusion steps instead of
+ * {@code Defaults.STEPS}; {@code --ema}: with this decay of the weights' moving average instead of
+ * {@code Defaults.EMA_DECAY}; {@code --evaluations}, {@code --patience}: checkpoint evaluations per run and
+ * early stopping instead of {@code Defaults.EVALUATIONS} and {@code Defaults.PATIENCE}; {@code --learning-rate}: Adam's peak step size instead of
+ * {@code Defaults.LEARNING_RATE}; every other setting as the lever has it).
  * Progress goes to standard error; the table to standard output and, with {@code --out}, to a file.
  */
 public final class QualityBenchmark {
@@ -111,6 +116,12 @@ public final class QualityBenchmark {
         Path labels = Path.of(required(opt, "--labels"));
         int boundSeeds = Integer.parseInt(opt.getOrDefault("--bound-seeds", "5"));
         double weightDecay = Double.parseDouble(opt.getOrDefault("--weight-decay", String.valueOf(Defaults.WEIGHT_DECAY)));
+        int steps = Integer.parseInt(opt.getOrDefault("--steps", String.valueOf(Defaults.STEPS)));
+        double ema = Double.parseDouble(opt.getOrDefault("--ema", String.valueOf(Defaults.EMA_DECAY)));
+        int evaluations = Integer.parseInt(opt.getOrDefault("--evaluations", String.valueOf(Defaults.EVALUATIONS)));
+        int patience = Integer.parseInt(opt.getOrDefault("--patience", String.valueOf(Defaults.PATIENCE)));
+        double learningRate = Double.parseDouble(opt.getOrDefault("--learning-rate", String.valueOf(Defaults.LEARNING_RATE)));
+        Tweaks tweaks = new Tweaks(weightDecay, steps, ema, evaluations, patience, learningRate);
         List<Long> seeds = seeds(opt.getOrDefault("--seeds", "1"));
         List<Lever> levers = opt.containsKey("--only-levers")
                 ? Arrays.stream(opt.get("--only-levers").split(",")).map(String::strip).map(Lever::valueOf).toList()
@@ -142,7 +153,7 @@ public final class QualityBenchmark {
                         continue; // every lever maps continuous columns; the table has none
                     }
                     Run run = measure(split, lever, own.get(si), boundSeeds, baselines, opt.containsKey("--density-only"),
-                            opt.containsKey("--density-only") || opt.containsKey("--no-anomaly"), weightDecay);
+                            opt.containsKey("--density-only") || opt.containsKey("--no-anomaly"), tweaks);
                     runs.add(run);
                     runLines.append(runLine(run)).append('\n');
                     System.err.printf(Locale.ROOT, "%s, %s, seed %d: %.3f nats (rec sd %.3f), rmse %.3f, auroc %.4f, fit %.1f s%n",
@@ -150,7 +161,7 @@ public final class QualityBenchmark {
                 }
             }
         }
-        String settings = settings(started, loadBefore, opt.get("--git"), weightDecay);
+        String settings = settings(started, loadBefore, opt.get("--git"), tweaks);
         String text = SideBySide.render(settings, splits, levers, runs, baselines, boundSeeds);
         System.out.print(text);
         if (opt.containsKey("--out")) {
@@ -162,13 +173,19 @@ public final class QualityBenchmark {
     }
 
     static Run measure(OpenTable.Split split, Lever lever, long seed, int boundSeeds, JsonNode baselines,
-                       boolean densityOnly, boolean noAnomaly, double weightDecay) {
+                       boolean densityOnly, boolean noAnomaly, Tweaks tweaks) {
         Table train = split.train();
         Table test = split.test();
         Lever.Encoding enc = lever.fit(train);
         long t0 = System.nanoTime();
-        DiffusionModel model = lever.builder(seed).weightDecay(weightDecay).fit(enc.encode(train));
+        DiffusionModel model = tweaks.apply(lever.builder(seed)).fit(enc.encode(train));
         double fitSeconds = (System.nanoTime() - t0) / 1e9;
+        StringBuilder curve = new StringBuilder();
+        for (var e : model.provenance().history()) {
+            e.checkpointBound().ifPresent(b -> curve.append(String.format(Locale.ROOT, " %d:%.3f", e.epoch(), b)));
+        }
+        System.err.printf(Locale.ROOT, "%s, %s, seed %d: checkpoint bound by epoch (of %d):%s%n", split.table().key(), lever,
+                seed, model.provenance().history().size(), curve);
         for (String note : model.provenance().notes()) {
             if (note.startsWith("marginals ")) {
                 System.err.printf(Locale.ROOT, "%s, %s, seed %d: %s%n", split.table().key(), lever, seed, note);
@@ -250,7 +267,7 @@ public final class QualityBenchmark {
             Table normalTrain = split.normalTrain();
             Lever.Encoding encA = lever.fit(normalTrain);
             long a0 = System.nanoTime();
-            DiffusionModel ma = lever.builder(seed).weightDecay(weightDecay).fit(encA.encode(normalTrain));
+            DiffusionModel ma = tweaks.apply(lever.builder(seed)).fit(encA.encode(normalTrain));
             anomalyFit = (System.nanoTime() - a0) / 1e9;
             Table screened = split.screened();
             int nn = split.screenedNormal();
@@ -285,10 +302,12 @@ public final class QualityBenchmark {
                 r.aurocBound(), r.anomalyFitSeconds());
     }
 
-    private static String settings(String started, double loadBefore, String git, double weightDecay) {
+    private static String settings(String started, double loadBefore, String git, Tweaks tweaks) {
+        double weightDecay = tweaks.weightDecay();
         return String.format(Locale.ROOT,
                 "Backstep quality benchmark, started %s, finished %s%s%n"
                         + "weight decay %s per update (%s)%n"
+                        + tweaks.changed()
                         + "machine: %s %s %s, %d CPUs (shared); load average (1 min) %.2f at start, %.2f at end%n"
                         + "java %s (%s); Backstep threads %d (library default); OPENBLAS_CORETYPE %s%n",
                 started, java.time.Instant.now(), git == null ? "" : ", git " + git, weightDecay,
@@ -309,6 +328,63 @@ public final class QualityBenchmark {
         Path tmp = Files.createTempFile(dir, file.getFileName().toString(), ".tmp");
         Files.writeString(tmp, text, StandardCharsets.UTF_8);
         Files.move(tmp, file, java.nio.file.StandardCopyOption.REPLACE_EXISTING, java.nio.file.StandardCopyOption.ATOMIC_MOVE);
+    }
+
+    /**
+     * The builder settings a run may change from the lever's (the options {@code --weight-decay},
+     * {@code --steps}, {@code --ema}), applied to every fit of the run.
+     *
+     * @param weightDecay decoupled weight decay per update
+     * @param steps diffusion steps T
+     * @param ema decay of the weights' moving average
+     * @param evaluations checkpoint evaluations per run
+     * @param patience evaluations without improvement before stopping; 0: never
+     * @param learningRate Adam's peak step size
+     */
+    record Tweaks(double weightDecay, int steps, double ema, int evaluations, int patience, double learningRate) {
+
+        Backstep.Builder apply(Backstep.Builder b) {
+            b = b.weightDecay(weightDecay);
+            if (steps != Defaults.STEPS) {
+                b = b.steps(steps);
+            }
+            if (ema != Defaults.EMA_DECAY) {
+                b = b.emaDecay(ema);
+            }
+            if (evaluations != Defaults.EVALUATIONS) {
+                b = b.evaluations(evaluations);
+            }
+            if (patience != Defaults.PATIENCE) {
+                b = b.patience(patience);
+            }
+            if (learningRate != Defaults.LEARNING_RATE) {
+                b = b.learningRate(learningRate);
+            }
+            return b;
+        }
+
+        /** @return a line per setting changed from the defaults (besides the decay, always printed) */
+        String changed() {
+            StringBuilder sb = new StringBuilder();
+            if (steps != Defaults.STEPS) {
+                sb.append("diffusion steps T = ").append(steps).append(" (--steps; Defaults.STEPS is ")
+                        .append(Defaults.STEPS).append(")%n");
+            }
+            if (ema != Defaults.EMA_DECAY) {
+                sb.append("moving average of the weights: decay ").append(ema).append(" (--ema; Defaults.EMA_DECAY is ")
+                        .append(Defaults.EMA_DECAY).append(")%n");
+            }
+            if (learningRate != Defaults.LEARNING_RATE) {
+                sb.append("learning rate ").append(learningRate).append(" (--learning-rate; Defaults.LEARNING_RATE is ")
+                        .append(Defaults.LEARNING_RATE).append(")%n");
+            }
+            if (evaluations != Defaults.EVALUATIONS || patience != Defaults.PATIENCE) {
+                sb.append("checkpoint evaluations ").append(evaluations).append(", patience ").append(patience)
+                        .append(" (--evaluations, --patience; Defaults: ").append(Defaults.EVALUATIONS).append(", ")
+                        .append(Defaults.PATIENCE).append(")%n");
+            }
+            return sb.toString();
+        }
     }
 
     private static Map<String, String> parse(String[] args) {
