@@ -337,7 +337,15 @@ public final class Backstep {
             return this;
         }
 
-        /** Evaluations without improvement before stopping early, keeping the best weights; default {@link Defaults#PATIENCE} (never). @param evaluations at least 0 @return this */
+        /**
+         * Checkpoint evaluations without a lower score before training stops early, keeping the best
+         * weights; default {@link Defaults#PATIENCE} (5, a quarter of the default evaluations; its
+         * Javadoc has the measurement); 0 trains every planned update. Counted in evaluations, so set it
+         * with {@link #evaluateEvery(int)} or {@link #evaluations(int)}.
+         *
+         * @param evaluations at least 0
+         * @return this
+         */
         public Builder patience(int evaluations) {
             this.patience = evaluations;
             return this;

@@ -123,14 +123,18 @@ class MarginalsTest {
         DiffusionModel model = shortFit().steps(100)
                 .listener(p -> heard.add(new long[] {p.step(), p.totalSteps(), p.epoch(), p.epochs()})).fit(train);
         // the listener hears the two fits as one plan: steps rise to the planned total, which covers both
-        // fits (common practice, no source: a progress bar's contract)
+        // fits from the first report on (2 x 300 updates) and shrinks only where a run stops early (default
+        // patience), so that the last report completes the plan (common practice, no source: a progress
+        // bar's contract)
+        assertEquals(600, heard.get(0)[1]);
         for (int i = 1; i < heard.size(); i++) {
             assertTrue(heard.get(i)[0] > heard.get(i - 1)[0], "step " + i);
             assertTrue(heard.get(i)[0] <= heard.get(i)[1] && heard.get(i)[2] <= heard.get(i)[3], "progress " + i);
+            assertTrue(heard.get(i)[1] <= heard.get(i - 1)[1] && heard.get(i)[3] <= heard.get(i - 1)[3], "plan " + i);
         }
         long[] last = heard.get(heard.size() - 1);
         assertEquals(last[1], last[0]);
-        assertEquals(heard.get(0)[1], last[1]);   // planned from the first report on: both fits
+        assertEquals(last[3], last[2]);
         TableTransform t = model.transform();
         assertEquals(ColumnTransform.Kind.NORMAL_SCORES, t.transform(0).kind(), model.provenance().notes().toString());
         assertEquals(ColumnTransform.Kind.NORMAL_SCORES, t.transform(1).kind(), t.toString());

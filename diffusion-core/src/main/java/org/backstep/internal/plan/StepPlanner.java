@@ -143,24 +143,33 @@ public final class StepPlanner {
 
     /**
      * The whole plan's progress, from one model's: step and totalSteps count the updates of every
-     * model together, secondsLeft the plan's training time left; the other fields are the
+     * model together (a model that stopped early counts the updates it made, so that the plan ends
+     * when the last model ends), secondsLeft the plan's training time left; the other fields are the
      * reporting model's.
      */
     private static TrainingProgress planProgress(TrainingProgress p, List<TrainingRun> runs, TrainingBudget budget,
                                                  int models) {
         long updates = 0;
         long nanos = 0;
+        int stopped = 0;
+        long stoppedUpdates = 0;
+        long stoppedNanos = 0;
         for (TrainingRun r : runs) {
             updates += r.updates();
             nanos += r.updateNanos();
+            if (r.stoppedEarly()) {
+                stopped++;
+                stoppedUpdates += r.updates();
+                stoppedNanos += r.updateNanos();
+            }
         }
         if (budget.isDeterministic()) {
-            long total = (long) budget.updates().orElseThrow() * models;
+            long total = (long) budget.updates().orElseThrow() * (models - stopped) + stoppedUpdates;
             double left = updates == 0 ? Double.NaN : nanos / 1e9 * (total - updates) / updates;
             return new TrainingProgress(p.epoch(), p.epochs(), updates, total, p.loss(), p.checkpointBound(),
                     p.rowsPerSecond(), Math.max(0.0, left));
         }
-        long totalNanos = budget.wallClock().orElseThrow().toNanos() * models;
+        long totalNanos = budget.wallClock().orElseThrow().toNanos() * (models - stopped) + stoppedNanos;
         long estimated = Math.max(updates, Math.round(updates * (double) totalNanos / Math.max(1L, nanos)));
         return new TrainingProgress(p.epoch(), p.epochs(), updates, estimated, p.loss(), p.checkpointBound(),
                 p.rowsPerSecond(), Math.max(0.0, (totalNanos - nanos) / 1e9));

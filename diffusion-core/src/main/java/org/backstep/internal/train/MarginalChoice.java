@@ -129,6 +129,11 @@ public final class MarginalChoice {
         boolean first;
         int epochOffset;
         long stepOffset;
+        /** The first run's planned steps and epochs, from its first report (0 before it). */
+        long plannedSteps;
+        int plannedEpochs;
+        /** Seconds per step of the first run, from its latest estimate of the time left. */
+        double perStep;
 
         Relay(TrainingListener to) {
             this.to = to;
@@ -137,8 +142,14 @@ public final class MarginalChoice {
         @Override
         public void onProgress(TrainingProgress p) {
             if (first) {
-                to.onProgress(new TrainingProgress(p.epoch(), 2 * p.epochs(), p.step(), 2 * p.totalSteps(), p.loss(),
-                        p.checkpointBound(), p.rowsPerSecond(), secondRun(p)));
+                if (plannedSteps == 0) {
+                    plannedSteps = p.totalSteps();
+                    plannedEpochs = p.epochs();
+                }
+                // the second run is planned as long as the first was; a first run that stopped early ends its
+                // own part of the plan where it stopped (its last report's totals are its steps and epochs)
+                to.onProgress(new TrainingProgress(p.epoch(), p.epochs() + plannedEpochs, p.step(),
+                        p.totalSteps() + plannedSteps, p.loss(), p.checkpointBound(), p.rowsPerSecond(), secondRun(p)));
             } else if (stepOffset > 0) {
                 to.onProgress(new TrainingProgress(p.epoch() + epochOffset, p.epochs() + epochOffset,
                         p.step() + stepOffset, p.totalSteps() + stepOffset, p.loss(), p.checkpointBound(),
@@ -148,13 +159,15 @@ public final class MarginalChoice {
             }
         }
 
-        /** Seconds left in the first run plus an estimate of the second (as long as the first in all). */
-        private static double secondRun(TrainingProgress p) {
+        /** Seconds left in the first run plus an estimate of the second (as long as the first was planned). */
+        private double secondRun(TrainingProgress p) {
             if (p.step() == 0 || Double.isNaN(p.secondsLeft())) {
                 return p.secondsLeft();
             }
-            double perStep = p.secondsLeft() / Math.max(1, p.totalSteps() - p.step());
-            return p.secondsLeft() + perStep * p.totalSteps();
+            if (p.totalSteps() > p.step()) {
+                perStep = p.secondsLeft() / (p.totalSteps() - p.step());
+            }
+            return p.secondsLeft() + perStep * plannedSteps;
         }
     }
 }

@@ -110,6 +110,8 @@ public final class TrainingRun implements AutoCloseable {
     private int sinceBest;
     private long step;
     private String stopReason;
+    /** True once patience ended the run: its last progress report ends the plan there. */
+    private boolean stoppedEarly;
     private long updateNanos;          // time spent on updates only: what a wall-clock budget counts
     private long nextEvaluation;
     private int epoch = 1;
@@ -264,6 +266,11 @@ public final class TrainingRun implements AutoCloseable {
         return false;
     }
 
+    /** @return true once the run stopped early by patience (its plan ended at {@link #updates()}) */
+    public boolean stoppedEarly() {
+        return stoppedEarly;
+    }
+
     /** @return updates done so far */
     public long updates() {
         return step;
@@ -388,12 +395,13 @@ public final class TrainingRun implements AutoCloseable {
             }
         }
         history.add(new EpochRecord(epoch, epochLoss, bound, Trainer.seconds(started)));
-        listener.onProgress(progress(epochLoss));
         if (!last && options.patience() > 0 && sinceBest >= options.patience()) {
             stopReason = "stopped early at epoch " + epoch + ": no better held-out bound in "
                     + options.patience() + " evaluations";
             last = true;
+            stoppedEarly = true;
         }
+        listener.onProgress(progress(epochLoss));
         if (gaps != null && !last && (timed ? updateNanos : step) >= nextRefill) {
             refillGaps();
             while (nextRefill <= (timed ? updateNanos : step)) {
@@ -427,6 +435,10 @@ public final class TrainingRun implements AutoCloseable {
                     (estimated + batchesPerEpoch - 1) / batchesPerEpoch));
             return new TrainingProgress(epoch, estimatedEpochs, step, estimated, loss, lastBound, rate,
                     Math.max(0.0, (budgetNanos - updateNanos) / 1e9));
+        }
+        if (stoppedEarly) {
+            // the plan ends here: a progress bar completes (the listener's contract in Backstep.Builder)
+            return new TrainingProgress(epoch, epoch, step, step, loss, lastBound, rate, 0.0);
         }
         double left = step == 0 ? Double.NaN : secs * (totalSteps - step) / step;
         return new TrainingProgress(epoch, epochs, step, totalSteps, loss, lastBound, rate, Math.max(0.0, left));
