@@ -428,6 +428,10 @@ public final class TrainingRun implements AutoCloseable {
     private TrainingProgress progress(double loss) {
         double secs = Trainer.seconds(started);
         double rate = step * (double) batch / Math.max(secs, 1e-9);
+        if (stoppedEarly) {
+            // the plan ends here, whatever the budget: a progress bar completes (the listener's contract)
+            return new TrainingProgress(epoch, epoch, step, step, loss, lastBound, rate, 0.0);
+        }
         if (timed) {
             // planned totals are unknown: estimated from the pace so far
             long estimated = Math.max(step, Math.round(step * (double) budgetNanos / Math.max(1L, updateNanos)));
@@ -435,10 +439,6 @@ public final class TrainingRun implements AutoCloseable {
                     (estimated + batchesPerEpoch - 1) / batchesPerEpoch));
             return new TrainingProgress(epoch, estimatedEpochs, step, estimated, loss, lastBound, rate,
                     Math.max(0.0, (budgetNanos - updateNanos) / 1e9));
-        }
-        if (stoppedEarly) {
-            // the plan ends here: a progress bar completes (the listener's contract in Backstep.Builder)
-            return new TrainingProgress(epoch, epoch, step, step, loss, lastBound, rate, 0.0);
         }
         double left = step == 0 ? Double.NaN : secs * (totalSteps - step) / step;
         return new TrainingProgress(epoch, epochs, step, totalSteps, loss, lastBound, rate, Math.max(0.0, left));
